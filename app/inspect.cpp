@@ -1,0 +1,49 @@
+#include "app/inspect.h"
+
+#include <fmt/format.h>
+
+#include "app/text_table.h"
+#include "io/study_store.h"
+
+namespace gazemill {
+
+void print_store_overview(const std::string& store_path, std::ostream& out) {
+  StudyStoreReader store(store_path);
+  const Provenance prov = store.provenance();
+  out << "store      " << store_path << '\n'
+      << "created    " << prov.created_utc << " by gazemill " << prov.tool_version << '\n'
+      << "protocol   " << prov.protocol_path << " (sha256 " << prov.protocol_sha256.substr(0, 12) << "…)\n"
+      << "inputs     " << prov.inputs.size() << " files\n\n";
+
+  TextTable table({"recording", "participant", "session", "rate_hz", "eyes", "trials", "samples", "span_s",
+                   "missing_left", "missing_right"},
+                  {false, false, false, true, false, true, true, true, true, true});
+  std::uint64_t total_samples = 0;
+  std::size_t total_trials = 0;
+  const auto ids = store.recording_ids();
+  for (const auto& id : ids) {
+    const Recording r = store.read_recording(id, false);
+    const SampleSummary s = store.sample_summary(id);
+    auto share = [&](bool has, std::uint64_t missing) {
+      if (!has) return std::string("-");
+      return s.sample_count ? fmt::format("{:.1f} %", 100.0 * static_cast<double>(missing) / static_cast<double>(s.sample_count)) : std::string("-");
+    };
+    const std::string eyes = r.samples.has_left && r.samples.has_right ? "both" : r.samples.has_left ? "left" : "right";
+    table.add_row({id, r.participant, r.session.empty() ? "-" : r.session, fmt::format("{:.0f}", r.sample_rate_hz), eyes,
+                   std::to_string(r.trials.size()), std::to_string(s.sample_count),
+                   fmt::format("{:.1f}", static_cast<double>(s.last_time_us - s.first_time_us) / 1e6),
+                   share(r.samples.has_left, s.missing_left), share(r.samples.has_right, s.missing_right)});
+    total_samples += s.sample_count;
+    total_trials += r.trials.size();
+  }
+  table.print(out);
+  out << '\n' << ids.size() << " recordings, " << total_trials << " trials, " << total_samples << " samples\n";
+  if (!prov.repairs.empty()) {
+    out << "\nrepairs made during ingest:\n";
+    TextTable rep({"recording", "repair", "count"}, {false, false, true});
+    for (const auto& r : prov.repairs) rep.add_row({r.recording_id, r.kind, std::to_string(r.count)});
+    rep.print(out);
+  }
+}
+
+}  // namespace gazemill

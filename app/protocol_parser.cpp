@@ -1,0 +1,201 @@
+#include "app/protocol_parser.h"
+
+#include <fstream>
+#include <sstream>
+
+#include "app/toml_section.h"
+#include "pipeline/input_error.h"
+#include "pipeline/named_regex.h"
+
+namespace gazemill {
+namespace {
+
+char parse_delimiter(TomlSection& s, const std::string& key, char fallback) {
+  const auto v = s.string(key);
+  if (!v) return fallback;
+  if (*v == "tab" || *v == "\t") return '\t';
+  if (*v == "comma" || *v == ",") return ',';
+  if (*v == "semicolon" || *v == ";") return ';';
+  if (*v == "space" || *v == " ") return ' ';
+  if (v->size() == 1 && *v != "\n" && *v != "\r" && *v != "\"") return (*v)[0];
+  s.fail(key, "expected one character or tab, comma, semicolon, space; found \"" + *v + "\"");
+}
+
+void check_regex(TomlSection& s, const std::string& key, const std::string& pattern) {
+  try {
+    NamedRegex re(pattern);
+  } catch (const std::invalid_argument& e) {
+    s.fail(key, e.what());
+  }
+}
+
+double positive(TomlSection& s, const std::string& key) {
+  const double v = s.required_number(key);
+  if (!(v > 0)) s.fail(key, "expected a positive number, found " + std::to_string(v));
+  return v;
+}
+
+std::optional<EyeColumnNames> parse_eye(TomlSection& table, const std::string& key) {
+  auto eye = table.table(key);
+  if (!eye) return std::nullopt;
+  EyeColumnNames cols;
+  cols.x = eye->required_string("x_column");
+  cols.y = eye->required_string("y_column");
+  cols.pupil = eye->string("pupil_column").value_or("");
+  eye->finish();
+  return cols;
+}
+
+void parse_input(TomlSection& in, Protocol& p) {
+  InputSpec& spec = p.input;
+  const std::string format = in.string("format").value_or("delimited");
+  if (format == "delimited") spec.format = InputFormat::delimited;
+  else if (format == "bids") spec.format = InputFormat::bids;
+  else in.fail("format", "expected \"delimited\" or \"bids\", found \"" + format + "\"");
+
+  auto files = in.strings("files");
+  if (!files || files->empty()) {
+    throw InputError({p.path, in.line_of("files"), in.name_of("files")}, "required: a list of file patterns, e.g. [\"raw/*.tsv\"]");
+  }
+  spec.files = *files;
+  if (auto pat = in.string("filename_pattern")) {
+    check_regex(in, "filename_pattern", *pat);
+    spec.filename_pattern = *pat;
+  } else if (spec.format == InputFormat::bids) {
+    spec.filename_pattern = "sub-(?<participant>[A-Za-z0-9]+)(?:_ses-(?<session>[A-Za-z0-9]+))?";
+  }
+  if (auto rate = in.number("sample_rate_hz")) {
+    if (!(*rate > 0)) in.fail("sample_rate_hz", "expected a positive rate in Hz");
+    spec.sample_rate_hz = *rate;
+  }
+
+  if (auto t = in.table("table")) {
+    TableLayout& L = spec.table;
+    L.delimiter = parse_delimiter(*t, "delimiter", '\t');
+    L.comment_prefix = t->string("comment_prefix").value_or("");
+    L.time_column = t->required_string("time_column");
+    const std::string unit = t->string("time_unit").value_or("ms");
+    const auto tu = parse_time_unit(unit);
+    if (!tu) t->fail("time_unit", "expected \"s\", \"ms\", \"us\" or \"ns\", found \"" + unit + "\"");
+    L.time_unit = *tu;
+    L.message_column = t->string("message_column").value_or("");
+    if (auto mv = t->strings("missing_values")) L.missing_values = *mv;
+    L.zero_gaze_is_missing = t->boolean("zero_gaze_is_missing").value_or(false);
+    L.left = parse_eye(*t, "left");
+    L.right = parse_eye(*t, "right");
+    if (!L.left && !L.right) {
+      throw InputError({p.path, in.line_of("table"), in.name_of("table")},
+                       "at least one eye is needed: add [input.table.left] or [input.table.right] with x_column and y_column");
+    }
+    t->finish();
+  } else if (spec.format == InputFormat::delimited) {
+    throw InputError({p.path, 0, "input.table"}, "required for delimited input: the column mapping [input.table]");
+  }
+
+  if (auto m = in.table("messages")) {
+    MessageFileSpec ms;
+    ms.path_template = m->required_string("file");
+    ms.delimiter = parse_delimiter(*m, "delimiter", '\t');
+    ms.time_column = m->required_string("time_column");
+    ms.text_column = m->required_string("text_column");
+    m->finish();
+    if (!spec.table.message_column.empty()) {
+      m->fail("file", "messages come either from input.table.message_column or from a separate file, not both");
+    }
+    spec.message_file = ms;
+  }
+
+  if (auto r = in.table("repairs")) {
+    if (auto d = r->string("duplicate_timestamps")) {
+      if (*d == "error") spec.repairs.duplicate_timestamps = DuplicateTimestampPolicy::error;
+      else if (*d == "keep_first") spec.repairs.duplicate_timestamps = DuplicateTimestampPolicy::keep_first;
+      else r->fail("duplicate_timestamps", "expected \"error\" or \"keep_first\", found \"" + *d + "\"");
+    }
+    if (auto u = r->string("unterminated_trials")) {
+      if (*u == "error") spec.repairs.unterminated_trials = UnterminatedTrialPolicy::error;
+      else if (*u == "drop") spec.repairs.unterminated_trials = UnterminatedTrialPolicy::drop;
+      else r->fail("unterminated_trials", "expected \"error\" or \"drop\", found \"" + *u + "\"");
+    }
+    r->finish();
+  }
+  in.finish();
+}
+
+void parse_screen(TomlSection& s, Protocol& p) {
+  ScreenGeometry g;
+  const auto w = s.required_integer("width_px");
+  const auto h = s.required_integer("height_px");
+  if (w <= 0) s.fail("width_px", "expected a positive number of pixels");
+  if (h <= 0) s.fail("height_px", "expected a positive number of pixels");
+  g.width_px = static_cast<int>(w);
+  g.height_px = static_cast<int>(h);
+  g.width_mm = positive(s, "width_mm");
+  g.height_mm = positive(s, "height_mm");
+  g.viewing_distance_mm = positive(s, "viewing_distance_mm");
+  s.finish();
+  p.screen = g;
+}
+
+void parse_trials(TomlSection& t, Protocol& p) {
+  TrialSegmentationSpec& spec = p.trials;
+  spec.start_pattern = t.required_string("start");
+  check_regex(t, "start", spec.start_pattern);
+  spec.end_pattern = t.required_string("end");
+  check_regex(t, "end", spec.end_pattern);
+  if (auto vars = t.strings("variables")) {
+    for (const auto& v : *vars) {
+      check_regex(t, "variables", v);
+      if (NamedRegex(v).names().empty()) t.fail("variables", "pattern \"" + v + "\" has no named capture (?<name>...) to set a variable");
+    }
+    spec.variable_patterns = *vars;
+  }
+  if (auto m = t.table("markers")) {
+    for (const auto& name : m->keys()) {
+      const auto pattern = m->string(name);
+      check_regex(*m, name, *pattern);
+      spec.marker_patterns[name] = *pattern;
+    }
+  }
+  t.finish();
+}
+
+}  // namespace
+
+Protocol parse_protocol_text(const std::string& text, const std::string& path) {
+  Protocol p;
+  p.path = path;
+  p.text = text;
+  toml::table root;
+  try {
+    root = toml::parse(text, path);
+  } catch (const toml::parse_error& e) {
+    throw InputError({path, e.source().begin.line, ""}, std::string("not valid TOML: ") + std::string(e.description()));
+  }
+  TomlSection top(root, "", path);
+  if (auto study = top.table("study")) {
+    p.study_name = study->string("name").value_or("");
+    study->finish();
+  }
+  auto input = top.table("input");
+  if (!input) throw InputError({path, 0, "input"}, "required section [input] is missing");
+  parse_input(*input, p);
+  if (auto screen = top.table("screen")) parse_screen(*screen, p);
+  if (!p.screen && p.input.format == InputFormat::delimited) {
+    throw InputError({path, 0, "screen"}, "required section [screen] is missing (width_px, height_px, width_mm, height_mm, viewing_distance_mm)");
+  }
+  auto trials = top.table("trials");
+  if (!trials) throw InputError({path, 0, "trials"}, "required section [trials] is missing (start and end message patterns)");
+  parse_trials(*trials, p);
+  top.finish();
+  return p;
+}
+
+Protocol parse_protocol_file(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw InputError({path, 0, ""}, "cannot open the protocol file");
+  std::ostringstream ss;
+  ss << in.rdbuf();
+  return parse_protocol_text(ss.str(), path);
+}
+
+}  // namespace gazemill

@@ -1,0 +1,16 @@
+#pragma once
+// Reads a protocol file (TOML, gazemill.toml by convention) into the
+// protocol model. Unknown keys, wrong types and impossible values are
+// InputErrors naming the file, line and dotted key.
+
+#include <string>
+
+#include "pipeline/protocol.h"
+
+namespace gazemill {
+
+Protocol parse_protocol_file(const std::string& path);
+/// Parses protocol text; `path` is used in messages and to resolve relative globs.
+Protocol parse_protocol_text(const std::string& text, const std::string& path);
+
+}  // namespace gazemill

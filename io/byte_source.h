@@ -1,0 +1,36 @@
+#pragma once
+// Sequential reading of a plain or gzip-compressed file in large blocks.
+
+#include <cstddef>
+#include <cstdint>
+#include <string>
+
+namespace gazemill {
+
+class ByteSource {
+ public:
+  /// Opens `path`; gzip is recognised by its magic bytes, not by the name.
+  /// Throws InputError when the file cannot be opened.
+  explicit ByteSource(const std::string& path);
+  ~ByteSource();
+  ByteSource(const ByteSource&) = delete;
+  ByteSource& operator=(const ByteSource&) = delete;
+
+  /// Reads up to `capacity` bytes; returns 0 at end of file. Throws InputError
+  /// on a read or decompression error.
+  std::size_t read(char* buffer, std::size_t capacity);
+
+  bool compressed() const { return gz_ != nullptr; }
+  /// Bytes consumed from the file on disk so far (for progress reports).
+  std::uint64_t raw_offset() const;
+  std::uint64_t raw_size() const { return raw_size_; }
+
+ private:
+  std::string path_;
+  int fd_ = -1;
+  void* gz_ = nullptr;  // gzFile
+  std::uint64_t raw_size_ = 0;
+  std::uint64_t plain_offset_ = 0;
+};
+
+}  // namespace gazemill

@@ -1,0 +1,315 @@
+#include "io/delimited_reader.h"
+
+#include <fast_float/fast_float.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstring>
+#include <limits>
+#include <map>
+#include <memory>
+#include <string_view>
+
+#include "io/byte_source.h"
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+namespace {
+
+constexpr std::size_t kBlockBytes = 1 << 20;
+constexpr std::size_t kNoColumn = std::numeric_limits<std::size_t>::max();
+constexpr float kNaN = std::numeric_limits<float>::quiet_NaN();
+
+std::string_view trim(std::string_view s) {
+  while (!s.empty() && (s.front() == ' ' || s.front() == '\r')) s.remove_prefix(1);
+  while (!s.empty() && (s.back() == ' ' || s.back() == '\r')) s.remove_suffix(1);
+  return s;
+}
+
+std::string describe(char delimiter) {
+  if (delimiter == '\t') return "tab";
+  return std::string("'") + delimiter + "'";
+}
+
+struct EyeIndex {
+  std::size_t x = kNoColumn, y = kNoColumn, pupil = kNoColumn;
+};
+
+// Resolved column positions and the per-row parsing state.
+class RowParser {
+ public:
+  RowParser(const std::string& path, const DelimitedReadOptions& opt, SampleSink& sink)
+      : path_(path), opt_(opt), layout_(opt.layout), sink_(sink) {
+    for (const auto& t : layout_.missing_values) max_token_length_ = std::max(max_token_length_, t.size());
+    chunk_.has_left = layout_.left.has_value();
+    chunk_.has_right = layout_.right.has_value();
+    chunk_.reserve(opt.chunk_rows);
+    if (!opt.column_names.empty()) set_header(opt.column_names, 0);
+  }
+
+  bool has_header() const { return !names_.empty(); }
+
+  void set_header(const std::vector<std::string>& names, std::size_t line) {
+    names_ = names;
+    auto find = [&](const std::string& name, const std::string& key) -> std::size_t {
+      if (name.empty()) return kNoColumn;
+      auto it = std::find(names_.begin(), names_.end(), name);
+      if (it == names_.end()) {
+        std::string have;
+        for (const auto& n : names_) have += (have.empty() ? "" : ", ") + n;
+        throw InputError({path_, line, name},
+                         "column named by protocol key " + opt_.layout_key + "." + key +
+                             " is not in the header; the file has: " + have);
+      }
+      return static_cast<std::size_t>(it - names_.begin());
+    };
+    time_ = find(layout_.time_column, "time_column");
+    if (time_ == kNoColumn) throw InputError({path_, line, ""}, "no time column configured (" + opt_.layout_key + ".time_column)");
+    message_ = find(layout_.message_column, "message_column");
+    if (layout_.left) left_ = {find(layout_.left->x, "left.x_column"), find(layout_.left->y, "left.y_column"), find(layout_.left->pupil, "left.pupil_column")};
+    if (layout_.right) right_ = {find(layout_.right->x, "right.x_column"), find(layout_.right->y, "right.y_column"), find(layout_.right->pupil, "right.pupil_column")};
+    fields_.resize(names_.size());
+  }
+
+  void parse_header(std::string_view line, std::size_t line_no) {
+    std::vector<std::string> names;
+    split(line, [&](std::size_t, std::string_view f) { names.emplace_back(trim(f)); return true; });
+    set_header(names, line_no);
+  }
+
+  void parse_row(std::string_view line, std::size_t line_no) {
+    std::size_t count = 0;
+    const std::size_t expected = names_.size();
+    split(line, [&](std::size_t i, std::string_view f) {
+      if (i < expected) fields_[i] = f;
+      count = i + 1;
+      return true;
+    });
+    if (count != expected) {
+      throw InputError({path_, line_no, ""}, "expected " + std::to_string(expected) + " " + describe(layout_.delimiter) +
+                                                 "-separated fields as in the header, found " + std::to_string(count));
+    }
+    ++result_.rows;
+
+    std::string_view message = message_ != kNoColumn ? trim(fields_[message_]) : std::string_view{};
+    const bool gaze_absent = all_gaze_missing();
+    const Microseconds t = parse_time(line_no);
+    if (!message.empty()) {
+      result_.messages.push_back({t, std::string(message)});
+      result_.message_lines.push_back(line_no);
+      // A row with a message and no gaze values at all is a message row, not a sample.
+      if (gaze_absent || (!layout_.left && !layout_.right)) return;
+    } else if (!layout_.left && !layout_.right) {
+      return;  // message files: rows without text carry nothing
+    }
+
+    if (result_.samples > 0) {
+      if (t < last_time_) {
+        throw InputError({path_, line_no, layout_.time_column},
+                         "timestamps must not decrease: " + std::string(trim(fields_[time_])) +
+                             " comes after a sample at a later time");
+      }
+      if (t == last_time_) {
+        if (opt_.duplicate_timestamps == DuplicateTimestampPolicy::keep_first) {
+          ++result_.repairs["duplicate_timestamp_dropped"];
+          return;
+        }
+        throw InputError({path_, line_no, layout_.time_column},
+                         "duplicate timestamp " + std::string(trim(fields_[time_])) +
+                             "; each sample needs its own time (set input.repairs.duplicate_timestamps = \"keep_first\" to drop repeats)");
+      }
+      ++intervals_[t - last_time_];
+    } else {
+      result_.first_time_us = t;
+    }
+    last_time_ = t;
+    ++result_.samples;
+    chunk_.time_us.push_back(t);
+    if (layout_.left) push_eye(chunk_.left, left_, line_no, result_.missing_left, "left");
+    if (layout_.right) push_eye(chunk_.right, right_, line_no, result_.missing_right, "right");
+    if (chunk_.size() >= opt_.chunk_rows) flush();
+  }
+
+  void flush() {
+    if (chunk_.size() == 0) return;
+    sink_.append(chunk_);
+    chunk_.clear();
+  }
+
+  DelimitedReadResult finish() {
+    flush();
+    result_.last_time_us = last_time_;
+    result_.has_left = layout_.left.has_value();
+    result_.has_right = layout_.right.has_value();
+    // Median interval from the histogram of consecutive differences.
+    std::uint64_t total = 0;
+    for (const auto& [d, n] : intervals_) total += n;
+    std::uint64_t seen = 0;
+    for (const auto& [d, n] : intervals_) {
+      seen += n;
+      if (2 * seen >= total) {
+        result_.median_interval_us = static_cast<double>(d);
+        break;
+      }
+    }
+    return std::move(result_);
+  }
+
+ private:
+  template <typename F>
+  void split(std::string_view line, F&& on_field) const {
+    std::size_t i = 0;
+    const char* p = line.data();
+    const char* end = p + line.size();
+    for (;;) {
+      const char* d = static_cast<const char*>(std::memchr(p, layout_.delimiter, static_cast<std::size_t>(end - p)));
+      if (!d) {
+        on_field(i, std::string_view(p, static_cast<std::size_t>(end - p)));
+        return;
+      }
+      on_field(i++, std::string_view(p, static_cast<std::size_t>(d - p)));
+      p = d + 1;
+    }
+  }
+
+  bool is_missing(std::string_view f) const {
+    if (f.size() > max_token_length_) return false;
+    for (const auto& t : layout_.missing_values) {
+      if (f == t) return true;
+    }
+    return false;
+  }
+
+  bool all_gaze_missing() const {
+    auto eye_missing = [&](const EyeIndex& e) {
+      return is_missing(trim(fields_[e.x])) && is_missing(trim(fields_[e.y]));
+    };
+    if (layout_.left && !eye_missing(left_)) return false;
+    if (layout_.right && !eye_missing(right_)) return false;
+    return true;
+  }
+
+  [[noreturn]] void not_a_number(std::size_t line_no, std::size_t column, std::string_view f) const {
+    throw InputError({path_, line_no, names_[column]}, "expected a number, found '" + std::string(f) + "'");
+  }
+
+  Microseconds parse_time(std::size_t line_no) const {
+    const std::string_view f = trim(fields_[time_]);
+    double v = 0.0;
+    auto r = fast_float::from_chars(f.data(), f.data() + f.size(), v);
+    if (f.empty() || r.ec != std::errc() || r.ptr != f.data() + f.size() || !std::isfinite(v)) {
+      if (f.empty() || is_missing(f)) throw InputError({path_, line_no, names_[time_]}, "expected a timestamp, found an empty or missing value");
+      not_a_number(line_no, time_, f);
+    }
+    return static_cast<Microseconds>(std::llround(v * microseconds_per(layout_.time_unit)));
+  }
+
+  float parse_value(std::size_t column, std::size_t line_no) const {
+    if (column == kNoColumn) return kNaN;
+    std::string_view f = fields_[column];
+    if (!f.empty() && (f.front() == ' ' || f.back() == ' ' || f.back() == '\r')) f = trim(f);
+    if (is_missing(f)) return kNaN;
+    float v = 0.0f;
+    auto r = fast_float::from_chars(f.data(), f.data() + f.size(), v);
+    if (r.ec != std::errc() || r.ptr != f.data() + f.size()) not_a_number(line_no, column, f);
+    return v;
+  }
+
+  void push_eye(EyeSamples& eye, const EyeIndex& idx, std::size_t line_no, std::uint64_t& missing, const char*) {
+    float x = parse_value(idx.x, line_no);
+    float y = parse_value(idx.y, line_no);
+    const float pupil = parse_value(idx.pupil, line_no);
+    if (layout_.zero_gaze_is_missing && x == 0.0f && y == 0.0f) x = y = kNaN;
+    const bool ok = std::isfinite(x) && std::isfinite(y);
+    if (!ok) {
+      x = y = kNaN;  // half a coordinate is no position
+      ++missing;
+    }
+    eye.x_px.push_back(x);
+    eye.y_px.push_back(y);
+    eye.pupil.push_back(pupil);
+    eye.valid.push_back(ok ? 1 : 0);
+  }
+
+  const std::string& path_;
+  const DelimitedReadOptions& opt_;
+  const TableLayout& layout_;
+  SampleSink& sink_;
+  std::vector<std::string> names_;
+  std::vector<std::string_view> fields_;
+  std::size_t time_ = kNoColumn, message_ = kNoColumn;
+  EyeIndex left_, right_;
+  std::size_t max_token_length_ = 0;
+  SampleColumns chunk_;
+  Microseconds last_time_ = 0;
+  std::map<Microseconds, std::uint64_t> intervals_;
+  DelimitedReadResult result_;
+};
+
+}  // namespace
+
+DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadOptions& options, SampleSink& sink) {
+  ByteSource source(path);
+  RowParser parser(path, options, sink);
+  const std::string& comment = options.layout.comment_prefix;
+
+  std::unique_ptr<char[]> buffer(new char[kBlockBytes]);
+  std::string carry;  // a line split across two blocks
+  std::size_t line_no = 0;
+  bool any_line = false;
+
+  auto handle_line = [&](std::string_view line) {
+    ++line_no;
+    if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+    if (line.empty()) return;
+    if (!comment.empty() && line.substr(0, comment.size()) == comment) return;
+    any_line = true;
+    if (!parser.has_header()) {
+      parser.parse_header(line, line_no);
+      return;
+    }
+    parser.parse_row(line, line_no);
+  };
+
+  std::uint64_t last_report = 0;
+  for (;;) {
+    const std::size_t n = source.read(buffer.get(), kBlockBytes);
+    if (n == 0) break;
+    std::string_view block(buffer.get(), n);
+    std::size_t pos = 0;
+    if (!carry.empty()) {
+      const char* nl = static_cast<const char*>(std::memchr(block.data(), '\n', block.size()));
+      if (!nl) {
+        carry.append(block);
+        continue;
+      }
+      pos = static_cast<std::size_t>(nl - block.data()) + 1;
+      carry.append(block.substr(0, pos - 1));
+      handle_line(carry);
+      carry.clear();
+    }
+    for (;;) {
+      const char* nl = static_cast<const char*>(std::memchr(block.data() + pos, '\n', block.size() - pos));
+      if (!nl) break;
+      const std::size_t end = static_cast<std::size_t>(nl - block.data());
+      handle_line(block.substr(pos, end - pos));
+      pos = end + 1;
+    }
+    carry.assign(block.substr(pos));
+    if (options.progress && source.raw_offset() - last_report > (64u << 20)) {
+      last_report = source.raw_offset();
+      options.progress(last_report, source.raw_size());
+    }
+  }
+  if (!carry.empty()) handle_line(carry);
+  if (!any_line) throw InputError({path, 0, ""}, "the file is empty; expected a header line and sample rows");
+  DelimitedReadResult result = parser.finish();
+  const bool wants_samples = options.layout.left || options.layout.right;
+  if (wants_samples && result.samples == 0) {
+    throw InputError({path, line_no, ""}, "the file has no sample rows; expected at least one row after the header");
+  }
+  if (options.progress) options.progress(source.raw_size(), source.raw_size());
+  return result;
+}
+
+}  // namespace gazemill

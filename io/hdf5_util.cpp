@@ -1,0 +1,198 @@
+#include "io/hdf5_util.h"
+
+#include <algorithm>
+
+namespace gazemill::h5 {
+
+QuietErrors::QuietErrors() {
+  H5Eget_auto2(H5E_DEFAULT, &func_, &data_);
+  H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
+}
+QuietErrors::~QuietErrors() { H5Eset_auto2(H5E_DEFAULT, func_, data_); }
+
+template <> H5::PredType native_type<double>() { return H5::PredType::NATIVE_DOUBLE; }
+template <> H5::PredType native_type<float>() { return H5::PredType::NATIVE_FLOAT; }
+template <> H5::PredType native_type<std::int64_t>() { return H5::PredType::NATIVE_INT64; }
+template <> H5::PredType native_type<std::uint64_t>() { return H5::PredType::NATIVE_UINT64; }
+template <> H5::PredType native_type<std::int32_t>() { return H5::PredType::NATIVE_INT32; }
+template <> H5::PredType native_type<std::uint32_t>() { return H5::PredType::NATIVE_UINT32; }
+template <> H5::PredType native_type<std::uint8_t>() { return H5::PredType::NATIVE_UINT8; }
+
+H5::Group create_group(H5::Group& parent, const std::string& name) {
+  H5::PropList gcpl(H5P_GROUP_CREATE);
+  H5Pset_obj_track_times(gcpl.getId(), 0);
+  hid_t id = H5Gcreate2(parent.getId(), name.c_str(), H5P_DEFAULT, gcpl.getId(), H5P_DEFAULT);
+  if (id < 0) throw H5::GroupIException("create_group", "cannot create group " + name);
+  return H5::Group(id);
+}
+
+bool exists(const H5::Group& parent, const std::string& path) {
+  // Walk component by component: H5Lexists fails on a missing intermediate.
+  std::string prefix;
+  std::size_t start = 0;
+  while (start <= path.size()) {
+    const std::size_t slash = path.find('/', start);
+    prefix = path.substr(0, slash == std::string::npos ? path.size() : slash);
+    if (H5Lexists(parent.getId(), prefix.c_str(), H5P_DEFAULT) <= 0) return false;
+    if (slash == std::string::npos) break;
+    start = slash + 1;
+  }
+  return true;
+}
+
+H5::Group open_or_create_group(H5::Group& parent, const std::string& name) {
+  if (exists(parent, name)) return parent.openGroup(name);
+  return create_group(parent, name);
+}
+
+H5::DSetCreatPropList chunked_props(hsize_t chunk_rows, int deflate_level) {
+  H5::DSetCreatPropList p;
+  p.setChunk(1, &chunk_rows);
+  p.setShuffle();
+  p.setDeflate(deflate_level);
+  H5Pset_obj_track_times(p.getId(), 0);
+  return p;
+}
+
+namespace {
+H5::Attribute fresh_attr(H5::H5Object& obj, const std::string& name, const H5::DataType& type,
+                         const H5::DataSpace& space) {
+  if (obj.attrExists(name)) obj.removeAttr(name);
+  return obj.createAttribute(name, type, space);
+}
+H5::StrType utf8_string() {
+  H5::StrType t(H5::PredType::C_S1, H5T_VARIABLE);
+  t.setCset(H5T_CSET_UTF8);
+  return t;
+}
+}  // namespace
+
+void set_attr(H5::H5Object& obj, const std::string& name, const std::string& value) {
+  const H5::StrType t = utf8_string();
+  H5::Attribute a = fresh_attr(obj, name, t, H5::DataSpace(H5S_SCALAR));
+  const char* p = value.c_str();
+  a.write(t, &p);
+}
+void set_attr(H5::H5Object& obj, const std::string& name, double value) {
+  fresh_attr(obj, name, H5::PredType::NATIVE_DOUBLE, H5::DataSpace(H5S_SCALAR)).write(H5::PredType::NATIVE_DOUBLE, &value);
+}
+void set_attr(H5::H5Object& obj, const std::string& name, std::int64_t value) {
+  fresh_attr(obj, name, H5::PredType::NATIVE_INT64, H5::DataSpace(H5S_SCALAR)).write(H5::PredType::NATIVE_INT64, &value);
+}
+void set_attr(H5::H5Object& obj, const std::string& name, std::uint64_t value) {
+  fresh_attr(obj, name, H5::PredType::NATIVE_UINT64, H5::DataSpace(H5S_SCALAR)).write(H5::PredType::NATIVE_UINT64, &value);
+}
+
+bool has_attr(const H5::H5Object& obj, const std::string& name) { return obj.attrExists(name); }
+
+std::string get_string_attr(const H5::H5Object& obj, const std::string& name) {
+  H5::Attribute a = obj.openAttribute(name);
+  std::string out;
+  a.read(a.getStrType(), out);
+  return out;
+}
+double get_double_attr(const H5::H5Object& obj, const std::string& name) {
+  double v = 0;
+  obj.openAttribute(name).read(H5::PredType::NATIVE_DOUBLE, &v);
+  return v;
+}
+std::int64_t get_int_attr(const H5::H5Object& obj, const std::string& name) {
+  std::int64_t v = 0;
+  obj.openAttribute(name).read(H5::PredType::NATIVE_INT64, &v);
+  return v;
+}
+
+template <typename T>
+void write_column(H5::Group& group, const std::string& name, const std::vector<T>& values, const std::string& unit) {
+  const hsize_t n = values.size();
+  const hsize_t maxdims = H5S_UNLIMITED;
+  H5::DataSpace space(1, &n, &maxdims);
+  const hsize_t chunk = std::clamp<hsize_t>(n, 1, 1 << 16);
+  H5::DataSet ds = group.createDataSet(name, native_type<T>(), space, chunked_props(chunk, 4));
+  if (n > 0) ds.write(values.data(), native_type<T>());
+  if (!unit.empty()) set_attr(ds, "unit", unit);
+}
+
+void write_strings(H5::Group& group, const std::string& name, const std::vector<std::string>& values) {
+  const hsize_t n = values.size();
+  const hsize_t maxdims = H5S_UNLIMITED;
+  H5::DataSpace space(1, &n, &maxdims);
+  const hsize_t chunk = std::clamp<hsize_t>(n, 1, 1 << 12);
+  H5::DSetCreatPropList p;
+  p.setChunk(1, &chunk);
+  p.setDeflate(4);
+  H5Pset_obj_track_times(p.getId(), 0);
+  const H5::StrType t = utf8_string();
+  H5::DataSet ds = group.createDataSet(name, t, space, p);
+  std::vector<const char*> ptrs;
+  ptrs.reserve(values.size());
+  for (const auto& v : values) ptrs.push_back(v.c_str());
+  if (n > 0) ds.write(ptrs.data(), t);
+}
+
+template <typename T>
+std::vector<T> read_column(const H5::Group& group, const std::string& name) {
+  H5::DataSet ds = group.openDataSet(name);
+  hsize_t n = 0;
+  ds.getSpace().getSimpleExtentDims(&n);
+  std::vector<T> out(n);
+  if (n > 0) ds.read(out.data(), native_type<T>());
+  return out;
+}
+
+template <typename T>
+std::vector<T> read_column_range(const H5::Group& group, const std::string& name, hsize_t first, hsize_t count) {
+  H5::DataSet ds = group.openDataSet(name);
+  H5::DataSpace file_space = ds.getSpace();
+  std::vector<T> out(count);
+  if (count == 0) return out;
+  file_space.selectHyperslab(H5S_SELECT_SET, &count, &first);
+  H5::DataSpace mem_space(1, &count);
+  ds.read(out.data(), native_type<T>(), mem_space, file_space);
+  return out;
+}
+
+std::vector<std::string> read_strings(const H5::Group& group, const std::string& name) {
+  H5::DataSet ds = group.openDataSet(name);
+  hsize_t n = 0;
+  ds.getSpace().getSimpleExtentDims(&n);
+  std::vector<char*> ptrs(n, nullptr);
+  const H5::StrType t = utf8_string();
+  if (n > 0) ds.read(ptrs.data(), t);
+  std::vector<std::string> out;
+  out.reserve(n);
+  for (char* p : ptrs) out.emplace_back(p ? p : "");
+  if (n > 0) {
+    H5::DataSpace space = ds.getSpace();
+    H5Dvlen_reclaim(t.getId(), space.getId(), H5P_DEFAULT, ptrs.data());
+  }
+  return out;
+}
+
+hsize_t column_length(const H5::Group& group, const std::string& name) {
+  hsize_t n = 0;
+  group.openDataSet(name).getSpace().getSimpleExtentDims(&n);
+  return n;
+}
+
+std::vector<std::string> child_names(const H5::Group& group) {
+  std::vector<std::string> out;
+  for (hsize_t i = 0; i < group.getNumObjs(); ++i) out.push_back(group.getObjnameByIdx(i));
+  std::sort(out.begin(), out.end());
+  return out;
+}
+
+#define GAZEMILL_INSTANTIATE(T)                                                                     \
+  template void write_column<T>(H5::Group&, const std::string&, const std::vector<T>&, const std::string&); \
+  template std::vector<T> read_column<T>(const H5::Group&, const std::string&);                     \
+  template std::vector<T> read_column_range<T>(const H5::Group&, const std::string&, hsize_t, hsize_t);
+GAZEMILL_INSTANTIATE(double)
+GAZEMILL_INSTANTIATE(float)
+GAZEMILL_INSTANTIATE(std::int64_t)
+GAZEMILL_INSTANTIATE(std::uint64_t)
+GAZEMILL_INSTANTIATE(std::int32_t)
+GAZEMILL_INSTANTIATE(std::uint32_t)
+GAZEMILL_INSTANTIATE(std::uint8_t)
+#undef GAZEMILL_INSTANTIATE
+
+}  // namespace gazemill::h5

@@ -1,0 +1,89 @@
+#pragma once
+// The protocol model: everything a run needs to know, filled from the
+// protocol file by app/protocol_parser and trusted by the stages.
+
+#include <map>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "pipeline/recording.h"
+#include "pipeline/time_units.h"
+
+namespace gazemill {
+
+enum class InputFormat { delimited, bids };
+
+/// Header names of one eye's columns in a delimited file.
+struct EyeColumnNames {
+  std::string x;
+  std::string y;
+  std::string pupil;  // empty when the file has no pupil column for this eye
+};
+
+/// How to read the sample table of a delimited export.
+struct TableLayout {
+  char delimiter = '\t';
+  std::string comment_prefix;  // lines starting with it are skipped; empty = none
+  std::string time_column;
+  TimeUnit time_unit = TimeUnit::milliseconds;
+  std::optional<EyeColumnNames> left;
+  std::optional<EyeColumnNames> right;
+  std::string message_column;  // a column holding message text; empty = none
+  // Field texts read as "no value". Matched exactly, after trimming spaces.
+  std::vector<std::string> missing_values{"", "NaN", "nan", "NA", "."};
+  // Some trackers write (0, 0) for lost gaze; when true such samples are missing.
+  bool zero_gaze_is_missing = false;
+};
+
+/// Messages kept in a file of their own beside each sample file.
+struct MessageFileSpec {
+  // Path with placeholders: {dir} (the sample file's folder), {name} (its file
+  // name), {stem} (the name without its last extension, and without .gz), and
+  // any named capture of the file-name pattern, e.g. {participant}.
+  std::string path_template;
+  char delimiter = '\t';
+  std::string time_column;
+  std::string text_column;
+};
+
+enum class DuplicateTimestampPolicy { error, keep_first };
+enum class UnterminatedTrialPolicy { error, drop };
+
+/// What ingest may repair instead of failing; every repair is counted and stored.
+struct RepairPolicy {
+  DuplicateTimestampPolicy duplicate_timestamps = DuplicateTimestampPolicy::error;
+  UnterminatedTrialPolicy unterminated_trials = UnterminatedTrialPolicy::error;
+};
+
+struct InputSpec {
+  InputFormat format = InputFormat::delimited;
+  std::vector<std::string> files;     // glob patterns, relative to the protocol's folder
+  std::string filename_pattern;       // named captures participant / session (optional)
+  TableLayout table;                  // delimited only
+  std::optional<MessageFileSpec> message_file;
+  RepairPolicy repairs;
+  double sample_rate_hz = 0.0;        // 0 = estimate from the median sample interval
+};
+
+/// Trial segmentation from messages.
+struct TrialSegmentationSpec {
+  std::string start_pattern;  // must match the trial's first message; capture (?<trial>...) optional
+  std::string end_pattern;    // must match its last message
+  // Patterns matched against every message of a trial; each named capture sets
+  // the variable of that name (item and condition go to their own fields).
+  std::vector<std::string> variable_patterns;
+  // Named time points: the first message of a trial matching the pattern sets it.
+  std::map<std::string, std::string> marker_patterns;
+};
+
+struct Protocol {
+  std::string path;        // where it was read from
+  std::string text;        // the exact file text, stored in provenance
+  std::string study_name;
+  InputSpec input;
+  std::optional<ScreenGeometry> screen;  // required for delimited input
+  TrialSegmentationSpec trials;
+};
+
+}  // namespace gazemill
