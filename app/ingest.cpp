@@ -43,7 +43,10 @@ Identity identify(const Protocol& p, const std::string& file) {
   const std::string name = fs::path(file).filename().string();
   if (!p.input.filename_pattern.empty()) {
     NamedRegex re(p.input.filename_pattern);
-    auto caps = re.search(file);
+    // The file name first (BIDS entities live there); the whole path when the
+    // pattern needs folder names.
+    auto caps = re.search(name);
+    if (!caps) caps = re.search(file);
     if (!caps) {
       throw InputError({p.path, 0, "input.filename_pattern"},
                        "the pattern does not match the input file " + file + "; it must match every file of input.files");

@@ -92,6 +92,7 @@ class RowParser {
     ++result_.rows;
 
     std::string_view message = message_ != kNoColumn ? trim(fields_[message_]) : std::string_view{};
+    if (is_missing(message)) message = {};  // e.g. BIDS writes n/a where a row has no message
     const bool gaze_absent = all_gaze_missing();
     const Microseconds t = parse_time(line_no);
     if (!message.empty()) {

@@ -59,7 +59,9 @@ struct RepairPolicy {
 struct InputSpec {
   InputFormat format = InputFormat::delimited;
   std::vector<std::string> files;     // glob patterns, relative to the protocol's folder
-  std::string filename_pattern;       // named captures participant / session (optional)
+  // Named captures participant / session (optional), searched in the file
+  // name first and in the whole path when the name does not match.
+  std::string filename_pattern;
   TableLayout table;                  // delimited only
   std::optional<MessageFileSpec> message_file;
   RepairPolicy repairs;

@@ -1,0 +1,214 @@
+// Delimited-text reader: values, missing tokens, messages, chunking and every
+// class of bad input (each must name file, line and column).
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+
+#include "io/delimited_reader.h"
+#include "pipeline/input_error.h"
+#include "test_support.h"
+
+using namespace gazemill;
+using gazemill::test_support::TempDir;
+
+namespace {
+
+DelimitedReadOptions binocular_options() {
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.time_unit = TimeUnit::milliseconds;
+  o.layout.message_column = "msg";
+  o.layout.left = EyeColumnNames{"lx", "ly", "lp"};
+  o.layout.right = EyeColumnNames{"rx", "ry", ""};
+  o.layout.comment_prefix = "#";
+  return o;
+}
+
+const char* kGood =
+    "# exported by a tracker\n"
+    "t\tlx\tly\tlp\trx\try\tmsg\n"
+    "10.0\t\t\t\t\t\tSTART 1\n"
+    "10.0\t100.5\t200.25\t900\t101\t201\t\n"
+    "11.0\t101\t201\t901\tNaN\tNaN\t\n"
+    "12.5\t.\t.\t.\t103\t203\tMARK\n"
+    "13.5\t103\t203\t903\t104\t204\t\n";
+
+// Expects read_delimited to throw InputError at `line` naming `field`.
+void expect_error(const std::string& path, const DelimitedReadOptions& o, std::size_t line, const std::string& field,
+                  const std::string& text_part) {
+  NullSink sink;
+  try {
+    read_delimited(path, o, sink);
+    FAIL() << "expected an InputError";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().file, path);
+    EXPECT_EQ(e.where().line, line) << e.what();
+    EXPECT_EQ(e.where().field, field) << e.what();
+    EXPECT_NE(std::string(e.what()).find(text_part), std::string::npos) << e.what();
+  }
+}
+
+}  // namespace
+
+TEST(DelimitedReader, ReadsValuesMissingTokensAndMessages) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", kGood);
+  CollectingSink sink;
+  const auto r = read_delimited(path, binocular_options(), sink);
+  const SampleColumns& s = sink.samples;
+  ASSERT_EQ(r.samples, 4u);
+  EXPECT_EQ(r.rows, 5u);
+  EXPECT_EQ(s.time_us, (std::vector<Microseconds>{10000, 11000, 12500, 13500}));
+  EXPECT_FLOAT_EQ(s.left.x_px[0], 100.5f);
+  EXPECT_FLOAT_EQ(s.left.y_px[0], 200.25f);
+  EXPECT_FLOAT_EQ(s.left.pupil[1], 901.f);
+  EXPECT_TRUE(std::isnan(s.left.x_px[2]));
+  EXPECT_EQ(s.left.valid, (std::vector<std::uint8_t>{1, 1, 0, 1}));
+  EXPECT_EQ(s.right.valid, (std::vector<std::uint8_t>{1, 0, 1, 1}));
+  EXPECT_TRUE(std::isnan(s.right.pupil[0]));  // no pupil column for the right eye
+  EXPECT_EQ(r.missing_left, 1u);
+  EXPECT_EQ(r.missing_right, 1u);
+  ASSERT_EQ(r.messages.size(), 2u);
+  EXPECT_EQ(r.messages[0].text, "START 1");
+  EXPECT_EQ(r.message_lines[0], 3u);
+  EXPECT_EQ(r.messages[1].text, "MARK");  // a message on a sample row keeps the sample
+  EXPECT_EQ(r.messages[1].time_us, 12500);
+  EXPECT_EQ(r.first_time_us, 10000);
+  EXPECT_EQ(r.last_time_us, 13500);
+  EXPECT_EQ(r.median_interval_us, 1000.0);
+}
+
+TEST(DelimitedReader, GzipCsvCrlfAndTimeUnits) {
+  TempDir dir;
+  const auto path = dir.write_gz("a.csv.gz", "time,x,y\r\n1.000001,5,6\r\n1.000002,7,8\r\n");
+  DelimitedReadOptions o;
+  o.layout.delimiter = ',';
+  o.layout.time_column = "time";
+  o.layout.time_unit = TimeUnit::seconds;
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  CollectingSink sink;
+  const auto r = read_delimited(path, o, sink);
+  EXPECT_EQ(r.samples, 2u);
+  EXPECT_EQ(sink.samples.time_us, (std::vector<Microseconds>{1000001, 1000002}));
+  EXPECT_FLOAT_EQ(sink.samples.left.y_px[1], 8.f);
+}
+
+TEST(DelimitedReader, ZeroGazeAndCustomMissingTokens) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", "t\tx\ty\n0\t0\t0\n1\t-1\t-1\n2\t3\t4\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  o.layout.zero_gaze_is_missing = true;
+  o.layout.missing_values = {"", "-1"};
+  CollectingSink sink;
+  const auto r = read_delimited(path, o, sink);
+  EXPECT_EQ(r.missing_left, 2u);
+  EXPECT_EQ(sink.samples.left.valid, (std::vector<std::uint8_t>{0, 0, 1}));
+}
+
+TEST(DelimitedReader, ChunksAndBlockBoundariesDoNotChangeTheResult) {
+  // More than one 1 MiB read block, with chunk sizes that do not divide the rows.
+  TempDir dir;
+  std::string text = "t\tx\ty\n";
+  for (int i = 0; i < 120000; ++i) {
+    text += std::to_string(i) + "\t" + std::to_string(i % 977) + ".25\t" + std::to_string(i % 13) + "\n";
+  }
+  const auto path = dir.write("big.tsv", text);
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  o.chunk_rows = 7777;
+  CollectingSink sink;
+  const auto r = read_delimited(path, o, sink);
+  ASSERT_EQ(r.samples, 120000u);
+  for (int i : {0, 7776, 7777, 65535, 119999}) {
+    EXPECT_EQ(sink.samples.time_us[i], static_cast<Microseconds>(i) * 1000);
+    EXPECT_FLOAT_EQ(sink.samples.left.x_px[i], static_cast<float>(i % 977) + 0.25f);
+    EXPECT_FLOAT_EQ(sink.samples.left.y_px[i], static_cast<float>(i % 13));
+  }
+}
+
+TEST(DelimitedReaderErrors, NonNumericField) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n2\t4x\t5\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(path, o, 3, "x", "expected a number, found '4x'");
+}
+
+TEST(DelimitedReaderErrors, WrongFieldCount) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n2\t4\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(path, o, 3, "", "expected 3 tab-separated fields as in the header, found 2");
+}
+
+TEST(DelimitedReaderErrors, MissingRequiredColumn) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", "t\tgx\ty\n1\t2\t3\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(path, o, 1, "x", "input.table.left.x_column is not in the header; the file has: t, gx, y");
+}
+
+TEST(DelimitedReaderErrors, DecreasingTimestamps) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n3\t2\t3\n2\t2\t3\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(path, o, 4, "t", "timestamps must not decrease");
+}
+
+TEST(DelimitedReaderErrors, DuplicateTimestampsFailOrAreCountedWhenRepaired) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n1\t9\t9\n2\t4\t5\n2\t9\t9\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(path, o, 3, "t", "duplicate timestamp 1");
+
+  o.duplicate_timestamps = DuplicateTimestampPolicy::keep_first;
+  CollectingSink sink;
+  const auto r = read_delimited(path, o, sink);
+  EXPECT_EQ(r.samples, 2u);
+  EXPECT_EQ(r.repairs.at("duplicate_timestamp_dropped"), 2u);
+  EXPECT_FLOAT_EQ(sink.samples.left.x_px[1], 4.f);
+}
+
+TEST(DelimitedReaderErrors, EmptyFileAndHeaderOnly) {
+  TempDir dir;
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  o.layout.comment_prefix = "#";
+  expect_error(dir.write("empty.tsv", ""), o, 0, "", "the file is empty");
+  expect_error(dir.write("comments.tsv", "# nothing\n\n"), o, 0, "", "the file is empty");
+  expect_error(dir.write("header.tsv", "t\tx\ty\n"), o, 1, "", "no sample rows");
+}
+
+TEST(DelimitedReaderErrors, MissingTimestamp) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n\t2\t3\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(path, o, 3, "t", "expected a timestamp");
+}
+
+TEST(DelimitedReaderErrors, CorruptGzip) {
+  TempDir dir;
+  std::string bytes = "\x1f\x8b\x08\x00\x00\x00\x00\x00\x00\x03garbage-that-is-not-deflate";
+  const auto path = dir.write("bad.tsv.gz", bytes);
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  NullSink sink;
+  EXPECT_THROW(read_delimited(path, o, sink), InputError);
+}

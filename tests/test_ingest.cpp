@@ -1,0 +1,213 @@
+// Whole ingest runs from a protocol: round trip, messages from a separate
+// file, repairs in the provenance, determinism, and no store after bad input.
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <cstring>
+#include <filesystem>
+
+#include "app/ingest.h"
+#include "app/protocol_parser.h"
+#include "io/sha256.h"
+#include "io/study_store.h"
+#include "pipeline/input_error.h"
+#include "test_support.h"
+
+using namespace gazemill;
+using gazemill::test_support::TempDir;
+namespace fs = std::filesystem;
+
+namespace {
+
+const char* kProtocol = R"([study]
+name = "tiny"
+[input]
+files = ["raw/*.tsv"]
+filename_pattern = '(?<participant>r\d+)-(?<session>\w+)\.tsv$'
+[input.table]
+time_column = "time"
+time_unit = "ms"
+message_column = "event"
+[input.table.left]
+x_column = "x"
+y_column = "y"
+pupil_column = "pupil"
+[screen]
+width_px = 1600
+height_px = 900
+width_mm = 480
+height_mm = 270
+viewing_distance_mm = 650
+[trials]
+start = '^start trial (?<trial>\d+)$'
+end = '^stop trial (?<trial>\d+)$'
+variables = ['^item (?<item>\d+) (?<condition>\w+)$']
+[trials.markers]
+text_on = '^text on$'
+)";
+
+std::string samples(int trials, int per_trial, bool close_last = true) {
+  std::string s = "time\tx\ty\tpupil\tevent\n";
+  int t = 0;
+  for (int k = 1; k <= trials; ++k) {
+    s += std::to_string(t) + "\t\t\t\tstart trial " + std::to_string(k) + "\n";
+    s += std::to_string(t) + "\t\t\t\titem " + std::to_string(10 + k) + (k % 2 ? " rare" : " frequent") + "\n";
+    s += std::to_string(t + 1) + "\t\t\t\ttext on\n";
+    for (int i = 0; i < per_trial; ++i, ++t) {
+      s += std::to_string(t) + "\t" + std::to_string(100 + i) + ".5\t" + std::to_string(200 + k) + "\t" +
+           (i % 50 == 7 ? "" : "1500") + "\t\n";
+    }
+    if (close_last || k < trials) s += std::to_string(t - 1) + "\t\t\t\tstop trial " + std::to_string(k) + "\n";
+  }
+  return s;
+}
+
+Protocol write_study(const TempDir& d, const std::string& protocol_text = kProtocol) {
+  d.write("raw/r01-a.tsv", samples(3, 200));
+  d.write("raw/r02-a.tsv", samples(2, 150));
+  return parse_protocol_text(protocol_text, d.write("gazemill.toml", protocol_text));
+}
+
+void expect_no_store(const TempDir& d) {
+  for (const auto& e : fs::directory_iterator(d.path())) {
+    const std::string name = e.path().filename().string();
+    EXPECT_TRUE(name == "raw" || name == "gazemill.toml") << "left behind: " << name;
+  }
+}
+
+}  // namespace
+
+TEST(Ingest, RoundTripFromProtocol) {
+  TempDir d;
+  const Protocol p = write_study(d);
+  const auto report = ingest_study(p, d.file("tiny.gzm.h5"), {});
+  EXPECT_EQ(report.recordings, 2u);
+  EXPECT_EQ(report.samples, 3u * 200 + 2u * 150);
+  EXPECT_EQ(report.trials, 5u);
+
+  StudyStoreReader store(d.file("tiny.gzm.h5"));
+  EXPECT_EQ(store.recording_ids(), (std::vector<std::string>{"r01_a", "r02_a"}));
+  const Recording r = store.read_recording("r01_a", true);
+  EXPECT_EQ(r.participant, "r01");
+  EXPECT_EQ(r.session, "a");
+  EXPECT_EQ(r.sample_rate_hz, 1000.0);  // from the median interval of 1 ms
+  ASSERT_EQ(r.trials.size(), 3u);
+  EXPECT_EQ(r.trials[1].item, "12");
+  EXPECT_EQ(r.trials[1].condition, "frequent");
+  EXPECT_EQ(r.trials[1].start_us, 200000);
+  EXPECT_EQ(r.trials[1].end_us, 399000);
+  EXPECT_EQ(r.trials[1].markers.at("text_on"), 201000);
+  EXPECT_EQ(r.samples.size(), 600u);
+  EXPECT_FLOAT_EQ(r.samples.left.x_px[201], 101.5f);
+  EXPECT_TRUE(std::isnan(r.samples.left.pupil[7]));
+  const auto prov = store.provenance();
+  ASSERT_EQ(prov.inputs.size(), 2u);
+  EXPECT_EQ(prov.inputs[0].sha256, sha256_file(d.file("raw/r01-a.tsv")));
+  EXPECT_EQ(prov.inputs[0].size_bytes, fs::file_size(d.file("raw/r01-a.tsv")));
+  EXPECT_EQ(prov.protocol_text, kProtocol);
+  EXPECT_EQ(prov.protocol_sha256, sha256_hex(kProtocol));
+}
+
+TEST(Ingest, MessagesFromASeparateFile) {
+  TempDir d;
+  std::string text = kProtocol;
+  text.replace(text.find("message_column = \"event\"\n"), 25, "");
+  text.replace(text.find("[screen]"), 0,
+               "[input.messages]\nfile = '{dir}/{participant}-{session}.msg'\ntime_column = 't'\ntext_column = 'what'\n");
+  d.write("raw/r01-a.tsv", "time\tx\ty\tpupil\n0\t1\t2\t3\n1\t1\t2\t3\n2\t1\t2\t3\n");
+  d.write("raw/r01-a.msg", "t\twhat\n0\tstart trial 1\n0\titem 5 rare\n2\tstop trial 1\n");
+  const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+  ingest_study(p, d.file("s.gzm.h5"), {});
+  StudyStoreReader store(d.file("s.gzm.h5"));
+  const Recording r = store.read_recording("r01_a", false);
+  ASSERT_EQ(r.trials.size(), 1u);
+  EXPECT_EQ(r.trials[0].item, "5");
+  EXPECT_EQ(store.provenance().inputs.size(), 2u);  // samples and messages are both recorded
+}
+
+TEST(Ingest, DeterministicDatasets) {
+  TempDir d;
+  const Protocol p = write_study(d);
+  ingest_study(p, d.file("a.gzm.h5"), {});
+  StoreWriteOptions one_thread;
+  one_thread.compression_threads = 1;
+  ingest_study(p, d.file("b.gzm.h5"), one_thread);
+  StudyStoreReader a(d.file("a.gzm.h5")), b(d.file("b.gzm.h5"));
+  ASSERT_EQ(a.recording_ids(), b.recording_ids());
+  for (const auto& id : a.recording_ids()) {
+    const Recording x = a.read_recording(id, true), y = b.read_recording(id, true);
+    EXPECT_EQ(x.samples.time_us, y.samples.time_us);
+    EXPECT_EQ(0, std::memcmp(x.samples.left.x_px.data(), y.samples.left.x_px.data(), x.samples.left.x_px.size() * 4));
+    EXPECT_EQ(0, std::memcmp(x.samples.left.pupil.data(), y.samples.left.pupil.data(), x.samples.left.pupil.size() * 4));
+    EXPECT_EQ(x.samples.left.valid, y.samples.left.valid);
+    ASSERT_EQ(x.trials.size(), y.trials.size());
+    for (std::size_t i = 0; i < x.trials.size(); ++i) EXPECT_EQ(x.trials[i].markers, y.trials[i].markers);
+  }
+  EXPECT_EQ(a.provenance().inputs[1].sha256, b.provenance().inputs[1].sha256);
+  // The h5py test compares every dataset byte for byte as well.
+}
+
+TEST(IngestErrors, BadFieldLeavesNoStore) {
+  TempDir d;
+  const Protocol p = write_study(d);
+  d.write("raw/r02-a.tsv", "time\tx\ty\tpupil\tevent\n0\t1\t2\t3\t\n1\tabc\t2\t3\t\n");
+  try {
+    ingest_study(p, d.file("tiny.gzm.h5"), {});
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().file, d.file("raw/r02-a.tsv"));
+    EXPECT_EQ(e.where().line, 3u);
+    EXPECT_EQ(e.where().field, "x");
+  }
+  expect_no_store(d);
+}
+
+TEST(IngestErrors, ProtocolNamesAColumnTheFileLacks) {
+  TempDir d;
+  std::string text = kProtocol;
+  text.replace(text.find("pupil_column = \"pupil\""), 22, "pupil_column = \"pupil_size\"");
+  const Protocol p = write_study(d, text);
+  try {
+    ingest_study(p, d.file("tiny.gzm.h5"), {});
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().line, 1u);
+    EXPECT_EQ(e.where().field, "pupil_size");
+    EXPECT_NE(std::string(e.what()).find("input.table.left.pupil_column"), std::string::npos);
+  }
+  expect_no_store(d);
+}
+
+TEST(IngestErrors, TrialStartWithoutEndFailsOrIsRepairedAndCounted) {
+  TempDir d;
+  Protocol p = write_study(d);
+  d.write("raw/r02-a.tsv", samples(2, 150, /*close_last=*/false));
+  EXPECT_THROW(ingest_study(p, d.file("tiny.gzm.h5"), {}), InputError);
+  expect_no_store(d);
+
+  p.input.repairs.unterminated_trials = UnterminatedTrialPolicy::drop;
+  ingest_study(p, d.file("tiny.gzm.h5"), {});
+  StudyStoreReader store(d.file("tiny.gzm.h5"));
+  EXPECT_EQ(store.read_recording("r02_a", false).trials.size(), 1u);
+  const auto prov = store.provenance();
+  ASSERT_EQ(prov.repairs.size(), 1u);
+  EXPECT_EQ(prov.repairs[0].recording_id, "r02_a");
+  EXPECT_EQ(prov.repairs[0].kind, "unterminated_trial_dropped");
+  EXPECT_EQ(prov.repairs[0].count, 1u);
+}
+
+TEST(IngestErrors, PatternsThatMatchNothing) {
+  TempDir d;
+  const Protocol p = write_study(d);
+  Protocol q = p;
+  q.input.files = {"raw/*.csv"};
+  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5"), {}), InputError);
+  q = p;
+  q.input.filename_pattern = "^nomatch$";
+  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5"), {}), InputError);
+  q = p;
+  q.trials.start_pattern = "^never$";
+  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5"), {}), InputError);
+  expect_no_store(d);
+}

@@ -1,0 +1,115 @@
+#include <gtest/gtest.h>
+
+#include "app/protocol_parser.h"
+#include "pipeline/input_error.h"
+
+using namespace gazemill;
+
+namespace {
+
+const std::string kProtocol = R"(
+[study]
+name = "harbour"
+
+[input]
+files = ["raw/*.tsv"]
+filename_pattern = 'p(?<participant>\d+)'
+sample_rate_hz = 500
+
+[input.table]
+delimiter = ","
+time_column = "ts"
+time_unit = "us"
+message_column = "note"
+missing_values = ["", "-1"]
+
+[input.table.right]
+x_column = "rx"
+y_column = "ry"
+
+[input.repairs]
+duplicate_timestamps = "keep_first"
+
+[screen]
+width_px = 1280
+height_px = 1024
+width_mm = 376.0
+height_mm = 301
+viewing_distance_mm = 650
+
+[trials]
+start = '^GO (?<trial>\d+)'
+end = '^STOP'
+variables = ['cond=(?<condition>\w+)']
+
+[trials.markers]
+text_shown = '^SHOW'
+)";
+
+void expect_error_at(const std::string& text, std::size_t line, const std::string& key, const std::string& part) {
+  try {
+    parse_protocol_text(text, "study.toml");
+    FAIL() << "expected an InputError";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().file, "study.toml");
+    EXPECT_EQ(e.where().line, line) << e.what();
+    EXPECT_EQ(e.where().field, key) << e.what();
+    EXPECT_NE(std::string(e.what()).find(part), std::string::npos) << e.what();
+  }
+}
+
+std::string replace(std::string s, const std::string& from, const std::string& to) {
+  const auto pos = s.find(from);
+  EXPECT_NE(pos, std::string::npos) << from;
+  return s.replace(pos, from.size(), to);
+}
+
+}  // namespace
+
+TEST(ProtocolParser, ReadsEverySection) {
+  const Protocol p = parse_protocol_text(kProtocol, "study.toml");
+  EXPECT_EQ(p.study_name, "harbour");
+  EXPECT_EQ(p.input.files, std::vector<std::string>{"raw/*.tsv"});
+  EXPECT_EQ(p.input.sample_rate_hz, 500.0);
+  EXPECT_EQ(p.input.table.delimiter, ',');
+  EXPECT_EQ(p.input.table.time_unit, TimeUnit::microseconds);
+  EXPECT_EQ(p.input.table.missing_values, (std::vector<std::string>{"", "-1"}));
+  EXPECT_FALSE(p.input.table.left);
+  ASSERT_TRUE(p.input.table.right);
+  EXPECT_EQ(p.input.table.right->x, "rx");
+  EXPECT_EQ(p.input.repairs.duplicate_timestamps, DuplicateTimestampPolicy::keep_first);
+  ASSERT_TRUE(p.screen);
+  EXPECT_EQ(p.screen->width_px, 1280);
+  EXPECT_DOUBLE_EQ(p.screen->height_mm, 301.0);
+  EXPECT_EQ(p.trials.marker_patterns.at("text_shown"), "^SHOW");
+  EXPECT_EQ(p.text, kProtocol);
+}
+
+TEST(ProtocolParser, UnknownKeyNamesKeyAndLine) {
+  expect_error_at(replace(kProtocol, "time_unit = \"us\"", "time_unit = \"us\"\ntime_units = \"ms\""), 14,
+                  "input.table.time_units", "unknown key");
+  expect_error_at(kProtocol + "\n[detect]\nmethod = 'x'\n", 39, "detect", "unknown key");
+}
+
+TEST(ProtocolParser, WrongTypesAndValues) {
+  expect_error_at(replace(kProtocol, "width_px = 1280", "width_px = \"1280\""), 25, "screen.width_px", "expected a whole number");
+  expect_error_at(replace(kProtocol, "viewing_distance_mm = 650", "viewing_distance_mm = -650"), 29,
+                  "screen.viewing_distance_mm", "expected a positive number");
+  expect_error_at(replace(kProtocol, "time_unit = \"us\"", "time_unit = \"minutes\""), 13, "input.table.time_unit",
+                  "expected \"s\", \"ms\", \"us\" or \"ns\"");
+  expect_error_at(replace(kProtocol, "start = '^GO (?<trial>\\d+)'", "start = '^GO (?<trial\\d+)'"), 32, "trials.start",
+                  "named group");
+  expect_error_at(replace(kProtocol, "files = [\"raw/*.tsv\"]", "files = \"raw/*.tsv\""), 6, "input.files",
+                  "expected a list of strings");
+}
+
+TEST(ProtocolParser, MissingPiecesAreNamed) {
+  expect_error_at(replace(kProtocol, "time_column = \"ts\"\n", ""), 10, "input.table.time_column", "required key is missing");
+  try {
+    parse_protocol_text("[input]\nfiles=['a']\n[input.table]\ntime_column='t'\n", "p.toml");
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("at least one eye"), std::string::npos) << e.what();
+  }
+  expect_error_at("[input\n", 1, "", "not valid TOML");
+}

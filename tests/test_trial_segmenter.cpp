@@ -1,0 +1,82 @@
+#include <gtest/gtest.h>
+
+#include "pipeline/input_error.h"
+#include "pipeline/trial_segmenter.h"
+
+using namespace gazemill;
+
+namespace {
+
+TrialSegmentationSpec spec() {
+  TrialSegmentationSpec s;
+  s.start_pattern = R"(^BEGIN (?<trial>\d+)$)";
+  s.end_pattern = R"(^FINISH (?<trial>\d+)$)";
+  s.variable_patterns = {R"(^STIM item=(?<item>\w+) cond=(?<condition>\w+)$)", R"(^ANSWER (?<correct>[01])$)"};
+  s.marker_patterns = {{"display_onset", "^SHOW$"}};
+  return s;
+}
+
+std::vector<Message> msgs(std::initializer_list<std::pair<Microseconds, const char*>> list) {
+  std::vector<Message> out;
+  for (const auto& [t, s] : list) out.push_back({t, s});
+  return out;
+}
+
+}  // namespace
+
+TEST(TrialSegmenter, SplitsTrialsAndSetsVariablesAndMarkers) {
+  TrialSegmenter seg(spec(), UnterminatedTrialPolicy::error);
+  RepairCounts repairs;
+  const auto trials = seg.segment(msgs({{100, "calibration ok"},
+                                        {1000, "BEGIN 1"},
+                                        {1001, "STIM item=12 cond=rare"},
+                                        {1500, "SHOW"},
+                                        {1700, "SHOW"},
+                                        {4000, "ANSWER 1"},
+                                        {4100, "FINISH 1"},
+                                        {5000, "BEGIN 2"},
+                                        {5001, "STIM item=3 cond=frequent"},
+                                        {9000, "FINISH 2"}}),
+                                  {}, "f.tsv", repairs);
+  ASSERT_EQ(trials.size(), 2u);
+  EXPECT_EQ(trials[0].id, "1");
+  EXPECT_EQ(trials[0].start_us, 1000);
+  EXPECT_EQ(trials[0].end_us, 4100);
+  EXPECT_EQ(trials[0].item, "12");
+  EXPECT_EQ(trials[0].condition, "rare");
+  EXPECT_EQ(trials[0].variables.at("correct"), "1");
+  EXPECT_EQ(trials[0].markers.at("display_onset"), 1500);  // the first match wins
+  EXPECT_EQ(trials[1].condition, "frequent");
+  EXPECT_EQ(trials[1].variables.count("correct"), 0u);
+  EXPECT_EQ(trials[1].markers.count("display_onset"), 0u);
+  EXPECT_TRUE(repairs.empty());
+}
+
+TEST(TrialSegmenter, StartWithoutEndNamesTheLine) {
+  TrialSegmenter seg(spec(), UnterminatedTrialPolicy::error);
+  RepairCounts repairs;
+  try {
+    seg.segment(msgs({{1, "BEGIN 1"}, {2, "BEGIN 2"}, {3, "FINISH 2"}}), {10, 20, 30}, "m.tsv", repairs);
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().file, "m.tsv");
+    EXPECT_EQ(e.where().line, 10u);
+    EXPECT_NE(std::string(e.what()).find("trial '1'"), std::string::npos);
+  }
+  EXPECT_THROW(seg.segment(msgs({{1, "BEGIN 1"}}), {}, "m.tsv", repairs), InputError);
+  EXPECT_THROW(seg.segment(msgs({{1, "FINISH 1"}}), {}, "m.tsv", repairs), InputError);
+  EXPECT_THROW(seg.segment(msgs({{1, "BEGIN 1"}, {2, "FINISH 3"}}), {}, "m.tsv", repairs), InputError);
+  EXPECT_THROW(seg.segment(msgs({{1, "BEGIN 1"}, {2, "FINISH 1"}, {3, "BEGIN 1"}, {4, "FINISH 1"}}), {}, "m.tsv", repairs),
+               InputError);
+}
+
+TEST(TrialSegmenter, DropPolicyCountsWhatItDrops) {
+  TrialSegmenter seg(spec(), UnterminatedTrialPolicy::drop);
+  RepairCounts repairs;
+  const auto trials = seg.segment(
+      msgs({{1, "FINISH 0"}, {2, "BEGIN 1"}, {3, "BEGIN 2"}, {4, "FINISH 2"}, {5, "BEGIN 3"}}), {}, "m.tsv", repairs);
+  ASSERT_EQ(trials.size(), 1u);
+  EXPECT_EQ(trials[0].id, "2");
+  EXPECT_EQ(repairs.at("unterminated_trial_dropped"), 2u);
+  EXPECT_EQ(repairs.at("trial_end_without_start_dropped"), 1u);
+}
