@@ -20,6 +20,7 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   ingest->add_option("-o,--output", o.store_path, "Store to write (default: <protocol folder>/<study name or 'study'>.gzm.h5)");
   ingest->add_option("--deflate-level", o.deflate_level, "zlib level for sample chunks, 1 (fast) to 9 (small)")
       ->check(CLI::Range(1, 9));
+  ingest->add_option("--threads", o.compression_threads, "Compression threads (default: one per core)");
 
   auto* inspect = app.add_subcommand("inspect", "Show the recordings, trials and data loss in a study store");
   inspect->add_option("store", o.inspect_store, "Study store (.gzm.h5)")->required();
@@ -36,6 +37,7 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     }
     StoreWriteOptions wopt;
     wopt.deflate_level = o.deflate_level;
+    wopt.compression_threads = o.compression_threads;
     ProgressBar bar(o.show_progress);
     const IngestReport r = ingest_study(protocol, store, wopt, [&](const std::string& f, std::uint64_t d, std::uint64_t t) {
       bar.update(f, d, t);

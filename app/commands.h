@@ -14,6 +14,7 @@ struct CommandOptions {
   std::string protocol_path;
   std::string store_path;
   int deflate_level = 1;
+  unsigned compression_threads = 0;
   // inspect
   std::string inspect_store;
 };

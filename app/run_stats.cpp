@@ -4,14 +4,24 @@
 
 #include <fmt/format.h>
 
+#include <cstdio>
+
 namespace gazemill {
 
 RunClock::RunClock() : start_(std::chrono::steady_clock::now()) {}
 
 std::uint64_t peak_rss_bytes() {
-  rusage u{};
-  getrusage(RUSAGE_SELF, &u);
-  return static_cast<std::uint64_t>(u.ru_maxrss) * 1024u;  // Linux reports kB
+  // VmHWM, not getrusage: Linux carries ru_maxrss over from the parent across
+  // fork and exec, so a child of a large process would report the parent's peak.
+  std::FILE* f = std::fopen("/proc/self/status", "r");
+  if (!f) return 0;
+  char line[256];
+  unsigned long long kb = 0;
+  while (std::fgets(line, sizeof line, f)) {
+    if (std::sscanf(line, "VmHWM: %llu kB", &kb) == 1) break;
+  }
+  std::fclose(f);
+  return kb * 1024u;
 }
 
 std::string RunClock::summary(std::uint64_t bytes) const {

@@ -8,6 +8,7 @@
 #include <limits>
 #include <map>
 #include <memory>
+#include <optional>
 #include <string_view>
 
 #include "io/byte_source.h"
@@ -24,6 +25,40 @@ std::string_view trim(std::string_view s) {
   while (!s.empty() && (s.front() == ' ' || s.front() == '\r')) s.remove_prefix(1);
   while (!s.empty() && (s.back() == ' ' || s.back() == '\r')) s.remove_suffix(1);
   return s;
+}
+
+// Plain decimals such as "-512.25" are most of any export: read the digits as
+// one integer and divide by a power of ten in double, then narrow to float
+// (the same double-then-float path as numpy/pandas). Anything else (exponents,
+// long mantissas, inf/nan words) goes to fast_float.
+std::optional<float> parse_plain_decimal(std::string_view f) {
+  static constexpr double kPow10[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
+  const char* p = f.data();
+  const char* end = p + f.size();
+  bool negative = false;
+  if (p != end && *p == '-') {
+    negative = true;
+    ++p;
+  }
+  if (p == end || end - p > 16) return std::nullopt;
+  std::uint64_t mantissa = 0;
+  int digits = 0, decimals = 0;
+  bool dot = false;
+  for (; p != end; ++p) {
+    const char c = *p;
+    if (c >= '0' && c <= '9') {
+      mantissa = mantissa * 10 + static_cast<std::uint64_t>(c - '0');
+      ++digits;
+      decimals += dot;
+    } else if (c == '.' && !dot) {
+      dot = true;
+    } else {
+      return std::nullopt;
+    }
+  }
+  if (digits == 0 || digits > 15) return std::nullopt;
+  const double v = static_cast<double>(mantissa) / kPow10[decimals];
+  return static_cast<float>(negative ? -v : v);
 }
 
 std::string describe(char delimiter) {
@@ -93,13 +128,12 @@ class RowParser {
 
     std::string_view message = message_ != kNoColumn ? trim(fields_[message_]) : std::string_view{};
     if (is_missing(message)) message = {};  // e.g. BIDS writes n/a where a row has no message
-    const bool gaze_absent = all_gaze_missing();
     const Microseconds t = parse_time(line_no);
     if (!message.empty()) {
       result_.messages.push_back({t, std::string(message)});
       result_.message_lines.push_back(line_no);
       // A row with a message and no gaze values at all is a message row, not a sample.
-      if (gaze_absent || (!layout_.left && !layout_.right)) return;
+      if ((!layout_.left && !layout_.right) || all_gaze_missing()) return;
     } else if (!layout_.left && !layout_.right) {
       return;  // message files: rows without text carry nothing
     }
@@ -119,7 +153,13 @@ class RowParser {
                          "duplicate timestamp " + std::string(trim(fields_[time_])) +
                              "; each sample needs its own time (set input.repairs.duplicate_timestamps = \"keep_first\" to drop repeats)");
       }
-      ++intervals_[t - last_time_];
+      const Microseconds interval = t - last_time_;
+      if (interval != run_interval_) {
+        if (run_length_) intervals_[run_interval_] += run_length_;
+        run_interval_ = interval;
+        run_length_ = 0;
+      }
+      ++run_length_;
     } else {
       result_.first_time_us = t;
     }
@@ -140,6 +180,7 @@ class RowParser {
   DelimitedReadResult finish() {
     flush();
     result_.last_time_us = last_time_;
+    if (run_length_) intervals_[run_interval_] += run_length_;
     result_.has_left = layout_.left.has_value();
     result_.has_right = layout_.right.has_value();
     // Median interval from the histogram of consecutive differences.
@@ -159,18 +200,18 @@ class RowParser {
  private:
   template <typename F>
   void split(std::string_view line, F&& on_field) const {
+    // Fields are short: a plain loop beats a memchr call per field.
+    const char delimiter = layout_.delimiter;
     std::size_t i = 0;
-    const char* p = line.data();
-    const char* end = p + line.size();
-    for (;;) {
-      const char* d = static_cast<const char*>(std::memchr(p, layout_.delimiter, static_cast<std::size_t>(end - p)));
-      if (!d) {
-        on_field(i, std::string_view(p, static_cast<std::size_t>(end - p)));
-        return;
+    const char* start = line.data();
+    const char* end = start + line.size();
+    for (const char* p = start; p != end; ++p) {
+      if (*p == delimiter) {
+        on_field(i++, std::string_view(start, static_cast<std::size_t>(p - start)));
+        start = p + 1;
       }
-      on_field(i++, std::string_view(p, static_cast<std::size_t>(d - p)));
-      p = d + 1;
     }
+    on_field(i, std::string_view(start, static_cast<std::size_t>(end - start)));
   }
 
   bool is_missing(std::string_view f) const {
@@ -196,6 +237,13 @@ class RowParser {
 
   Microseconds parse_time(std::size_t line_no) const {
     const std::string_view f = trim(fields_[time_]);
+    // Most exports write whole numbers: read the digits directly, exactly.
+    if (!f.empty() && f.size() <= 18) {
+      std::int64_t whole = 0;
+      std::size_t i = 0;
+      for (; i < f.size() && f[i] >= '0' && f[i] <= '9'; ++i) whole = whole * 10 + (f[i] - '0');
+      if (i == f.size()) return scale_whole_time(whole);
+    }
     double v = 0.0;
     auto r = fast_float::from_chars(f.data(), f.data() + f.size(), v);
     if (f.empty() || r.ec != std::errc() || r.ptr != f.data() + f.size() || !std::isfinite(v)) {
@@ -205,11 +253,22 @@ class RowParser {
     return static_cast<Microseconds>(std::llround(v * microseconds_per(layout_.time_unit)));
   }
 
+  Microseconds scale_whole_time(std::int64_t whole) const {
+    switch (layout_.time_unit) {
+      case TimeUnit::seconds: return whole * 1000000;
+      case TimeUnit::milliseconds: return whole * 1000;
+      case TimeUnit::microseconds: return whole;
+      case TimeUnit::nanoseconds: return (whole + 500) / 1000;  // round half up, as llround for positives
+    }
+    return whole;
+  }
+
   float parse_value(std::size_t column, std::size_t line_no) const {
     if (column == kNoColumn) return kNaN;
     std::string_view f = fields_[column];
     if (!f.empty() && (f.front() == ' ' || f.back() == ' ' || f.back() == '\r')) f = trim(f);
     if (is_missing(f)) return kNaN;
+    if (auto quick = parse_plain_decimal(f)) return *quick;
     float v = 0.0f;
     auto r = fast_float::from_chars(f.data(), f.data() + f.size(), v);
     if (r.ec != std::errc() || r.ptr != f.data() + f.size()) not_a_number(line_no, column, f);
@@ -243,7 +302,9 @@ class RowParser {
   std::size_t max_token_length_ = 0;
   SampleColumns chunk_;
   Microseconds last_time_ = 0;
-  std::map<Microseconds, std::uint64_t> intervals_;
+  std::map<Microseconds, std::uint64_t> intervals_;  // histogram of sample intervals
+  Microseconds run_interval_ = 0;                    // the current run of equal intervals
+  std::uint64_t run_length_ = 0;
   DelimitedReadResult result_;
 };
 

@@ -1,0 +1,83 @@
+#!/usr/bin/python3
+"""The command-line contract: --help on every command, --version, exit codes
+0 ok / 1 bad input / 2 usage, errors naming file and line, and no store left
+behind after a failed run.
+
+usage: check_cli.py GAZEMILL_BINARY FIXTURES_DIR
+"""
+import os
+import subprocess
+import sys
+import tempfile
+
+gazemill = sys.argv[1]
+failures = []
+COMMANDS = ["ingest", "inspect"]
+
+
+def run(*args, cwd=None):
+    return subprocess.run([gazemill, *args], capture_output=True, text=True, cwd=cwd)
+
+
+def check(cond, what, proc=None):
+    if not cond:
+        failures.append(what)
+        print("FAIL:", what)
+        if proc is not None:
+            print("  exit", proc.returncode, "stderr:", proc.stderr.strip()[:400])
+
+
+r = run("--version")
+check(r.returncode == 0 and r.stdout.startswith("gazemill "), "--version", r)
+r = run("--help")
+check(r.returncode == 0 and all(c in r.stdout for c in COMMANDS), "--help lists every command", r)
+for c in COMMANDS:
+    r = run(c, "--help")
+    check(r.returncode == 0 and "Usage" in r.stdout, f"{c} --help", r)
+check(run().returncode == 2, "no command is a usage error")
+check(run("frobnicate").returncode == 2, "unknown command is a usage error")
+check(run("ingest", "--no-such-option", "x").returncode == 2, "unknown option is a usage error")
+
+with tempfile.TemporaryDirectory() as tmp:
+    proto = os.path.join(tmp, "gazemill.toml")
+    with open(proto, "w") as f:
+        f.write('[input]\nfiles = ["*.tsv"]\nformat = "delimted"\n')
+    r = run("ingest", proto)
+    check(r.returncode == 1, "bad protocol exits 1", r)
+    check(f"{proto}:3: field 'input.format'" in r.stderr and "expected \"delimited\" or \"bids\"" in r.stderr,
+          "bad protocol names file, line and key", r)
+
+    with open(proto, "w") as f:
+        f.write("""[input]
+files = ["*.tsv"]
+[input.table]
+time_column = "t"
+[input.table.left]
+x_column = "x"
+y_column = "y"
+[screen]
+width_px = 800
+height_px = 600
+width_mm = 300
+height_mm = 220
+viewing_distance_mm = 600
+[trials]
+start = '^S$'
+end = '^E$'
+""")
+    data = os.path.join(tmp, "a.tsv")
+    with open(data, "w") as f:
+        f.write("t\tx\ty\n1\t2\t3\n2\t2\t\t\n")
+    before = set(os.listdir(tmp))
+    r = run("ingest", proto, "-o", os.path.join(tmp, "s.gzm.h5"))
+    check(r.returncode == 1, "bad data exits 1", r)
+    check(f"{data}:3:" in r.stderr and "expected 3" in r.stderr, "bad data names file and line", r)
+    check(set(os.listdir(tmp)) == before, "a failed ingest leaves nothing behind", r)
+
+    r = run("inspect", os.path.join(tmp, "nothing.h5"))
+    check(r.returncode == 1 and "no such file" in r.stderr, "inspect of a missing store exits 1", r)
+    r = run("inspect", data)
+    check(r.returncode == 1 and "not an HDF5 file" in r.stderr, "inspect of a text file exits 1", r)
+
+print(f"{0 if failures else 1} passed, {len(failures)} failed")
+sys.exit(1 if failures else 0)

@@ -1,0 +1,146 @@
+#!/usr/bin/python3
+"""The study store read by an outside library (h5py), checked against the
+input as parsed by another outside library (pandas.read_csv), plus the CLI
+ingest being deterministic dataset by dataset.
+
+usage: check_store_h5py.py GAZEMILL_BINARY FIXTURES_DIR
+"""
+import hashlib
+import os
+import subprocess
+import sys
+import tempfile
+
+import h5py
+import numpy as np
+import pandas as pd
+
+gazemill = sys.argv[1]
+failures = []
+
+
+def check(cond, what):
+    if not cond:
+        failures.append(what)
+        print("FAIL:", what)
+
+
+PROTOCOL = """[study]
+name = "h5check"
+[input]
+files = ["raw/*.csv"]
+filename_pattern = '(?<participant>subj\\d+)'
+[input.table]
+delimiter = ","
+time_column = "ts"
+time_unit = "us"
+message_column = "msg"
+missing_values = ["", "NaN", "-1"]
+[input.table.left]
+x_column = "lx"
+y_column = "ly"
+pupil_column = "lp"
+[input.table.right]
+x_column = "rx"
+y_column = "ry"
+pupil_column = "rp"
+[screen]
+width_px = 1920
+height_px = 1080
+width_mm = 531
+height_mm = 299
+viewing_distance_mm = 700
+[trials]
+start = '^BEGIN (?<trial>\\d+)$'
+end = '^END (?<trial>\\d+)$'
+variables = ['^ITEM (?<item>\\d+) (?<condition>[a-z]+)$']
+"""
+
+
+def make_file(path, seed, n):
+    rng = np.random.default_rng(seed)
+    t = 5_000_000 + np.arange(n, dtype=np.int64) * 500  # 2000 Hz in microseconds
+    cols = {"ts": t}
+    for eye in "lr":
+        x = np.round(rng.uniform(0, 1920, n), 3)
+        y = np.round(rng.uniform(0, 1080, n), 3)
+        p = np.round(rng.uniform(800, 1600, n), 1)
+        lost = rng.random(n) < 0.05
+        cols[eye + "x"] = np.where(lost, np.nan, x)
+        cols[eye + "y"] = np.where(lost, np.nan, y)
+        # Lost pupil is written as the token -1 (a missing-value token in the protocol).
+        cols[eye + "p"] = np.where(lost, "-1", np.char.mod("%.1f", p))
+    df = pd.DataFrame(cols)
+    df["msg"] = ""
+    with open(path, "w") as f:
+        f.write("ts,lx,ly,lp,rx,ry,rp,msg\n")
+        half = n // 2
+        for k, (a, b) in enumerate([(0, half), (half, n)], start=1):
+            f.write(f"{t[a]},,,,,,,BEGIN {k}\n")
+            f.write(f"{t[a]},,,,,,,ITEM {20 + k} {'rare' if k == 1 else 'frequent'}\n")
+            df.iloc[a:b].to_csv(f, header=False, index=False, na_rep="NaN")
+            f.write(f"{t[b - 1]},,,,,,,END {k}\n")
+
+
+with tempfile.TemporaryDirectory() as tmp:
+    os.makedirs(os.path.join(tmp, "raw"))
+    for i, n in [(1, 30011), (2, 70001)]:
+        make_file(os.path.join(tmp, "raw", f"subj{i}.csv"), i, n)
+    proto = os.path.join(tmp, "gazemill.toml")
+    with open(proto, "w") as f:
+        f.write(PROTOCOL)
+    for out in ("a.gzm.h5", "b.gzm.h5"):
+        subprocess.run([gazemill, "-q", "ingest", proto, "-o", os.path.join(tmp, out)], check=True)
+
+    with h5py.File(os.path.join(tmp, "a.gzm.h5"), "r") as h:
+        check(h.attrs["format"] == "gazemill-study-store", "root format attribute")
+        check(sorted(h["recordings"].keys()) == ["subj1", "subj2"], "recording groups")
+        for i in (1, 2):
+            src = os.path.join(tmp, "raw", f"subj{i}.csv")
+            ref = pd.read_csv(src, na_values=["", "NaN", "-1"], keep_default_na=False)
+            samples_ref = ref[ref["msg"].isna()].reset_index(drop=True)
+            g = h[f"recordings/subj{i}"]
+            s = g["samples"]
+            check(s["time_us"].attrs["unit"] == "us", "time unit attribute")
+            check(s["left_x_px"].attrs["unit"] == "px", "x unit attribute")
+            check(s["time_us"].dtype == np.int64, "time dtype")
+            check(np.array_equal(s["time_us"][:], samples_ref["ts"].to_numpy()), f"subj{i} timestamps")
+            for eye, e in (("left", "l"), ("right", "r")):
+                for axis in ("x", "y"):
+                    got = s[f"{eye}_{axis}_px"][:]
+                    want = samples_ref[e + axis].to_numpy().astype(np.float32)
+                    check(np.array_equal(got, want, equal_nan=True), f"subj{i} {eye}_{axis}_px")
+                got_p = s[f"{eye}_pupil"][:]
+                want_p = samples_ref[e + "p"].to_numpy().astype(np.float32)
+                check(np.array_equal(got_p, want_p, equal_nan=True), f"subj{i} {eye}_pupil")
+                valid = ~np.isnan(samples_ref[e + "x"].to_numpy())
+                check(np.array_equal(s[f"{eye}_valid"][:].astype(bool), valid), f"subj{i} {eye}_valid")
+                check(int(g.attrs[f"missing_{eye}"]) == int((~valid).sum()), f"subj{i} missing_{eye}")
+            check(int(g.attrs["sample_count"]) == len(samples_ref), f"subj{i} sample_count")
+            check(abs(g.attrs["sample_rate_hz"] - 2000.0) < 1e-9, f"subj{i} sample rate")
+            tr = g["trials"]
+            check([x.decode() for x in tr["item"][:]] == ["21", "22"], f"subj{i} trial items")
+            check([x.decode() for x in tr["condition"][:]] == ["rare", "frequent"], f"subj{i} conditions")
+            check(s["time_us"].compression == "gzip" and s["time_us"].shuffle, "samples are shuffled + deflated")
+        prov = h["provenance"]
+        with open(proto) as f:
+            check(prov.attrs["protocol_text"] == f.read(), "protocol text stored exactly")
+        paths = [p.decode() for p in prov["inputs/path"][:]]
+        for p, digest, size in zip(paths, prov["inputs/sha256"][:], prov["inputs/size_bytes"][:]):
+            with open(p, "rb") as f:
+                data = f.read()
+            check(hashlib.sha256(data).hexdigest() == digest.decode(), f"sha256 of {p}")
+            check(len(data) == size, f"size of {p}")
+
+    # Determinism: every dataset of two runs is identical, value and type.
+    with h5py.File(os.path.join(tmp, "a.gzm.h5"), "r") as a, h5py.File(os.path.join(tmp, "b.gzm.h5"), "r") as b:
+        names = []
+        a.visititems(lambda n, o: names.append(n) if isinstance(o, h5py.Dataset) else None)
+        for n in names:
+            x, y = a[n][()], b[n][()]
+            same = x.dtype == y.dtype and (np.array_equal(x, y, equal_nan=True) if x.dtype.kind == "f" else np.array_equal(x, y))
+            check(same, f"dataset {n} identical across runs")
+        check(len(names) > 20, "datasets compared")
+
+print(f"{0 if failures else 1} passed, {len(failures)} failed")
+sys.exit(1 if failures else 0)
