@@ -2,6 +2,7 @@
 // The subcommands of the gazemill program and their options.
 
 #include <CLI/CLI.hpp>
+#include <cstdint>
 #include <string>
 
 #include "app/progress_bar.h"
@@ -17,6 +18,19 @@ struct CommandOptions {
   unsigned compression_threads = 0;
   // inspect
   std::string inspect_store;
+  // simulate
+  std::string sim_folder;
+  int sim_participants = 4;
+  int sim_items = 12;
+  double sim_rate_hz = 1000;
+  std::uint64_t sim_seed = 1;
+  double sim_noise_deg = 0.03;
+  bool sim_binocular = false;
+  bool sim_no_pso = false;
+  bool sim_no_bids = false;
+  double sim_drift_offset_sd_px = 6.0;
+  double sim_drift_slope_sd = 0.01;
+  double sim_drift_growth_px = 0.25;
 };
 
 void register_commands(CLI::App& app, CommandOptions& opts);

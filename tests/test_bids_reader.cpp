@@ -42,9 +42,9 @@ const char* kEventsJson = R"({"Columns": ["onset", "duration", "trial_type", "bl
   "OnsetSource": "timestamp", "Description": "messages"})";
 
 const char* kEvents =
-    "7186799\tn/a\tn/a\t0\tTRIALID 1\n"
+    "7186799\tn/a\tn/a\t0\tbegin trial 1\n"
     "7186800\t2\tfixation\t0\tn/a\n"
-    "7186803\tn/a\tn/a\t0\tTRIAL_OVER 1\n";
+    "7186803\tn/a\tn/a\t0\tend trial 1\n";
 
 const char* kTaskEvents = R"({"StimulusPresentation": {"ScreenDistance": 0.6, "ScreenOrigin": ["top", "left"],
   "ScreenRefreshRate": 60, "ScreenResolution": [1024, 768], "ScreenSize": [0.386, 0.29]}})";
@@ -62,8 +62,8 @@ std::string protocol() {
 format = "bids"
 files = ["sub-*/ses-*/beh/*_physio.tsv.gz"]
 [trials]
-start = '^TRIALID (?<trial>\d+)$'
-end = '^TRIAL_OVER'
+start = '^begin trial (?<trial>\d+)$'
+end = '^end trial'
 )";
 }
 

@@ -1,0 +1,81 @@
+#include "sim/reader_model.h"
+
+#include <algorithm>
+#include <cmath>
+
+namespace gazemill::sim {
+namespace {
+
+double ex_gaussian(double mu, double sigma, double tau, std::mt19937_64& rng) {
+  std::normal_distribution<double> normal(mu, sigma);
+  std::exponential_distribution<double> expo(1.0 / tau);
+  return normal(rng) + expo(rng);
+}
+
+}  // namespace
+
+std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int target_region, bool hard,
+                                                const ReaderParams& p, std::mt19937_64& rng) {
+  std::uniform_real_distribution<double> uniform(0.0, 1.0);
+  std::normal_distribution<double> landing_noise(0.0, p.landing_sd_chars);
+  const int n_words = static_cast<int>(item.words.size());
+  std::vector<ScanpathFixation> path;
+  if (n_words == 0) return path;
+
+  auto duration_for = [&](int char_index) {
+    const int region = item.chars[static_cast<std::size_t>(char_index)].region;
+    double mu = p.duration_mu_ms;
+    if (hard && target_region >= 0) {
+      if (region == target_region) mu += p.target_effect_ms;
+      else if (region == target_region + 1) mu += p.spillover_effect_ms;
+    }
+    return std::max(p.min_duration_ms, ex_gaussian(mu, p.duration_sigma_ms, p.duration_tau_ms, rng));
+  };
+  auto land_in = [&](int word) {
+    const Word& w = item.words[static_cast<std::size_t>(word)];
+    const double preferred = w.first_char + p.landing_share * (w.length() - 1);
+    const int c = static_cast<int>(std::lround(preferred + landing_noise(rng)));
+    return std::clamp(c, w.first_char, w.last_char);
+  };
+  auto skip_probability = [&](int word) {
+    const double letters = item.words[static_cast<std::size_t>(word)].length();
+    return std::clamp(p.skip_intercept - p.skip_slope_per_letter * letters, p.skip_floor, p.skip_ceiling);
+  };
+
+  int word = 0;
+  int furthest = 0;
+  int c = land_in(0);
+  bool refixated = false;
+  for (int guard = 0; guard < 20 * n_words + 20; ++guard) {
+    path.push_back({c, duration_for(c)});
+    const Word& w = item.words[static_cast<std::size_t>(word)];
+    furthest = std::max(furthest, word);
+
+    // Refixate long words once, further to the right of the first landing.
+    double p_refix = std::clamp(p.refixation_slope_per_letter * (w.length() - 4), 0.0, 0.5);
+    if (hard && w.region == target_region) p_refix += p.target_refixation_extra;
+    if (!refixated && uniform(rng) < p_refix && c < w.last_char) {
+      refixated = true;
+      c = std::min(w.last_char, c + std::max(1, w.length() / 3));
+      continue;
+    }
+    refixated = false;
+
+    int next;
+    const bool same_line_back = word > 0 && item.words[static_cast<std::size_t>(word - 1)].line == w.line;
+    if (same_line_back && uniform(rng) < p.regression_probability) {
+      next = word - 1;
+      if (next > 0 && item.words[static_cast<std::size_t>(next - 1)].line == w.line && uniform(rng) < 0.3) --next;
+    } else {
+      next = std::max(word, furthest) + 1;
+      // Skip at most one word, never the last one (the reader must reach the end).
+      if (next < n_words - 1 && uniform(rng) < skip_probability(next)) ++next;
+    }
+    if (next >= n_words) break;
+    word = next;
+    c = land_in(word);
+  }
+  return path;
+}
+
+}  // namespace gazemill::sim
