@@ -34,6 +34,7 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   sim->add_flag("--binocular", o.sim_binocular, "Record both eyes");
   sim->add_flag("--no-pso", o.sim_no_pso, "No post-saccadic oscillation");
   sim->add_flag("--no-bids", o.sim_no_bids, "Skip the BIDS copy");
+  sim->add_option("--gzip-level", o.sim_gzip_level, "zlib level of the written .gz files, 1 (fast) to 9 (small)")->check(CLI::Range(1, 9));
   sim->add_option("--drift-offset-px", o.sim_drift_offset_sd_px, "SD of the per-trial vertical offset (px)")->check(CLI::Range(0.0, 500.0));
   sim->add_option("--drift-slope", o.sim_drift_slope_sd, "SD of the vertical drift slope across the screen (px per px)")->check(CLI::Range(0.0, 1.0));
   sim->add_option("--drift-growth-px", o.sim_drift_growth_px, "Vertical drift added per trial over the session (px)")->check(CLI::Range(0.0, 50.0));
@@ -87,6 +88,7 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     const sim::SimulatedStudy study = sim::simulate_study(cfg);
     sim::ExportOptions eopt;
     eopt.bids = !o.sim_no_bids;
+    eopt.gzip_level = o.sim_gzip_level;
     const std::string protocol = sim::export_study(study, o.sim_folder, eopt);
     std::uint64_t samples = 0;
     for (const auto& r : study.recordings) samples += r.recording.samples.size();

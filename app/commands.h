@@ -28,6 +28,7 @@ struct CommandOptions {
   bool sim_binocular = false;
   bool sim_no_pso = false;
   bool sim_no_bids = false;
+  int sim_gzip_level = 1;
   double sim_drift_offset_sd_px = 6.0;
   double sim_drift_slope_sd = 0.01;
   double sim_drift_growth_px = 0.25;

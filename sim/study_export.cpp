@@ -3,7 +3,10 @@
 #include <fmt/format.h>
 #include <zlib.h>
 
+#include <atomic>
 #include <cmath>
+#include <future>
+#include <thread>
 #include <filesystem>
 #include <fstream>
 #include <nlohmann/json.hpp>
@@ -161,7 +164,7 @@ text_shown = '^text shown$'
                      st.config.design.name);
 }
 
-void write_bids(const SimulatedStudy& st, const fs::path& root, int level) {
+void write_bids_dataset_files(const SimulatedStudy& st, const fs::path& root) {
   using nlohmann::json;
   const auto& sc = st.config.screen;
   write_text(root / "dataset_description.json",
@@ -175,7 +178,12 @@ void write_bids(const SimulatedStudy& st, const fs::path& root, int level) {
                     {"ScreenSize", {sc.width_mm / 1000.0, sc.height_mm / 1000.0}},
                     {"ScreenRefreshRate", 60}}}}
                  .dump(2));
-  for (const auto& sr : st.recordings) {
+}
+
+void write_bids_recording(const SimulatedStudy& st, const SimulatedRecording& sr, const fs::path& root, int level) {
+  using nlohmann::json;
+  const std::string task = "task-" + st.config.design.task;
+  {
     const Recording& r = sr.recording;
     const std::string sub = "sub-" + r.participant;
     const fs::path dir = root / sub / "beh";
@@ -214,20 +222,32 @@ void write_bids(const SimulatedStudy& st, const fs::path& root, int level) {
 std::string export_study(const SimulatedStudy& st, const std::string& folder, const ExportOptions& opt) {
   const fs::path root(folder);
   fs::create_directories(root);
-  for (const auto& sr : st.recordings) {
-    const Recording& r = sr.recording;
-    if (opt.delimited) {
-      write_samples(r, root / "raw" / (r.participant + "_s" + r.session + ".tsv.gz"), opt.gzip_level, false, Eye::left, false);
+  // Compressing the exports is most of the work: one participant per core.
+  std::atomic<std::size_t> next{0};
+  auto work = [&] {
+    for (std::size_t k = next++; k < st.recordings.size(); k = next++) {
+      const SimulatedRecording& sr = st.recordings[k];
+      const Recording& r = sr.recording;
+      if (opt.delimited) {
+        write_samples(r, root / "raw" / (r.participant + "_s" + r.session + ".tsv.gz"), opt.gzip_level, false, Eye::left, false);
+      }
+      if (opt.bids) write_bids_recording(st, sr, root / "bids", opt.gzip_level);
+      GzWriter labels(root / "truth" / (r.participant + "_labels.tsv.gz"), opt.gzip_level);
+      fmt::memory_buffer b;
+      fmt::format_to(std::back_inserter(b), "time_us\tlabel\n");
+      for (std::size_t i = 0; i < sr.truth.labels.size(); ++i) {
+        fmt::format_to(std::back_inserter(b), "{}\t{}\n", r.samples.time_us[i], to_string(sr.truth.labels[i]));
+      }
+      labels.write(b);
     }
-    GzWriter labels(root / "truth" / (r.participant + "_labels.tsv.gz"), opt.gzip_level);
-    fmt::memory_buffer b;
-    fmt::format_to(std::back_inserter(b), "time_us\tlabel\n");
-    for (std::size_t i = 0; i < sr.truth.labels.size(); ++i) {
-      fmt::format_to(std::back_inserter(b), "{}\t{}\n", r.samples.time_us[i], to_string(sr.truth.labels[i]));
-    }
-    labels.write(b);
+  };
+  if (opt.bids) write_bids_dataset_files(st, root / "bids");
+  {
+    std::vector<std::future<void>> workers;
+    const unsigned n = std::max(1u, std::min<unsigned>(std::thread::hardware_concurrency(), static_cast<unsigned>(st.recordings.size())));
+    for (unsigned i = 0; i < n; ++i) workers.push_back(std::async(std::launch::async, work));
+    for (auto& w : workers) w.get();
   }
-  if (opt.bids) write_bids(st, root / "bids", opt.gzip_level);
 
   std::string fix = "participant\ttrial\tstart_us\tend_us\tx_px\ty_px\tline\tregion\tchar_index\n";
   std::string drift = "participant\ttrial\toffset_px\tslope\tsession_px\n";

@@ -23,7 +23,7 @@ namespace gazemill::sim {
 struct ExportOptions {
   bool delimited = true;
   bool bids = true;
-  int gzip_level = 6;
+  int gzip_level = 1;  // zlib level of the .gz files: 1 fast, 9 small
 };
 
 /// Writes everything under `folder` (created if needed). Returns the path of
