@@ -10,11 +10,117 @@
 #include "app/inspect.h"
 #include "app/protocol_parser.h"
 #include "app/run_stats.h"
+#include "app/detect.h"
+#include "app/score.h"
+#include "detectors/detector_registry.h"
+#include "pipeline/input_error.h"
+#include <fstream>
+#include <optional>
 #include "sim/study_export.h"
 #include "sim/study_simulator.h"
 
 namespace gazemill {
 namespace fs = std::filesystem;
+
+namespace {
+
+std::string default_store_path(const Protocol& protocol, const std::string& protocol_path) {
+  const std::string name = protocol.study_name.empty() ? "study" : protocol.study_name;
+  return (fs::path(protocol_path).parent_path() / (name + ".gzm.h5")).string();
+}
+
+std::pair<double, double> parse_pair(const std::string& text, const std::string& option) {
+  const auto x = text.find('x');
+  try {
+    if (x != std::string::npos) return {std::stod(text.substr(0, x)), std::stod(text.substr(x + 1))};
+  } catch (const std::exception&) {
+  }
+  throw InputError({"", 0, option}, "expected WIDTHxHEIGHT, e.g. 1920x1080; found \"" + text + "\"");
+}
+
+int run_score(const ScoreOptions& so) {
+  if (so.simulated_folder.empty() == so.labelled_file.empty()) {
+    throw InputError({"", 0, "score"}, "give either --simulated FOLDER or --labelled FILE");
+  }
+  DetectionSpec detection;
+  std::optional<Protocol> protocol;
+  if (!so.protocol.empty()) {
+    protocol = parse_protocol_file(so.protocol);
+    detection = protocol->detection;
+  }
+  if (!so.method.empty()) detection.method = so.method;
+  for (const auto& p : so.params) {
+    const auto eq = p.find('=');
+    try {
+      if (eq == std::string::npos) throw std::invalid_argument("no =");
+      detection.parameters[p.substr(0, eq)] = std::stod(p.substr(eq + 1));
+    } catch (const std::exception&) {
+      throw InputError({"", 0, "--param"}, "expected NAME=VALUE with a number, found \"" + p + "\"");
+    }
+  }
+  try {
+    make_detector(detection);
+  } catch (const std::invalid_argument& e) {
+    throw InputError({"", 0, "--method/--param"}, e.what());
+  }
+  AgreementReport report;
+  if (!so.simulated_folder.empty()) {
+    report = score_simulated_study(so.simulated_folder, detection);
+  } else {
+    LabelledFileSpec f;
+    f.path = so.labelled_file;
+    std::vector<std::string> cols;
+    std::string c;
+    for (char ch : so.columns + ",") {
+      if (ch == ',') {
+        cols.push_back(c);
+        c.clear();
+      } else {
+        c += ch;
+      }
+    }
+    if (cols.size() != 4) throw InputError({"", 0, "--columns"}, "expected four names: time,x,y,label");
+    f.time_column = cols[0];
+    f.x_column = cols[1];
+    f.y_column = cols[2];
+    f.label_column = cols[3];
+    f.delimiter = so.delimiter == "tab" ? '\t' : so.delimiter == "comma" ? ',' : so.delimiter == "semicolon" ? ';'
+                : so.delimiter == "space" ? ' ' : so.delimiter.size() == 1 ? so.delimiter[0] : '\0';
+    if (f.delimiter == '\0') throw InputError({"", 0, "--delimiter"}, "expected tab, comma, semicolon, space or one character");
+    const auto tu = parse_time_unit(so.time_unit);
+    if (!tu) throw InputError({"", 0, "--time-unit"}, "expected s, ms, us or ns");
+    f.time_unit = *tu;
+    if (so.codes.empty()) throw InputError({"", 0, "--codes"}, "a labelled file needs its label codes, e.g. --codes 1=fixation,2=saccade");
+    f.codes = parse_label_codes(so.codes);
+    if (protocol && protocol->screen) f.screen = *protocol->screen;
+    if (!so.screen_px.empty()) {
+      const auto [w, h] = parse_pair(so.screen_px, "--screen-px");
+      f.screen.width_px = static_cast<int>(w);
+      f.screen.height_px = static_cast<int>(h);
+    }
+    if (!so.screen_mm.empty()) std::tie(f.screen.width_mm, f.screen.height_mm) = parse_pair(so.screen_mm, "--screen-mm");
+    if (so.distance_mm > 0) f.screen.viewing_distance_mm = so.distance_mm;
+    if (f.screen.width_px <= 0 || f.screen.width_mm <= 0 || f.screen.viewing_distance_mm <= 0) {
+      throw InputError({"", 0, "--screen-px/--screen-mm/--distance-mm"},
+                       "the screen geometry is needed to work in degrees: give it, or a --protocol with [screen]");
+    }
+    f.sample_rate_hz = so.rate_hz;
+    report = score_labelled_file(f, detection);
+  }
+  print_agreement(report, std::cout);
+  if (!so.json_out.empty()) {
+    const std::string tmp = so.json_out + ".partial";
+    {
+      std::ofstream out(tmp);
+      out << agreement_json(report, detection) << "\n";
+      if (!out) throw InputError({so.json_out, 0, ""}, "cannot write");
+    }
+    fs::rename(tmp, so.json_out);
+  }
+  return 0;
+}
+
+}  // namespace
 
 void register_commands(CLI::App& app, CommandOptions& o) {
   auto* ingest = app.add_subcommand("ingest", "Read the raw exports a protocol names into a new HDF5 study store");
@@ -39,6 +145,29 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   sim->add_option("--drift-slope", o.sim_drift_slope_sd, "SD of the vertical drift slope across the screen (px per px)")->check(CLI::Range(0.0, 1.0));
   sim->add_option("--drift-growth-px", o.sim_drift_growth_px, "Vertical drift added per trial over the session (px)")->check(CLI::Range(0.0, 50.0));
 
+  auto* detect = app.add_subcommand("detect", "Detect fixations, saccades and blinks in every trial of a store");
+  detect->add_option("protocol", o.detect_protocol, "Protocol file with a [detection] section (defaults apply without one)")
+      ->required()->check(CLI::ExistingFile);
+  detect->add_option("-s,--store", o.detect_store, "Study store (default: the one ingest writes for this protocol)");
+
+  auto* score = app.add_subcommand("score", "Compare a detector's labels with a reference labelling");
+  auto& so = o.score;
+  auto* sim_opt = score->add_option("--simulated", so.simulated_folder, "Folder written by gazemill simulate (uses its truth/)");
+  auto* lab_opt = score->add_option("--labelled", so.labelled_file, "Delimited file with time, x, y and a label column");
+  sim_opt->excludes(lab_opt);
+  score->add_option("--protocol", so.protocol, "Take the detection settings (and screen) from this protocol");
+  score->add_option("--method", so.method, "Detection method: ivt, idt, engbert_kliegl, nystrom_holmqvist");
+  score->add_option("--param", so.params, "Method parameter NAME=VALUE (repeatable)");
+  score->add_option("--codes", so.codes, "Label codes of the labelled file, e.g. 1=fixation,2=saccade,3=pso,4=blink");
+  score->add_option("--columns", so.columns, "Time, x, y and label column names of the labelled file")->capture_default_str();
+  score->add_option("--delimiter", so.delimiter, "tab, comma, semicolon or one character")->capture_default_str();
+  score->add_option("--time-unit", so.time_unit, "s, ms, us or ns")->capture_default_str();
+  score->add_option("--screen-px", so.screen_px, "Screen size in pixels, WIDTHxHEIGHT");
+  score->add_option("--screen-mm", so.screen_mm, "Screen size in millimetres, WIDTHxHEIGHT");
+  score->add_option("--distance-mm", so.distance_mm, "Viewing distance in millimetres");
+  score->add_option("--rate", so.rate_hz, "Sampling rate in Hz (default: from the timestamps)");
+  score->add_option("--json", so.json_out, "Also write the results as JSON to this file");
+
   auto* inspect = app.add_subcommand("inspect", "Show the recordings, trials and data loss in a study store");
   inspect->add_option("store", o.inspect_store, "Study store (.gzm.h5)")->required();
 }
@@ -47,11 +176,7 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
   if (app.got_subcommand("ingest")) {
     const RunClock clock;
     const Protocol protocol = parse_protocol_file(o.protocol_path);
-    std::string store = o.store_path;
-    if (store.empty()) {
-      const std::string name = protocol.study_name.empty() ? "study" : protocol.study_name;
-      store = (fs::path(o.protocol_path).parent_path() / (name + ".gzm.h5")).string();
-    }
+    const std::string store = o.store_path.empty() ? default_store_path(protocol, o.protocol_path) : o.store_path;
     StoreWriteOptions wopt;
     wopt.deflate_level = o.deflate_level;
     wopt.compression_threads = o.compression_threads;
@@ -96,6 +221,19 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     spdlog::info("protocol: {}", protocol);
     spdlog::info("simulate: {}", clock.summary());
     return 0;
+  }
+  if (app.got_subcommand("detect")) {
+    const RunClock clock;
+    const Protocol protocol = parse_protocol_file(o.detect_protocol);
+    const std::string store = o.detect_store.empty() ? default_store_path(protocol, o.detect_protocol) : o.detect_store;
+    const DetectReport r = detect_study(protocol, store);
+    spdlog::info("{} ({}): {} recordings, {} samples -> {} fixations, {} saccades, {} blinks", store, protocol.detection.method,
+                 r.recordings, r.samples, r.fixations, r.saccades, r.blinks);
+    spdlog::info("detect: {}", clock.summary());
+    return 0;
+  }
+  if (app.got_subcommand("score")) {
+    return run_score(o.score);
   }
   if (app.got_subcommand("inspect")) {
     print_store_overview(o.inspect_store, std::cout);

@@ -4,10 +4,28 @@
 #include <CLI/CLI.hpp>
 #include <cstdint>
 #include <string>
+#include <vector>
 
 #include "app/progress_bar.h"
 
 namespace gazemill {
+
+struct ScoreOptions {
+  std::string simulated_folder;
+  std::string labelled_file;
+  std::string protocol;           // detection settings (and screen) from a protocol
+  std::string method;             // or from the command line
+  std::vector<std::string> params;  // NAME=VALUE
+  std::string codes;              // CODE=CLASS,...
+  std::string columns = "time,x,y,label";
+  std::string delimiter = "tab";
+  std::string time_unit = "ms";
+  std::string screen_px;          // WIDTHxHEIGHT
+  std::string screen_mm;          // WIDTHxHEIGHT
+  double distance_mm = 0;
+  double rate_hz = 0;
+  std::string json_out;
+};
 
 struct CommandOptions {
   bool show_progress = false;
@@ -32,7 +50,13 @@ struct CommandOptions {
   double sim_drift_offset_sd_px = 6.0;
   double sim_drift_slope_sd = 0.01;
   double sim_drift_growth_px = 0.25;
+  // detect
+  std::string detect_protocol;
+  std::string detect_store;
+  // score
+  ScoreOptions score;
 };
+
 
 void register_commands(CLI::App& app, CommandOptions& opts);
 /// Runs the parsed subcommand; returns the exit code. Throws InputError on bad input.

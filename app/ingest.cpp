@@ -164,7 +164,7 @@ IngestReport ingest_study(const Protocol& protocol, const std::string& store_pat
     rec.session = who.session;
     rec.id = sanitize_id(who.session.empty() ? who.participant : who.participant + "_" + who.session);
     rec.source_file = file;
-    spdlog::info("reading {} as recording {}", file, rec.id);
+    spdlog::debug("reading {} as recording {}", file, rec.id);
 
     // Hash the inputs on another thread while this one parses.
     std::vector<std::string> to_hash;

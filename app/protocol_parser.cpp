@@ -4,6 +4,7 @@
 #include <sstream>
 
 #include "app/toml_section.h"
+#include "detectors/detector_registry.h"
 #include "pipeline/input_error.h"
 #include "pipeline/named_regex.h"
 
@@ -159,6 +160,54 @@ void parse_trials(TomlSection& t, Protocol& p) {
   t.finish();
 }
 
+void parse_detection(TomlSection& d, Protocol& p) {
+  DetectionSpec& spec = p.detection;
+  if (auto m = d.string("method")) spec.method = *m;
+  if (auto v = d.string("velocity")) spec.velocity = *v;
+  if (auto e = d.string("eye")) {
+    if (*e == "left") spec.eye = EyeChoice::left;
+    else if (*e == "right") spec.eye = EyeChoice::right;
+    else if (*e == "best") spec.eye = EyeChoice::best;
+    else if (*e == "average") spec.eye = EyeChoice::average;
+    else d.fail("eye", "expected \"left\", \"right\", \"best\" or \"average\", found \"" + *e + "\"");
+  }
+  auto non_negative = [&](TomlSection& s, const std::string& key, double& field) {
+    if (auto v = s.number(key)) {
+      if (!(*v >= 0)) s.fail(key, "expected zero or a positive number, found " + std::to_string(*v));
+      field = *v;
+    }
+  };
+  non_negative(d, "interpolate_max_ms", spec.interpolate_max_ms);
+  if (auto params = d.table("parameters")) {
+    for (const auto& key : params->keys()) {
+      const auto v = params->number(key);
+      spec.parameters[key] = *v;
+    }
+  }
+  if (auto b = d.table("blinks")) {
+    non_negative(*b, "min_ms", spec.blink_min_ms);
+    non_negative(*b, "max_ms", spec.blink_max_ms);
+    non_negative(*b, "padding_before_ms", spec.blink_padding_before_ms);
+    non_negative(*b, "padding_after_ms", spec.blink_padding_after_ms);
+    b->finish();
+    if (spec.blink_max_ms < spec.blink_min_ms) b->fail("max_ms", "must not be below detection.blinks.min_ms");
+  }
+  if (auto e = d.table("events")) {
+    non_negative(*e, "min_fixation_ms", spec.min_fixation_ms);
+    non_negative(*e, "min_saccade_ms", spec.min_saccade_ms);
+    non_negative(*e, "max_velocity_deg_s", spec.max_velocity_deg_s);
+    e->finish();
+  }
+  d.finish();
+  // Method, velocity and parameter names are checked by the detector registry.
+  try {
+    make_detector(spec);
+  } catch (const std::invalid_argument& e) {
+    const std::string key = d.has("parameters") ? "parameters" : "method";
+    d.fail(key, e.what());
+  }
+}
+
 }  // namespace
 
 Protocol parse_protocol_text(const std::string& text, const std::string& path) {
@@ -186,6 +235,7 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   auto trials = top.table("trials");
   if (!trials) throw InputError({path, 0, "trials"}, "required section [trials] is missing (start and end message patterns)");
   parse_trials(*trials, p);
+  if (auto detection = top.table("detection")) parse_detection(*detection, p);
   top.finish();
   return p;
 }

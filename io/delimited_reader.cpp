@@ -133,7 +133,8 @@ class RowParser {
       result_.messages.push_back({t, std::string(message)});
       result_.message_lines.push_back(line_no);
       // A row with a message and no gaze values at all is a message row, not a sample.
-      if ((!layout_.left && !layout_.right) || all_gaze_missing()) return;
+      if (!layout_.left && !layout_.right) return;
+      if (!opt_.gazeless_message_rows_are_samples && all_gaze_missing()) return;
     } else if (!layout_.left && !layout_.right) {
       return;  // message files: rows without text carry nothing
     }

@@ -38,6 +38,9 @@ struct DelimitedReadOptions {
   std::vector<std::string> column_names;
   DuplicateTimestampPolicy duplicate_timestamps = DuplicateTimestampPolicy::error;
   std::size_t chunk_rows = 1 << 16;
+  // A row with a message and no gaze is a message row, not a sample, unless
+  // this is set (labelled files, where such rows are blinks or losses).
+  bool gazeless_message_rows_are_samples = false;
   // Protocol key prefix used in "column not found" errors, e.g. "input.table".
   std::string layout_key = "input.table";
   std::function<void(std::uint64_t done_bytes, std::uint64_t total_bytes)> progress;

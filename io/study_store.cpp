@@ -7,7 +7,9 @@
 #include <map>
 #include <optional>
 #include <set>
+#include <stdexcept>
 #include <thread>
+#include <algorithm>
 
 #include "io/chunk_compressor.h"
 #include "io/hdf5_util.h"
@@ -110,6 +112,173 @@ StudyStoreWriter::StudyStoreWriter(std::string path, StoreWriteOptions options)
     std::remove(temp_path_.c_str());
     throw InputError({path_, 0, ""}, "cannot create the store's temporary file " + temp_path_ + ": " + e.getDetailMsg());
   }
+}
+
+namespace {
+
+herr_t copy_attribute(hid_t loc, const char* name, const H5A_info_t*, void* destination) {
+  const hid_t dst = *static_cast<hid_t*>(destination);
+  const hid_t a = H5Aopen(loc, name, H5P_DEFAULT);
+  const hid_t type = H5Aget_type(a);
+  const hid_t space = H5Aget_space(a);
+  const hid_t mem = H5Tget_native_type(type, H5T_DIR_DEFAULT);
+  const auto n = static_cast<std::size_t>(std::max<hssize_t>(1, H5Sget_simple_extent_npoints(space)));
+  std::vector<char> buf(n * H5Tget_size(mem));
+  herr_t rc = H5Aread(a, mem, buf.data());
+  if (rc >= 0) {
+    const hid_t b = H5Acreate2(dst, name, type, space, H5P_DEFAULT, H5P_DEFAULT);
+    rc = b < 0 ? -1 : H5Awrite(b, mem, buf.data());
+    if (b >= 0) H5Aclose(b);
+    if (H5Tdetect_class(type, H5T_VLEN) > 0 || H5Tis_variable_str(type) > 0) H5Dvlen_reclaim(mem, space, H5P_DEFAULT, buf.data());
+  }
+  H5Tclose(mem);
+  H5Sclose(space);
+  H5Tclose(type);
+  H5Aclose(a);
+  return rc < 0 ? -1 : 0;
+}
+
+void copy_attributes(const H5::H5Object& from, H5::H5Object& to) {
+  hid_t dst = to.getId();
+  hsize_t idx = 0;
+  if (H5Aiterate2(from.getId(), H5_INDEX_NAME, H5_ITER_INC, &idx, copy_attribute, &dst) < 0) {
+    throw std::runtime_error("cannot copy attributes");
+  }
+}
+
+void copy_object(const H5::Group& from, const std::string& name, H5::Group& to) {
+  if (H5Ocopy(from.getId(), name.c_str(), to.getId(), name.c_str(), H5P_DEFAULT, H5P_DEFAULT) < 0) {
+    throw std::runtime_error("cannot copy " + name);
+  }
+}
+
+}  // namespace
+
+std::unique_ptr<StudyStoreWriter> StudyStoreWriter::derive(const std::string& store_path, const std::vector<std::string>& replaced,
+                                                           const std::string& stage) {
+  h5::QuietErrors quiet;
+  StudyStoreReader check(store_path);  // a readable store of our format, or InputError
+  auto w = std::make_unique<StudyStoreWriter>(store_path);
+  try {
+    H5::H5File src(store_path, H5F_ACC_RDONLY);
+    H5::Group src_root = src.openGroup("/");
+    H5::Group dst_root = w->impl_->file.openGroup("/");
+    for (const auto& top : h5::child_names(src_root)) {
+      if (top == "recordings") continue;
+      if (top == "provenance") {
+        H5::Group from = src_root.openGroup(top);
+        H5::Group to = h5::create_group(dst_root, top);
+        copy_attributes(from, to);
+        for (const auto& child : h5::child_names(from)) {
+          if (child != "stages") {
+            copy_object(from, child, to);
+            continue;
+          }
+          H5::Group sfrom = from.openGroup("stages");
+          H5::Group sto = h5::create_group(to, "stages");
+          for (const auto& st : h5::child_names(sfrom)) {
+            if (st != stage) copy_object(sfrom, st, sto);
+          }
+        }
+        continue;
+      }
+      copy_object(src_root, top, dst_root);
+    }
+    H5::Group from_recs = src_root.openGroup("recordings");
+    for (const auto& id : h5::child_names(from_recs)) {
+      H5::Group from = from_recs.openGroup(id);
+      H5::Group to = h5::create_group(w->impl_->recordings, id);
+      copy_attributes(from, to);
+      for (const auto& child : h5::child_names(from)) {
+        if (std::find(replaced.begin(), replaced.end(), child) == replaced.end()) copy_object(from, child, to);
+      }
+    }
+  } catch (const H5::Exception& e) {
+    throw InputError({store_path, 0, ""}, "cannot copy the store to update it: " + e.getDetailMsg());
+  } catch (const std::runtime_error& e) {
+    throw InputError({store_path, 0, ""}, std::string("cannot copy the store to update it: ") + e.what());
+  }
+  return w;
+}
+
+namespace {
+
+template <typename E, typename F>
+std::vector<std::string> trial_column(const std::vector<E>& events, F&& get) {
+  std::vector<std::string> out;
+  for (const auto& e : events) out.push_back(get(e));
+  return out;
+}
+
+template <typename E, typename T, typename F>
+std::vector<T> number_column(const std::vector<E>& events, F&& get) {
+  std::vector<T> out;
+  for (const auto& e : events) out.push_back(static_cast<T>(get(e)));
+  return out;
+}
+
+}  // namespace
+
+void StudyStoreWriter::write_events(const std::string& id, const DetectedEvents& ev, const std::vector<SampleLabel>& labels,
+                                    const std::string& method, const std::string& parameters_json) {
+  H5::Group rec = impl_->recordings.openGroup(id);
+  H5::Group g = h5::create_group(rec, "events");
+  h5::set_attr(g, "method", method);
+  h5::set_attr(g, "parameters", parameters_json);
+  std::vector<std::uint8_t> codes;
+  codes.reserve(labels.size());
+  for (auto l : labels) codes.push_back(static_cast<std::uint8_t>(l));
+  h5::write_column(g, "sample_label", codes);
+
+  auto eye_of = [](const auto& e) { return to_string(e.eye); };
+  auto trial_of = [](const auto& e) { return e.trial; };
+  H5::Group f = h5::create_group(g, "fixations");
+  const auto& fx = ev.fixations;
+  h5::write_strings(f, "trial", trial_column(fx, trial_of));
+  h5::write_strings(f, "eye", trial_column(fx, eye_of));
+  h5::write_column(f, "start_us", number_column<FixationEvent, std::int64_t>(fx, [](auto& e) { return e.start_us; }), "us");
+  h5::write_column(f, "end_us", number_column<FixationEvent, std::int64_t>(fx, [](auto& e) { return e.end_us; }), "us");
+  h5::write_column(f, "duration_ms", number_column<FixationEvent, double>(fx, [](auto& e) { return e.duration_ms(); }), "ms");
+  h5::write_column(f, "x_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_px; }), "px");
+  h5::write_column(f, "y_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_px; }), "px");
+  h5::write_column(f, "x_median_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_median_px; }), "px");
+  h5::write_column(f, "y_median_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_median_px; }), "px");
+  h5::write_column(f, "x_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_deg; }), "deg");
+  h5::write_column(f, "y_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_deg; }), "deg");
+  h5::write_column(f, "dispersion_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.dispersion_deg; }), "deg");
+
+  H5::Group sg = h5::create_group(g, "saccades");
+  const auto& sc = ev.saccades;
+  h5::write_strings(sg, "trial", trial_column(sc, trial_of));
+  h5::write_strings(sg, "eye", trial_column(sc, eye_of));
+  h5::write_column(sg, "start_us", number_column<SaccadeEvent, std::int64_t>(sc, [](auto& e) { return e.start_us; }), "us");
+  h5::write_column(sg, "end_us", number_column<SaccadeEvent, std::int64_t>(sc, [](auto& e) { return e.end_us; }), "us");
+  h5::write_column(sg, "start_x_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.start_x_px; }), "px");
+  h5::write_column(sg, "start_y_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.start_y_px; }), "px");
+  h5::write_column(sg, "end_x_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.end_x_px; }), "px");
+  h5::write_column(sg, "end_y_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.end_y_px; }), "px");
+  h5::write_column(sg, "amplitude_deg", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.amplitude_deg; }), "deg");
+  h5::write_column(sg, "peak_velocity_deg_s", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.peak_velocity_deg_s; }), "deg/s");
+  h5::write_column(sg, "direction_deg", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.direction_deg; }), "deg");
+
+  H5::Group bg = h5::create_group(g, "blinks");
+  const auto& bl = ev.blinks;
+  h5::write_strings(bg, "trial", trial_column(bl, trial_of));
+  h5::write_strings(bg, "eye", trial_column(bl, eye_of));
+  h5::write_column(bg, "start_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.start_us; }), "us");
+  h5::write_column(bg, "end_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.end_us; }), "us");
+}
+
+void StudyStoreWriter::write_stage_provenance(const std::string& stage, const StageProvenance& p) {
+  H5::Group root = impl_->file.openGroup("/");
+  H5::Group prov = h5::open_or_create_group(root, "provenance");
+  H5::Group stages = h5::open_or_create_group(prov, "stages");
+  H5::Group g = h5::create_group(stages, stage);
+  h5::set_attr(g, "gazemill_version", p.tool_version);
+  h5::set_attr(g, "protocol_text", p.protocol_text);
+  h5::set_attr(g, "protocol_sha256", p.protocol_sha256);
+  h5::set_attr(g, "created_utc", p.created_utc);
+  h5::set_attr(g, "settings", p.settings_json);
 }
 
 StudyStoreWriter::~StudyStoreWriter() {
@@ -333,6 +502,67 @@ SampleSummary StudyStoreReader::sample_summary(const std::string& id) const {
   s.first_time_us = h5::get_int_attr(rec, "first_time_us");
   s.last_time_us = h5::get_int_attr(rec, "last_time_us");
   return s;
+}
+
+bool StudyStoreReader::has_events(const std::string& id) const {
+  h5::QuietErrors quiet;
+  return h5::exists(impl_->file.openGroup("/"), "recordings/" + id + "/events");
+}
+
+std::vector<SampleLabel> StudyStoreReader::read_sample_labels(const std::string& id) const {
+  h5::QuietErrors quiet;
+  const std::string base = "recordings/" + id + "/events";
+  H5::Group g = impl_->group(base);
+  std::vector<SampleLabel> out;
+  for (auto c : h5::read_column<std::uint8_t>(g, "sample_label")) {
+    if (c > static_cast<std::uint8_t>(SampleLabel::other)) impl_->fail(base + "/sample_label", "label code " + std::to_string(c) + " is not 0..5");
+    out.push_back(static_cast<SampleLabel>(c));
+  }
+  return out;
+}
+
+DetectedEvents StudyStoreReader::read_events(const std::string& id) const {
+  h5::QuietErrors quiet;
+  const std::string base = "recordings/" + id + "/events";
+  H5::Group g = impl_->group(base);
+  DetectedEvents ev;
+  auto eye = [](const std::string& s) { return s == "right" ? Eye::right : Eye::left; };
+  try {
+    H5::Group f = g.openGroup("fixations");
+    const auto trial = h5::read_strings(f, "trial"), eyes = h5::read_strings(f, "eye");
+    const auto start = h5::read_column<std::int64_t>(f, "start_us"), end = h5::read_column<std::int64_t>(f, "end_us");
+    const auto x = h5::read_column<double>(f, "x_px"), y = h5::read_column<double>(f, "y_px");
+    const auto xm = h5::read_column<double>(f, "x_median_px"), ym = h5::read_column<double>(f, "y_median_px");
+    const auto xd = h5::read_column<double>(f, "x_deg"), yd = h5::read_column<double>(f, "y_deg");
+    const auto disp = h5::read_column<double>(f, "dispersion_deg");
+    for (std::size_t i = 0; i < trial.size(); ++i) {
+      ev.fixations.push_back({trial[i], eye(eyes[i]), start[i], end[i], x[i], y[i], xm[i], ym[i], xd[i], yd[i], disp[i]});
+    }
+    H5::Group s = g.openGroup("saccades");
+    const auto st = h5::read_strings(s, "trial"), se = h5::read_strings(s, "eye");
+    const auto ss = h5::read_column<std::int64_t>(s, "start_us"), sn = h5::read_column<std::int64_t>(s, "end_us");
+    const auto sx0 = h5::read_column<double>(s, "start_x_px"), sy0 = h5::read_column<double>(s, "start_y_px");
+    const auto sx1 = h5::read_column<double>(s, "end_x_px"), sy1 = h5::read_column<double>(s, "end_y_px");
+    const auto amp = h5::read_column<double>(s, "amplitude_deg"), pv = h5::read_column<double>(s, "peak_velocity_deg_s");
+    const auto dir = h5::read_column<double>(s, "direction_deg");
+    for (std::size_t i = 0; i < st.size(); ++i) {
+      ev.saccades.push_back({st[i], eye(se[i]), ss[i], sn[i], sx0[i], sy0[i], sx1[i], sy1[i], amp[i], pv[i], dir[i]});
+    }
+    H5::Group b = g.openGroup("blinks");
+    const auto bt = h5::read_strings(b, "trial"), be = h5::read_strings(b, "eye");
+    const auto bs = h5::read_column<std::int64_t>(b, "start_us"), bn = h5::read_column<std::int64_t>(b, "end_us");
+    for (std::size_t i = 0; i < bt.size(); ++i) ev.blinks.push_back({bt[i], eye(be[i]), bs[i], bn[i]});
+  } catch (const H5::Exception& e) {
+    impl_->fail(base, "damaged or incomplete events: " + e.getDetailMsg());
+  }
+  return ev;
+}
+
+StageProvenance StudyStoreReader::stage_provenance(const std::string& stage) const {
+  h5::QuietErrors quiet;
+  H5::Group g = impl_->group("provenance/stages/" + stage);
+  return {h5::get_string_attr(g, "gazemill_version"), h5::get_string_attr(g, "protocol_text"),
+          h5::get_string_attr(g, "protocol_sha256"), h5::get_string_attr(g, "created_utc"), h5::get_string_attr(g, "settings")};
 }
 
 Recording StudyStoreReader::read_recording(const std::string& id, bool with_samples) const {

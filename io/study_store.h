@@ -17,12 +17,23 @@
 //   /recordings/<id>/trials/{id,start_us,end_us,item,condition}
 //   /recordings/<id>/trials/variables/<name>       strings, one per trial ("" when unset)
 //   /recordings/<id>/trials/markers/<name>_us      int64, one per trial, kMissingTime when unset
+//   /recordings/<id>/events                        written by detect; attrs method, parameters (JSON)
+//   /recordings/<id>/events/sample_label           uint8 per sample: 0 fixation, 1 saccade, 2 pso,
+//                                                  3 blink, 4 loss, 5 other (outside trials, unclassified)
+//   /recordings/<id>/events/fixations/{trial,eye,start_us,end_us,duration_ms,x_px,y_px,x_median_px,
+//                                      y_median_px,x_deg,y_deg,dispersion_deg}
+//   /recordings/<id>/events/saccades/{trial,eye,start_us,end_us,start_x_px,start_y_px,end_x_px,end_y_px,
+//                                     amplitude_deg,peak_velocity_deg_s,direction_deg}
+//   /recordings/<id>/events/blinks/{trial,eye,start_us,end_us}
+//   /provenance/stages/<stage>                     attrs gazemill_version, protocol_text, protocol_sha256,
+//                                                  created_utc, settings (JSON) of each derived stage
 // Every numeric dataset is chunked, shuffled and deflated, with a "unit" attribute.
 
 #include <memory>
 #include <string>
 #include <vector>
 
+#include "pipeline/events.h"
 #include "pipeline/provenance.h"
 #include "pipeline/recording.h"
 #include "pipeline/sample_sink.h"
@@ -58,6 +69,17 @@ class StudyStoreWriter {
   void write_provenance(const Provenance& provenance);
   void commit();
 
+  /// A writer for a new version of an existing store: everything is copied
+  /// (compressed chunks as they are) except each recording's `replaced`
+  /// children and /provenance/stages/`stage`; commit() replaces the store.
+  static std::unique_ptr<StudyStoreWriter> derive(const std::string& store_path, const std::vector<std::string>& replaced,
+                                                  const std::string& stage);
+  /// Detection results of one recording (replacing nothing; use derive()).
+  void write_events(const std::string& recording_id, const DetectedEvents& events, const std::vector<SampleLabel>& labels,
+                    const std::string& method, const std::string& parameters_json);
+  /// Provenance of a derived stage.
+  void write_stage_provenance(const std::string& stage, const StageProvenance& provenance);
+
   const std::string& temporary_path() const { return temp_path_; }
 
  private:
@@ -82,6 +104,11 @@ class StudyStoreReader {
   /// Metadata, messages and trials; samples too when `with_samples`.
   Recording read_recording(const std::string& id, bool with_samples) const;
   SampleSummary sample_summary(const std::string& id) const;
+  bool has_events(const std::string& id) const;
+  DetectedEvents read_events(const std::string& id) const;
+  std::vector<SampleLabel> read_sample_labels(const std::string& id) const;
+  /// Provenance of a derived stage; throws InputError when the stage has not run.
+  StageProvenance stage_provenance(const std::string& stage) const;
 
  private:
   struct Impl;

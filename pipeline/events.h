@@ -23,3 +23,49 @@ inline const char* to_string(SampleLabel l) {
 }
 
 }  // namespace gazemill
+
+#include <vector>
+
+#include "pipeline/recording.h"
+
+namespace gazemill {
+
+/// A fixation: its samples' time span (end exclusive: last sample + one interval).
+struct FixationEvent {
+  std::string trial;
+  Eye eye = Eye::left;
+  Microseconds start_us = 0;
+  Microseconds end_us = 0;
+  double x_px = 0, y_px = 0;                // mean position
+  double x_median_px = 0, y_median_px = 0;  // median position
+  double x_deg = 0, y_deg = 0;              // mean, from the screen centre
+  double dispersion_deg = 0;                // (max x - min x) + (max y - min y)
+  double duration_ms() const { return static_cast<double>(end_us - start_us) / 1000.0; }
+};
+
+struct SaccadeEvent {
+  std::string trial;
+  Eye eye = Eye::left;
+  Microseconds start_us = 0;
+  Microseconds end_us = 0;
+  double start_x_px = 0, start_y_px = 0, end_x_px = 0, end_y_px = 0;
+  double amplitude_deg = 0;
+  double peak_velocity_deg_s = 0;
+  double direction_deg = 0;  // 0 = rightwards, 90 = downwards on the screen
+};
+
+struct BlinkEvent {
+  std::string trial;
+  Eye eye = Eye::left;
+  Microseconds start_us = 0;
+  Microseconds end_us = 0;
+};
+
+/// Everything detected in one recording, trial by trial.
+struct DetectedEvents {
+  std::vector<FixationEvent> fixations;
+  std::vector<SaccadeEvent> saccades;
+  std::vector<BlinkEvent> blinks;
+};
+
+}  // namespace gazemill

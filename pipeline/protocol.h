@@ -79,6 +79,26 @@ struct TrialSegmentationSpec {
   std::map<std::string, std::string> marker_patterns;
 };
 
+/// Which eye's data the events come from when both were recorded.
+enum class EyeChoice { left, right, best, average };
+
+/// Event detection: the method by name with its parameters (units in the
+/// names), what counts as a blink, and the shared minimum durations.
+struct DetectionSpec {
+  std::string method = "ivt";                  // ivt, idt, engbert_kliegl, nystrom_holmqvist
+  std::map<std::string, double> parameters;    // method parameters; unset ones keep their defaults
+  std::string velocity = "savitzky_golay";     // ivt only: savitzky_golay, moving_average_5, two_point
+  EyeChoice eye = EyeChoice::best;
+  double interpolate_max_ms = 0.0;             // fill gaps up to this long before detection; 0 = never
+  double blink_min_ms = 50.0;
+  double blink_max_ms = 500.0;
+  double blink_padding_before_ms = 50.0;
+  double blink_padding_after_ms = 50.0;
+  double min_fixation_ms = 40.0;
+  double min_saccade_ms = 10.0;
+  double max_velocity_deg_s = 1000.0;
+};
+
 struct Protocol {
   std::string path;        // where it was read from
   std::string text;        // the exact file text, stored in provenance
@@ -86,6 +106,7 @@ struct Protocol {
   InputSpec input;
   std::optional<ScreenGeometry> screen;  // required for delimited input
   TrialSegmentationSpec trials;
+  DetectionSpec detection;
 };
 
 }  // namespace gazemill

@@ -32,6 +32,15 @@ struct Provenance {
   std::vector<RepairRecord> repairs;
 };
 
+/// Provenance of a stage that derives datasets from the store (detect, clean, ...).
+struct StageProvenance {
+  std::string tool_version;
+  std::string protocol_text;
+  std::string protocol_sha256;
+  std::string created_utc;
+  std::string settings_json;  // the resolved settings of the stage
+};
+
 /// Summary figures of a recording's samples, kept beside them in the store.
 struct SampleSummary {
   std::uint64_t sample_count = 0;

@@ -54,9 +54,11 @@ std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int tar
     // Refixate long words once, further to the right of the first landing.
     double p_refix = std::clamp(p.refixation_slope_per_letter * (w.length() - 4), 0.0, 0.5);
     if (hard && w.region == target_region) p_refix += p.target_refixation_extra;
-    if (!refixated && uniform(rng) < p_refix && c < w.last_char) {
+    if (!refixated && uniform(rng) < p_refix && c + 2 <= w.last_char) {
+      // A refixation moves on to the word's second half (at least two letters on).
       refixated = true;
-      c = std::min(w.last_char, c + std::max(1, w.length() / 3));
+      const int target = w.first_char + static_cast<int>(std::lround(0.75 * (w.length() - 1)));
+      c = std::min(w.last_char, std::max(c + 2, target));
       continue;
     }
     refixated = false;

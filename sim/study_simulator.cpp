@@ -13,9 +13,15 @@ namespace {
 
 constexpr float kNaN = std::numeric_limits<float>::quiet_NaN();
 
-// Minimum-jerk position profile (Flash & Hogan 1985): smooth, single-peaked
-// velocity whose peak is 1.875 x the mean velocity.
-double minimum_jerk(double tau) { return tau * tau * tau * (10.0 - 15.0 * tau + 6.0 * tau * tau); }
+// Position along a saccade as a share of its amplitude, tau in [0, 1].
+double saccade_profile(SaccadeProfile profile, double tau) {
+  if (profile == SaccadeProfile::minimum_jerk) {
+    // Flash & Hogan (1985): very slow start and end, peak velocity 1.875 x mean.
+    return tau * tau * tau * (10.0 - 15.0 * tau + 6.0 * tau * tau);
+  }
+  // Half-sine velocity: peak velocity pi/2 x mean, moving from the first millisecond.
+  return 0.5 * (1.0 - std::cos(M_PI * tau));
+}
 
 struct Segment {
   enum class Kind { fixation, saccade, pso, blink, loss } kind;
@@ -54,7 +60,7 @@ class TrialRenderer {
         case Segment::Kind::fixation:
           break;
         case Segment::Kind::saccade: {
-          const double m = minimum_jerk(tau);
+          const double m = saccade_profile(sig_.saccade_profile, tau);
           x = g.x0 + (g.x1 - g.x0) * m;
           y = g.y0 + (g.y1 - g.y0) * m;
           label = SampleLabel::saccade;
@@ -167,7 +173,7 @@ SimulatedStudy simulate_study(const SimulationConfig& cfg) {
     Recording& rec = sr.recording;
     rec.participant = participant_label(static_cast<std::size_t>(p));
     rec.session = "1";
-    rec.id = rec.participant + "_1";
+    rec.id = rec.participant + "_" + rec.session;
     rec.sample_rate_hz = cfg.signal.sample_rate_hz;
     rec.screen = cfg.screen;
     rec.samples.has_left = true;

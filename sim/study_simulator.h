@@ -17,10 +17,18 @@
 
 namespace gazemill::sim {
 
+/// The time course of the eye's position during a saccade.
+enum class SaccadeProfile { half_sine, minimum_jerk };
+
 struct SignalParams {
   double sample_rate_hz = 1000.0;           // 250, 500, 1000 or 2000
   bool binocular = false;
   double noise_rms_s2s_deg = 0.03;          // precision as RMS sample-to-sample distance
+  // The main sequence's durations are measured between velocity criteria, so
+  // the eye is already moving at their onset: a half-sine velocity profile
+  // (our choice) starts briskly; minimum jerk spends the first and last tenth
+  // of the duration barely moving.
+  SaccadeProfile saccade_profile = SaccadeProfile::half_sine;
   bool post_saccadic_oscillation = true;
   double pso_duration_ms = 20.0;
   double pso_amplitude_deg = 0.15;

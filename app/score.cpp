@@ -1,0 +1,206 @@
+#include "app/score.h"
+
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+
+#include <cmath>
+#include <filesystem>
+#include <random>
+
+#include "app/detect.h"
+#include "app/ingest.h"
+#include "app/protocol_parser.h"
+#include "app/text_table.h"
+#include "detectors/detector_registry.h"
+#include "detectors/recording_detection.h"
+#include "io/delimited_reader.h"
+#include "io/study_store.h"
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+namespace fs = std::filesystem;
+
+namespace {
+
+std::optional<SampleLabel> label_named(const std::string& s) {
+  for (SampleLabel l : {SampleLabel::fixation, SampleLabel::saccade, SampleLabel::pso, SampleLabel::blink, SampleLabel::loss,
+                        SampleLabel::other}) {
+    if (s == to_string(l)) return l;
+  }
+  return std::nullopt;
+}
+
+// Reads a truth labels file (time_us, label) into a map from time to label.
+std::map<Microseconds, SampleLabel> read_truth_labels(const std::string& path) {
+  DelimitedReadOptions opt;
+  opt.layout.time_column = "time_us";
+  opt.layout.time_unit = TimeUnit::microseconds;
+  opt.layout.message_column = "label";
+  opt.layout.missing_values = {""};
+  opt.layout_key = "truth";
+  NullSink none;
+  const auto r = read_delimited(path, opt, none);
+  std::map<Microseconds, SampleLabel> out;
+  for (std::size_t i = 0; i < r.messages.size(); ++i) {
+    auto l = label_named(r.messages[i].text);
+    if (!l) throw InputError({path, r.message_lines[i], "label"}, "expected fixation, saccade, pso, blink, loss or other");
+    out[r.messages[i].time_us] = *l;
+  }
+  return out;
+}
+
+class TempFolder {
+ public:
+  TempFolder() {
+    std::random_device rd;
+    path_ = fs::temp_directory_path() / ("gazemill-score-" + std::to_string(rd()));
+    fs::create_directories(path_);
+  }
+  ~TempFolder() {
+    std::error_code ec;
+    fs::remove_all(path_, ec);
+  }
+  fs::path path_;
+};
+
+}  // namespace
+
+std::map<std::string, SampleLabel> parse_label_codes(const std::string& text) {
+  std::map<std::string, SampleLabel> out;
+  std::size_t start = 0;
+  while (start < text.size()) {
+    const auto comma = text.find(',', start);
+    const std::string item = text.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
+    const auto eq = item.find('=');
+    const auto label = eq == std::string::npos ? std::nullopt : label_named(item.substr(eq + 1));
+    if (!label || eq == 0) {
+      throw InputError({"", 0, "--codes"}, "expected CODE=CLASS pairs separated by commas, with CLASS one of fixation, "
+                                           "saccade, pso, blink, loss, other; found \"" + item + "\"");
+    }
+    out[item.substr(0, eq)] = *label;
+    if (comma == std::string::npos) break;
+    start = comma + 1;
+  }
+  if (out.empty()) throw InputError({"", 0, "--codes"}, "no label codes given");
+  return out;
+}
+
+AgreementReport score_simulated_study(const std::string& folder, const DetectionSpec& detection) {
+  const auto detector = make_detector(detection);
+  Protocol protocol = parse_protocol_file((fs::path(folder) / "gazemill.toml").string());
+  TempFolder tmp;
+  const std::string store_path = (tmp.path_ / "scored.gzm.h5").string();
+  ingest_study(protocol, store_path, {});
+  StudyStoreReader store(store_path);
+  AgreementScorer scorer;
+  for (const auto& id : store.recording_ids()) {
+    const Recording rec = store.read_recording(id, true);
+    const std::string truth_path = (fs::path(folder) / "truth" / (rec.participant + "_labels.tsv.gz")).string();
+    const auto truth = read_truth_labels(truth_path);
+    std::vector<SampleLabel> reference;
+    reference.reserve(rec.samples.size());
+    for (auto t : rec.samples.time_us) {
+      auto it = truth.find(t);
+      if (it == truth.end()) throw InputError({truth_path, 0, "time_us"}, "no label for the sample at " + std::to_string(t) + " us");
+      reference.push_back(it->second);
+    }
+    const RecordingDetection d = detect_recording(rec, *detector, detection);
+    scorer.add(reference, d.labels, rec.samples.time_us);
+  }
+  return scorer.report();
+}
+
+AgreementReport score_labelled_file(const LabelledFileSpec& f, const DetectionSpec& detection) {
+  const auto detector = make_detector(detection);
+  DelimitedReadOptions opt;
+  opt.layout.delimiter = f.delimiter;
+  opt.layout.time_column = f.time_column;
+  opt.layout.time_unit = f.time_unit;
+  opt.layout.left = EyeColumnNames{f.x_column, f.y_column, ""};
+  opt.layout.message_column = f.label_column;  // the label of each row travels as its message
+  opt.layout.missing_values = {"", "NaN", "nan", "NA", "."};
+  opt.layout_key = "score";
+  opt.gazeless_message_rows_are_samples = true;
+  CollectingSink sink;
+  const auto r = read_delimited(f.path, opt, sink);
+  Recording rec;
+  rec.id = "labelled";
+  rec.screen = f.screen;
+  rec.samples = std::move(sink.samples);
+  rec.sample_rate_hz = f.sample_rate_hz > 0 ? f.sample_rate_hz : 1e6 / r.median_interval_us;
+  // Without gaze the label column says what the reference saw: a blink or loss row has no sample here.
+  std::vector<SampleLabel> reference(rec.samples.size(), SampleLabel::other);
+  std::size_t m = 0;
+  for (std::size_t i = 0; i < rec.samples.size(); ++i) {
+    while (m < r.messages.size() && r.messages[m].time_us < rec.samples.time_us[i]) ++m;
+    if (m < r.messages.size() && r.messages[m].time_us == rec.samples.time_us[i]) {
+      auto it = f.codes.find(r.messages[m].text);
+      if (it == f.codes.end()) {
+        throw InputError({f.path, r.message_lines[m], f.label_column}, "label \"" + r.messages[m].text + "\" has no class in --codes");
+      }
+      reference[i] = it->second;
+    }
+  }
+  Trial whole;
+  whole.id = "1";
+  whole.start_us = rec.samples.time_us.front();
+  whole.end_us = rec.samples.time_us.back();
+  rec.trials.push_back(whole);
+  const RecordingDetection d = detect_recording(rec, *detector, detection);
+  AgreementScorer scorer;
+  scorer.add(reference, d.labels, rec.samples.time_us);
+  return scorer.report();
+}
+
+void print_agreement(const AgreementReport& r, std::ostream& out) {
+  TextTable t({"class", "kappa", "ref_samples", "det_samples", "ref_events", "det_events", "matched", "precision", "recall", "f1",
+               "onset_ms", "|onset|_ms", "offset_ms", "|offset|_ms"},
+              {false, true, true, true, true, true, true, true, true, true, true, true, true, true});
+  for (const auto& c : r.classes) {
+    t.add_row({to_string(c.label), std::isnan(c.kappa) ? std::string("-") : fmt::format("{:.3f}", c.kappa), std::to_string(c.reference_samples), std::to_string(c.detected_samples),
+               std::to_string(c.reference_events), std::to_string(c.detected_events), std::to_string(c.matched_events),
+               fmt::format("{:.3f}", c.precision), fmt::format("{:.3f}", c.recall), fmt::format("{:.3f}", c.f1),
+               fmt::format("{:+.1f}", c.mean_onset_difference_ms), fmt::format("{:.1f}", c.mean_abs_onset_difference_ms),
+               fmt::format("{:+.1f}", c.mean_offset_difference_ms), fmt::format("{:.1f}", c.mean_abs_offset_difference_ms)});
+  }
+  t.print(out);
+  out << "\nconfusion (rows: reference, columns: detected), " << r.samples << " samples\n";
+  std::vector<std::string> head{"reference"};
+  for (std::size_t c = 0; c < kLabelCount; ++c) head.push_back(to_string(static_cast<SampleLabel>(c)));
+  TextTable m(head, std::vector<bool>(head.size(), true));
+  for (std::size_t a = 0; a < kLabelCount; ++a) {
+    std::vector<std::string> row{to_string(static_cast<SampleLabel>(a))};
+    for (std::size_t b = 0; b < kLabelCount; ++b) row.push_back(std::to_string(r.confusion[a][b]));
+    m.add_row(row);
+  }
+  m.print(out);
+}
+
+std::string agreement_json(const AgreementReport& r, const DetectionSpec& detection) {
+  nlohmann::json j;
+  j["detection"] = nlohmann::json::parse(detection_settings_json(detection));
+  j["samples"] = r.samples;
+  for (const auto& c : r.classes) {
+    j["classes"][to_string(c.label)] = {{"kappa", std::isnan(c.kappa) ? nlohmann::json(nullptr) : nlohmann::json(c.kappa)},
+                                        {"reference_samples", c.reference_samples},
+                                        {"detected_samples", c.detected_samples},
+                                        {"reference_events", c.reference_events},
+                                        {"detected_events", c.detected_events},
+                                        {"matched_events", c.matched_events},
+                                        {"precision", c.precision},
+                                        {"recall", c.recall},
+                                        {"f1", c.f1},
+                                        {"mean_onset_difference_ms", c.mean_onset_difference_ms},
+                                        {"mean_abs_onset_difference_ms", c.mean_abs_onset_difference_ms},
+                                        {"mean_offset_difference_ms", c.mean_offset_difference_ms},
+                                        {"mean_abs_offset_difference_ms", c.mean_abs_offset_difference_ms}};
+  }
+  for (std::size_t a = 0; a < kLabelCount; ++a) {
+    for (std::size_t b = 0; b < kLabelCount; ++b) {
+      j["confusion"][to_string(static_cast<SampleLabel>(a))][to_string(static_cast<SampleLabel>(b))] = r.confusion[a][b];
+    }
+  }
+  return j.dump(2);
+}
+
+}  // namespace gazemill

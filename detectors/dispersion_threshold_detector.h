@@ -1,0 +1,31 @@
+#pragma once
+// I-DT, dispersion-threshold identification (Salvucci & Goldberg 2000):
+// a window covering the minimum duration whose dispersion
+// D = (max x - min x) + (max y - min y) is within the threshold starts a
+// fixation, which grows sample by sample until the next sample would push D
+// over the threshold; samples outside fixations are saccade samples.
+
+#include "detectors/event_detector.h"
+
+namespace gazemill {
+
+struct DispersionThresholdParams {
+  double dispersion_threshold_deg = 1.0;  // Blignaut (2009) found 1 deg replicable
+  double min_duration_ms = 100.0;         // typical 100-200 ms (from memory)
+};
+
+class DispersionThresholdDetector : public EventDetector {
+ public:
+  explicit DispersionThresholdDetector(DispersionThresholdParams p) : p_(p) {}
+  std::string name() const override { return "idt"; }
+  ParameterList parameters() const override;
+  void label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
+
+ private:
+  DispersionThresholdParams p_;
+};
+
+/// The number of samples the first window covers: ceil(min_duration / interval).
+std::size_t dispersion_window_samples(double min_duration_ms, double interval_us);
+
+}  // namespace gazemill

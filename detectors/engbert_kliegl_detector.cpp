@@ -1,0 +1,73 @@
+#include "detectors/engbert_kliegl_detector.h"
+
+#include <algorithm>
+#include <cmath>
+
+#include "detectors/velocity.h"
+
+namespace gazemill {
+namespace {
+
+double median_of(std::vector<double> v) {
+  if (v.empty()) return 0.0;
+  const std::size_t m = v.size() / 2;
+  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m), v.end());
+  if (v.size() % 2) return v[m];
+  const double hi = v[m];
+  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m - 1), v.end());
+  return 0.5 * (hi + v[m - 1]);
+}
+
+}  // namespace
+
+double median_based_sd(const std::vector<double>& v) {
+  std::vector<double> finite, squares;
+  for (double x : v) {
+    if (std::isfinite(x)) {
+      finite.push_back(x);
+      squares.push_back(x * x);
+    }
+  }
+  const double m = median_of(finite);
+  return std::sqrt(std::max(0.0, median_of(squares) - m * m));
+}
+
+ParameterList EngbertKlieglDetector::parameters() const {
+  return {{"lambda", p_.lambda}, {"min_saccade_samples", static_cast<double>(p_.min_saccade_samples)}};
+}
+
+void EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
+  VelocityParams vp;
+  vp.method = VelocityMethod::moving_average_5;
+  const Velocity v = compute_velocity(g, vp);
+  const double eta_x = p_.lambda * std::max(p_.min_sd_deg_s, median_based_sd(v.vx));
+  const double eta_y = p_.lambda * std::max(p_.min_sd_deg_s, median_based_sd(v.vy));
+  const std::size_t n = labels.size();
+  std::vector<bool> above(n, false);
+  for (std::size_t i = 0; i < n; ++i) {
+    if (!std::isfinite(v.vx[i])) continue;
+    const double rx = v.vx[i] / eta_x, ry = v.vy[i] / eta_y;
+    above[i] = rx * rx + ry * ry > 1.0;
+  }
+  for (std::size_t i = 0; i < n; ++i) {
+    if (labels[i] != SampleLabel::other || !std::isfinite(v.vx[i])) continue;
+    labels[i] = SampleLabel::fixation;
+  }
+  std::size_t i = 0;
+  while (i < n) {
+    if (!above[i]) {
+      ++i;
+      continue;
+    }
+    std::size_t j = i;
+    while (j < n && above[j]) ++j;
+    if (j - i >= static_cast<std::size_t>(p_.min_saccade_samples)) {
+      for (std::size_t k = i; k < j; ++k) {
+        if (labels[k] == SampleLabel::fixation) labels[k] = SampleLabel::saccade;
+      }
+    }
+    i = j;
+  }
+}
+
+}  // namespace gazemill

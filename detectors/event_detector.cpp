@@ -1,0 +1,171 @@
+#include "detectors/event_detector.h"
+
+#include <algorithm>
+#include <cmath>
+#include <numbers>
+
+#include "detectors/velocity.h"
+
+namespace gazemill {
+namespace {
+
+// Calls f(begin, end, label) for each run of equal labels.
+template <typename F>
+void for_each_run(const std::vector<SampleLabel>& labels, F&& f) {
+  std::size_t i = 0;
+  while (i < labels.size()) {
+    std::size_t j = i + 1;
+    while (j < labels.size() && labels[j] == labels[i]) ++j;
+    f(i, j, labels[i]);
+    i = j;
+  }
+}
+
+double run_ms(const GazeTrace& g, std::size_t a, std::size_t b) {
+  // A run covers its samples: from the first sample to one interval after the last.
+  return (static_cast<double>(g.time_us[b - 1] - g.time_us[a]) + g.interval_us) / 1000.0;
+}
+
+double median(std::vector<double> v) {
+  if (v.empty()) return std::nan("");
+  const std::size_t m = v.size() / 2;
+  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m), v.end());
+  if (v.size() % 2) return v[m];
+  const double hi = v[m];
+  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m - 1), v.end());
+  return 0.5 * (hi + v[m - 1]);
+}
+
+}  // namespace
+
+std::vector<SampleLabel> label_missing(const GazeTrace& g, const BlinkParams& p) {
+  std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+  for (std::size_t i = 0; i < g.size(); ++i) {
+    if (!g.valid[i]) labels[i] = SampleLabel::loss;
+  }
+  std::vector<std::pair<std::size_t, std::size_t>> blinks;
+  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+    if (l != SampleLabel::loss) return;
+    // Gap length counts from the last sample before to the first sample after.
+    const Microseconds before = a > 0 ? g.time_us[a - 1] : g.time_us[a];
+    const Microseconds after = b < g.size() ? g.time_us[b] : g.time_us[b - 1];
+    const double gap_ms = static_cast<double>(after - before) / 1000.0;
+    bool pupil_lost = true;
+    for (std::size_t k = a; k < b && pupil_lost; ++k) pupil_lost = std::isnan(g.pupil[k]);
+    if (pupil_lost && gap_ms >= p.blink_min_ms && gap_ms <= p.blink_max_ms) blinks.emplace_back(a, b);
+  });
+  for (const auto& [a, b] : blinks) {
+    const Microseconds from = g.time_us[a] - static_cast<Microseconds>(p.padding_before_ms * 1000.0);
+    const Microseconds to = g.time_us[b - 1] + static_cast<Microseconds>(p.padding_after_ms * 1000.0);
+    std::size_t lo = a;
+    while (lo > 0 && g.time_us[lo - 1] >= from) --lo;
+    std::size_t hi = b;
+    while (hi < g.size() && g.time_us[hi] <= to) ++hi;
+    for (std::size_t k = lo; k < hi; ++k) labels[k] = SampleLabel::blink;
+  }
+  return labels;
+}
+
+void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLabel>& labels) {
+  auto is_gap = [&](std::size_t i) { return labels[i] == SampleLabel::blink || labels[i] == SampleLabel::loss; };
+  // Saccades: too fast (noise), glued to missing data (lid or loss artefacts), or too short.
+  std::vector<std::pair<std::size_t, std::size_t>> runs;
+  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+    if (l == SampleLabel::saccade) runs.emplace_back(a, b);
+  });
+  VelocityParams vp;
+  vp.method = VelocityMethod::two_point;
+  const Velocity v = p.max_velocity_deg_s > 0 ? compute_velocity(g, vp) : Velocity{};
+  for (const auto& [a, b] : runs) {
+    bool noise = false;
+    for (std::size_t k = a + 1; k < b && !noise && !v.speed.empty(); ++k) noise = v.speed[k] > p.max_velocity_deg_s;
+    const bool glued = (a > 0 && is_gap(a - 1)) || (b < labels.size() && is_gap(b));
+    if (noise || glued) {
+      std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
+    } else if (run_ms(g, a, b) < p.min_saccade_ms) {
+      const bool inside = a > 0 && b < labels.size() && labels[a - 1] == SampleLabel::fixation && labels[b] == SampleLabel::fixation;
+      std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b),
+                inside ? SampleLabel::fixation : SampleLabel::other);
+    }
+  }
+  // A post-saccadic oscillation only follows a saccade.
+  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+    if (l == SampleLabel::pso && (a == 0 || labels[a - 1] != SampleLabel::saccade)) {
+      std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
+    }
+  });
+  // Fixations too short to count.
+  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+    if (l == SampleLabel::fixation && run_ms(g, a, b) < p.min_fixation_ms) {
+      std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
+    }
+  });
+}
+
+std::vector<SampleLabel> label_trace(const GazeTrace& g, const EventDetector& d, const BlinkParams& bp, const EventParams& ep) {
+  std::vector<SampleLabel> labels = label_missing(g, bp);
+  d.label(g, labels);
+  tidy_labels(g, ep, labels);
+  return labels;
+}
+
+void collect_events(const GazeTrace& g, const std::vector<SampleLabel>& labels, const std::string& trial, Eye eye,
+                    DetectedEvents& out) {
+  const auto end_of = [&](std::size_t b) { return g.time_us[b - 1] + static_cast<Microseconds>(std::llround(g.interval_us)); };
+  // Peak velocity from the default Savitzky-Golay differentiator, whatever the detector used.
+  const Velocity v = compute_velocity(g, VelocityParams{});
+  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+    if (l == SampleLabel::fixation) {
+      FixationEvent f;
+      f.trial = trial;
+      f.eye = eye;
+      f.start_us = g.time_us[a];
+      f.end_us = end_of(b);
+      std::vector<double> xs, ys;
+      double sx = 0, sy = 0, sxd = 0, syd = 0;
+      double x_lo = 1e300, x_hi = -1e300, y_lo = 1e300, y_hi = -1e300;
+      for (std::size_t k = a; k < b; ++k) {
+        xs.push_back(g.x_px[k]);
+        ys.push_back(g.y_px[k]);
+        sx += g.x_px[k];
+        sy += g.y_px[k];
+        sxd += g.x_deg[k];
+        syd += g.y_deg[k];
+        x_lo = std::min(x_lo, g.x_deg[k]);
+        x_hi = std::max(x_hi, g.x_deg[k]);
+        y_lo = std::min(y_lo, g.y_deg[k]);
+        y_hi = std::max(y_hi, g.y_deg[k]);
+      }
+      const double n = static_cast<double>(b - a);
+      f.x_px = sx / n;
+      f.y_px = sy / n;
+      f.x_deg = sxd / n;
+      f.y_deg = syd / n;
+      f.x_median_px = median(xs);
+      f.y_median_px = median(ys);
+      f.dispersion_deg = (x_hi - x_lo) + (y_hi - y_lo);
+      out.fixations.push_back(f);
+    } else if (l == SampleLabel::saccade) {
+      SaccadeEvent s;
+      s.trial = trial;
+      s.eye = eye;
+      s.start_us = g.time_us[a];
+      s.end_us = end_of(b);
+      s.start_x_px = g.x_px[a];
+      s.start_y_px = g.y_px[a];
+      s.end_x_px = g.x_px[b - 1];
+      s.end_y_px = g.y_px[b - 1];
+      const double dx = g.x_deg[b - 1] - g.x_deg[a], dy = g.y_deg[b - 1] - g.y_deg[a];
+      s.amplitude_deg = std::hypot(dx, dy);
+      s.direction_deg = std::atan2(dy, dx) * 180.0 / std::numbers::pi;
+      for (std::size_t k = a; k < b; ++k) {
+        if (std::isfinite(v.speed[k])) s.peak_velocity_deg_s = std::max(s.peak_velocity_deg_s, v.speed[k]);
+      }
+      out.saccades.push_back(s);
+    } else if (l == SampleLabel::blink) {
+      out.blinks.push_back({trial, eye, g.time_us[a], end_of(b)});
+    }
+  });
+}
+
+}  // namespace gazemill

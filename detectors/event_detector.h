@@ -1,0 +1,60 @@
+#pragma once
+// The one interface every fixation/saccade detector implements, and the
+// steps all of them share: missing data to blinks and track loss first,
+// minimum durations and noise limits after, then events from labels.
+
+#include <map>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "detectors/gaze_trace.h"
+#include "pipeline/events.h"
+
+namespace gazemill {
+
+/// Resolved parameters by name (units in the names), for provenance.
+using ParameterList = std::map<std::string, double>;
+
+class EventDetector {
+ public:
+  virtual ~EventDetector() = default;
+  virtual std::string name() const = 0;
+  virtual ParameterList parameters() const = 0;
+  /// Sets fixation, saccade or pso on samples that are still SampleLabel::other;
+  /// blink and loss samples are already labelled and must be left alone.
+  virtual void label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const = 0;
+};
+
+/// Missing data: a run of missing gaze is a blink when the pupil is missing
+/// too and the run lasts blink_min_ms..blink_max_ms; otherwise track loss.
+/// Blinks are widened by the paddings to cover the lid artefacts around them.
+struct BlinkParams {
+  double blink_min_ms = 50.0;
+  double blink_max_ms = 500.0;
+  double padding_before_ms = 50.0;
+  double padding_after_ms = 50.0;
+};
+
+/// Shared clean-up after labelling.
+struct EventParams {
+  double min_fixation_ms = 40.0;   // shorter fixation runs become "other"
+  double min_saccade_ms = 10.0;    // shorter saccade runs inside a fixation become fixation
+  double max_velocity_deg_s = 1000.0;  // a saccade run faster than this anywhere is noise
+};
+
+/// Labels for a trace: missing data first (blink/loss), then the detector.
+std::vector<SampleLabel> label_trace(const GazeTrace& trace, const EventDetector& detector, const BlinkParams& blinks,
+                                     const EventParams& events);
+
+/// Labels missing samples as blink or loss; everything else "other".
+std::vector<SampleLabel> label_missing(const GazeTrace& trace, const BlinkParams& params);
+
+/// Minimum durations, noise limit, and no saccades glued to blinks or loss.
+void tidy_labels(const GazeTrace& trace, const EventParams& params, std::vector<SampleLabel>& labels);
+
+/// Turns labels into events (fixations, saccades, blinks) for `trial`.
+void collect_events(const GazeTrace& trace, const std::vector<SampleLabel>& labels, const std::string& trial, Eye eye,
+                    DetectedEvents& out);
+
+}  // namespace gazemill

@@ -1,0 +1,51 @@
+#pragma once
+// The adaptive algorithm of Nystrom & Holmqvist (2010, Behavior Research
+// Methods 42(1)): Savitzky-Golay velocity and acceleration; physiologically
+// impossible samples are noise; a data-driven peak threshold
+// PT = mean + 6 SD of the velocities below PT, iterated to convergence;
+// saccade onset at mean + 3 SD walking back from each peak to a local
+// minimum; offset at a threshold mixing the onset threshold with the local
+// noise before the saccade; a glissade (post-saccadic oscillation) is a
+// velocity bump above the offset threshold within a short window after the
+// offset. All numbers are the defaults as recalled (from memory; see
+// methods.md section 3); each is a parameter.
+
+#include "detectors/event_detector.h"
+#include "detectors/velocity.h"
+
+namespace gazemill {
+
+struct NystromHolmqvistParams {
+  double initial_peak_threshold_deg_s = 100.0;
+  double peak_sd_factor = 6.0;
+  double onset_sd_factor = 3.0;
+  double convergence_deg_s = 1.0;
+  double max_velocity_deg_s = 1000.0;
+  double max_acceleration_deg_s2 = 100000.0;
+  double local_noise_window_ms = 40.0;
+  double offset_onset_weight = 0.7;   // offset threshold = w * onset + (1 - w) * local noise threshold
+  double max_glissade_ms = 40.0;
+  double min_saccade_ms = 10.0;
+  VelocityParams velocity;            // Savitzky-Golay, 2nd order, about 20 ms
+};
+
+class NystromHolmqvistDetector : public EventDetector {
+ public:
+  explicit NystromHolmqvistDetector(NystromHolmqvistParams p) : p_(p) {}
+  std::string name() const override { return "nystrom_holmqvist"; }
+  ParameterList parameters() const override;
+  void label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
+
+ private:
+  NystromHolmqvistParams p_;
+};
+
+/// The converged peak threshold and the mean and SD below it.
+struct PeakThreshold {
+  double peak_deg_s = 0, mean_deg_s = 0, sd_deg_s = 0;
+  int iterations = 0;
+};
+PeakThreshold find_peak_threshold(const std::vector<double>& speed, const std::vector<bool>& usable,
+                                  const NystromHolmqvistParams& p);
+
+}  // namespace gazemill

@@ -1,0 +1,42 @@
+#include "detectors/savitzky_golay.h"
+
+#include <Eigen/Dense>
+#include <cmath>
+#include <stdexcept>
+#include <string>
+
+namespace gazemill {
+
+std::vector<double> savitzky_golay_coefficients(int window, int order, int derivative) {
+  return savitzky_golay_coefficients_at(window, order, derivative, 0);
+}
+
+std::vector<double> savitzky_golay_coefficients_at(int window, int order, int derivative, int position) {
+  if (window < 3 || window % 2 == 0) throw std::invalid_argument("Savitzky-Golay window must be odd and at least 3, got " + std::to_string(window));
+  if (order < 1 || order >= window) throw std::invalid_argument("Savitzky-Golay order must be at least 1 and below the window length");
+  if (derivative < 0 || derivative > order) throw std::invalid_argument("Savitzky-Golay derivative must be between 0 and the order");
+  const int h = window / 2;
+  if (position < -h || position > h) throw std::invalid_argument("Savitzky-Golay position must lie inside the window");
+  // Vandermonde matrix of offsets -h..h; the pseudo-inverse's row d gives the
+  // d-th polynomial coefficient at offset 0, times d! for the derivative.
+  Eigen::MatrixXd A(window, order + 1);
+  for (int i = 0; i < window; ++i) {
+    double p = 1.0;
+    for (int j = 0; j <= order; ++j) {
+      A(i, j) = p;
+      p *= static_cast<double>(i - h);
+    }
+  }
+  const Eigen::MatrixXd pinv = (A.transpose() * A).ldlt().solve(A.transpose());
+  // d^k/dx^k of sum_j a_j x^j at x = position: sum_{j>=k} a_j j!/(j-k)! position^(j-k).
+  std::vector<double> c(static_cast<std::size_t>(window), 0.0);
+  for (int j = derivative; j <= order; ++j) {
+    double falling = 1.0;
+    for (int q = 0; q < derivative; ++q) falling *= j - q;
+    const double scale = falling * std::pow(static_cast<double>(position), j - derivative);
+    for (int i = 0; i < window; ++i) c[static_cast<std::size_t>(i)] += pinv(j, i) * scale;
+  }
+  return c;
+}
+
+}  // namespace gazemill

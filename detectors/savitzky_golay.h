@@ -1,0 +1,23 @@
+#pragma once
+// Savitzky-Golay filter coefficients (Savitzky & Golay 1964), computed by
+// least squares rather than typed from the published tables (which had errors,
+// corrected by Steinier, Termonia & Deltour 1972).
+
+#include <vector>
+
+namespace gazemill {
+
+/// Coefficients c[0..window-1] for the centre sample, in "dot" order: the
+/// estimate at sample n is sum_k c[k] * x[n - h + k] with h = window / 2, for
+/// unit sample spacing (divide by dt^derivative for other spacings; the
+/// derivative's factorial is included, as in scipy.signal.savgol_coeffs).
+/// window must be odd and greater than order; derivative <= order.
+/// Throws std::invalid_argument otherwise.
+std::vector<double> savitzky_golay_coefficients(int window, int order, int derivative);
+
+/// The same least-squares fit evaluated at `position` samples from the window's
+/// centre (-window/2 .. window/2), for samples too near an edge to be centred,
+/// as scipy.signal.savgol_filter's mode='interp' does.
+std::vector<double> savitzky_golay_coefficients_at(int window, int order, int derivative, int position);
+
+}  // namespace gazemill

@@ -1,0 +1,53 @@
+#pragma once
+// Agreement between a detector's labels and a reference labelling: per
+// class, sample-level Cohen's kappa (the class against all others), event
+// precision / recall / F1 with one-to-one matching by largest overlap, the
+// onset and offset differences of matched events, and the confusion matrix.
+
+#include <array>
+#include <cstdint>
+#include <vector>
+
+#include "pipeline/events.h"
+
+namespace gazemill {
+
+inline constexpr std::size_t kLabelCount = 6;
+
+struct ClassAgreement {
+  SampleLabel label = SampleLabel::fixation;
+  double kappa = 0;  // NaN when neither side has the class
+  std::uint64_t reference_samples = 0, detected_samples = 0;
+  std::uint64_t reference_events = 0, detected_events = 0, matched_events = 0;
+  double precision = 0, recall = 0, f1 = 0;
+  double mean_onset_difference_ms = 0, mean_abs_onset_difference_ms = 0;    // detected - reference
+  double mean_offset_difference_ms = 0, mean_abs_offset_difference_ms = 0;
+};
+
+struct AgreementReport {
+  std::vector<ClassAgreement> classes;  // fixation, saccade, pso, blink, loss
+  std::array<std::array<std::uint64_t, kLabelCount>, kLabelCount> confusion{};  // [reference][detected]
+  std::uint64_t samples = 0;
+};
+
+/// Collects labelled stretches (e.g. one per recording); events never span two stretches.
+class AgreementScorer {
+ public:
+  void add(const std::vector<SampleLabel>& reference, const std::vector<SampleLabel>& detected,
+           const std::vector<Microseconds>& time_us);
+  AgreementReport report() const;
+
+ private:
+  struct Run {
+    Microseconds start_us, end_us;
+    std::size_t first, last;  // sample indices into the stretch, [first, last)
+  };
+  std::array<std::array<std::uint64_t, kLabelCount>, kLabelCount> confusion_{};
+  std::array<std::uint64_t, kLabelCount> ref_events_{}, det_events_{}, matched_{};
+  std::array<double, kLabelCount> onset_{}, onset_abs_{}, offset_{}, offset_abs_{};
+};
+
+/// Cohen's kappa of a 2 x 2 table: both, reference only, detected only, neither.
+double cohen_kappa(std::uint64_t both, std::uint64_t ref_only, std::uint64_t det_only, std::uint64_t neither);
+
+}  // namespace gazemill

