@@ -24,7 +24,8 @@ std::string detection_settings_json(const DetectionSpec& spec) {
   j["blinks"] = {{"min_ms", spec.blink_min_ms}, {"max_ms", spec.blink_max_ms},
                  {"padding_before_ms", spec.blink_padding_before_ms}, {"padding_after_ms", spec.blink_padding_after_ms}};
   j["events"] = {{"min_fixation_ms", spec.min_fixation_ms}, {"min_saccade_ms", spec.min_saccade_ms},
-                 {"max_velocity_deg_s", spec.max_velocity_deg_s}};
+                 {"max_velocity_deg_s", spec.max_velocity_deg_s}, {"max_fixation_gap_ms", spec.max_fixation_gap_ms},
+                 {"max_fixation_gap_shift_deg", spec.max_fixation_gap_shift_deg}, {"spike_deg", spec.spike_deg}};
   return j.dump();
 }
 

@@ -196,6 +196,9 @@ void parse_detection(TomlSection& d, Protocol& p) {
     non_negative(*e, "min_fixation_ms", spec.min_fixation_ms);
     non_negative(*e, "min_saccade_ms", spec.min_saccade_ms);
     non_negative(*e, "max_velocity_deg_s", spec.max_velocity_deg_s);
+    non_negative(*e, "max_fixation_gap_ms", spec.max_fixation_gap_ms);
+    non_negative(*e, "max_fixation_gap_shift_deg", spec.max_fixation_gap_shift_deg);
+    non_negative(*e, "spike_deg", spec.spike_deg);
     e->finish();
   }
   d.finish();

@@ -109,6 +109,14 @@ BlinkParams blink_params(const DetectionSpec& s) {
   return {s.blink_min_ms, s.blink_max_ms, s.blink_padding_before_ms, s.blink_padding_after_ms};
 }
 
-EventParams event_params(const DetectionSpec& s) { return {s.min_fixation_ms, s.min_saccade_ms, s.max_velocity_deg_s}; }
+EventParams event_params(const DetectionSpec& s) {
+  EventParams p;
+  p.min_fixation_ms = s.min_fixation_ms;
+  p.min_saccade_ms = s.min_saccade_ms;
+  p.max_velocity_deg_s = s.max_velocity_deg_s;
+  p.max_fixation_gap_ms = s.max_fixation_gap_ms;
+  p.max_fixation_gap_shift_deg = s.max_fixation_gap_shift_deg;
+  return p;
+}
 
 }  // namespace gazemill

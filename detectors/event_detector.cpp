@@ -94,12 +94,42 @@ void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLab
       std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
     }
   });
+  // A fixation goes on across a short gap of lost or unusable samples.
+  std::vector<std::pair<std::size_t, std::size_t>> gaps;
+  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+    if ((l == SampleLabel::loss || l == SampleLabel::other) && a > 0 && b < labels.size() &&
+        labels[a - 1] == SampleLabel::fixation && labels[b] == SampleLabel::fixation &&
+        static_cast<double>(g.time_us[b] - g.time_us[a - 1]) / 1000.0 <= p.max_fixation_gap_ms + g.interval_us / 1000.0 &&
+        std::hypot(g.x_deg[b] - g.x_deg[a - 1], g.y_deg[b] - g.y_deg[a - 1]) <= p.max_fixation_gap_shift_deg) {
+      gaps.emplace_back(a, b);
+    }
+  });
+  for (const auto& [a, b] : gaps) {
+    std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::fixation);
+  }
   // Fixations too short to count.
   for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
     if (l == SampleLabel::fixation && run_ms(g, a, b) < p.min_fixation_ms) {
       std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
     }
   });
+}
+
+std::size_t remove_spikes(GazeTrace& g, double spike_deg) {
+  if (spike_deg <= 0 || g.size() < 3) return 0;
+  std::vector<std::size_t> spikes;
+  for (std::size_t i = 1; i + 1 < g.size(); ++i) {
+    if (!g.valid[i - 1] || !g.valid[i] || !g.valid[i + 1]) continue;
+    const double mx = 0.5 * (g.x_deg[i - 1] + g.x_deg[i + 1]), my = 0.5 * (g.y_deg[i - 1] + g.y_deg[i + 1]);
+    const double off = std::hypot(g.x_deg[i] - mx, g.y_deg[i] - my);
+    const double span = std::hypot(g.x_deg[i + 1] - g.x_deg[i - 1], g.y_deg[i + 1] - g.y_deg[i - 1]);
+    if (off > spike_deg && span < 0.5 * off) spikes.push_back(i);
+  }
+  for (std::size_t i : spikes) {
+    g.valid[i] = 0;
+    g.x_deg[i] = g.y_deg[i] = g.x_px[i] = g.y_px[i] = std::nan("");
+  }
+  return spikes.size();
 }
 
 std::vector<SampleLabel> label_trace(const GazeTrace& g, const EventDetector& d, const BlinkParams& bp, const EventParams& ep) {
@@ -125,6 +155,7 @@ void collect_events(const GazeTrace& g, const std::vector<SampleLabel>& labels, 
       double sx = 0, sy = 0, sxd = 0, syd = 0;
       double x_lo = 1e300, x_hi = -1e300, y_lo = 1e300, y_hi = -1e300;
       for (std::size_t k = a; k < b; ++k) {
+        if (!g.valid[k]) continue;  // a bridged gap adds time, not position
         xs.push_back(g.x_px[k]);
         ys.push_back(g.y_px[k]);
         sx += g.x_px[k];
@@ -136,7 +167,7 @@ void collect_events(const GazeTrace& g, const std::vector<SampleLabel>& labels, 
         y_lo = std::min(y_lo, g.y_deg[k]);
         y_hi = std::max(y_hi, g.y_deg[k]);
       }
-      const double n = static_cast<double>(b - a);
+      const double n = static_cast<double>(xs.size());
       f.x_px = sx / n;
       f.y_px = sy / n;
       f.x_deg = sxd / n;

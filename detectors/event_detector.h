@@ -41,7 +41,15 @@ struct EventParams {
   double min_fixation_ms = 40.0;   // shorter fixation runs become "other"
   double min_saccade_ms = 10.0;    // shorter saccade runs inside a fixation become fixation
   double max_velocity_deg_s = 1000.0;  // a saccade run faster than this anywhere is noise
+  // A fixation interrupted by a short stretch of lost or unusable samples
+  // (not a blink) continues when the gaze on both sides is this close.
+  double max_fixation_gap_ms = 20.0;
+  double max_fixation_gap_shift_deg = 0.5;
 };
+
+/// Single-sample spikes (a sample far from both neighbours while they agree)
+/// become missing. Returns how many were removed. 0 deg = off.
+std::size_t remove_spikes(GazeTrace& trace, double spike_deg);
 
 /// Labels for a trace: missing data first (blink/loss), then the detector.
 std::vector<SampleLabel> label_trace(const GazeTrace& trace, const EventDetector& detector, const BlinkParams& blinks,

@@ -69,6 +69,7 @@ RecordingDetection detect_recording(const Recording& rec, const EventDetector& d
     } else {
       trace = make_gaze_trace(rec.samples, eye, first, last, angle, spec.interpolate_max_ms);
     }
+    remove_spikes(trace, spec.spike_deg);
     const std::vector<SampleLabel> labels = label_trace(trace, detector, bp, ep);
     std::copy(labels.begin(), labels.end(), out.labels.begin() + static_cast<std::ptrdiff_t>(first));
     collect_events(trace, labels, trial.id, eye, out.events);

@@ -1,5 +1,6 @@
 #include "detectors/velocity.h"
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 
@@ -25,11 +26,23 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
   if (n < 2 || g.interval_us <= 0) return v;
 
   // Prefix counts of bad samples and of broken steps, so each window is checked in O(1).
+  // A step is broken when it is longer than max_gap_factor x the median of the
+  // steps around it, so a recording whose rate changes part-way still works.
   std::vector<int> bad(n + 1, 0), broken(n + 1, 0);
-  const double max_step = p.max_gap_factor * g.interval_us;
+  std::vector<Microseconds> step(n, 0);
+  for (std::size_t i = 1; i < n; ++i) step[i] = g.time_us[i] - g.time_us[i - 1];
+  constexpr std::size_t kAround = 4;
   for (std::size_t i = 0; i < n; ++i) {
     bad[i + 1] = bad[i] + (g.valid[i] ? 0 : 1);
-    const bool step_broken = i > 0 && static_cast<double>(g.time_us[i] - g.time_us[i - 1]) > max_step;
+    bool step_broken = false;
+    if (i > 0) {
+      Microseconds near[2 * kAround + 1];
+      std::size_t m = 0;
+      for (std::size_t k = i > kAround ? i - kAround : 1; k <= std::min(n - 1, i + kAround); ++k) near[m++] = step[k];
+      std::nth_element(near, near + m / 2, near + m);
+      const double local = static_cast<double>(std::min<Microseconds>(near[m / 2], static_cast<Microseconds>(g.interval_us * 4)));
+      step_broken = static_cast<double>(step[i]) > p.max_gap_factor * std::max(local, 1.0);
+    }
     broken[i + 1] = broken[i] + (step_broken ? 1 : 0);
   }
   auto whole = [&](std::size_t a, std::size_t b) {  // samples a..b inclusive

@@ -97,6 +97,9 @@ struct DetectionSpec {
   double min_fixation_ms = 40.0;
   double min_saccade_ms = 10.0;
   double max_velocity_deg_s = 1000.0;
+  double max_fixation_gap_ms = 20.0;           // a fixation continues across a shorter loss
+  double max_fixation_gap_shift_deg = 0.5;     // ... when the gaze on both sides is this close
+  double spike_deg = 1.0;                      // single-sample spikes larger than this are removed; 0 = off
 };
 
 struct Protocol {

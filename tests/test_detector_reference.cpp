@@ -1,0 +1,229 @@
+// Building blocks of detection checked against outside sources, each named
+// beside its check.
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <cstdio>
+#include <sstream>
+
+#include "detectors/dispersion_threshold_detector.h"
+#include "detectors/engbert_kliegl_detector.h"
+#include "detectors/event_detector.h"
+#include "detectors/nystrom_holmqvist_detector.h"
+#include "detectors/savitzky_golay.h"
+#include "detectors/scoring.h"
+#include "detectors/velocity.h"
+#include "detectors/velocity_threshold_detector.h"
+#include "detectors/visual_angle.h"
+
+using namespace gazemill;
+
+namespace {
+
+std::vector<double> scaled(const std::vector<double>& v, double k) {
+  std::vector<double> out;
+  for (double x : v) out.push_back(x * k);
+  return out;
+}
+
+void expect_near_all(const std::vector<double>& got, const std::vector<double>& want, double tol) {
+  ASSERT_EQ(got.size(), want.size());
+  for (std::size_t i = 0; i < got.size(); ++i) EXPECT_NEAR(got[i], want[i], tol) << "index " << i;
+}
+
+// A trace in "degrees" straight from values (no screen), for hand-made inputs.
+GazeTrace trace_of(const std::vector<std::pair<double, double>>& pts, Microseconds interval_us) {
+  GazeTrace g;
+  for (std::size_t i = 0; i < pts.size(); ++i) {
+    g.time_us.push_back(static_cast<Microseconds>(i) * interval_us);
+    g.x_deg.push_back(pts[i].first);
+    g.y_deg.push_back(pts[i].second);
+    g.x_px.push_back(pts[i].first);
+    g.y_px.push_back(pts[i].second);
+    g.pupil.push_back(1000.f);
+    g.valid.push_back(1);
+  }
+  g.interval_us = static_cast<double>(interval_us);
+  return g;
+}
+
+// The hand-made 30-sample trace of methods.md Appendix A (100 Hz).
+std::vector<std::pair<double, double>> appendix_a_trace() {
+  const double jit[] = {0.0, 0.1, -0.1, 0.2, -0.2, 0.1, 0.0, -0.1, 0.2, 0.0, 0.1, -0.1};
+  const double jit2[] = {0.0, 0.1, 0.2, -0.1, 0.0, 0.1, -0.2, 0.0, 0.1, 0.0, -0.1, 0.2, 0.1, 0.0, -0.1};
+  std::vector<std::pair<double, double>> pts;
+  for (double j : jit) pts.emplace_back(0.0 + j, 0.0 + j / 2);
+  pts.emplace_back(1.5, 0.0);
+  pts.emplace_back(3.0, 0.0);
+  pts.emplace_back(4.5, 0.0);
+  for (double j : jit2) pts.emplace_back(5.0 + j, 1.0 - j);
+  return pts;
+}
+
+std::string run_python(const std::string& code) {
+  FILE* p = popen(("/usr/bin/python3 -c \"" + code + "\"").c_str(), "r");
+  std::string out;
+  char buf[4096];
+  while (p && fgets(buf, sizeof buf, p)) out += buf;
+  if (p) pclose(p);
+  return out;
+}
+
+}  // namespace
+
+// Savitzky & Golay (1964) tables as integers over a norm (the corrected values;
+// methods.md section 4 checked them against scipy 1.10).
+TEST(SavitzkyGolay, PublishedTableIntegers) {
+  expect_near_all(savitzky_golay_coefficients(5, 2, 0), scaled({-3, 12, 17, 12, -3}, 1.0 / 35), 1e-12);
+  expect_near_all(savitzky_golay_coefficients(7, 2, 0), scaled({-2, 3, 6, 7, 6, 3, -2}, 1.0 / 21), 1e-12);
+  expect_near_all(savitzky_golay_coefficients(9, 3, 0), scaled({-21, 14, 39, 54, 59, 54, 39, 14, -21}, 1.0 / 231), 1e-12);
+  expect_near_all(savitzky_golay_coefficients(5, 2, 1), scaled({-2, -1, 0, 1, 2}, 1.0 / 10), 1e-12);
+  expect_near_all(savitzky_golay_coefficients(7, 2, 1), scaled({-3, -2, -1, 0, 1, 2, 3}, 1.0 / 28), 1e-12);
+  expect_near_all(savitzky_golay_coefficients(5, 3, 1), scaled({1, -8, 0, 8, -1}, 1.0 / 12), 1e-12);
+  expect_near_all(savitzky_golay_coefficients(7, 3, 1), scaled({22, -67, -58, 0, 58, 67, -22}, 1.0 / 252), 1e-12);
+  expect_near_all(savitzky_golay_coefficients(9, 4, 1), scaled({86, -142, -193, -126, 0, 126, 193, 142, -86}, 1.0 / 1188), 1e-12);
+  // Second derivative includes the 2! factor, as scipy does: (2, -1, -2, -1, 2) / 7.
+  expect_near_all(savitzky_golay_coefficients(5, 2, 2), scaled({2, -1, -2, -1, 2}, 1.0 / 7), 1e-12);
+  EXPECT_THROW(savitzky_golay_coefficients(4, 2, 1), std::invalid_argument);
+  EXPECT_THROW(savitzky_golay_coefficients(5, 5, 1), std::invalid_argument);
+}
+
+// Reference library: scipy.signal.savgol_coeffs(w, p, deriv, pos=..., use='dot') via /usr/bin/python3,
+// including the off-centre positions used at the edges of a stretch of data.
+TEST(SavitzkyGolay, MatchesScipyIncludingOffCentrePositions) {
+  struct C { int w, p, d, pos; };
+  const std::vector<C> cases = {{5, 2, 1, 0}, {11, 2, 1, 0}, {21, 2, 1, 0}, {11, 3, 1, 0}, {21, 2, 2, 0},
+                                {11, 2, 1, -5}, {11, 2, 1, -2}, {11, 2, 1, 4}, {21, 2, 2, -10}, {9, 3, 1, 3}};
+  std::string code = "from scipy.signal import savgol_coeffs as s\n";
+  for (const auto& c : cases) {
+    code += "print(' '.join(repr(float(v)) for v in s(" + std::to_string(c.w) + "," + std::to_string(c.p) + ",deriv=" +
+            std::to_string(c.d) + ",pos=" + std::to_string(c.w / 2 + c.pos) + ",use='dot')))\n";
+  }
+  std::istringstream out(run_python(code));
+  for (const auto& c : cases) {
+    std::string line;
+    ASSERT_TRUE(std::getline(out, line)) << "scipy gave no answer; is python3-scipy installed?";
+    std::istringstream nums(line);
+    std::vector<double> want;
+    double v;
+    while (nums >> v) want.push_back(v);
+    expect_near_all(savitzky_golay_coefficients_at(c.w, c.p, c.d, c.pos), want, 1e-9);
+  }
+}
+
+// Visual angle: 1 cm at 57.3 cm is about 1 deg (common practice, no source);
+// exact values 2 atan(s / 2d) from methods.md section 5 (computed there).
+TEST(VisualAngle, RuleOfThumbAndExactValues) {
+  EXPECT_NEAR(visual_angle_deg(10.0, 572.943), 1.0, 1e-4);
+  EXPECT_NEAR(visual_angle_deg(10.0, 570.0), 1.005163, 1e-6);
+  EXPECT_NEAR(VisualAngle({1920, 1080, 530.0, 300.0, 700.0}).pixels_per_degree_at_centre(), 44.2600, 1e-4);
+  EXPECT_NEAR(VisualAngle({1024, 768, 386.0, 290.0, 600.0}).pixels_per_degree_at_centre(), 27.7813, 1e-4);
+  EXPECT_NEAR(VisualAngle({1920, 1080, 472.0, 265.0, 570.0}).pixels_per_degree_at_centre(), 40.4690, 1e-4);
+  const VisualAngle a({1920, 1080, 530.0, 300.0, 700.0});
+  // The screen edge is half the width from the centre: atan(265 / 700) = 20.735 deg, not the small-angle 21.69.
+  EXPECT_NEAR(a.x_deg(1920), std::atan(265.0 / 700.0) * 180 / M_PI, 1e-9);
+  EXPECT_NEAR(a.x_deg(1920) - a.x_deg(0), 41.4705, 1e-4);
+  EXPECT_NEAR(a.x_px(a.x_deg(1234.5)), 1234.5, 1e-9);
+  EXPECT_NEAR(a.y_px(a.y_deg(17.25)), 17.25, 1e-9);
+  EXPECT_DOUBLE_EQ(a.x_deg(960), 0.0);
+}
+
+// Engbert & Kliegl (2003): the 5-point velocity is exact for a ramp; methods.md
+// section 2: x = 0.1 n deg at 250 Hz gives 25.0 deg/s.
+TEST(EngbertKliegl, RampVelocityAndMedianBasedSd) {
+  std::vector<std::pair<double, double>> ramp;
+  for (int n = 0; n < 20; ++n) ramp.emplace_back(0.1 * n, 0.0);
+  VelocityParams vp;
+  vp.method = VelocityMethod::moving_average_5;
+  const Velocity v = compute_velocity(trace_of(ramp, 4000), vp);
+  for (int n = 2; n < 18; ++n) EXPECT_NEAR(v.vx[static_cast<std::size_t>(n)], 25.0, 1e-9);
+  EXPECT_TRUE(std::isnan(v.vx[0]));
+  // Worked by hand (methods.md section 2): median(v^2) = 2.5, median(v) = 1, sigma = sqrt(1.5).
+  EXPECT_NEAR(median_based_sd({1, -2, 3, -1, 2, 0, 50, -1, 1, 2}), 1.224745, 1e-6);
+}
+
+// I-DT steps of Salvucci & Goldberg (2000) on the hand-made trace of methods.md
+// Appendix A (100 Hz, D <= 1.0, a 10-sample window): fixations 0-11 with
+// centroid (0.016667, 0.008333) and 15-29 with centroid (5.02, 0.98).
+TEST(DispersionThreshold, HandMadeTraceFromThePublishedSteps) {
+  const GazeTrace g = trace_of(appendix_a_trace(), 10000);
+  EXPECT_EQ(dispersion_window_samples(100, 10000), 10u);
+  std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+  DispersionThresholdDetector({1.0, 100.0}).label(g, labels);
+  std::string got;
+  for (auto l : labels) got += l == SampleLabel::fixation ? 'F' : 'S';
+  EXPECT_EQ(got, "FFFFFFFFFFFFSSSFFFFFFFFFFFFFFF");
+  DetectedEvents ev;
+  collect_events(g, labels, "1", Eye::left, ev);
+  ASSERT_EQ(ev.fixations.size(), 2u);
+  EXPECT_NEAR(ev.fixations[0].x_deg, 0.016667, 1e-6);
+  EXPECT_NEAR(ev.fixations[0].y_deg, 0.008333, 1e-6);
+  EXPECT_NEAR(ev.fixations[1].x_deg, 5.02, 1e-9);
+  EXPECT_NEAR(ev.fixations[1].y_deg, 0.98, 1e-9);
+  EXPECT_EQ(ev.fixations[1].start_us, 150000);
+}
+
+// I-VT with point-to-point (backward) velocities and 100 units/s, methods.md
+// Appendix A: labels FFFFFFFFFFFFSSSSFFFFFFFFFFFFFF (sample 15 is a saccade
+// sample because its backward difference spans the saccade's last step).
+TEST(VelocityThreshold, HandMadeTraceWithBackwardDifferences) {
+  const GazeTrace g = trace_of(appendix_a_trace(), 10000);
+  VelocityThresholdParams p;
+  p.velocity_threshold_deg_s = 100;
+  p.velocity.method = VelocityMethod::two_point;
+  std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+  VelocityThresholdDetector(p).label(g, labels);
+  std::string got;
+  for (auto l : labels) got += l == SampleLabel::fixation ? 'F' : 'S';
+  EXPECT_EQ(got, "FFFFFFFFFFFFSSSSFFFFFFFFFFFFFF");
+}
+
+// Nystrom & Holmqvist (2010): PT = mean + 6 SD of the velocities below PT,
+// iterated; for Gaussian noise it settles close to mu + 6 sigma (methods.md
+// section 3, computed), and a constant trace gives PT = mu (sigma 0).
+TEST(NystromHolmqvist, PeakThresholdIteration) {
+  std::vector<double> speed;
+  std::vector<bool> usable;
+  unsigned s = 12345;
+  for (int i = 0; i < 200000; ++i) {
+    // Box-Muller on a small LCG: normal(20, 4).
+    s = s * 1103515245u + 12345u;
+    const double u1 = ((s >> 8) + 1.0) / 16777217.0;
+    s = s * 1103515245u + 12345u;
+    const double u2 = ((s >> 8) + 1.0) / 16777217.0;
+    speed.push_back(20.0 + 4.0 * std::sqrt(-2 * std::log(u1)) * std::cos(2 * M_PI * u2));
+    usable.push_back(true);
+  }
+  NystromHolmqvistParams p;
+  const PeakThreshold t = find_peak_threshold(speed, usable, p);
+  EXPECT_NEAR(t.mean_deg_s, 20.0, 0.05);
+  EXPECT_NEAR(t.sd_deg_s, 4.0, 0.05);
+  EXPECT_NEAR(t.peak_deg_s, 44.0, 0.5);
+  const PeakThreshold flat = find_peak_threshold(std::vector<double>(100, 3.0), std::vector<bool>(100, true), p);
+  EXPECT_DOUBLE_EQ(flat.peak_deg_s, 3.0);
+  EXPECT_DOUBLE_EQ(flat.sd_deg_s, 0.0);
+}
+
+// Cohen (1960): kappa = (po - pe) / (1 - pe). Worked by hand: 40 both, 10 and 5
+// one-sided, 45 neither: po = 0.85, pe = 0.5*0.45 + 0.5*0.55 = 0.5, kappa = 0.7.
+TEST(Scoring, CohenKappaAndEventMatching) {
+  EXPECT_NEAR(cohen_kappa(40, 10, 5, 45), 0.7, 1e-12);
+  EXPECT_NEAR(cohen_kappa(50, 0, 0, 50), 1.0, 1e-12);
+  using L = SampleLabel;
+  const std::vector<L> ref = {L::fixation, L::fixation, L::fixation, L::saccade, L::saccade, L::fixation, L::fixation, L::fixation};
+  const std::vector<L> det = {L::fixation, L::fixation, L::saccade, L::saccade, L::fixation, L::fixation, L::fixation, L::fixation};
+  std::vector<Microseconds> t;
+  for (int i = 0; i < 8; ++i) t.push_back(i * 1000);
+  AgreementScorer s;
+  s.add(ref, det, t);
+  const auto r = s.report();
+  const auto& sac = r.classes[1];
+  EXPECT_EQ(sac.reference_events, 1u);
+  EXPECT_EQ(sac.matched_events, 1u);
+  EXPECT_DOUBLE_EQ(sac.mean_onset_difference_ms, -1.0);   // detected one sample early
+  EXPECT_DOUBLE_EQ(sac.mean_offset_difference_ms, -1.0);
+  EXPECT_EQ(r.confusion[0][1], 1u);
+  EXPECT_EQ(r.confusion[1][0], 1u);
+  EXPECT_TRUE(std::isnan(r.classes[2].kappa));  // no pso on either side
+}
