@@ -95,17 +95,17 @@ void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLab
     }
   });
   // A fixation goes on across a short gap of lost or unusable samples.
-  std::vector<std::pair<std::size_t, std::size_t>> gaps;
-  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
-    if ((l == SampleLabel::loss || l == SampleLabel::other) && a > 0 && b < labels.size() &&
-        labels[a - 1] == SampleLabel::fixation && labels[b] == SampleLabel::fixation &&
+  for (std::size_t a = 1; a < labels.size(); ++a) {
+    const auto gap_label = [&](std::size_t k) { return labels[k] == SampleLabel::loss || labels[k] == SampleLabel::other; };
+    if (!gap_label(a) || labels[a - 1] != SampleLabel::fixation) continue;
+    std::size_t b = a;
+    while (b < labels.size() && gap_label(b)) ++b;
+    if (b < labels.size() && labels[b] == SampleLabel::fixation &&
         static_cast<double>(g.time_us[b] - g.time_us[a - 1]) / 1000.0 <= p.max_fixation_gap_ms + g.interval_us / 1000.0 &&
         std::hypot(g.x_deg[b] - g.x_deg[a - 1], g.y_deg[b] - g.y_deg[a - 1]) <= p.max_fixation_gap_shift_deg) {
-      gaps.emplace_back(a, b);
+      std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::fixation);
     }
-  });
-  for (const auto& [a, b] : gaps) {
-    std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::fixation);
+    a = b;
   }
   // Fixations too short to count.
   for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {

@@ -30,7 +30,7 @@ class EventDetector {
 /// too and the run lasts blink_min_ms..blink_max_ms; otherwise track loss.
 /// Blinks are widened by the paddings to cover the lid artefacts around them.
 struct BlinkParams {
-  double blink_min_ms = 50.0;
+  double blink_min_ms = 70.0;
   double blink_max_ms = 500.0;
   double padding_before_ms = 50.0;
   double padding_after_ms = 50.0;

@@ -90,7 +90,7 @@ struct DetectionSpec {
   std::string velocity = "savitzky_golay";     // ivt only: savitzky_golay, moving_average_5, two_point
   EyeChoice eye = EyeChoice::best;
   double interpolate_max_ms = 0.0;             // fill gaps up to this long before detection; 0 = never
-  double blink_min_ms = 50.0;
+  double blink_min_ms = 70.0;                  // blinks hide the pupil for 100-400 ms (common practice, no source)
   double blink_max_ms = 500.0;
   double blink_padding_before_ms = 50.0;
   double blink_padding_after_ms = 50.0;

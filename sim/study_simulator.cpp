@@ -215,8 +215,9 @@ SimulatedStudy simulate_study(const SimulationConfig& cfg) {
         const double x = ch.centre_x_px, y = ch.centre_y_px;
         const double amplitude = std::hypot(x - px, y - py) / ppd;
         if (uniform(rng) < cfg.signal.blink_probability_per_saccade) {
+          // The pupil is lost for blink_min..max ms, with the lid artefacts before and after.
           std::uniform_real_distribution<double> blink_ms(cfg.signal.blink_min_ms, cfg.signal.blink_max_ms);
-          const Microseconds end = now + ms_to_us(blink_ms(rng));
+          const Microseconds end = now + ms_to_us(blink_ms(rng) + 2 * cfg.signal.lid_artefact_ms);
           seg.push_back({Segment::Kind::blink, now, end, px, py, x, y});
           now = end;
         } else {

@@ -33,7 +33,7 @@ struct SignalParams {
   double pso_duration_ms = 20.0;
   double pso_amplitude_deg = 0.15;
   double blink_probability_per_saccade = 0.02;
-  double blink_min_ms = 100.0, blink_max_ms = 300.0;
+  double blink_min_ms = 100.0, blink_max_ms = 300.0;  // samples missing in a blink
   double lid_artefact_ms = 25.0;            // partial-lid samples before and after the gap
   double loss_probability_per_fixation = 0.01;
   double loss_min_ms = 10.0, loss_max_ms = 60.0;
