@@ -8,7 +8,7 @@
 namespace gazemill {
 namespace {
 
-double median_of(std::vector<double> v) {
+double median_of(std::vector<double>&& v) {
   if (v.empty()) return 0.0;
   const std::size_t m = v.size() / 2;
   std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m), v.end());
@@ -21,15 +21,14 @@ double median_of(std::vector<double> v) {
 }  // namespace
 
 double median_based_sd(const std::vector<double>& v) {
-  std::vector<double> finite, squares;
+  std::vector<double> finite;
+  finite.reserve(v.size());
   for (double x : v) {
-    if (std::isfinite(x)) {
-      finite.push_back(x);
-      squares.push_back(x * x);
-    }
+    if (std::isfinite(x)) finite.push_back(x);
   }
-  const double m = median_of(finite);
-  return std::sqrt(std::max(0.0, median_of(squares) - m * m));
+  const double m = median_of(std::vector<double>(finite));
+  for (double& x : finite) x *= x;  // reuse the buffer for the squares
+  return std::sqrt(std::max(0.0, median_of(std::move(finite)) - m * m));
 }
 
 ParameterList EngbertKlieglDetector::parameters() const {

@@ -73,12 +73,13 @@ void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLab
   for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
     if (l == SampleLabel::saccade) runs.emplace_back(a, b);
   });
-  VelocityParams vp;
-  vp.method = VelocityMethod::two_point;
-  const Velocity v = p.max_velocity_deg_s > 0 ? compute_velocity(g, vp) : Velocity{};
   for (const auto& [a, b] : runs) {
+    // Sample-to-sample speed inside the run: faster than the eye can move is noise.
     bool noise = false;
-    for (std::size_t k = a + 1; k < b && !noise && !v.speed.empty(); ++k) noise = v.speed[k] > p.max_velocity_deg_s;
+    for (std::size_t k = a + 1; k < b && !noise && p.max_velocity_deg_s > 0; ++k) {
+      const double dt = static_cast<double>(g.time_us[k] - g.time_us[k - 1]) * 1e-6;
+      noise = std::hypot(g.x_deg[k] - g.x_deg[k - 1], g.y_deg[k] - g.y_deg[k - 1]) > p.max_velocity_deg_s * dt;
+    }
     const bool glued = (a > 0 && is_gap(a - 1)) || (b < labels.size() && is_gap(b));
     if (noise || glued) {
       std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
@@ -142,8 +143,25 @@ std::vector<SampleLabel> label_trace(const GazeTrace& g, const EventDetector& d,
 void collect_events(const GazeTrace& g, const std::vector<SampleLabel>& labels, const std::string& trial, Eye eye,
                     DetectedEvents& out) {
   const auto end_of = [&](std::size_t b) { return g.time_us[b - 1] + static_cast<Microseconds>(std::llround(g.interval_us)); };
-  // Peak velocity from the default Savitzky-Golay differentiator, whatever the detector used.
-  const Velocity v = compute_velocity(g, VelocityParams{});
+  // Peak velocity from the default Savitzky-Golay differentiator, whatever the
+  // detector used, computed on each saccade and the samples around it only.
+  const VelocityParams peak_params;
+  const std::size_t margin = static_cast<std::size_t>(savitzky_golay_window_samples(peak_params, g.interval_us));
+  auto peak_velocity = [&](std::size_t a, std::size_t b) {
+    const std::size_t lo = a > margin ? a - margin : 0, hi = std::min(g.size(), b + margin);
+    GazeTrace part;
+    part.interval_us = g.interval_us;
+    part.time_us.assign(g.time_us.begin() + static_cast<std::ptrdiff_t>(lo), g.time_us.begin() + static_cast<std::ptrdiff_t>(hi));
+    part.x_deg.assign(g.x_deg.begin() + static_cast<std::ptrdiff_t>(lo), g.x_deg.begin() + static_cast<std::ptrdiff_t>(hi));
+    part.y_deg.assign(g.y_deg.begin() + static_cast<std::ptrdiff_t>(lo), g.y_deg.begin() + static_cast<std::ptrdiff_t>(hi));
+    part.valid.assign(g.valid.begin() + static_cast<std::ptrdiff_t>(lo), g.valid.begin() + static_cast<std::ptrdiff_t>(hi));
+    const Velocity v = compute_velocity(part, peak_params);
+    double peak = 0;
+    for (std::size_t k = a; k < b; ++k) {
+      if (std::isfinite(v.speed[k - lo])) peak = std::max(peak, v.speed[k - lo]);
+    }
+    return peak;
+  };
   for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
     if (l == SampleLabel::fixation) {
       FixationEvent f;
@@ -189,9 +207,7 @@ void collect_events(const GazeTrace& g, const std::vector<SampleLabel>& labels, 
       const double dx = g.x_deg[b - 1] - g.x_deg[a], dy = g.y_deg[b - 1] - g.y_deg[a];
       s.amplitude_deg = std::hypot(dx, dy);
       s.direction_deg = std::atan2(dy, dx) * 180.0 / std::numbers::pi;
-      for (std::size_t k = a; k < b; ++k) {
-        if (std::isfinite(v.speed[k])) s.peak_velocity_deg_s = std::max(s.peak_velocity_deg_s, v.speed[k]);
-      }
+      s.peak_velocity_deg_s = peak_velocity(a, b);
       out.saccades.push_back(s);
     } else if (l == SampleLabel::blink) {
       out.blinks.push_back({trial, eye, g.time_us[a], end_of(b)});

@@ -51,7 +51,7 @@ void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel
   std::vector<bool> usable(n, false);
   for (std::size_t i = 0; i < n; ++i) {
     const bool physiological = std::isfinite(v.speed[i]) && v.speed[i] <= p_.max_velocity_deg_s &&
-                               !(v.acceleration[i] > p_.max_acceleration_deg_s2);
+                               !(!v.acceleration.empty() && v.acceleration[i] > p_.max_acceleration_deg_s2);
     usable[i] = labels[i] == SampleLabel::other && physiological;
   }
   const PeakThreshold pt = find_peak_threshold(v.speed, usable, p_);

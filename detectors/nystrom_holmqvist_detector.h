@@ -26,7 +26,7 @@ struct NystromHolmqvistParams {
   double offset_onset_weight = 0.7;   // offset threshold = w * onset + (1 - w) * local noise threshold
   double max_glissade_ms = 40.0;
   double min_saccade_ms = 10.0;
-  VelocityParams velocity;            // Savitzky-Golay, 2nd order, about 20 ms
+  VelocityParams velocity{VelocityMethod::savitzky_golay, 20.0, 2, 2.0, true};  // Savitzky-Golay, 2nd order, about 20 ms
 };
 
 class NystromHolmqvistDetector : public EventDetector {

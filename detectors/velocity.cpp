@@ -15,107 +15,110 @@ int savitzky_golay_window_samples(const VelocityParams& p, double interval_us) {
   return std::max(w, 3);
 }
 
+namespace {
+
+// Stretches of usable samples: valid, with no broken step between them. A step
+// is broken when it is longer than max_gap_factor x the longer of its two
+// neighbouring steps (a gap stands out from the steps around it, while jitter
+// and a rate that changes part-way do not), or longer than ten median intervals.
+template <typename F>
+void for_each_stretch(const GazeTrace& g, const VelocityParams& p, F&& f) {
+  const std::size_t n = g.size();
+  const Microseconds* t = g.time_us.data();
+  auto broken = [&](std::size_t i) {  // the step from i - 1 to i
+    const Microseconds step = t[i] - t[i - 1];
+    Microseconds reference = i >= 2 ? t[i - 1] - t[i - 2] : 0;
+    if (i + 1 < n) reference = std::max(reference, t[i + 1] - t[i]);
+    if (reference == 0) reference = step;
+    return static_cast<double>(step) > p.max_gap_factor * static_cast<double>(reference) ||
+           static_cast<double>(step) > 10.0 * g.interval_us;
+  };
+  std::size_t start = 0;
+  while (start < n) {
+    if (!g.valid[start]) {
+      ++start;
+      continue;
+    }
+    std::size_t end = start + 1;
+    while (end < n && g.valid[end] && !broken(end)) ++end;
+    f(start, end);
+    start = end;
+  }
+}
+
+}  // namespace
+
 Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
   constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
   const std::size_t n = g.size();
+  const bool sg = p.method == VelocityMethod::savitzky_golay;
+  const bool acceleration = sg && p.with_acceleration;
   Velocity v;
   v.vx.assign(n, kNaN);
   v.vy.assign(n, kNaN);
   v.speed.assign(n, kNaN);
-  v.acceleration.assign(n, kNaN);
+  v.acceleration.assign(acceleration ? n : 0, kNaN);
   if (n < 2 || g.interval_us <= 0) return v;
-
-  // Prefix counts of bad samples and of broken steps, so each window is checked in O(1).
-  // A step is broken when it is longer than max_gap_factor x the median of the
-  // steps around it, so a recording whose rate changes part-way still works.
-  std::vector<int> bad(n + 1, 0), broken(n + 1, 0);
-  std::vector<Microseconds> step(n, 0);
-  for (std::size_t i = 1; i < n; ++i) step[i] = g.time_us[i] - g.time_us[i - 1];
-  constexpr std::size_t kAround = 4;
-  for (std::size_t i = 0; i < n; ++i) {
-    bad[i + 1] = bad[i] + (g.valid[i] ? 0 : 1);
-    bool step_broken = false;
-    if (i > 0) {
-      Microseconds near[2 * kAround + 1];
-      std::size_t m = 0;
-      for (std::size_t k = i > kAround ? i - kAround : 1; k <= std::min(n - 1, i + kAround); ++k) near[m++] = step[k];
-      std::nth_element(near, near + m / 2, near + m);
-      const double local = static_cast<double>(std::min<Microseconds>(near[m / 2], static_cast<Microseconds>(g.interval_us * 4)));
-      step_broken = static_cast<double>(step[i]) > p.max_gap_factor * std::max(local, 1.0);
-    }
-    broken[i + 1] = broken[i] + (step_broken ? 1 : 0);
-  }
-  auto whole = [&](std::size_t a, std::size_t b) {  // samples a..b inclusive
-    return bad[b + 1] - bad[a] == 0 && broken[b + 1] - broken[a + 1] == 0;
-  };
+  const double* X = g.x_deg.data();
+  const double* Y = g.y_deg.data();
+  const Microseconds* T = g.time_us.data();
 
   if (p.method == VelocityMethod::two_point) {
-    for (std::size_t i = 1; i < n; ++i) {
-      if (!whole(i - 1, i)) continue;
-      const double dt = static_cast<double>(g.time_us[i] - g.time_us[i - 1]) * 1e-6;
-      v.vx[i] = (g.x_deg[i] - g.x_deg[i - 1]) / dt;
-      v.vy[i] = (g.y_deg[i] - g.y_deg[i - 1]) / dt;
-    }
-    // The first sample has no predecessor: it takes its successor's velocity.
-    v.vx[0] = v.vx[1];
-    v.vy[0] = v.vy[1];
+    for_each_stretch(g, p, [&](std::size_t a, std::size_t b) {
+      for (std::size_t i = a + 1; i < b; ++i) {
+        const double dt = static_cast<double>(T[i] - T[i - 1]) * 1e-6;
+        v.vx[i] = (X[i] - X[i - 1]) / dt;
+        v.vy[i] = (Y[i] - Y[i - 1]) / dt;
+      }
+      // The first sample has no predecessor: it takes its successor's velocity.
+      if (b - a >= 2) {
+        v.vx[a] = v.vx[a + 1];
+        v.vy[a] = v.vy[a + 1];
+      }
+    });
   } else {
-    const bool sg = p.method == VelocityMethod::savitzky_golay;
     const int w = sg ? savitzky_golay_window_samples(p, g.interval_us) : 5;
     const std::size_t h = static_cast<std::size_t>(w / 2);
     // Coefficients for every position in the window: the centre for interior
     // samples, off-centre ones for samples near the edge of a stretch of data.
     std::vector<std::vector<double>> d1(static_cast<std::size_t>(w)), d2(static_cast<std::size_t>(w));
-    for (int q = 0; q < w; ++q) {
-      const int pos = q - static_cast<int>(h);
-      if (sg) {
+    if (sg) {
+      for (int q = 0; q < w; ++q) {
+        const int pos = q - static_cast<int>(h);
         d1[static_cast<std::size_t>(q)] = savitzky_golay_coefficients_at(w, p.sg_order, 1, pos);
-        d2[static_cast<std::size_t>(q)] = savitzky_golay_coefficients_at(w, p.sg_order, 2, pos);
+        if (acceleration) d2[static_cast<std::size_t>(q)] = savitzky_golay_coefficients_at(w, p.sg_order, 2, pos);
       }
+    } else {
+      d1[h] = {-1.0 / 6, -1.0 / 6, 0.0, 1.0 / 6, 1.0 / 6};
     }
-    if (!sg) d1[h] = {-1.0 / 6, -1.0 / 6, 0.0, 1.0 / 6, 1.0 / 6};
+    const std::size_t width = static_cast<std::size_t>(w);
     auto apply = [&](std::size_t i, std::size_t a, std::size_t q) {  // sample i from the window starting at a
-      const double dt = static_cast<double>(g.time_us[a + 2 * h] - g.time_us[a]) * 1e-6 / static_cast<double>(2 * h);
-      const double* x = &g.x_deg[a];
-      const double* y = &g.y_deg[a];
+      // Local spacing from the window's own timestamps copes with jitter and rate changes.
+      const double inv_dt = static_cast<double>(2 * h) / (static_cast<double>(T[a + 2 * h] - T[a]) * 1e-6);
+      const double* c1 = d1[q].data();
       double sx = 0, sy = 0;
-      const std::vector<double>& c1 = d1[q];
-      for (std::size_t k = 0; k < c1.size(); ++k) {
-        sx += c1[k] * x[k];
-        sy += c1[k] * y[k];
+      for (std::size_t k = 0; k < width; ++k) {
+        sx += c1[k] * X[a + k];
+        sy += c1[k] * Y[a + k];
       }
-      v.vx[i] = sx / dt;
-      v.vy[i] = sy / dt;
-      if (sg) {
+      v.vx[i] = sx * inv_dt;
+      v.vy[i] = sy * inv_dt;
+      if (acceleration) {
+        const double* c2 = d2[q].data();
         double ax = 0, ay = 0;
-        for (std::size_t k = 0; k < d2[q].size(); ++k) {
-          ax += d2[q][k] * x[k];
-          ay += d2[q][k] * y[k];
+        for (std::size_t k = 0; k < width; ++k) {
+          ax += c2[k] * X[a + k];
+          ay += c2[k] * Y[a + k];
         }
-        v.acceleration[i] = std::sqrt(ax * ax + ay * ay) / (dt * dt);
+        v.acceleration[i] = std::sqrt(ax * ax + ay * ay) * inv_dt * inv_dt;
       }
     };
-    // Stretches of usable samples: valid, and no broken step between them.
-    std::size_t start = 0;
-    while (start < n) {
-      if (!g.valid[start]) {
-        ++start;
-        continue;
-      }
-      std::size_t end = start + 1;
-      while (end < n && whole(end - 1, end)) ++end;
-      if (end - start >= static_cast<std::size_t>(w)) {
-        for (std::size_t i = start; i < end; ++i) {
-          if (i >= start + h && i + h < end) {
-            apply(i, i - h, h);
-          } else if (sg) {
-            const std::size_t a = i < start + h ? start : end - static_cast<std::size_t>(w);
-            apply(i, a, i - a);
-          }
-        }
-      }
-      start = end;
-    }
+    for_each_stretch(g, p, [&](std::size_t a, std::size_t b) {
+      if (b - a < width) return;
+      for (std::size_t i = a; i < a + h && sg; ++i) apply(i, a, i - a);
+      for (std::size_t i = a + h; i + h < b; ++i) apply(i, i - h, h);
+      for (std::size_t i = b - h; i < b && sg; ++i) apply(i, b - width, i - (b - width));
+    });
   }
   for (std::size_t i = 0; i < n; ++i) v.speed[i] = std::sqrt(v.vx[i] * v.vx[i] + v.vy[i] * v.vy[i]);
   return v;

@@ -19,13 +19,14 @@ struct VelocityParams {
   VelocityMethod method = VelocityMethod::savitzky_golay;
   double sg_window_ms = 20.0;  // rounded to an odd number of samples, at least order + 2
   int sg_order = 2;
-  double max_gap_factor = 1.5; // a step longer than this x the median interval breaks windows
+  double max_gap_factor = 2.0;  // a step this much longer than the steps around it breaks windows
+  bool with_acceleration = false;  // Savitzky-Golay only
 };
 
 struct Velocity {
   std::vector<double> vx, vy;     // deg/s, NaN where the window is broken
   std::vector<double> speed;      // deg/s
-  std::vector<double> acceleration;  // deg/s^2 (Savitzky-Golay only; NaN otherwise)
+  std::vector<double> acceleration;  // deg/s^2 (Savitzky-Golay with_acceleration only; NaN otherwise)
 };
 
 /// The window length in samples that `params` gives at `interval_us`.

@@ -1,0 +1,172 @@
+// Detection benchmark: speed on a long recording, and how each detector's
+// agreement with the simulator's truth degrades with noise and sampling rate.
+// usage: gazemill_bench_detect [--speed-only | --table-only] [--samples N]
+// Prints markdown tables; every figure is measured in this run.
+
+#include <chrono>
+#include <cstdio>
+#include <cstring>
+#include <random>
+#include <string>
+
+#include "detectors/detector_registry.h"
+#include "detectors/recording_detection.h"
+#include "detectors/scoring.h"
+#include "detectors/velocity.h"
+#include "sim/study_simulator.h"
+
+using namespace gazemill;
+using Clock = std::chrono::steady_clock;
+
+namespace {
+
+// A long monocular trace at 1000 Hz: fixations of 150-350 ms joined by jumps of
+// 1-8 deg, 0.03 deg noise; generated directly, as only speed is measured here.
+GazeTrace long_trace(std::size_t n) {
+  GazeTrace g;
+  g.time_us.resize(n);
+  g.x_deg.resize(n);
+  g.y_deg.resize(n);
+  g.x_px.resize(n);
+  g.y_px.resize(n);
+  g.pupil.assign(n, 1000.f);
+  g.valid.assign(n, 1);
+  std::mt19937_64 rng(3);
+  std::normal_distribution<double> noise(0.0, 0.015);
+  std::uniform_int_distribution<int> fix_ms(150, 350);
+  std::uniform_real_distribution<double> jump(1.0, 8.0);
+  double x = 0, y = 0;
+  std::size_t next_jump = 200;
+  for (std::size_t i = 0; i < n; ++i) {
+    if (i == next_jump) {
+      x += jump(rng) * (x > 10 ? -1 : 1);
+      next_jump += static_cast<std::size_t>(fix_ms(rng));
+    }
+    g.time_us[i] = static_cast<Microseconds>(i) * 1000;
+    g.x_deg[i] = g.x_px[i] = x + noise(rng);
+    g.y_deg[i] = g.y_px[i] = y + noise(rng);
+  }
+  g.interval_us = 1000;
+  return g;
+}
+
+template <typename F>
+double best_seconds(int repeats, F&& f) {
+  double best = 1e300;
+  for (int r = 0; r < repeats; ++r) {
+    const auto t0 = Clock::now();
+    f();
+    best = std::min(best, std::chrono::duration<double>(Clock::now() - t0).count());
+  }
+  return best;
+}
+
+DetectionSpec sensible(const std::string& method) {
+  DetectionSpec s;
+  s.method = method;
+  if (method == "ivt") s.parameters = {{"velocity_threshold_deg_s", 15}, {"sg_window_ms", 10}};
+  if (method == "engbert_kliegl") s.parameters = {{"lambda", 5}};
+  if (method == "nystrom_holmqvist") s.parameters = {{"sg_window_ms", 4}, {"max_glissade_ms", 0}};
+  if (method == "idt") s.parameters = {{"dispersion_threshold_deg", 0.15}, {"min_duration_ms", 20}};
+  s.blink_padding_before_ms = s.blink_padding_after_ms = 30;
+  return s;
+}
+
+void speed(std::size_t n) {
+  const GazeTrace g = long_trace(n);
+  std::printf("## Speed: %zu samples (1000 Hz), one core, best of 3\n\n", n);
+  std::printf("| step | seconds | million samples/s | vs velocity + I-VT |\n|---|---|---|---|\n");
+  DetectionSpec ivt = sensible("ivt");
+  const auto ivt_detector = make_detector(ivt);
+  volatile std::size_t sink = 0;
+  const double t_ivt = best_seconds(3, [&] {
+    std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+    ivt_detector->label(g, labels);  // Savitzky-Golay velocity + thresholding
+    sink = sink + static_cast<std::size_t>(labels[g.size() / 2]);
+  });
+  const double t_vel = best_seconds(3, [&] {
+    VelocityParams vp;
+    vp.sg_window_ms = 10;
+    const Velocity v = compute_velocity(g, vp);
+    sink = sink + static_cast<std::size_t>(v.speed[g.size() / 2]);
+  });
+  auto row = [&](const char* name, double t) {
+    std::printf("| %s | %.3f | %.1f | %.2fx |\n", name, t, static_cast<double>(n) / t / 1e6, t / t_ivt);
+  };
+  row("Savitzky-Golay velocity (10 ms)", t_vel);
+  row("velocity + I-VT labels", t_ivt);
+  for (const char* m : {"engbert_kliegl", "nystrom_holmqvist", "idt"}) {
+    const DetectionSpec spec = sensible(m);
+    const auto d = make_detector(spec);
+    const double t = best_seconds(3, [&] {
+      std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+      d->label(g, labels);
+      sink = sink + static_cast<std::size_t>(labels[g.size() / 2]);
+    });
+    row((std::string(m) + " labels").c_str(), t);
+  }
+  for (const char* m : {"ivt", "nystrom_holmqvist"}) {
+    const DetectionSpec spec = sensible(m);
+    const auto d = make_detector(spec);
+    const double t = best_seconds(3, [&] {
+      const auto labels = label_trace(g, *d, blink_params(spec), event_params(spec));
+      DetectedEvents ev;
+      collect_events(g, labels, "1", Eye::left, ev);
+      sink = sink + ev.fixations.size();
+    });
+    row((std::string(m) + ": labels, clean-up and events").c_str(), t);
+  }
+  std::printf("\n");
+}
+
+void degradation() {
+  const std::vector<double> noises = {0.01, 0.03, 0.05, 0.1, 0.2};
+  const std::vector<double> rates = {250, 500, 1000, 2000};
+  const std::vector<std::string> methods = {"ivt", "idt", "engbert_kliegl", "nystrom_holmqvist"};
+  std::printf("## Agreement with the simulator's truth: kappa fixation / saccade\n\n");
+  std::printf("2 simulated readers x 12 items per cell, no post-saccadic oscillation; parameters as in\n");
+  std::printf("tests/test_detector_accuracy.cpp (fixed across cells, not re-tuned).\n\n");
+  std::printf("| noise (deg RMS-S2S) | rate (Hz) |");
+  for (const auto& m : methods) std::printf(" %s |", m.c_str());
+  std::printf("\n|---|---|");
+  for (std::size_t i = 0; i < methods.size(); ++i) std::printf("---|");
+  std::printf("\n");
+  for (double noise : noises) {
+    for (double rate : rates) {
+      sim::SimulationConfig c;
+      c.design = sim::demo_design();
+      c.design.participants = 2;
+      c.signal.sample_rate_hz = rate;
+      c.signal.noise_rms_s2s_deg = noise;
+      c.signal.post_saccadic_oscillation = false;
+      c.seed = 77;
+      const auto st = sim::simulate_study(c);
+      std::printf("| %.2f | %.0f |", noise, rate);
+      for (const auto& m : methods) {
+        const DetectionSpec spec = sensible(m);
+        const auto d = make_detector(spec);
+        AgreementScorer scorer;
+        for (const auto& sr : st.recordings) scorer.add(sr.truth.labels, detect_recording(sr.recording, *d, spec).labels, sr.recording.samples.time_us);
+        const auto r = scorer.report();
+        std::printf(" %.2f / %.2f |", r.classes[0].kappa, r.classes[1].kappa);
+      }
+      std::printf("\n");
+      std::fflush(stdout);
+    }
+  }
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  bool speed_only = false, table_only = false;
+  std::size_t n = 10'000'000;
+  for (int i = 1; i < argc; ++i) {
+    if (!std::strcmp(argv[i], "--speed-only")) speed_only = true;
+    else if (!std::strcmp(argv[i], "--table-only")) table_only = true;
+    else if (!std::strcmp(argv[i], "--samples") && i + 1 < argc) n = std::stoul(argv[++i]);
+  }
+  if (!table_only) speed(n);
+  if (!speed_only) degradation();
+  return 0;
+}
