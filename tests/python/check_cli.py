@@ -12,7 +12,7 @@ import tempfile
 
 gazemill = sys.argv[1]
 failures = []
-COMMANDS = ["ingest", "inspect"]
+COMMANDS = ["simulate", "ingest", "inspect", "detect", "score"]
 
 
 def run(*args, cwd=None):

@@ -142,5 +142,38 @@ with tempfile.TemporaryDirectory() as tmp:
             check(same, f"dataset {n} identical across runs")
         check(len(names) > 20, "datasets compared")
 
+# Detection results read by h5py: the fixture study, ingested and detected.
+import shutil
+fixtures = sys.argv[2]
+with tempfile.TemporaryDirectory() as tmp:
+    study = os.path.join(tmp, "study")
+    shutil.copytree(os.path.join(fixtures, "demo-study"), study)
+    proto = os.path.join(study, "gazemill.toml")
+    store = os.path.join(tmp, "d.gzm.h5")
+    subprocess.run([gazemill, "-q", "ingest", proto, "-o", store], check=True)
+    subprocess.run([gazemill, "-q", "detect", proto, "-s", store], check=True)
+    with h5py.File(store, "r") as h:
+        for rid, rec in h["recordings"].items():
+            ev = rec["events"]
+            n = rec["samples/time_us"].shape[0]
+            check(ev["sample_label"].shape[0] == n, f"{rid}: one label per sample")
+            check(set(np.unique(ev["sample_label"][:])) <= set(range(6)), f"{rid}: label codes 0..5")
+            fx = ev["fixations"]
+            start, end, dur = fx["start_us"][:], fx["end_us"][:], fx["duration_ms"][:]
+            check(fx["duration_ms"].attrs["unit"] == "ms" and fx["x_px"].attrs["unit"] == "px", f"{rid}: event units")
+            check(np.allclose(dur, (end - start) / 1000.0), f"{rid}: duration = end - start")
+            check(np.all(np.diff(start) > 0) or len(start) < 2, f"{rid}: fixations in time order")
+            check(len(start) > 100, f"{rid}: fixations found")
+            sac = ev["saccades"]
+            check(np.all(sac["amplitude_deg"][:] >= 0) and np.all(sac["peak_velocity_deg_s"][:] > 0), f"{rid}: saccade values")
+            # Samples labelled fixation (code 0) lie inside a fixation event and vice versa.
+            t = rec["samples/time_us"][:]
+            lab = ev["sample_label"][:]
+            inside = np.zeros(n, bool)
+            for a, b in zip(start, end):
+                inside |= (t >= a) & (t < b)
+            check(np.array_equal(inside, lab == 0), f"{rid}: fixation labels match fixation events")
+        check("detect" in h["provenance/stages"], "detect stage provenance")
+
 print(f"{0 if failures else 1} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)
