@@ -10,6 +10,11 @@
 #include "app/inspect.h"
 #include "app/protocol_parser.h"
 #include "app/run_stats.h"
+#include "app/clean.h"
+#include "app/audit_report.h"
+#include "app/verify.h"
+#include "io/cleaning_io.h"
+#include "io/study_store.h"
 #include "app/detect.h"
 #include "app/score.h"
 #include "detectors/detector_registry.h"
@@ -168,6 +173,18 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   score->add_option("--rate", so.rate_hz, "Sampling rate in Hz (default: from the timestamps)");
   score->add_option("--json", so.json_out, "Also write the results as JSON to this file");
 
+  auto* clean = app.add_subcommand("clean", "Apply the protocol's [[cleaning]] rules to the detected events, with an audit");
+  clean->add_option("protocol", o.clean_protocol, "Protocol file with [[cleaning]] rules")->required()->check(CLI::ExistingFile);
+  clean->add_option("-s,--store", o.clean_store, "Study store (default: the one ingest writes for this protocol)");
+  clean->add_option("--reports", o.clean_reports, "Folder for audit.tsv, audit_totals.tsv and audit.json (default: beside the store)");
+
+  auto* audit = app.add_subcommand("audit", "Show what each cleaning rule removed, per condition");
+  audit->add_option("store", o.audit_store, "Study store (.gzm.h5)")->required();
+  audit->add_option("--by", o.audit_by, "Break the table down: participant")->check(CLI::IsMember({"participant"}));
+
+  auto* verify = app.add_subcommand("verify", "Re-run the stored protocol on the recorded inputs and compare every derived dataset");
+  verify->add_option("store", o.verify_store, "Study store (.gzm.h5)")->required();
+
   auto* inspect = app.add_subcommand("inspect", "Show the recordings, trials and data loss in a study store");
   inspect->add_option("store", o.inspect_store, "Study store (.gzm.h5)")->required();
 }
@@ -234,6 +251,32 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
   }
   if (app.got_subcommand("score")) {
     return run_score(o.score);
+  }
+  if (app.got_subcommand("clean")) {
+    const RunClock clock;
+    const Protocol protocol = parse_protocol_file(o.clean_protocol);
+    const std::string store = o.clean_store.empty() ? default_store_path(protocol, o.clean_protocol) : o.clean_store;
+    const std::string reports = o.clean_reports.empty() ? fs::path(store).parent_path().string() : o.clean_reports;
+    const AuditReport report = clean_study(protocol, store, reports.empty() ? "." : reports);
+    std::array<std::uint64_t, kAuditLevels> input{}, kept{};
+    for (const auto& [g, t] : report.totals) {
+      for (std::size_t l = 0; l < kAuditLevels; ++l) {
+        input[l] += t.input[l];
+        kept[l] += t.kept[l];
+      }
+    }
+    spdlog::info("{}: kept {}/{} fixations, {}/{} trials, {}/{} participants; audit in {}", store, kept[1], input[1], kept[2], input[2],
+                 kept[3], input[3], reports.empty() ? "." : reports);
+    spdlog::info("clean: {}", clock.summary());
+    return 0;
+  }
+  if (app.got_subcommand("audit")) {
+    StudyStoreReader store(o.audit_store);
+    print_audit(read_audit(store), o.audit_by == "participant", std::cout);
+    return 0;
+  }
+  if (app.got_subcommand("verify")) {
+    return verify_store(o.verify_store, std::cout) ? 0 : 1;
   }
   if (app.got_subcommand("inspect")) {
     print_store_overview(o.inspect_store, std::cout);

@@ -55,6 +55,15 @@ struct CommandOptions {
   std::string detect_store;
   // score
   ScoreOptions score;
+  // clean
+  std::string clean_protocol;
+  std::string clean_store;
+  std::string clean_reports;
+  // audit
+  std::string audit_store;
+  std::string audit_by;
+  // verify
+  std::string verify_store;
 };
 
 

@@ -114,7 +114,7 @@ std::string utc_now_iso8601() {
 }
 
 std::vector<std::string> resolve_input_files(const Protocol& p) {
-  const fs::path base = fs::path(p.path).parent_path();
+  const fs::path base = fs::absolute(fs::path(p.path)).parent_path();
   std::set<std::string> found;
   for (const auto& pattern : p.input.files) {
     const fs::path full = fs::path(pattern).is_absolute() ? fs::path(pattern) : base / pattern;

@@ -5,6 +5,8 @@
 
 #include "app/toml_section.h"
 #include "detectors/detector_registry.h"
+#include "filters/cleaning_rule.h"
+#include <set>
 #include "pipeline/input_error.h"
 #include "pipeline/named_regex.h"
 
@@ -211,6 +213,32 @@ void parse_detection(TomlSection& d, Protocol& p) {
   }
 }
 
+void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
+  std::set<std::string> names;
+  for (auto& b : blocks) {
+    CleaningRuleSpec spec;
+    spec.line = b.line();
+    spec.name = b.required_string("name");
+    spec.kind = b.required_string("kind");
+    if (!names.insert(spec.name).second) b.fail("name", "two cleaning rules are named \"" + spec.name + "\"; names must be unique");
+    for (const auto& [k, v] : b.raw()) {
+      const std::string key(k.str());
+      if (key == "name" || key == "kind") continue;
+      if (v.is_number()) spec.numbers[key] = *v.value<double>();
+      else if (v.is_string()) spec.texts[key] = *v.value<std::string>();
+      else b.fail(key, "rule '" + spec.name + "': a parameter is a number or a text");
+    }
+    b.keys();  // the rule checks its own parameters below
+    try {
+      make_cleaning_rule(spec);
+    } catch (const RuleParameterError& e) {
+      if (!e.key.empty() && b.has(e.key)) b.fail(e.key, e.what());
+      throw InputError({b.file(), spec.line, b.name_of(e.key.empty() ? "kind" : e.key)}, e.what());
+    }
+    p.cleaning.push_back(std::move(spec));
+  }
+}
+
 }  // namespace
 
 Protocol parse_protocol_text(const std::string& text, const std::string& path) {
@@ -239,6 +267,8 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   if (!trials) throw InputError({path, 0, "trials"}, "required section [trials] is missing (start and end message patterns)");
   parse_trials(*trials, p);
   if (auto detection = top.table("detection")) parse_detection(*detection, p);
+  auto cleaning = top.table_array("cleaning");
+  parse_cleaning(cleaning, p);
   top.finish();
   return p;
 }

@@ -93,6 +93,18 @@ std::optional<TomlSection> TomlSection::table(const std::string& key) {
   return TomlSection(*n->as_table(), name_of(key), file_);
 }
 
+std::vector<TomlSection> TomlSection::table_array(const std::string& key) {
+  const toml::node* n = node(key);
+  std::vector<TomlSection> out;
+  if (!n) return out;
+  const toml::array* a = n->as_array();
+  if (!a || !a->is_array_of_tables()) fail(key, "expected [[" + name_of(key) + "]] blocks (an array of tables)");
+  for (std::size_t i = 0; i < a->size(); ++i) {
+    out.emplace_back(*a->get(i)->as_table(), name_of(key) + "[" + std::to_string(i + 1) + "]", file_);
+  }
+  return out;
+}
+
 std::vector<std::string> TomlSection::keys() {
   std::vector<std::string> out;
   for (const auto& [k, v] : table_) {

@@ -25,6 +25,12 @@ class TomlSection {
   std::optional<bool> boolean(const std::string& key);
   std::optional<std::vector<std::string>> strings(const std::string& key);
   std::optional<TomlSection> table(const std::string& key);
+  /// An array of tables ([[key]] blocks), each named key[1], key[2], ...
+  std::vector<TomlSection> table_array(const std::string& key);
+  /// Every key with its node, marking them all as known (free-form maps).
+  const toml::table& raw() const { return table_; }
+  std::size_t line() const { return table_.source().begin.line; }
+  const std::string& file() const { return file_; }
   /// Every key of this table, marking them all as known (free-form maps).
   std::vector<std::string> keys();
 

@@ -165,6 +165,7 @@ std::unique_ptr<StudyStoreWriter> StudyStoreWriter::derive(const std::string& st
     H5::Group dst_root = w->impl_->file.openGroup("/");
     for (const auto& top : h5::child_names(src_root)) {
       if (top == "recordings") continue;
+      if (std::find(replaced.begin(), replaced.end(), "/" + top) != replaced.end()) continue;
       if (top == "provenance") {
         H5::Group from = src_root.openGroup(top);
         H5::Group to = h5::create_group(dst_root, top);
@@ -267,6 +268,19 @@ void StudyStoreWriter::write_events(const std::string& id, const DetectedEvents&
   h5::write_strings(bg, "eye", trial_column(bl, eye_of));
   h5::write_column(bg, "start_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.start_us; }), "us");
   h5::write_column(bg, "end_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.end_us; }), "us");
+}
+
+H5::Group StudyStoreWriter::group(const std::string& path) {
+  H5::Group g = impl_->file.openGroup("/");
+  std::size_t start = 0;
+  while (start < path.size()) {
+    const auto slash = path.find('/', start);
+    const std::string part = path.substr(start, slash == std::string::npos ? std::string::npos : slash - start);
+    if (!part.empty()) g = h5::open_or_create_group(g, part);
+    if (slash == std::string::npos) break;
+    start = slash + 1;
+  }
+  return g;
 }
 
 void StudyStoreWriter::write_stage_provenance(const std::string& stage, const StageProvenance& p) {
@@ -557,6 +571,15 @@ DetectedEvents StudyStoreReader::read_events(const std::string& id) const {
   }
   return ev;
 }
+
+bool StudyStoreReader::exists(const std::string& path) const {
+  h5::QuietErrors quiet;
+  return h5::exists(impl_->file.openGroup("/"), path);
+}
+
+H5::Group StudyStoreReader::group(const std::string& path) const { return impl_->group(path); }
+
+const std::string& StudyStoreReader::path() const { return impl_->path; }
 
 StageProvenance StudyStoreReader::stage_provenance(const std::string& stage) const {
   h5::QuietErrors quiet;

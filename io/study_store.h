@@ -29,6 +29,8 @@
 //                                                  created_utc, settings (JSON) of each derived stage
 // Every numeric dataset is chunked, shuffled and deflated, with a "unit" attribute.
 
+#include <H5Cpp.h>
+
 #include <memory>
 #include <string>
 #include <vector>
@@ -71,7 +73,8 @@ class StudyStoreWriter {
 
   /// A writer for a new version of an existing store: everything is copied
   /// (compressed chunks as they are) except each recording's `replaced`
-  /// children and /provenance/stages/`stage`; commit() replaces the store.
+  /// children, top-level groups named "/name" in `replaced`, and
+  /// /provenance/stages/`stage`; commit() replaces the store.
   static std::unique_ptr<StudyStoreWriter> derive(const std::string& store_path, const std::vector<std::string>& replaced,
                                                   const std::string& stage);
   /// Detection results of one recording (replacing nothing; use derive()).
@@ -79,6 +82,8 @@ class StudyStoreWriter {
                     const std::string& method, const std::string& parameters_json);
   /// Provenance of a derived stage.
   void write_stage_provenance(const std::string& stage, const StageProvenance& provenance);
+  /// A group of the new store by path from the root, created (with its parents) if needed.
+  H5::Group group(const std::string& path);
 
   const std::string& temporary_path() const { return temp_path_; }
 
@@ -109,6 +114,10 @@ class StudyStoreReader {
   std::vector<SampleLabel> read_sample_labels(const std::string& id) const;
   /// Provenance of a derived stage; throws InputError when the stage has not run.
   StageProvenance stage_provenance(const std::string& stage) const;
+  bool exists(const std::string& path) const;
+  /// A group by path from the root; throws InputError naming it when absent.
+  H5::Group group(const std::string& path) const;
+  const std::string& path() const;
 
  private:
   struct Impl;

@@ -102,6 +102,16 @@ struct DetectionSpec {
   double spike_deg = 1.0;                      // single-sample spikes larger than this are removed; 0 = off
 };
 
+/// One cleaning rule as written in the protocol: a name the lab chooses, a
+/// kind, and parameters with their units in their names.
+struct CleaningRuleSpec {
+  std::string name;
+  std::string kind;
+  std::map<std::string, double> numbers;
+  std::map<std::string, std::string> texts;
+  std::size_t line = 0;  // where the rule starts in the protocol file
+};
+
 struct Protocol {
   std::string path;        // where it was read from
   std::string text;        // the exact file text, stored in provenance
@@ -110,6 +120,7 @@ struct Protocol {
   std::optional<ScreenGeometry> screen;  // required for delimited input
   TrialSegmentationSpec trials;
   DetectionSpec detection;
+  std::vector<CleaningRuleSpec> cleaning;  // applied in this order
 };
 
 }  // namespace gazemill

@@ -1,0 +1,67 @@
+#include "app/verify.h"
+
+#include <filesystem>
+#include <random>
+
+#include "app/clean.h"
+#include "app/detect.h"
+#include "app/ingest.h"
+#include "app/protocol_parser.h"
+#include "io/sha256.h"
+#include "io/store_compare.h"
+#include "io/study_store.h"
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+namespace fs = std::filesystem;
+
+bool verify_store(const std::string& store_path, std::ostream& out) {
+  StudyStoreReader store(store_path);
+  const Provenance prov = store.provenance();
+  bool ok = true;
+  for (const auto& in : prov.inputs) {
+    if (!fs::exists(in.path)) {
+      out << "input missing: " << in.path << "\n";
+      ok = false;
+      continue;
+    }
+    const std::string digest = sha256_file(in.path);
+    if (digest != in.sha256 || fs::file_size(in.path) != in.size_bytes) {
+      out << "input changed: " << in.path << " (sha256 " << digest.substr(0, 16) << "… recorded " << in.sha256.substr(0, 16) << "…)\n";
+      ok = false;
+    }
+  }
+  if (ok) out << "inputs: " << prov.inputs.size() << " files match their recorded size and SHA-256\n";
+
+  std::random_device rd;
+  const fs::path tmp = fs::temp_directory_path() / ("gazemill-verify-" + std::to_string(rd()));
+  fs::create_directories(tmp);
+  struct Cleanup {
+    fs::path p;
+    ~Cleanup() {
+      std::error_code ec;
+      fs::remove_all(p, ec);
+    }
+  } cleanup{tmp};
+  const std::string again = (tmp / "again.gzm.h5").string();
+  try {
+    ingest_study(parse_protocol_text(prov.protocol_text, prov.protocol_path), again, {});
+    if (store.exists("provenance/stages/detect")) {
+      detect_study(parse_protocol_text(store.stage_provenance("detect").protocol_text, prov.protocol_path), again);
+    }
+    if (store.exists("provenance/stages/clean")) {
+      clean_study(parse_protocol_text(store.stage_provenance("clean").protocol_text, prov.protocol_path), again, tmp.string());
+    }
+  } catch (const InputError& e) {
+    out << "re-run failed: " << e.what() << "\n";
+    return false;
+  }
+  const auto diffs = compare_store_datasets(store_path, again);
+  for (const auto& d : diffs) out << "dataset differs (" << d.what << "): /" << d.path << "\n";
+  if (diffs.empty()) out << "datasets: every dataset matches a fresh run of the stored protocol\n";
+  ok = ok && diffs.empty();
+  out << (ok ? "verified\n" : "NOT verified\n");
+  return ok;
+}
+
+}  // namespace gazemill

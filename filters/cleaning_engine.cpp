@@ -1,0 +1,98 @@
+#include "filters/cleaning_engine.h"
+
+#include <algorithm>
+
+namespace gazemill {
+namespace {
+
+// Input or kept items per (participant, condition); participants under condition "".
+std::map<std::pair<std::string, std::string>, std::array<std::uint64_t, kAuditLevels>> count(const CleaningState& s, bool kept_only) {
+  std::map<std::pair<std::string, std::string>, std::array<std::uint64_t, kAuditLevels>> out;
+  for (const auto& p : s.participants) {
+    out[{p.participant, ""}][static_cast<std::size_t>(AuditLevel::participant)] += !kept_only || p.kept;
+    for (const auto& t : p.trials) {
+      auto& c = out[{p.participant, t.condition}];
+      const bool trial_kept = !kept_only || t.kept;
+      c[static_cast<std::size_t>(AuditLevel::trial)] += trial_kept;
+      c[static_cast<std::size_t>(AuditLevel::sample)] += trial_kept ? t.samples : 0;
+      for (const auto& f : t.fixations) c[static_cast<std::size_t>(AuditLevel::fixation)] += !kept_only || f.kept;
+    }
+  }
+  return out;
+}
+
+}  // namespace
+
+CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<CleaningRuleSpec>& specs) {
+  std::vector<std::unique_ptr<CleaningRule>> rules;
+  CleaningOutcome out;
+  std::vector<std::string> names;
+  for (const auto& s : specs) {
+    rules.push_back(make_cleaning_rule(s));
+    names.push_back(s.name);
+    out.report.rules.push_back(s.name);
+    out.report.rule_kinds.push_back(s.kind);
+    out.report.rule_levels.push_back(rules.back()->level());
+  }
+
+  // Sequential: the rules in order on one state; the first to remove an item has it.
+  out.state = input;
+  AuditLedger ledger(names);
+  AuditChannel channel;
+  std::map<std::uint32_t, std::pair<std::size_t, std::string>>* fix_log = &out.fixation_removals;
+  std::map<std::uint32_t, std::pair<std::size_t, std::string>>* trial_log = &out.trial_removals;
+  {
+    auto connection = ledger.subscribe(channel);
+    auto log = channel.notice.connect([&](const AuditNotice& n) {
+      if (n.level == AuditLevel::fixation) {
+        for (auto id : n.ids) fix_log->emplace(id, std::make_pair(n.rule, n.reason));
+      } else if (n.level == AuditLevel::trial) {
+        for (auto id : n.ids) trial_log->emplace(id, std::make_pair(n.rule, n.reason));
+      }
+    });
+    for (std::size_t r = 0; r < rules.size(); ++r) rules[r]->apply(out.state, r, channel);
+    log.disconnect();
+  }
+  out.report.sequential = ledger.counts();
+
+  // Alone: each rule on its own copy of the input.
+  std::vector<AuditLedger> alone;
+  for (std::size_t r = 0; r < rules.size(); ++r) {
+    CleaningState copy = input;
+    alone.emplace_back(names);
+    AuditChannel ch;
+    auto connection = alone.back().subscribe(ch);
+    rules[r]->apply(copy, r, ch);
+    for (const auto& [key, c] : alone.back().counts()) out.report.alone[key] = c;
+  }
+  for (std::size_t level = 1; level < kAuditLevels; ++level) {  // samples are counted, not identified
+    auto& m = out.report.overlap[level];
+    m.assign(rules.size(), std::vector<std::uint64_t>(rules.size(), 0));
+    for (std::size_t a = 0; a < rules.size(); ++a) {
+      const auto& ia = alone[a].ids(a, static_cast<AuditLevel>(level));
+      for (std::size_t b = 0; b < rules.size(); ++b) {
+        const auto& ib = alone[b].ids(b, static_cast<AuditLevel>(level));
+        std::uint64_t both = 0;
+        for (auto id : ia) both += ib.count(id);
+        m[a][b] = both;
+      }
+    }
+  }
+  out.report.overlap[0].assign(rules.size(), std::vector<std::uint64_t>(rules.size(), 0));
+
+  // Every rule x participant x condition row exists, zero when nothing happened.
+  const auto in = count(input, false), kept = count(out.state, true);
+  for (const auto& [group, c] : in) {
+    AuditTotals& t = out.report.totals[group];
+    t.input = c;
+    t.kept = kept.at(group);
+    for (std::size_t r = 0; r < rules.size(); ++r) {
+      out.report.sequential[{r, group.first, group.second}];
+      out.report.alone[{r, group.first, group.second}];
+    }
+  }
+  out.report.check_conservation();
+  return out;
+}
+
+}  // namespace gazemill

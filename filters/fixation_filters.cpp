@@ -1,0 +1,57 @@
+#include "filters/fixation_filters.h"
+
+#include <fmt/format.h>
+
+namespace gazemill {
+namespace {
+
+template <typename F>
+void for_each_kept_fixation(CleaningState& state, F&& f) {
+  for (auto& p : state.participants) {
+    for (auto& t : p.trials) {
+      if (!t.kept) continue;
+      for (auto& x : t.fixations) {
+        if (x.kept) f(t, x);
+      }
+    }
+  }
+}
+
+}  // namespace
+
+void DeleteShortFixations::apply(CleaningState& state, std::size_t rule, AuditChannel& channel) const {
+  for_each_kept_fixation(state, [&](CleanTrial& t, CleanFixation& f) {
+    if (f.duration_ms < min_ms_) remove_fixation(t, f, rule, fmt::format("{:.0f} ms < {:g} ms", f.duration_ms, min_ms_), channel);
+  });
+}
+
+void DeleteLongFixations::apply(CleaningState& state, std::size_t rule, AuditChannel& channel) const {
+  for_each_kept_fixation(state, [&](CleanTrial& t, CleanFixation& f) {
+    if (f.duration_ms > max_ms_) remove_fixation(t, f, rule, fmt::format("{:.0f} ms > {:g} ms", f.duration_ms, max_ms_), channel);
+  });
+}
+
+void DeleteFixationsNearBlinks::apply(CleaningState& state, std::size_t rule, AuditChannel& channel) const {
+  const auto within = static_cast<Microseconds>(within_ms_ * 1000.0);
+  for_each_kept_fixation(state, [&](CleanTrial& t, CleanFixation& f) {
+    for (const auto& b : t.blinks) {
+      if (f.fixation.end_us > b.start_us - within && f.fixation.start_us < b.end_us + within) {
+        remove_fixation(t, f, rule, fmt::format("within {:g} ms of a blink", within_ms_), channel);
+        return;
+      }
+    }
+  });
+}
+
+void DeleteFixationsOutside::apply(CleaningState& state, std::size_t rule, AuditChannel& channel) const {
+  AreaBox box = box_;
+  if (whole_screen_) box = {0, 0, static_cast<double>(state.screen.width_px), static_cast<double>(state.screen.height_px)};
+  for_each_kept_fixation(state, [&](CleanTrial& t, CleanFixation& f) {
+    const double x = f.fixation.x_px, y = f.fixation.y_px;
+    if (x < box.left_px - margin_px_ || x > box.right_px + margin_px_ || y < box.top_px - margin_px_ || y > box.bottom_px + margin_px_) {
+      remove_fixation(t, f, rule, whole_screen_ ? "outside the screen" : "outside the area", channel);
+    }
+  });
+}
+
+}  // namespace gazemill

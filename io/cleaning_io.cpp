@@ -1,0 +1,375 @@
+#include "io/cleaning_io.h"
+
+#include <unistd.h>
+
+#include <cstdio>
+#include <filesystem>
+#include <fmt/format.h>
+#include <fstream>
+#include <map>
+#include <nlohmann/json.hpp>
+
+#include "io/hdf5_util.h"
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+namespace {
+
+AuditLevel level_named(const std::string& s) {
+  for (std::size_t l = 0; l < kAuditLevels; ++l) {
+    if (s == to_string(static_cast<AuditLevel>(l))) return static_cast<AuditLevel>(l);
+  }
+  throw std::invalid_argument("unknown audit level " + s);
+}
+
+// The levels a rule of `level` can remove at: its own and everything below it.
+std::vector<AuditLevel> levels_reached(AuditLevel level) {
+  std::vector<AuditLevel> out;
+  for (std::size_t l = 0; l <= static_cast<std::size_t>(level); ++l) {
+    if (level == AuditLevel::fixation && l == 0) continue;  // fixation rules remove no samples
+    out.push_back(static_cast<AuditLevel>(l));
+  }
+  return out;
+}
+
+}  // namespace
+
+std::vector<AuditRow> audit_rows(const AuditReport& r) {
+  std::vector<AuditRow> rows;
+  for (std::size_t rule = 0; rule < r.rules.size(); ++rule) {
+    for (AuditLevel level : levels_reached(r.rule_levels[rule])) {
+      for (const auto& [group, totals] : r.totals) {
+        const bool participant_row = group.second.empty();
+        if (participant_row != (level == AuditLevel::participant)) continue;
+        AuditRow row;
+        row.order = rule + 1;
+        row.rule = r.rules[rule];
+        row.kind = r.rule_kinds[rule];
+        row.level = level;
+        row.participant = group.first;
+        row.condition = group.second;
+        const auto s = r.sequential.find({rule, group.first, group.second});
+        const auto a = r.alone.find({rule, group.first, group.second});
+        const std::size_t l = static_cast<std::size_t>(level);
+        if (s != r.sequential.end()) {
+          row.removed_sequential = s->second.removed[l];
+          if (level == AuditLevel::fixation) {
+            row.merged_sequential = s->second.merged;
+            row.removed_sequential += s->second.merged;
+          }
+        }
+        if (a != r.alone.end()) {
+          row.removed_alone = a->second.removed[l];
+          if (level == AuditLevel::fixation) {
+            row.merged_alone = a->second.merged;
+            row.removed_alone += a->second.merged;
+          }
+        }
+        rows.push_back(row);
+      }
+    }
+  }
+  return rows;
+}
+
+void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& out) {
+  std::map<std::string, std::vector<const CleanTrial*>> by_recording;
+  for (const auto& p : out.state.participants) {
+    for (const auto& t : p.trials) by_recording[t.recording].push_back(&t);
+  }
+  for (const auto& [rec, trials] : by_recording) {
+    H5::Group g = store.group("recordings/" + rec + "/clean");
+    std::vector<std::uint32_t> in_id, rm_id;
+    std::vector<std::string> in_trial, rm_trial, rm_rule, rm_reason, t_trial, t_rule, t_reason;
+    std::vector<std::int64_t> in_start, in_end, rm_start, rm_end, rm_into;
+    std::vector<double> in_dur, in_x, in_y, in_xd, in_yd, rm_dur;
+    std::vector<std::uint32_t> in_merged;
+    std::vector<std::uint8_t> t_kept;
+    for (const CleanTrial* t : trials) {
+      for (const auto& f : t->fixations) {
+        if (f.kept) {
+          in_id.push_back(f.id);
+          in_trial.push_back(t->trial);
+          in_start.push_back(f.fixation.start_us);
+          in_end.push_back(f.fixation.end_us);
+          in_dur.push_back(f.duration_ms);
+          in_x.push_back(f.fixation.x_px);
+          in_y.push_back(f.fixation.y_px);
+          in_xd.push_back(f.fixation.x_deg);
+          in_yd.push_back(f.fixation.y_deg);
+          in_merged.push_back(f.merged_count);
+        } else {
+          const auto& why = out.fixation_removals.at(f.id);
+          rm_id.push_back(f.id);
+          rm_trial.push_back(t->trial);
+          rm_start.push_back(f.fixation.start_us);
+          rm_end.push_back(f.fixation.end_us);
+          rm_dur.push_back(f.duration_ms);
+          rm_rule.push_back(out.report.rules[why.first]);
+          rm_reason.push_back(why.second);
+          rm_into.push_back(f.merged_away ? static_cast<std::int64_t>(f.merged_into) : -1);
+        }
+      }
+      t_trial.push_back(t->trial);
+      t_kept.push_back(t->kept);
+      if (t->kept) {
+        t_rule.emplace_back();
+        t_reason.emplace_back();
+      } else {
+        const auto& why = out.trial_removals.at(t->id);
+        t_rule.push_back(out.report.rules[why.first]);
+        t_reason.push_back(why.second);
+      }
+    }
+    H5::Group f = h5::create_group(g, "fixations");
+    h5::write_column(f, "input_id", in_id);
+    h5::write_strings(f, "trial", in_trial);
+    h5::write_column(f, "start_us", in_start, "us");
+    h5::write_column(f, "end_us", in_end, "us");
+    h5::write_column(f, "duration_ms", in_dur, "ms");
+    h5::write_column(f, "x_px", in_x, "px");
+    h5::write_column(f, "y_px", in_y, "px");
+    h5::write_column(f, "x_deg", in_xd, "deg");
+    h5::write_column(f, "y_deg", in_yd, "deg");
+    h5::write_column(f, "merged_count", in_merged);
+    H5::Group r = h5::create_group(g, "removed_fixations");
+    h5::write_column(r, "input_id", rm_id);
+    h5::write_strings(r, "trial", rm_trial);
+    h5::write_column(r, "start_us", rm_start, "us");
+    h5::write_column(r, "end_us", rm_end, "us");
+    h5::write_column(r, "duration_ms", rm_dur, "ms");
+    h5::write_strings(r, "rule", rm_rule);
+    h5::write_strings(r, "reason", rm_reason);
+    h5::write_column(r, "merged_into", rm_into);
+    H5::Group tr = h5::create_group(g, "trials");
+    h5::write_strings(tr, "trial", t_trial);
+    h5::write_column(tr, "kept", t_kept);
+    h5::write_strings(tr, "rule", t_rule);
+    h5::write_strings(tr, "reason", t_reason);
+  }
+}
+
+void write_audit(StudyStoreWriter& store, const AuditReport& r) {
+  H5::Group a = store.group("audit");
+  H5::Group rules = h5::create_group(a, "rules");
+  std::vector<std::uint32_t> order;
+  std::vector<std::string> levels;
+  for (std::size_t i = 0; i < r.rules.size(); ++i) {
+    order.push_back(static_cast<std::uint32_t>(i + 1));
+    levels.emplace_back(to_string(r.rule_levels[i]));
+  }
+  h5::write_column(rules, "order", order);
+  h5::write_strings(rules, "name", r.rules);
+  h5::write_strings(rules, "kind", r.rule_kinds);
+  h5::write_strings(rules, "level", levels);
+
+  H5::Group counts = h5::create_group(a, "counts");
+  std::vector<std::uint32_t> c_rule;
+  std::vector<std::string> c_level, c_part, c_cond;
+  std::vector<std::uint64_t> c_seq, c_alone, c_mseq, c_malone;
+  for (const auto& row : audit_rows(r)) {
+    c_rule.push_back(static_cast<std::uint32_t>(row.order));
+    c_level.emplace_back(to_string(row.level));
+    c_part.push_back(row.participant);
+    c_cond.push_back(row.condition);
+    c_seq.push_back(row.removed_sequential);
+    c_alone.push_back(row.removed_alone);
+    c_mseq.push_back(row.merged_sequential);
+    c_malone.push_back(row.merged_alone);
+  }
+  h5::write_column(counts, "rule", c_rule);
+  h5::write_strings(counts, "level", c_level);
+  h5::write_strings(counts, "participant", c_part);
+  h5::write_strings(counts, "condition", c_cond);
+  h5::write_column(counts, "removed_sequential", c_seq);
+  h5::write_column(counts, "removed_alone", c_alone);
+  h5::write_column(counts, "merged_sequential", c_mseq);
+  h5::write_column(counts, "merged_alone", c_malone);
+
+  H5::Group totals = h5::create_group(a, "totals");
+  std::vector<std::string> t_part, t_cond, t_level;
+  std::vector<std::uint64_t> t_in, t_kept;
+  for (const auto& [group, t] : r.totals) {
+    for (std::size_t l = 0; l < kAuditLevels; ++l) {
+      if (group.second.empty() != (l == static_cast<std::size_t>(AuditLevel::participant))) continue;
+      t_part.push_back(group.first);
+      t_cond.push_back(group.second);
+      t_level.emplace_back(to_string(static_cast<AuditLevel>(l)));
+      t_in.push_back(t.input[l]);
+      t_kept.push_back(t.kept[l]);
+    }
+  }
+  h5::write_strings(totals, "participant", t_part);
+  h5::write_strings(totals, "condition", t_cond);
+  h5::write_strings(totals, "level", t_level);
+  h5::write_column(totals, "input", t_in);
+  h5::write_column(totals, "kept", t_kept);
+
+  H5::Group overlap = h5::create_group(a, "overlap");
+  std::vector<std::string> o_level;
+  std::vector<std::uint32_t> o_a, o_b;
+  std::vector<std::uint64_t> o_both;
+  for (std::size_t l = 1; l < kAuditLevels; ++l) {
+    for (std::size_t i = 0; i < r.overlap[l].size(); ++i) {
+      for (std::size_t j = 0; j < r.overlap[l][i].size(); ++j) {
+        o_level.emplace_back(to_string(static_cast<AuditLevel>(l)));
+        o_a.push_back(static_cast<std::uint32_t>(i + 1));
+        o_b.push_back(static_cast<std::uint32_t>(j + 1));
+        o_both.push_back(r.overlap[l][i][j]);
+      }
+    }
+  }
+  h5::write_strings(overlap, "level", o_level);
+  h5::write_column(overlap, "rule_a", o_a);
+  h5::write_column(overlap, "rule_b", o_b);
+  h5::write_column(overlap, "both", o_both);
+}
+
+AuditReport read_audit(const StudyStoreReader& store) {
+  if (!store.exists("audit")) throw InputError({store.path(), 0, "/audit"}, "the store has no audit yet; run gazemill clean first");
+  h5::QuietErrors quiet;
+  AuditReport r;
+  try {
+    H5::Group a = store.group("audit");
+    H5::Group rules = a.openGroup("rules");
+    r.rules = h5::read_strings(rules, "name");
+    r.rule_kinds = h5::read_strings(rules, "kind");
+    for (const auto& l : h5::read_strings(rules, "level")) r.rule_levels.push_back(level_named(l));
+    H5::Group counts = a.openGroup("counts");
+    const auto rule = h5::read_column<std::uint32_t>(counts, "rule");
+    const auto level = h5::read_strings(counts, "level");
+    const auto part = h5::read_strings(counts, "participant"), cond = h5::read_strings(counts, "condition");
+    const auto seq = h5::read_column<std::uint64_t>(counts, "removed_sequential");
+    const auto alone = h5::read_column<std::uint64_t>(counts, "removed_alone");
+    const auto mseq = h5::read_column<std::uint64_t>(counts, "merged_sequential");
+    const auto malone = h5::read_column<std::uint64_t>(counts, "merged_alone");
+    for (std::size_t i = 0; i < rule.size(); ++i) {
+      const std::size_t l = static_cast<std::size_t>(level_named(level[i]));
+      AuditKey key{rule[i] - 1u, part[i], cond[i]};
+      auto& s = r.sequential[key];
+      auto& al = r.alone[key];
+      s.removed[l] = seq[i] - mseq[i];
+      al.removed[l] = alone[i] - malone[i];
+      if (l == static_cast<std::size_t>(AuditLevel::fixation)) {
+        s.merged = mseq[i];
+        al.merged = malone[i];
+      }
+    }
+    H5::Group totals = a.openGroup("totals");
+    const auto tp = h5::read_strings(totals, "participant"), tc = h5::read_strings(totals, "condition");
+    const auto tl = h5::read_strings(totals, "level");
+    const auto ti = h5::read_column<std::uint64_t>(totals, "input"), tk = h5::read_column<std::uint64_t>(totals, "kept");
+    for (std::size_t i = 0; i < tp.size(); ++i) {
+      auto& t = r.totals[{tp[i], tc[i]}];
+      const std::size_t l = static_cast<std::size_t>(level_named(tl[i]));
+      t.input[l] = ti[i];
+      t.kept[l] = tk[i];
+    }
+    H5::Group overlap = a.openGroup("overlap");
+    const auto ol = h5::read_strings(overlap, "level");
+    const auto oa = h5::read_column<std::uint32_t>(overlap, "rule_a"), ob = h5::read_column<std::uint32_t>(overlap, "rule_b");
+    const auto both = h5::read_column<std::uint64_t>(overlap, "both");
+    for (auto& m : r.overlap) m.assign(r.rules.size(), std::vector<std::uint64_t>(r.rules.size(), 0));
+    for (std::size_t i = 0; i < ol.size(); ++i) r.overlap[static_cast<std::size_t>(level_named(ol[i]))][oa[i] - 1][ob[i] - 1] = both[i];
+  } catch (const H5::Exception& e) {
+    throw InputError({store.path(), 0, "/audit"}, "damaged or incomplete audit: " + e.getDetailMsg());
+  }
+  return r;
+}
+
+std::vector<FixationEvent> read_clean_fixations(const StudyStoreReader& store, const std::string& rec) {
+  const std::string base = "recordings/" + rec + "/clean/fixations";
+  if (!store.exists(base)) throw InputError({store.path(), 0, base}, "no cleaned fixations; run gazemill clean first");
+  h5::QuietErrors quiet;
+  H5::Group f = store.group(base);
+  const auto trial = h5::read_strings(f, "trial");
+  const auto start = h5::read_column<std::int64_t>(f, "start_us"), end = h5::read_column<std::int64_t>(f, "end_us");
+  const auto x = h5::read_column<double>(f, "x_px"), y = h5::read_column<double>(f, "y_px");
+  const auto xd = h5::read_column<double>(f, "x_deg"), yd = h5::read_column<double>(f, "y_deg");
+  std::vector<FixationEvent> out;
+  for (std::size_t i = 0; i < trial.size(); ++i) {
+    FixationEvent e;
+    e.trial = trial[i];
+    e.start_us = start[i];
+    e.end_us = end[i];
+    e.x_px = e.x_median_px = x[i];
+    e.y_px = e.y_median_px = y[i];
+    e.x_deg = xd[i];
+    e.y_deg = yd[i];
+    out.push_back(e);
+  }
+  return out;
+}
+
+void write_file_atomically(const std::string& path, const std::string& text) {
+  const std::filesystem::path p(path);
+  const std::string tmp = (p.parent_path() / ("." + p.filename().string() + ".partial-" + std::to_string(::getpid()))).string();
+  {
+    std::ofstream out(tmp, std::ios::binary);
+    out << text;
+    out.flush();
+    if (!out) {
+      std::remove(tmp.c_str());
+      throw InputError({path, 0, ""}, "cannot write");
+    }
+  }
+  std::error_code ec;
+  std::filesystem::rename(tmp, path, ec);
+  if (ec) {
+    std::remove(tmp.c_str());
+    throw InputError({path, 0, ""}, "cannot move into place: " + ec.message());
+  }
+}
+
+void write_audit_tsv(const AuditReport& r, const std::string& counts_path, const std::string& totals_path) {
+  std::string c = "order\trule\tkind\tlevel\tparticipant\tcondition\tremoved_sequential\tremoved_alone\tmerged_sequential\tmerged_alone\n";
+  for (const auto& row : audit_rows(r)) {
+    c += fmt::format("{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\n", row.order, row.rule, row.kind, to_string(row.level), row.participant,
+                     row.condition.empty() ? "NA" : row.condition, row.removed_sequential, row.removed_alone, row.merged_sequential,
+                     row.merged_alone);
+  }
+  std::string t = "participant\tcondition\tlevel\tinput\tkept\tremoved\n";
+  for (const auto& [group, tot] : r.totals) {
+    for (std::size_t l = 0; l < kAuditLevels; ++l) {
+      if (group.second.empty() != (l == static_cast<std::size_t>(AuditLevel::participant))) continue;
+      t += fmt::format("{}\t{}\t{}\t{}\t{}\t{}\n", group.first, group.second.empty() ? "NA" : group.second,
+                       to_string(static_cast<AuditLevel>(l)), tot.input[l], tot.kept[l], tot.input[l] - tot.kept[l]);
+    }
+  }
+  write_file_atomically(counts_path, c);
+  write_file_atomically(totals_path, t);
+}
+
+void write_audit_json(const AuditReport& r, const std::string& path) {
+  nlohmann::json j;
+  for (std::size_t i = 0; i < r.rules.size(); ++i) {
+    j["rules"].push_back({{"order", i + 1}, {"name", r.rules[i]}, {"kind", r.rule_kinds[i]}, {"level", to_string(r.rule_levels[i])}});
+  }
+  j["counts"] = nlohmann::json::array();
+  for (const auto& row : audit_rows(r)) {
+    j["counts"].push_back({{"order", row.order},
+                           {"rule", row.rule},
+                           {"level", to_string(row.level)},
+                           {"participant", row.participant},
+                           {"condition", row.condition.empty() ? nlohmann::json(nullptr) : nlohmann::json(row.condition)},
+                           {"removed_sequential", row.removed_sequential},
+                           {"removed_alone", row.removed_alone},
+                           {"merged_sequential", row.merged_sequential},
+                           {"merged_alone", row.merged_alone}});
+  }
+  j["totals"] = nlohmann::json::array();
+  for (const auto& [group, tot] : r.totals) {
+    for (std::size_t l = 0; l < kAuditLevels; ++l) {
+      if (group.second.empty() != (l == static_cast<std::size_t>(AuditLevel::participant))) continue;
+      j["totals"].push_back({{"participant", group.first},
+                             {"condition", group.second.empty() ? nlohmann::json(nullptr) : nlohmann::json(group.second)},
+                             {"level", to_string(static_cast<AuditLevel>(l))},
+                             {"input", tot.input[l]},
+                             {"kept", tot.kept[l]}});
+    }
+  }
+  for (std::size_t l = 1; l < kAuditLevels; ++l) j["overlap_alone"][to_string(static_cast<AuditLevel>(l))] = r.overlap[l];
+  write_file_atomically(path, j.dump(2) + "\n");
+}
+
+}  // namespace gazemill

@@ -1,0 +1,52 @@
+#pragma once
+// Cleaning results and the audit ledger in files: the HDF5 store, tidy TSV and
+// JSON. Counting lives in pipeline/audit; this file only turns it into rows.
+//
+// Store layout added by clean:
+//   /recordings/<id>/clean/fixations/{input_id,trial,start_us,end_us,duration_ms,x_px,y_px,x_deg,y_deg,merged_count}
+//   /recordings/<id>/clean/removed_fixations/{input_id,trial,start_us,end_us,duration_ms,rule,reason,merged_into}
+//                                            (merged_into = -1 when deleted rather than merged)
+//   /recordings/<id>/clean/trials/{trial,kept,rule,reason}   (rule "" for kept trials)
+//   /audit/rules/{order,name,kind,level}
+//   /audit/counts/{rule,level,participant,condition,removed_sequential,removed_alone}
+//   /audit/totals/{participant,condition,level,input,kept}
+//   /audit/overlap/{level,rule_a,rule_b,both}
+// Participants appear under condition "" in totals and in participant-level counts.
+
+#include <string>
+#include <vector>
+
+#include "io/study_store.h"
+#include "pipeline/cleaning_state.h"
+
+namespace gazemill {
+
+/// One tidy row of the audit: a rule at one level for one participant and
+/// condition. Merged fixations count as removed at the fixation level;
+/// `merged_*` says how many of them were merges.
+struct AuditRow {
+  std::size_t order = 0;
+  std::string rule, kind;
+  AuditLevel level = AuditLevel::fixation;
+  std::string participant, condition;
+  std::uint64_t removed_sequential = 0, removed_alone = 0;
+  std::uint64_t merged_sequential = 0, merged_alone = 0;
+};
+
+/// Every rule x level x participant x condition, zero rows included.
+std::vector<AuditRow> audit_rows(const AuditReport& report);
+
+void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& outcome);
+void write_audit(StudyStoreWriter& store, const AuditReport& report);
+AuditReport read_audit(const StudyStoreReader& store);
+/// Kept fixations of a recording after cleaning.
+std::vector<FixationEvent> read_clean_fixations(const StudyStoreReader& store, const std::string& recording);
+
+/// audit.tsv (the rows) and audit_totals.tsv, written to temporary files and renamed.
+void write_audit_tsv(const AuditReport& report, const std::string& counts_path, const std::string& totals_path);
+void write_audit_json(const AuditReport& report, const std::string& path);
+
+/// Writes `text` to path via a temporary file in the same folder and a rename.
+void write_file_atomically(const std::string& path, const std::string& text);
+
+}  // namespace gazemill

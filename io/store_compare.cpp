@@ -1,0 +1,89 @@
+#include "io/store_compare.h"
+
+#include <H5Cpp.h>
+
+#include <map>
+#include <set>
+
+#include "io/hdf5_util.h"
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+namespace {
+
+herr_t collect(hid_t, const char* name, const H5O_info_t* info, void* out) {
+  if (info->type == H5O_TYPE_DATASET) static_cast<std::set<std::string>*>(out)->insert(name);
+  return 0;
+}
+
+std::set<std::string> dataset_paths(const H5::H5File& f) {
+  std::set<std::string> out;
+  H5Ovisit(f.getId(), H5_INDEX_NAME, H5_ITER_INC, collect, &out);
+  return out;
+}
+
+// The dataset's values as bytes; variable-length strings as their text.
+std::string content(const H5::DataSet& ds) {
+  const H5::DataType type = ds.getDataType();
+  H5::DataSpace space = ds.getSpace();
+  const hssize_t n = space.getSimpleExtentNpoints();
+  if (type.getClass() == H5T_STRING && H5Tis_variable_str(type.getId()) > 0) {
+    std::vector<char*> ptrs(static_cast<std::size_t>(n), nullptr);
+    H5::StrType st(H5::PredType::C_S1, H5T_VARIABLE);
+    st.setCset(H5T_CSET_UTF8);
+    if (n > 0) ds.read(ptrs.data(), st);
+    std::string out;
+    for (char* p : ptrs) {
+      out += p ? p : "";
+      out.push_back('\0');
+    }
+    if (n > 0) H5Dvlen_reclaim(st.getId(), space.getId(), H5P_DEFAULT, ptrs.data());
+    return out;
+  }
+  const hid_t mem = H5Tget_native_type(type.getId(), H5T_DIR_DEFAULT);
+  std::string out(static_cast<std::size_t>(n) * H5Tget_size(mem), '\0');
+  if (n > 0) H5Dread(ds.getId(), mem, H5S_ALL, H5S_ALL, H5P_DEFAULT, out.data());
+  H5Tclose(mem);
+  return out;
+}
+
+}  // namespace
+
+std::vector<DatasetDifference> compare_store_datasets(const std::string& expected, const std::string& actual) {
+  h5::QuietErrors quiet;
+  H5::H5File a, b;
+  try {
+    a = H5::H5File(expected, H5F_ACC_RDONLY);
+  } catch (const H5::Exception&) {
+    throw InputError({expected, 0, ""}, "cannot open as HDF5");
+  }
+  try {
+    b = H5::H5File(actual, H5F_ACC_RDONLY);
+  } catch (const H5::Exception&) {
+    throw InputError({actual, 0, ""}, "cannot open as HDF5");
+  }
+  const auto pa = dataset_paths(a), pb = dataset_paths(b);
+  std::vector<DatasetDifference> diffs;
+  for (const auto& p : pa) {
+    if (!pb.count(p)) {
+      diffs.push_back({p, "missing"});
+      continue;
+    }
+    const H5::DataSet da = a.openDataSet(p), db = b.openDataSet(p);
+    if (!(da.getDataType() == db.getDataType())) {
+      diffs.push_back({p, "type"});
+      continue;
+    }
+    if (da.getSpace().getSimpleExtentNpoints() != db.getSpace().getSimpleExtentNpoints()) {
+      diffs.push_back({p, "shape"});
+      continue;
+    }
+    if (content(da) != content(db)) diffs.push_back({p, "values"});
+  }
+  for (const auto& p : pb) {
+    if (!pa.count(p)) diffs.push_back({p, "extra"});
+  }
+  return diffs;
+}
+
+}  // namespace gazemill

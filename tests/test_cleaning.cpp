@@ -1,0 +1,312 @@
+// Cleaning rules on hand-built fixation lists, each effect worked out by hand
+// and written beside the check; the audit's attribution and its conservation.
+
+#include <gtest/gtest.h>
+
+#include <random>
+
+#include "filters/cleaning_engine.h"
+#include "pipeline/input_error.h"
+
+using namespace gazemill;
+
+namespace {
+
+// A fixation: start and duration in ms, horizontal position in deg (1 deg = 40 px here).
+struct F {
+  double start_ms, duration_ms, x_deg;
+};
+
+CleanTrial trial_of(const std::vector<F>& fixations, std::uint32_t& next_id, const std::string& condition = "rare") {
+  CleanTrial t;
+  t.participant = "p1";
+  t.recording = "p1_1";
+  t.trial = "1";
+  t.condition = condition;
+  t.start_us = 0;
+  t.end_us = 5'000'000;
+  t.samples = 5000;
+  for (const auto& f : fixations) {
+    CleanFixation c;
+    c.id = next_id++;
+    c.fixation.start_us = static_cast<Microseconds>(f.start_ms * 1000);
+    c.fixation.end_us = static_cast<Microseconds>((f.start_ms + f.duration_ms) * 1000);
+    c.fixation.x_deg = f.x_deg;
+    c.fixation.x_px = 960 + 40 * f.x_deg;
+    c.fixation.y_px = 540;
+    c.duration_ms = f.duration_ms;
+    t.fixations.push_back(c);
+  }
+  return t;
+}
+
+CleaningState state_of(std::vector<CleanTrial> trials) {
+  CleaningState s;
+  s.screen = {1920, 1080, 531, 299, 700};
+  CleanParticipant p;
+  p.participant = "p1";
+  std::uint32_t tid = 0;
+  for (auto& t : trials) t.id = tid++;
+  p.trials = std::move(trials);
+  s.participants.push_back(std::move(p));
+  return s;
+}
+
+CleaningRuleSpec rule(const std::string& name, const std::string& kind, std::map<std::string, double> numbers,
+                      std::map<std::string, std::string> texts = {}) {
+  return {name, kind, std::move(numbers), std::move(texts), 0};
+}
+
+std::vector<double> kept_durations(const CleaningOutcome& o) {
+  std::vector<double> d;
+  for (const auto& t : o.state.participants[0].trials) {
+    for (const auto& f : t.fixations) {
+      if (f.kept) d.push_back(f.duration_ms);
+    }
+  }
+  return d;
+}
+
+std::uint64_t seq(const CleaningOutcome& o, std::size_t r, AuditLevel l, const std::string& cond = "rare") {
+  auto it = o.report.sequential.find({r, "p1", l == AuditLevel::participant ? "" : cond});
+  if (it == o.report.sequential.end()) return 0;
+  return it->second.removed[static_cast<std::size_t>(l)] + (l == AuditLevel::fixation ? it->second.merged : 0);
+}
+
+std::uint64_t alone(const CleaningOutcome& o, std::size_t r, AuditLevel l, const std::string& cond = "rare") {
+  auto it = o.report.alone.find({r, "p1", l == AuditLevel::participant ? "" : cond});
+  if (it == o.report.alone.end()) return 0;
+  return it->second.removed[static_cast<std::size_t>(l)] + (l == AuditLevel::fixation ? it->second.merged : 0);
+}
+
+}  // namespace
+
+// Eskenazi (2023, Behavior Research Methods), stage 1: a fixation under 80 ms
+// is merged with a longer one within 0.5 deg. methods.md section 7's case:
+// A 60 ms at 10.0 deg, B 200 ms at 10.4 deg, C 300 ms at 12 deg -> A joins B:
+// 260 ms (durations summed), at B's position; C is 2 deg away and stays.
+TEST(MergeShortFixations, StageOneFromThePublishedPractice) {
+  std::uint32_t id = 0;
+  const auto input = state_of({trial_of({{0, 60, 10.0}, {90, 200, 10.4}, {320, 300, 12.0}}, id)});
+  const auto o = run_cleaning(input, {rule("stage 1", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}})});
+  EXPECT_EQ(kept_durations(o), (std::vector<double>{260, 300}));
+  const auto& b = o.state.participants[0].trials[0].fixations[1];
+  EXPECT_DOUBLE_EQ(b.fixation.x_deg, 10.4);
+  EXPECT_EQ(b.merged_count, 2u);
+  EXPECT_EQ(b.fixation.start_us, 0);  // the merged fixation spans both
+  EXPECT_EQ(b.fixation.end_us, 290000);
+  EXPECT_TRUE(o.state.participants[0].trials[0].fixations[0].merged_away);
+  EXPECT_EQ(o.state.participants[0].trials[0].fixations[0].merged_into, b.id);
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 1u);
+}
+
+// The choices the paper leaves open, each worked by hand.
+TEST(MergeShortFixations, PositionDurationAndNeighbourChoices) {
+  std::uint32_t id = 0;
+  const auto input = state_of({trial_of({{0, 60, 10.0}, {90, 200, 10.4}}, id)});
+  // Weighted position: (10.4 * 200 + 10.0 * 60) / 260 = 10.307692; span: 0..290 ms = 290 ms.
+  auto o = run_cleaning(input, {rule("w", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}},
+                                     {{"position", "weighted"}, {"duration", "span"}})});
+  EXPECT_NEAR(o.state.participants[0].trials[0].fixations[1].fixation.x_deg, 10.307692, 1e-6);
+  EXPECT_EQ(kept_durations(o), (std::vector<double>{290}));
+
+  // A 50 ms fixation between a 200 ms one 0.3 deg left and a 300 ms one 0.2 deg right.
+  id = 0;
+  const auto between = state_of({trial_of({{0, 200, 5.0}, {230, 50, 5.3}, {310, 300, 5.5}}, id)});
+  auto pick = [&](const std::string& prefer) {
+    const auto r = run_cleaning(between, {rule("m", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}},
+                                                {{"prefer", prefer}})});
+    return kept_durations(r);
+  };
+  EXPECT_EQ(pick("nearer"), (std::vector<double>{200, 350}));    // 0.2 < 0.3: the next one
+  EXPECT_EQ(pick("previous"), (std::vector<double>{250, 300}));
+  EXPECT_EQ(pick("next"), (std::vector<double>{200, 350}));
+  EXPECT_EQ(pick("longer"), (std::vector<double>{200, 350}));    // 300 > 200
+
+  // By hand: 60 ms at 5.0 and 200 ms at 5.1 are 200 ms apart (more than max_gap_ms 50): no merge.
+  // 30 ms at 7.0: its previous neighbour is 1.9 deg away and its next one is shorter: it stays.
+  // 20 ms at 7.1: its previous neighbour (30 ms, 0.1 deg, 30 ms gap) is longer: it joins it, 50 ms.
+  id = 0;
+  const auto apart = state_of({trial_of({{0, 60, 5.0}, {260, 200, 5.1}, {500, 30, 7.0}, {560, 20, 7.1}}, id)});
+  const auto r = run_cleaning(apart, {rule("m", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}})});
+  EXPECT_EQ(kept_durations(r), (std::vector<double>{60, 200, 50}));
+}
+
+// Duration limits (typical 80 ms and 800 ms, Eskenazi 2023): "shorter than"
+// and "longer than" are strict.
+TEST(FixationFilters, DurationLimits) {
+  std::uint32_t id = 0;
+  const auto input = state_of({trial_of({{0, 50, 0}, {100, 79, 0}, {200, 80, 0}, {300, 81, 0}, {400, 799, 0},
+                                         {1300, 800, 0}, {2200, 801, 0}, {3100, 1300, 0}}, id)});
+  const auto o = run_cleaning(input, {rule("short", "delete_short_fixations", {{"min_duration_ms", 80}}),
+                                      rule("long", "delete_long_fixations", {{"max_duration_ms", 800}})});
+  EXPECT_EQ(kept_durations(o), (std::vector<double>{80, 81, 799, 800}));
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 2u);
+  EXPECT_EQ(seq(o, 1, AuditLevel::fixation), 2u);
+}
+
+TEST(FixationFilters, NearBlinksAndOutsideTheScreen) {
+  std::uint32_t id = 0;
+  auto t = trial_of({{700, 260, 0}, {700, 240, 1}, {1240, 100, 2}, {1260, 100, 3}, {2000, 100, -30}}, id);
+  t.blinks.push_back({"1", Eye::left, 1'000'000, 1'200'000});
+  const auto input = state_of({t});
+  // Within 50 ms: ends at 960 (40 ms before) and starts at 1240 (40 ms after) go; 940 and 1260 stay.
+  auto o = run_cleaning(input, {rule("blinks", "delete_fixations_near_blinks", {{"within_ms", 50}})});
+  EXPECT_EQ(kept_durations(o), (std::vector<double>{240, 100, 100}));
+  // x = 960 + 40 * -30 = -240 px: outside the screen, inside with a 300 px margin.
+  o = run_cleaning(input, {rule("screen", "delete_fixations_outside", {})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 1u);
+  o = run_cleaning(input, {rule("screen", "delete_fixations_outside", {{"margin_px", 300}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 0u);
+}
+
+TEST(TrialExclusions, EachKindByHand) {
+  std::uint32_t id = 0;
+  auto a = trial_of({{0, 200, 0}, {300, 200, 1}}, id);
+  a.missing_samples = 251;  // 5.02 % of 5000
+  auto b = trial_of({{0, 200, 0}, {300, 200, 1}, {600, 200, 2}}, id);
+  b.missing_samples = 250;  // 5.00 %: not more than 5 %
+  b.trial = "2";
+  auto c = trial_of({{0, 200, 0}}, id);
+  c.trial = "3";
+  c.markers["text_shown"] = 1'000'000;
+  c.blinks.push_back({"3", Eye::left, 1'400'000, 1'600'000});  // overlaps 1000..1500 ms
+  auto d = trial_of({{0, 200, 0}, {300, 200, 1}}, id);
+  d.trial = "4";
+  d.markers["text_shown"] = 1'000'000;
+  d.losses.emplace_back(1'100'000, 1'150'000);  // a loss, not a blink
+  d.end_us = 12'000'000;                        // 12 s long
+  const auto input = state_of({a, b, c, d});
+  auto o = run_cleaning(input, {rule("loss", "exclude_trials_with_data_loss", {{"max_missing_percent", 5}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::trial), 1u);
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 2u);   // trial 1's two fixations go with it
+  EXPECT_EQ(seq(o, 0, AuditLevel::sample), 5000u);  // and its samples
+  o = run_cleaning(input, {rule("window", "exclude_trials_with_gap_in_window", {{"from_ms", 0}, {"to_ms", 500}},
+                                {{"marker", "text_shown"}, {"events", "blink"}})});
+  // Trial 3 (blink in the window) and trials 1, 2 (no text_shown marker) go; trial 4's loss is not a blink.
+  EXPECT_EQ(seq(o, 0, AuditLevel::trial), 3u);
+  EXPECT_TRUE(o.state.participants[0].trials[3].kept);
+  o = run_cleaning(input, {rule("window", "exclude_trials_with_gap_in_window", {{"from_ms", 0}, {"to_ms", 500}},
+                                {{"marker", "text_shown"}, {"events", "any"}})});
+  EXPECT_FALSE(o.state.participants[0].trials[3].kept);
+  o = run_cleaning(input, {rule("few", "exclude_trials_with_few_fixations", {{"min_fixations", 2}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::trial), 1u);  // trial 3 has one
+  o = run_cleaning(input, {rule("long", "exclude_trials_by_duration", {{"max_duration_ms", 10000}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::trial), 1u);  // trial 4: 12 s
+}
+
+TEST(ParticipantExclusions, TrialLossAndVariable) {
+  std::uint32_t id = 0;
+  std::vector<CleanTrial> trials;
+  for (int k = 0; k < 4; ++k) {
+    auto t = trial_of({{0, 200, 0}}, id);
+    t.trial = std::to_string(k + 1);
+    t.variables["correct"] = k < 2 ? "1" : "0";  // mean 0.5
+    t.missing_samples = k == 0 ? 4000 : 0;
+    trials.push_back(t);
+  }
+  const auto input = state_of(trials);
+  // One of four trials excluded = 25 %, which is not more than 25 %.
+  auto o = run_cleaning(input, {rule("loss", "exclude_trials_with_data_loss", {{"max_missing_percent", 50}}),
+                                rule("lost", "exclude_participants_by_trial_loss", {{"max_excluded_percent", 25}})});
+  EXPECT_EQ(seq(o, 1, AuditLevel::participant), 0u);
+  o = run_cleaning(input, {rule("loss", "exclude_trials_with_data_loss", {{"max_missing_percent", 50}}),
+                           rule("lost", "exclude_participants_by_trial_loss", {{"max_excluded_percent", 20}})});
+  EXPECT_EQ(seq(o, 1, AuditLevel::participant), 1u);
+  EXPECT_EQ(seq(o, 1, AuditLevel::trial), 3u);  // the other three trials go with the participant
+  EXPECT_EQ(alone(o, 1, AuditLevel::participant), 0u);  // alone, no trial was excluded before it
+  o = run_cleaning(input, {rule("accuracy", "exclude_participants_by_variable", {{"min_mean", 0.7}}, {{"variable", "correct"}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::participant), 1u);
+}
+
+// Sequential and alone attribution on overlapping rules, worked by hand:
+// durations 90, 120, 200; rule A deletes < 100, rule B deletes < 150.
+// In order: A removes 90, B removes 120. Alone: A 1, B 2. Both alone: 1 (the 90).
+TEST(Audit, SequentialAloneAndOverlap) {
+  std::uint32_t id = 0;
+  const auto input = state_of({trial_of({{0, 90, 0}, {200, 120, 1}, {400, 200, 2}}, id)});
+  const auto o = run_cleaning(input, {rule("A", "delete_short_fixations", {{"min_duration_ms", 100}}),
+                                      rule("B", "delete_short_fixations", {{"min_duration_ms", 150}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 1u);
+  EXPECT_EQ(seq(o, 1, AuditLevel::fixation), 1u);
+  EXPECT_EQ(alone(o, 0, AuditLevel::fixation), 1u);
+  EXPECT_EQ(alone(o, 1, AuditLevel::fixation), 2u);
+  const auto& ov = o.report.overlap[static_cast<std::size_t>(AuditLevel::fixation)];
+  EXPECT_EQ(ov[0][1], 1u);
+  EXPECT_EQ(ov[1][0], 1u);
+  EXPECT_EQ(ov[1][1], 2u);
+  const auto& t = o.report.totals.at({"p1", "rare"});
+  EXPECT_EQ(t.input[1], 3u);
+  EXPECT_EQ(t.kept[1], 1u);
+  EXPECT_NO_THROW(o.report.check_conservation());
+}
+
+// input = kept + sum of removed at every level, for random rule lists on random data.
+TEST(Audit, ConservationHoldsForRandomRuleLists) {
+  std::mt19937 rng(1);
+  std::uniform_real_distribution<double> dur(20, 1200), x(-20, 20), u(0, 1);
+  const std::vector<CleaningRuleSpec> pool = {
+      rule("m80", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}}),
+      rule("m40", "merge_short_fixations", {{"max_duration_ms", 40}, {"max_distance_deg", 1.25}}),
+      rule("short", "delete_short_fixations", {{"min_duration_ms", 80}}),
+      rule("long", "delete_long_fixations", {{"max_duration_ms", 800}}),
+      rule("blinks", "delete_fixations_near_blinks", {{"within_ms", 100}}),
+      rule("screen", "delete_fixations_outside", {{"margin_px", 10}}),
+      rule("loss", "exclude_trials_with_data_loss", {{"max_missing_percent", 10}}),
+      rule("few", "exclude_trials_with_few_fixations", {{"min_fixations", 10}}),
+      rule("dur", "exclude_trials_by_duration", {{"min_duration_ms", 1000}}),
+      rule("lost", "exclude_participants_by_trial_loss", {{"max_excluded_percent", 30}}),
+  };
+  for (int round = 0; round < 30; ++round) {
+    CleaningState s;
+    s.screen = {1920, 1080, 531, 299, 700};
+    std::uint32_t fid = 0, tid = 0;
+    for (int p = 0; p < 3; ++p) {
+      CleanParticipant cp;
+      cp.id = static_cast<std::uint32_t>(p);
+      cp.participant = "p" + std::to_string(p);
+      for (int k = 0; k < 6; ++k) {
+        std::vector<F> fs;
+        double t = 0;
+        for (int i = 0; i < 12; ++i) {
+          const double d = dur(rng);
+          fs.push_back({t, d, x(rng)});
+          t += d + 30;
+        }
+        CleanTrial tr = trial_of(fs, fid, k % 2 ? "rare" : "frequent");
+        tr.id = tid++;
+        tr.participant = cp.participant;
+        tr.missing_samples = static_cast<std::uint64_t>(u(rng) * 1000);
+        tr.end_us = static_cast<Microseconds>(u(rng) * 3e6);
+        if (u(rng) < 0.5) tr.blinks.push_back({"1", Eye::left, 1'000'000, 1'200'000});
+        cp.trials.push_back(tr);
+      }
+      s.participants.push_back(cp);
+    }
+    std::vector<CleaningRuleSpec> rules;
+    for (const auto& r : pool) {
+      if (u(rng) < 0.6) rules.push_back(r);
+    }
+    std::shuffle(rules.begin(), rules.end(), rng);
+    const auto o = run_cleaning(s, rules);  // run_cleaning checks conservation itself and throws if it fails
+    EXPECT_NO_THROW(o.report.check_conservation());
+  }
+}
+
+TEST(CleaningRules, BadParametersNameTheProblem) {
+  auto error = [](const CleaningRuleSpec& s) {
+    try {
+      make_cleaning_rule(s);
+    } catch (const RuleParameterError& e) {
+      return std::string(e.what()) + " [" + e.key + "]";
+    }
+    return std::string("no error");
+  };
+  EXPECT_NE(error(rule("x", "delete_tiny", {})).find("unknown rule kind \"delete_tiny\""), std::string::npos);
+  EXPECT_NE(error(rule("x", "delete_short_fixations", {})).find("rule 'x' (delete_short_fixations): required parameter min_duration_ms is missing"), std::string::npos);
+  EXPECT_NE(error(rule("x", "delete_short_fixations", {{"min_duration", 80}})).find("parameter min_duration needs its unit in the name, e.g. min_duration_ms [min_duration]"), std::string::npos);
+  EXPECT_NE(error(rule("x", "delete_short_fixations", {{"min_duration_ms", -5}})).find("must be at least 0"), std::string::npos);
+  EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}})).find("exactly one of max_distance_deg"), std::string::npos);
+  EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}}, {{"prefer", "left"}})).find("must be one of \"nearer\""), std::string::npos);
+  EXPECT_NE(error(rule("x", "exclude_trials_with_data_loss", {{"max_missing_percent", 140}})).find("at most 100"), std::string::npos);
+}
