@@ -35,7 +35,7 @@ void print_block(const AuditReport& r, const std::vector<AuditRow>& rows, const 
     auto& s = sums[{row.order, row.level}];
     s[""][0] += row.removed_sequential;
     s[""][1] += row.removed_alone;
-    s[row.condition][0] += row.removed_sequential;
+    if (!row.condition.empty()) s[row.condition][0] += row.removed_sequential;
   }
   for (const auto& [key, s] : sums) {
     const auto& [order, level] = key;

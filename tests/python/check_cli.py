@@ -12,7 +12,7 @@ import tempfile
 
 gazemill = sys.argv[1]
 failures = []
-COMMANDS = ["simulate", "ingest", "inspect", "detect", "score"]
+COMMANDS = ["simulate", "ingest", "inspect", "detect", "score", "clean", "audit", "verify"]
 
 
 def run(*args, cwd=None):

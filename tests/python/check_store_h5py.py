@@ -151,7 +151,26 @@ with tempfile.TemporaryDirectory() as tmp:
     proto = os.path.join(study, "gazemill.toml")
     store = os.path.join(tmp, "d.gzm.h5")
     subprocess.run([gazemill, "-q", "ingest", proto, "-o", store], check=True)
+    with open(proto, "a") as f:
+        f.write("""
+[[cleaning]]
+name = "merge short"
+kind = "merge_short_fixations"
+max_duration_ms = 80
+max_distance_deg = 0.5
+
+[[cleaning]]
+name = "short"
+kind = "delete_short_fixations"
+min_duration_ms = 80
+
+[[cleaning]]
+name = "data loss"
+kind = "exclude_trials_with_data_loss"
+max_missing_percent = 3
+""")
     subprocess.run([gazemill, "-q", "detect", proto, "-s", store], check=True)
+    subprocess.run([gazemill, "-q", "clean", proto, "-s", store, "--reports", tmp], check=True)
     with h5py.File(store, "r") as h:
         for rid, rec in h["recordings"].items():
             ev = rec["events"]
@@ -174,6 +193,24 @@ with tempfile.TemporaryDirectory() as tmp:
                 inside |= (t >= a) & (t < b)
             check(np.array_equal(inside, lab == 0), f"{rid}: fixation labels match fixation events")
         check("detect" in h["provenance/stages"], "detect stage provenance")
+        # The ledger read back: per level, input = kept + removed in protocol order.
+        a = h["audit"]
+        tot_level = [x.decode() for x in a["totals/level"][:]]
+        cnt_level = [x.decode() for x in a["counts/level"][:]]
+        for level in ("sample", "fixation", "trial", "participant"):
+            inp = sum(int(v) for v, l in zip(a["totals/input"][:], tot_level) if l == level)
+            kept = sum(int(v) for v, l in zip(a["totals/kept"][:], tot_level) if l == level)
+            removed = sum(int(v) for v, l in zip(a["counts/removed_sequential"][:], cnt_level) if l == level)
+            check(inp == kept + removed, f"audit balances at the {level} level ({inp} = {kept} + {removed})")
+        kept_fix = sum(int(v) for v, l in zip(a["totals/kept"][:], tot_level) if l == "fixation")
+        stored = sum(rec["clean/fixations/start_us"].shape[0] for rec in h["recordings"].values())
+        check(kept_fix == stored, "cleaned fixations in the store = kept fixations of the audit")
+        removed_rows = sum(rec["clean/removed_fixations/rule"].shape[0] for rec in h["recordings"].values())
+        check(removed_rows > 0, "removed fixations stay in the store with their rule")
+    # The TSV agrees with the store (pandas reads it as a tidy table).
+    tsv = pd.read_csv(os.path.join(tmp, "audit.tsv"), sep="\t")
+    check(set(tsv.columns) >= {"rule", "level", "participant", "condition", "removed_sequential", "removed_alone"}, "audit.tsv columns")
+    check(len(tsv) == len(cnt_level), "audit.tsv has one row per ledger row")
 
 print(f"{0 if failures else 1} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)

@@ -1,0 +1,186 @@
+// clean, audit and verify end to end on the checked-in simulated study:
+// derived datasets identical between runs, verify passing on an untouched
+// study and failing, naming the datasets, when an input changes; protocol
+// errors naming the rule and line with nothing written.
+
+#include <gtest/gtest.h>
+
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <zlib.h>
+
+#include "app/clean.h"
+#include "app/detect.h"
+#include "app/ingest.h"
+#include "app/protocol_parser.h"
+#include "app/verify.h"
+#include "io/cleaning_io.h"
+#include "io/store_compare.h"
+#include "io/study_store.h"
+#include "pipeline/input_error.h"
+#include "test_support.h"
+
+using namespace gazemill;
+using gazemill::test_support::TempDir;
+namespace fs = std::filesystem;
+
+namespace {
+
+const char* kRules = R"(
+[detection]
+method = "ivt"
+[detection.parameters]
+velocity_threshold_deg_s = 20
+
+[[cleaning]]
+name = "merge under 80 ms"
+kind = "merge_short_fixations"
+max_duration_ms = 80
+max_distance_deg = 0.5
+
+[[cleaning]]
+name = "short"
+kind = "delete_short_fixations"
+min_duration_ms = 80
+
+[[cleaning]]
+name = "long"
+kind = "delete_long_fixations"
+max_duration_ms = 800
+
+[[cleaning]]
+name = "blinks"
+kind = "delete_fixations_near_blinks"
+within_ms = 50
+
+[[cleaning]]
+name = "data loss"
+kind = "exclude_trials_with_data_loss"
+max_missing_percent = 5
+
+[[cleaning]]
+name = "few fixations"
+kind = "exclude_trials_with_few_fixations"
+min_fixations = 8
+
+[[cleaning]]
+name = "lost participants"
+kind = "exclude_participants_by_trial_loss"
+max_excluded_percent = 25
+)";
+
+std::string study(const TempDir& d, const std::string& extra = kRules) {
+  fs::copy(std::string(GAZEMILL_FIXTURES) + "/demo-study", d.path() / "study", fs::copy_options::recursive);
+  const std::string proto = (d.path() / "study" / "gazemill.toml").string();
+  std::ofstream(proto, std::ios::app) << extra;
+  return proto;
+}
+
+void run_all(const std::string& proto, const std::string& store, const std::string& reports) {
+  const Protocol p = parse_protocol_file(proto);
+  ingest_study(p, store, {});
+  detect_study(p, store);
+  clean_study(p, store, reports);
+}
+
+}  // namespace
+
+TEST(CleanCommand, AuditBalancesAndDerivedDatasetsAreIdenticalBetweenRuns) {
+  TempDir d;
+  const std::string proto = study(d);
+  run_all(proto, d.file("a.gzm.h5"), d.file("ra"));
+  run_all(proto, d.file("b.gzm.h5"), d.file("rb"));
+  const auto diffs = compare_store_datasets(d.file("a.gzm.h5"), d.file("b.gzm.h5"));
+  for (const auto& x : diffs) ADD_FAILURE() << x.path << ": " << x.what;
+
+  StudyStoreReader store(d.file("a.gzm.h5"));
+  const AuditReport r = read_audit(store);
+  EXPECT_NO_THROW(r.check_conservation());
+  ASSERT_EQ(r.rules.size(), 7u);
+  EXPECT_EQ(r.rules[0], "merge under 80 ms");
+  // The cleaned fixations in the store are exactly the kept ones of the audit.
+  std::uint64_t kept = 0, input = 0;
+  for (const auto& [g, t] : r.totals) {
+    kept += t.kept[1];
+    input += t.input[1];
+  }
+  std::uint64_t stored = 0, events = 0;
+  for (const auto& id : store.recording_ids()) {
+    stored += read_clean_fixations(store, id).size();
+    events += store.read_events(id).fixations.size();
+  }
+  EXPECT_EQ(stored, kept);
+  EXPECT_EQ(events, input);  // raw events are kept beside the cleaned ones
+  for (const char* f : {"audit.tsv", "audit_totals.tsv", "audit.json"}) EXPECT_TRUE(fs::exists(fs::path(d.file("ra")) / f)) << f;
+  EXPECT_TRUE(fs::exists(d.file("ra/audit.tsv")));
+  const auto s = store.stage_provenance("clean");
+  EXPECT_NE(s.protocol_text.find("merge under 80 ms"), std::string::npos);
+}
+
+TEST(CleanCommand, VerifyPassesThenFailsNamingDatasetsWhenAnInputChanges) {
+  TempDir d;
+  const std::string proto = study(d);
+  const std::string store = d.file("s.gzm.h5");
+  run_all(proto, store, d.path().string());
+  std::ostringstream ok;
+  EXPECT_TRUE(verify_store(store, ok)) << ok.str();
+  EXPECT_NE(ok.str().find("verified"), std::string::npos);
+
+  // Change one gaze value of one participant's export.
+  const std::string raw = (d.path() / "study" / "raw" / "p03_s1.tsv.gz").string();
+  std::string text;
+  {
+    gzFile f = gzopen(raw.c_str(), "rb");
+    char buf[1 << 16];
+    int n;
+    while ((n = gzread(f, buf, sizeof buf)) > 0) text.append(buf, static_cast<std::size_t>(n));
+    gzclose(f);
+  }
+  const auto line = text.find('\n', text.size() / 2) + 1;
+  const auto tab = text.find('\t', line) + 1;
+  text.insert(tab, "1");  // e.g. 512.34 -> 1512.34
+  {
+    gzFile f = gzopen(raw.c_str(), "wb");
+    gzwrite(f, text.data(), static_cast<unsigned>(text.size()));
+    gzclose(f);
+  }
+  std::ostringstream bad;
+  EXPECT_FALSE(verify_store(store, bad));
+  EXPECT_NE(bad.str().find("input changed: " + raw), std::string::npos) << bad.str();
+  EXPECT_NE(bad.str().find("dataset differs (values): /recordings/p03_1/samples/left_x_px"), std::string::npos) << bad.str();
+  EXPECT_NE(bad.str().find("NOT verified"), std::string::npos);
+}
+
+TEST(CleanCommand, BadRulesNameTheRuleAndLineAndWriteNothing) {
+  // `line` counts within the appended text: 1 is the empty line that starts it.
+  auto expect_error = [](const std::string& rules, std::size_t line, const std::string& field, const std::string& part) {
+    TempDir d;
+    const std::string proto = study(d, rules);
+    std::size_t base = 0;
+    {
+      std::ifstream in(std::string(GAZEMILL_FIXTURES) + "/demo-study/gazemill.toml");
+      std::string l;
+      while (std::getline(in, l)) ++base;
+    }
+    try {
+      parse_protocol_file(proto);
+      FAIL() << rules;
+    } catch (const InputError& e) {
+      EXPECT_EQ(e.where().field, field) << e.what();
+      EXPECT_NE(std::string(e.what()).find(part), std::string::npos) << e.what();
+      EXPECT_EQ(e.where().file, proto);
+      EXPECT_EQ(e.where().line, base + line) << e.what();
+    }
+    EXPECT_FALSE(fs::exists(d.path() / "study" / "harbour-news.gzm.h5"));
+  };
+  expect_error("\n[[cleaning]]\nname = \"r\"\nkind = \"drop_everything\"\n", 4, "cleaning[1].kind", "unknown rule kind \"drop_everything\"");
+  expect_error("\n[[cleaning]]\nname = \"r\"\nkind = \"delete_short_fixations\"\n", 2, "cleaning[1].kind",
+               "rule 'r' (delete_short_fixations): required parameter min_duration_ms is missing");
+  expect_error("\n[[cleaning]]\nname = \"r\"\nkind = \"delete_short_fixations\"\nmin_duration = 80\n", 5, "cleaning[1].min_duration",
+               "needs its unit in the name, e.g. min_duration_ms");
+  expect_error("\n[[cleaning]]\nname = \"r\"\nkind = \"delete_long_fixations\"\nmax_duration_ms = -800\n", 5,
+               "cleaning[1].max_duration_ms", "must be at least 0");
+  expect_error("\n[[cleaning]]\nname = \"r\"\nkind = \"delete_long_fixations\"\nmax_duration_ms = 800\n[[cleaning]]\nname = \"r\"\n"
+               "kind = \"delete_long_fixations\"\nmax_duration_ms = 900\n", 7, "cleaning[2].name", "names must be unique");
+}
