@@ -13,6 +13,7 @@
 #include "app/clean.h"
 #include "app/audit_report.h"
 #include "app/verify.h"
+#include "app/measure.h"
 #include "io/cleaning_io.h"
 #include "io/study_store.h"
 #include "app/detect.h"
@@ -178,6 +179,11 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   clean->add_option("-s,--store", o.clean_store, "Study store (default: the one ingest writes for this protocol)");
   clean->add_option("--reports", o.clean_reports, "Folder for audit.tsv, audit_totals.tsv and audit.json (default: beside the store)");
 
+  auto* measure = app.add_subcommand("measure", "Map fixations to regions and compute the reading-time measures");
+  measure->add_option("protocol", o.measure_protocol, "Protocol file with a [regions] section")->required()->check(CLI::ExistingFile);
+  measure->add_option("-s,--store", o.measure_store, "Study store (default: the one ingest writes for this protocol)");
+  measure->add_option("--out", o.measure_out, "Folder for measures.tsv and the other tables (default: beside the store)");
+
   auto* audit = app.add_subcommand("audit", "Show what each cleaning rule removed, per condition");
   audit->add_option("store", o.audit_store, "Study store (.gzm.h5)")->required();
   audit->add_option("--by", o.audit_by, "Break the table down: participant")->check(CLI::IsMember({"participant"}));
@@ -268,6 +274,17 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     spdlog::info("{}: kept {}/{} fixations, {}/{} trials, {}/{} participants; audit in {}", store, kept[1], input[1], kept[2], input[2],
                  kept[3], input[3], reports.empty() ? "." : reports);
     spdlog::info("clean: {}", clock.summary());
+    return 0;
+  }
+  if (app.got_subcommand("measure")) {
+    const RunClock clock;
+    const Protocol protocol = parse_protocol_file(o.measure_protocol);
+    const std::string store = o.measure_store.empty() ? default_store_path(protocol, o.measure_protocol) : o.measure_store;
+    std::string out = o.measure_out.empty() ? fs::path(store).parent_path().string() : o.measure_out;
+    if (out.empty()) out = ".";
+    const auto rows = measure_study(protocol, store, out);
+    spdlog::info("{}: {} participant x trial x region rows; measures.tsv and the other tables in {}", store, rows.size(), out);
+    spdlog::info("measure: {}", clock.summary());
     return 0;
   }
   if (app.got_subcommand("audit")) {

@@ -64,6 +64,10 @@ struct CommandOptions {
   std::string audit_by;
   // verify
   std::string verify_store;
+  // measure
+  std::string measure_protocol;
+  std::string measure_store;
+  std::string measure_out;
 };
 
 

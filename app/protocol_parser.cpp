@@ -213,6 +213,44 @@ void parse_detection(TomlSection& d, Protocol& p) {
   }
 }
 
+void parse_regions(TomlSection& r, Protocol& p) {
+  RegionSpec& spec = p.regions;
+  spec.boxes_file = r.string("boxes_file").value_or("");
+  spec.items_file = r.string("items_file").value_or("");
+  if (spec.boxes_file.empty() == spec.items_file.empty()) {
+    throw InputError({p.path, r.line(), "regions"}, "give either boxes_file or items_file (item text laid out with the font metrics)");
+  }
+  TextLayoutSpec& L = spec.layout;
+  auto positive_or = [&](const std::string& key, double fallback) {
+    auto v = r.number(key);
+    if (!v) return fallback;
+    if (!(*v > 0)) r.fail(key, "expected a positive number");
+    return *v;
+  };
+  L.char_width_px = positive_or("char_width_px", 0);
+  L.line_height_px = positive_or("line_height_px", L.line_height_px);
+  if (auto v = r.number("left_margin_px")) L.left_margin_px = *v;
+  if (auto v = r.number("first_line_top_px")) L.first_line_top_px = *v;
+  if (auto v = r.integer("wrap_width_chars")) {
+    if (*v < 1) r.fail("wrap_width_chars", "expected a positive number of characters");
+    L.wrap_width_chars = static_cast<int>(*v);
+  }
+  if (!spec.items_file.empty() && L.char_width_px <= 0) {
+    throw InputError({p.path, r.line(), "regions.char_width_px"}, "items_file needs the font's character width (char_width_px)");
+  }
+  if (auto o = r.string("off_line")) {
+    if (*o != "nearest" && *o != "exclude") r.fail("off_line", "expected \"nearest\" or \"exclude\"");
+    spec.off_line_nearest = *o == "nearest";
+  }
+  if (auto m = r.string("margin")) {
+    if (*m != "nearest" && *m != "exclude") r.fail("margin", "expected \"nearest\" or \"exclude\"");
+    spec.margin_nearest = *m == "nearest";
+  }
+  if (auto v = r.number("max_line_distance_px")) spec.max_line_distance_px = *v;
+  if (auto v = r.number("margin_px")) spec.margin_px = *v;
+  r.finish();
+}
+
 void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
   std::set<std::string> names;
   for (auto& b : blocks) {
@@ -267,6 +305,7 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   if (!trials) throw InputError({path, 0, "trials"}, "required section [trials] is missing (start and end message patterns)");
   parse_trials(*trials, p);
   if (auto detection = top.table("detection")) parse_detection(*detection, p);
+  if (auto regions = top.table("regions")) parse_regions(*regions, p);
   auto cleaning = top.table_array("cleaning");
   parse_cleaning(cleaning, p);
   top.finish();

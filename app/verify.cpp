@@ -6,6 +6,7 @@
 #include "app/clean.h"
 #include "app/detect.h"
 #include "app/ingest.h"
+#include "app/measure.h"
 #include "app/protocol_parser.h"
 #include "io/sha256.h"
 #include "io/store_compare.h"
@@ -51,6 +52,9 @@ bool verify_store(const std::string& store_path, std::ostream& out) {
     }
     if (store.exists("provenance/stages/clean")) {
       clean_study(parse_protocol_text(store.stage_provenance("clean").protocol_text, prov.protocol_path), again, tmp.string());
+    }
+    if (store.exists("provenance/stages/measure")) {
+      measure_study(parse_protocol_text(store.stage_provenance("measure").protocol_text, prov.protocol_path), again, tmp.string());
     }
   } catch (const InputError& e) {
     out << "re-run failed: " << e.what() << "\n";

@@ -277,27 +277,45 @@ AuditReport read_audit(const StudyStoreReader& store) {
   return r;
 }
 
-std::vector<FixationEvent> read_clean_fixations(const StudyStoreReader& store, const std::string& rec) {
+std::vector<CleanFixation> read_clean_fixations(const StudyStoreReader& store, const std::string& rec) {
   const std::string base = "recordings/" + rec + "/clean/fixations";
   if (!store.exists(base)) throw InputError({store.path(), 0, base}, "no cleaned fixations; run gazemill clean first");
   h5::QuietErrors quiet;
   H5::Group f = store.group(base);
+  const auto ids = h5::read_column<std::uint32_t>(f, "input_id");
   const auto trial = h5::read_strings(f, "trial");
   const auto start = h5::read_column<std::int64_t>(f, "start_us"), end = h5::read_column<std::int64_t>(f, "end_us");
+  const auto dur = h5::read_column<double>(f, "duration_ms");
   const auto x = h5::read_column<double>(f, "x_px"), y = h5::read_column<double>(f, "y_px");
   const auto xd = h5::read_column<double>(f, "x_deg"), yd = h5::read_column<double>(f, "y_deg");
-  std::vector<FixationEvent> out;
+  const auto merged = h5::read_column<std::uint32_t>(f, "merged_count");
+  std::vector<CleanFixation> out;
   for (std::size_t i = 0; i < trial.size(); ++i) {
-    FixationEvent e;
-    e.trial = trial[i];
-    e.start_us = start[i];
-    e.end_us = end[i];
-    e.x_px = e.x_median_px = x[i];
-    e.y_px = e.y_median_px = y[i];
-    e.x_deg = xd[i];
-    e.y_deg = yd[i];
-    out.push_back(e);
+    CleanFixation c;
+    c.id = ids[i];
+    c.fixation.trial = trial[i];
+    c.fixation.start_us = start[i];
+    c.fixation.end_us = end[i];
+    c.fixation.x_px = c.fixation.x_median_px = x[i];
+    c.fixation.y_px = c.fixation.y_median_px = y[i];
+    c.fixation.x_deg = xd[i];
+    c.fixation.y_deg = yd[i];
+    c.duration_ms = dur[i];
+    c.merged_count = merged[i];
+    out.push_back(c);
   }
+  return out;
+}
+
+std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& store, const std::string& rec) {
+  const std::string base = "recordings/" + rec + "/clean/trials";
+  if (!store.exists(base)) throw InputError({store.path(), 0, base}, "no cleaning verdicts; run gazemill clean first");
+  h5::QuietErrors quiet;
+  H5::Group g = store.group(base);
+  const auto trial = h5::read_strings(g, "trial");
+  const auto kept = h5::read_column<std::uint8_t>(g, "kept");
+  std::map<std::string, bool> out;
+  for (std::size_t i = 0; i < trial.size(); ++i) out[trial[i]] = kept[i] != 0;
   return out;
 }
 

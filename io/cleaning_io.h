@@ -13,6 +13,7 @@
 //   /audit/overlap/{level,rule_a,rule_b,both}
 // Participants appear under condition "" in totals and in participant-level counts.
 
+#include <map>
 #include <string>
 #include <vector>
 
@@ -39,8 +40,10 @@ std::vector<AuditRow> audit_rows(const AuditReport& report);
 void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& outcome);
 void write_audit(StudyStoreWriter& store, const AuditReport& report);
 AuditReport read_audit(const StudyStoreReader& store);
-/// Kept fixations of a recording after cleaning.
-std::vector<FixationEvent> read_clean_fixations(const StudyStoreReader& store, const std::string& recording);
+/// Kept fixations of a recording after cleaning (duration_ms as the merge rules combined it).
+std::vector<CleanFixation> read_clean_fixations(const StudyStoreReader& store, const std::string& recording);
+/// Whether each trial of a recording was kept by cleaning, by trial id.
+std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& store, const std::string& recording);
 
 /// audit.tsv (the rows) and audit_totals.tsv, written to temporary files and renamed.
 void write_audit_tsv(const AuditReport& report, const std::string& counts_path, const std::string& totals_path);

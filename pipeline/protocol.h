@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "pipeline/recording.h"
+#include "pipeline/text_layout.h"
 #include "pipeline/time_units.h"
 
 namespace gazemill {
@@ -102,6 +103,18 @@ struct DetectionSpec {
   double spike_deg = 1.0;                      // single-sample spikes larger than this are removed; 0 = off
 };
 
+/// Where the regions of every item are, and how fixations are assigned to them.
+struct RegionSpec {
+  std::string boxes_file;  // item, [condition], region, label, left_px, top_px, right_px, bottom_px, line, [role], [letters], [words]
+  std::string items_file;  // item, [condition], text with '/' between regions, [roles] e.g. "3=target 4=spillover"
+  TextLayoutSpec layout;   // for items_file; char_width_px also gives landing positions for boxes
+  bool off_line_nearest = true;       // a fixation between lines goes to the nearest line ...
+  double max_line_distance_px = 0;    // ... within this distance of its centre (0 = one line height)
+  bool margin_nearest = true;         // a fixation left or right of a line's text goes to its first/last region ...
+  double margin_px = 0;               // ... within this distance (0 = two characters)
+  bool present() const { return !boxes_file.empty() || !items_file.empty(); }
+};
+
 /// One cleaning rule as written in the protocol: a name the lab chooses, a
 /// kind, and parameters with their units in their names.
 struct CleaningRuleSpec {
@@ -121,6 +134,7 @@ struct Protocol {
   TrialSegmentationSpec trials;
   DetectionSpec detection;
   std::vector<CleaningRuleSpec> cleaning;  // applied in this order
+  RegionSpec regions;
 };
 
 }  // namespace gazemill

@@ -7,6 +7,8 @@
 #include <cmath>
 #include <future>
 #include <thread>
+
+#include "pipeline/regions.h"
 #include <filesystem>
 #include <fstream>
 #include <nlohmann/json.hpp>
@@ -139,9 +141,18 @@ variables = ['^item (?<item>\S+) condition (?<condition>\S+)$']
 
 [trials.markers]
 text_shown = '^text shown$'
+
+[regions]
+items_file = "items.tsv"
+char_width_px = {7}
+line_height_px = {8}
+left_margin_px = {9}
+first_line_top_px = {10}
+wrap_width_chars = {11}
 )",
                      st.config.design.name, eyes, sc.width_px, sc.height_px, sc.width_mm, sc.height_mm,
-                     sc.viewing_distance_mm);
+                     sc.viewing_distance_mm, st.config.layout.char_width_px, st.config.layout.line_height_px,
+                     st.config.layout.left_margin_px, st.config.layout.first_line_top_px, st.config.layout.wrap_width_chars);
 }
 
 std::string bids_protocol(const SimulatedStudy& st) {
@@ -270,15 +281,32 @@ std::string export_study(const SimulatedStudy& st, const std::string& folder, co
   write_text(root / "truth" / "drift.tsv", drift);
   write_text(root / "truth" / "trials.tsv", trials);
 
-  std::string regions = "item\tcondition\tregion\tlabel\tleft_px\ttop_px\tright_px\tbottom_px\tline\tfirst_char\tlast_char\n";
+  // Regions twice: as item text to lay out, and as boxes (one row per region and line).
+  std::string items = "item\tcondition\ttext\troles\n";
+  std::string regions = "item\tcondition\tregion\tlabel\trole\tleft_px\ttop_px\tright_px\tbottom_px\tline\tletters\twords\n";
   for (std::size_t i = 0; i < st.items.size(); ++i) {
     for (std::size_t c = 0; c < st.items[i].size(); ++c) {
-      for (const auto& r : st.items[i][c].regions) {
-        regions += fmt::format("{}\t{}\t{}\t{}\t{:.1f}\t{:.1f}\t{:.1f}\t{:.1f}\t{}\t{}\t{}\n", r.item, st.config.design.conditions[c], r.id,
-                               r.label, r.left_px, r.top_px, r.right_px, r.bottom_px, r.line, r.first_char, r.last_char);
+      const int target = st.target_regions[i][c];
+      std::map<int, std::string> roles;
+      if (target >= 0) {
+        roles[target] = "target";
+        roles[target + 1] = "spillover";
+      }
+      const std::string& cond = st.config.design.conditions[c];
+      const ResolvedItem resolved = resolve_item(st.config.design.items[i], c);
+      std::string role_text;
+      for (const auto& [r, name] : roles) role_text += (role_text.empty() ? "" : " ") + std::to_string(r + 1) + "=" + name;
+      items += fmt::format("{}\t{}\t{}\t{}\n", st.items[i][c].item, cond, resolved.marked_text, role_text);
+      const RegionLayout layout = region_layout_from_text(st.items[i][c], st.config.layout, cond, roles);
+      for (const auto& r : layout.regions) {
+        for (const auto& b : r.boxes) {
+          regions += fmt::format("{}\t{}\t{}\t{}\t{}\t{:.1f}\t{:.1f}\t{:.1f}\t{:.1f}\t{}\t{}\t{}\n", layout.item, cond, r.id + 1, r.label,
+                                 r.role.empty() ? "" : r.role, b.left_px, b.top_px, b.right_px, b.bottom_px, b.line + 1, r.letters, r.words);
+        }
       }
     }
   }
+  write_text(root / "items.tsv", items);
   write_text(root / "regions.tsv", regions);
 
   const auto& sg = st.config.signal;

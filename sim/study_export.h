@@ -13,6 +13,8 @@
 //   drift.tsv                     participant, trial, offset_px, slope, session_px
 //                                 y_recorded = y_true + offset_px + slope*(x - centre_x) + session_px
 //   trials.tsv                    participant, trial, item, condition, target_region
+// Regions: items.tsv (item, condition, text with '/' between regions, roles)
+// and regions.tsv (one box per region and line; region and line from 1).
 
 #include <string>
 

@@ -1,0 +1,63 @@
+#include "io/tsv_table.h"
+
+#include <charconv>
+#include <fstream>
+
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+
+TsvTable::TsvTable(const std::string& path) : path_(path) {
+  std::ifstream in(path);
+  if (!in) throw InputError({path, 0, ""}, "cannot open the file");
+  std::string line;
+  std::size_t n = 0;
+  std::vector<std::string> header;
+  auto split = [](const std::string& s) {
+    std::vector<std::string> out(1);
+    for (char c : s) {
+      if (c == '\t') out.emplace_back();
+      else if (c != '\r') out.back() += c;
+    }
+    return out;
+  };
+  while (std::getline(in, line)) {
+    ++n;
+    if (line.empty() || line[0] == '#') continue;
+    auto fields = split(line);
+    if (header.empty()) {
+      header = fields;
+      for (std::size_t i = 0; i < header.size(); ++i) index_[header[i]] = i;
+      continue;
+    }
+    if (fields.size() != header.size()) {
+      throw InputError({path, n, ""}, "expected " + std::to_string(header.size()) + " tab-separated fields as in the header, found " +
+                                          std::to_string(fields.size()));
+    }
+    cells_.push_back(std::move(fields));
+    lines_.push_back(n);
+  }
+  if (header.empty()) throw InputError({path, 0, ""}, "the file is empty; expected a header line");
+}
+
+const std::string& TsvTable::text(std::size_t row, const std::string& column) const {
+  auto it = index_.find(column);
+  if (it == index_.end()) throw InputError({path_, 1, column}, "required column is missing from the header");
+  return cells_[row][it->second];
+}
+
+std::string TsvTable::text_or(std::size_t row, const std::string& column, const std::string& fallback) const {
+  return has(column) ? text(row, column) : fallback;
+}
+
+double TsvTable::number(std::size_t row, const std::string& column) const {
+  const std::string& s = text(row, column);
+  double v = 0;
+  const auto r = std::from_chars(s.data(), s.data() + s.size(), v);
+  if (s.empty() || r.ec != std::errc() || r.ptr != s.data() + s.size()) {
+    throw InputError({path_, lines_[row], column}, "expected a number, found '" + s + "'");
+  }
+  return v;
+}
+
+}  // namespace gazemill

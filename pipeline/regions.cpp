@@ -1,0 +1,61 @@
+#include "pipeline/regions.h"
+
+#include <algorithm>
+
+namespace gazemill {
+
+RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSpec& spec, const std::string& condition,
+                                     const std::map<int, std::string>& roles) {
+  RegionLayout out;
+  out.item = item.item;
+  out.condition = condition;
+  out.char_width_px = spec.char_width_px;
+  for (int l = 0; l < item.line_count; ++l) {
+    const double top = spec.first_line_top_px + l * spec.line_height_px;
+    out.lines.push_back({top, top + spec.line_height_px});
+  }
+  for (const Region& r : item.regions) {
+    RegionInfo info;
+    info.id = r.id;
+    info.label = r.label;
+    if (auto it = roles.find(r.id); it != roles.end()) info.role = it->second;
+    info.line = r.line;
+    info.words = static_cast<int>(r.words.size());
+    info.has_letters = true;
+    bool first_letter = true;
+    // One box per line the region covers, from its characters.
+    for (int c = r.first_char; c <= r.last_char; ++c) {
+      const PlacedChar& ch = item.chars[static_cast<std::size_t>(c)];
+      const double left = ch.centre_x_px - spec.char_width_px / 2, right = left + spec.char_width_px;
+      if (info.boxes.empty() || info.boxes.back().line != ch.line) {
+        info.boxes.push_back({ch.line, left, out.lines[static_cast<std::size_t>(ch.line)].top_px, right,
+                              out.lines[static_cast<std::size_t>(ch.line)].bottom_px});
+      }
+      RegionBox& b = info.boxes.back();
+      b.left_px = std::min(b.left_px, left);
+      b.right_px = std::max(b.right_px, right);
+      if (ch.c != ' ') {
+        ++info.letters;
+        if (first_letter) {
+          info.first_letter_left_px = left;
+          first_letter = false;
+        }
+      }
+    }
+    out.regions.push_back(info);
+  }
+  return out;
+}
+
+void RegionCatalogue::add(RegionLayout layout) {
+  auto key = std::make_pair(layout.item, layout.condition);
+  layouts_[key] = std::move(layout);
+}
+
+const RegionLayout* RegionCatalogue::find(const std::string& item, const std::string& condition) const {
+  if (auto it = layouts_.find({item, condition}); it != layouts_.end()) return &it->second;
+  if (auto it = layouts_.find({item, ""}); it != layouts_.end()) return &it->second;
+  return nullptr;
+}
+
+}  // namespace gazemill
