@@ -12,7 +12,7 @@ import tempfile
 
 gazemill = sys.argv[1]
 failures = []
-COMMANDS = ["simulate", "ingest", "inspect", "detect", "score", "clean", "audit", "verify"]
+COMMANDS = ["simulate", "ingest", "inspect", "detect", "score", "clean", "audit", "verify", "measure"]
 
 
 def run(*args, cwd=None):

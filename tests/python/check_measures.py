@@ -1,0 +1,67 @@
+#!/usr/bin/python3
+"""The measure tables read by the outside libraries a lab would use (pandas
+for measures.tsv, h5py for the store), run end to end on the checked-in
+simulated study; the README's loading example is run here as written.
+
+usage: check_measures.py GAZEMILL_BINARY FIXTURES_DIR
+"""
+import os
+import shutil
+import subprocess
+import sys
+import tempfile
+
+import h5py
+import numpy as np
+import pandas as pd
+
+gazemill, fixtures = sys.argv[1], sys.argv[2]
+failures = []
+
+
+def check(cond, what):
+    if not cond:
+        failures.append(what)
+        print("FAIL:", what)
+
+
+with tempfile.TemporaryDirectory() as tmp:
+    study = os.path.join(tmp, "study")
+    shutil.copytree(os.path.join(fixtures, "demo-study"), study)
+    proto = os.path.join(study, "gazemill.toml")
+    with open(proto, "a") as f:
+        f.write('\n[[cleaning]]\nname = "short"\nkind = "delete_short_fixations"\nmin_duration_ms = 80\n')
+    store = os.path.join(tmp, "s.gzm.h5")
+    for cmd in (["ingest", proto, "-o", store], ["detect", proto, "-s", store], ["clean", proto, "-s", store, "--reports", tmp],
+                ["measure", proto, "-s", store, "--out", tmp]):
+        subprocess.run([gazemill, "-q", *cmd], check=True)
+
+    # --- the README example ---
+    m = pd.read_csv(os.path.join(tmp, "measures.tsv"), sep="\t", na_values="NA", keep_default_na=False)
+    gd = m[m.measure == "gaze_duration_ms"].dropna(subset=["value"])
+    means = gd.groupby(["region_role", "condition"])["value"].mean()
+    # --- end of the example ---
+    check(set(m.columns[:5]) == {"participant", "session", "trial", "item", "condition"}, "long table key columns")
+    check(m.measure.nunique() == 17, "17 measures")
+    check(("target", "rare") in means.index and ("target", "frequent") in means.index, "target gaze duration by condition")
+    wide = pd.read_csv(os.path.join(tmp, "measures_wide.tsv"), sep="\t", na_values="NA", keep_default_na=False)
+    check(len(m) == 17 * len(wide), "long = 17 x wide rows")
+    skipped = wide[wide.skipped == 1]
+    check(skipped.gaze_duration_ms.isna().all() and skipped.first_fixation_ms.isna().all(), "skipped regions: NA first-pass values")
+    fixated = wide[wide.skipped == 0]
+    check((fixated.total_time_ms >= fixated.gaze_duration_ms).all(), "total time >= gaze duration")
+    check((fixated.go_past_ms >= fixated.gaze_duration_ms).all(), "go-past >= gaze duration")
+    check(np.allclose(fixated.rereading_ms, fixated.total_time_ms - fixated.gaze_duration_ms), "rereading = total - gaze")
+    # Spillover columns: each row's previous_* equals the previous region's own values.
+    w = wide.sort_values(["participant", "trial", "region"]).reset_index(drop=True)
+    same = (w.participant == w.participant.shift()) & (w.trial == w.trial.shift())
+    prev = w.gaze_duration_ms.shift()
+    check(np.allclose(w.previous_gaze_duration_ms[same].fillna(-1), prev[same].fillna(-1)), "previous_* columns match")
+    with h5py.File(store, "r") as h:
+        g = h["measures/wide/gaze_duration_ms"][:]
+        check(len(g) == len(wide), "store holds the wide table")
+        check(np.array_equal(np.isnan(g), wide.gaze_duration_ms.isna().to_numpy()), "NA stored as NaN")
+        check(h["measures/wide/gaze_duration_ms"].attrs["unit"] == "ms", "units in the store")
+
+print(f"{0 if failures else 1} passed, {len(failures)} failed")
+sys.exit(1 if failures else 0)

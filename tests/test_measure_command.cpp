@@ -1,0 +1,148 @@
+// The measure stage end to end: the simulated study from raw export to
+// measures.tsv, the simulated condition effect recovered in the right
+// direction, the boxes-file route agreeing with the text route, and the
+// region files' errors.
+
+#include <gtest/gtest.h>
+
+#include <filesystem>
+#include <fstream>
+
+#include "app/clean.h"
+#include "app/detect.h"
+#include "app/ingest.h"
+#include "app/measure.h"
+#include "app/protocol_parser.h"
+#include "io/region_files.h"
+#include "io/study_store.h"
+#include "io/tsv_table.h"
+#include "measures/measure_aggregates.h"
+#include "pipeline/input_error.h"
+#include "sim/study_export.h"
+#include "sim/study_simulator.h"
+#include "test_support.h"
+
+using namespace gazemill;
+using gazemill::test_support::TempDir;
+namespace fs = std::filesystem;
+
+namespace {
+
+const char* kStages = R"(
+[detection]
+method = "ivt"
+[detection.parameters]
+velocity_threshold_deg_s = 20
+sg_window_ms = 10
+
+[[cleaning]]
+name = "short"
+kind = "delete_short_fixations"
+min_duration_ms = 80
+)";
+
+std::string simulated(const TempDir& d, int participants) {
+  sim::SimulationConfig c;
+  c.design = sim::demo_design();
+  c.design.participants = participants;
+  c.signal.sample_rate_hz = 500;
+  c.seed = 99;
+  sim::ExportOptions eo;
+  eo.bids = false;
+  const std::string proto = sim::export_study(sim::simulate_study(c), (d.path() / "study").string(), eo);
+  std::ofstream(proto, std::ios::app) << kStages;
+  return proto;
+}
+
+}  // namespace
+
+TEST(MeasureCommand, RawExportToMeasuresWithTheConditionEffect) {
+  TempDir d;
+  const std::string proto = simulated(d, 16);
+  const Protocol p = parse_protocol_file(proto);
+  const std::string store = d.file("s.gzm.h5");
+  ingest_study(p, store, {});
+  detect_study(p, store);
+  clean_study(p, store, d.path().string());
+  const auto rows = measure_study(p, store, d.file("out"));
+  for (const char* f : {"measures.tsv", "measures_wide.tsv", "measures_by_region.tsv", "measures_by_role.tsv", "measures_by_participant.tsv"}) {
+    EXPECT_TRUE(fs::exists(fs::path(d.file("out")) / f)) << f;
+  }
+  // The simulated reader dwells longer on a rare target word and on the region after it
+  // (sim/reader_model.h): the measures must show it in that direction.
+  double ffd[2] = {0, 0}, gd[2] = {0, 0}, spill[2] = {0, 0};
+  for (const auto& a : aggregate_by_role(rows)) {
+    const int c = a.condition == "rare" ? 1 : 0;
+    if (a.group == "target") {
+      ffd[c] = *a.mean_first_fixation_ms;
+      gd[c] = *a.mean_gaze_duration_ms;
+    } else if (a.group == "spillover") {
+      spill[c] = *a.mean_first_fixation_ms;
+    }
+  }
+  EXPECT_GT(ffd[1], ffd[0] + 15) << "first fixation on the target";
+  EXPECT_GT(gd[1], gd[0] + 15) << "gaze duration on the target";
+  EXPECT_GT(spill[1], spill[0]) << "spillover";
+
+  // The long table: one row per participant x trial x region x measure.
+  TsvTable longt(d.file("out/measures.tsv"));
+  EXPECT_EQ(longt.rows(), rows.size() * measure_names().size());
+  TsvTable wide(d.file("out/measures_wide.tsv"));
+  EXPECT_EQ(wide.rows(), rows.size());
+  EXPECT_TRUE(wide.has("previous_gaze_duration_ms"));
+  EXPECT_TRUE(wide.has("next_region_letters"));
+  // Skipped regions have NA first-pass values, never 0.
+  for (std::size_t r = 0; r < wide.rows(); ++r) {
+    if (wide.text(r, "skipped") == "1") {
+      EXPECT_EQ(wide.text(r, "gaze_duration_ms"), "NA");
+    }
+  }
+  StudyStoreReader s(store);
+  EXPECT_TRUE(s.exists("measures/wide/gaze_duration_ms"));
+  EXPECT_TRUE(s.exists("provenance/stages/measure"));
+}
+
+TEST(MeasureCommand, BoxesFileAndItemsFileGiveTheSameMeasures) {
+  TempDir d;
+  const std::string proto = simulated(d, 2);
+  Protocol p = parse_protocol_file(proto);
+  const std::string store = d.file("s.gzm.h5");
+  ingest_study(p, store, {});
+  detect_study(p, store);
+  clean_study(p, store, d.path().string());
+  StudyStoreReader s(store);
+  const auto from_text = measure_rows(s, load_regions(p), p.regions);
+  RegionSpec boxes = p.regions;
+  boxes.items_file.clear();
+  boxes.boxes_file = "regions.tsv";
+  Protocol q = p;
+  q.regions = boxes;
+  const auto from_boxes = measure_rows(s, load_regions(q), q.regions);
+  ASSERT_EQ(from_text.size(), from_boxes.size());
+  for (std::size_t i = 0; i < from_text.size(); ++i) {
+    EXPECT_EQ(from_text[i].gaze_duration_ms, from_boxes[i].gaze_duration_ms) << i;
+    EXPECT_EQ(from_text[i].go_past_ms, from_boxes[i].go_past_ms) << i;
+    EXPECT_EQ(from_text[i].region_role, from_boxes[i].region_role) << i;
+  }
+}
+
+TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
+  TempDir d;
+  auto expect = [&](const std::string& text, std::size_t line, const std::string& field) {
+    const auto path = d.write("r.tsv", text);
+    try {
+      read_region_boxes(path, 12);
+      FAIL() << text;
+    } catch (const InputError& e) {
+      EXPECT_EQ(e.where().file, path);
+      EXPECT_EQ(e.where().line, line) << e.what();
+      EXPECT_EQ(e.where().field, field) << e.what();
+    }
+  };
+  const std::string head = "item\tregion\tlabel\tleft_px\ttop_px\tright_px\tbottom_px\tline\n";
+  expect(head + "1\t1\tThe\t100\t200\t150\t240\t1\n1\tx\tdog\t150\t200\t190\t240\t1\n", 3, "region");
+  expect(head + "1\t1\tThe\t100\t200\t90\t240\t1\n", 2, "right_px");
+  expect(head + "1\t1\tThe\t100\t200\t150\t240\n", 2, "");
+  expect(head + "1\t2\tdog\t150\t200\t190\t240\t1\n", 0, "region");  // region 1 missing
+  expect("item\tlabel\n1\tThe\n", 1, "region");
+}

@@ -1,0 +1,198 @@
+// Reading-time measures on hand-worked scanpaths of our own, each value
+// derived by hand from the definitions of Rayner (1998, Psychological
+// Bulletin 124(3)) and Liversedge, Paterson & Pickering (1998) as written in
+// measures/reading_measures.h, and invariants over random scanpaths.
+
+#include <gtest/gtest.h>
+
+#include <random>
+
+#include "measures/reading_measures.h"
+#include "measures/region_mapper.h"
+
+using namespace gazemill;
+
+namespace {
+
+std::vector<PlacedFixation> path(std::initializer_list<std::pair<int, double>> seq) {
+  std::vector<PlacedFixation> out;
+  double x = 100;
+  for (const auto& [region, ms] : seq) {
+    PlacedFixation f;
+    f.region = region;
+    f.duration_ms = ms;
+    f.line = region < 0 ? -1 : 0;
+    f.x_px = x;
+    x += 30;
+    out.push_back(f);
+  }
+  return out;
+}
+
+}  // namespace
+
+// Six regions, fixations (region, ms): (0,200) (1,220) (3,250) (3,180) (2,210)
+// (4,230) (1,190) (5,240) (3,150). Values worked by hand (methods.md section 8
+// lists the same case, computed there with its Appendix B code):
+//   region 0: FFD 200, SFD 200, GD 200, go-past 200, TFT 200, regression out 0
+//   region 1: 220 / 220 / 220 / 220, TFT 410 (220 + 190), rereading 190, second pass 190, out 0
+//   region 2: skipped in first pass (region 3 was fixated before it): first-pass NA, TFT 210
+//   region 3: FFD 250, SFD NA (two first-pass fixations), GD 430, go-past 640 (250+180+210),
+//             selective go-past 430, TFT 580, rereading 150, second pass 150, out 1 (next is region 2)
+//   region 4: 230 / 230 / 230, go-past 420 (230 + 190 on region 1), selective 230, out 1
+//   region 5: 240, go-past 390 (240 + 150 to the end of the trial), out 1 (then region 3)
+TEST(ReadingMeasures, WorkedScanpathWithRegressionsAndASkip) {
+  const auto m = reading_measures(path({{0, 200}, {1, 220}, {3, 250}, {3, 180}, {2, 210}, {4, 230}, {1, 190}, {5, 240}, {3, 150}}), 6, 12);
+  EXPECT_EQ(m[0].first_fixation_ms, 200);
+  EXPECT_EQ(m[0].single_fixation_ms, 200);
+  EXPECT_EQ(m[0].go_past_ms, 200);
+  EXPECT_EQ(m[0].regression_out, false);
+  EXPECT_EQ(m[1].total_time_ms, 410);
+  EXPECT_EQ(m[1].rereading_ms, 190);
+  EXPECT_EQ(m[1].second_pass_ms, 190);
+  EXPECT_TRUE(m[1].regression_in);  // re-entered from region 4
+  EXPECT_TRUE(m[2].skipped);
+  EXPECT_TRUE(m[2].fixated);
+  EXPECT_FALSE(m[2].first_fixation_ms);
+  EXPECT_FALSE(m[2].gaze_duration_ms);
+  EXPECT_FALSE(m[2].go_past_ms);
+  EXPECT_FALSE(m[2].regression_out);
+  EXPECT_FALSE(m[2].rereading_ms);
+  EXPECT_EQ(m[2].total_time_ms, 210);
+  EXPECT_TRUE(m[2].regression_in);   // entered from region 3
+  EXPECT_EQ(m[3].first_fixation_ms, 250);
+  EXPECT_FALSE(m[3].single_fixation_ms);
+  EXPECT_EQ(m[3].gaze_duration_ms, 430);
+  EXPECT_EQ(m[3].first_pass_fixations, 2);
+  EXPECT_EQ(m[3].go_past_ms, 640);
+  EXPECT_EQ(m[3].selective_go_past_ms, 430);
+  EXPECT_EQ(m[3].total_time_ms, 580);
+  EXPECT_EQ(m[3].total_fixations, 3);
+  EXPECT_EQ(m[3].second_pass_ms, 150);
+  EXPECT_EQ(m[3].regression_out, true);
+  EXPECT_EQ(m[4].go_past_ms, 420);
+  EXPECT_EQ(m[4].selective_go_past_ms, 230);
+  EXPECT_EQ(m[4].regression_out, true);
+  EXPECT_EQ(m[5].go_past_ms, 390);
+  EXPECT_EQ(m[5].regression_out, true);
+  EXPECT_FALSE(m[0].skipped);
+}
+
+// Our conventions for fixations off the regions (-1) and never-fixated regions, by hand:
+// (0,200) (-1,100) (0,150) (2,300) (-1,80) (1,120) (2,90), four regions.
+//   region 0: the off-region fixation ends the first-pass run: GD 200 (not 350); its next fixation
+//             on a region is region 0 again, so regression out is 0; second pass 150; go-past
+//             200 + 100 + 150 = 450 (off-region time counts until region 2 is fixated).
+//   region 1: skipped (region 2 came first); TFT 120.
+//   region 2: GD 300; next fixation on a region is region 1: regression out 1; go-past 300 + 80 + 120 + 90
+//             = 590 to the end of the trial; selective go-past 300 + 90 = 390.
+//   region 3: never fixated: skipped, not fixated, every duration NA (never 0).
+TEST(ReadingMeasures, OffRegionFixationsAndNeverFixatedRegions) {
+  const auto m = reading_measures(path({{0, 200}, {-1, 100}, {0, 150}, {2, 300}, {-1, 80}, {1, 120}, {2, 90}}), 4, 12);
+  EXPECT_EQ(m[0].gaze_duration_ms, 200);
+  EXPECT_EQ(m[0].regression_out, false);
+  EXPECT_EQ(m[0].second_pass_ms, 150);
+  EXPECT_EQ(m[0].go_past_ms, 450);
+  EXPECT_TRUE(m[1].skipped);
+  EXPECT_EQ(m[1].total_time_ms, 120);
+  EXPECT_EQ(m[2].gaze_duration_ms, 300);
+  EXPECT_EQ(m[2].regression_out, true);
+  EXPECT_EQ(m[2].go_past_ms, 590);
+  EXPECT_EQ(m[2].selective_go_past_ms, 390);
+  EXPECT_TRUE(m[3].skipped);
+  EXPECT_FALSE(m[3].fixated);
+  EXPECT_FALSE(m[3].total_time_ms);
+  EXPECT_FALSE(m[3].first_fixation_ms);
+  EXPECT_EQ(m[3].total_fixations, 0);
+}
+
+// A refixation and a single fixation; landing position and incoming saccade:
+// fixation 1 at x = 100 on region 0, fixation 2 at x = 130 on region 1 with a
+// landing position of 1.5 characters: incoming saccade (130 - 100) / 12 = 2.5 characters.
+TEST(ReadingMeasures, LandingPositionAndIncomingSaccade) {
+  auto p = path({{0, 210}, {1, 180}, {1, 160}});
+  p[1].landing_chars = 1.5;
+  p[1].x_deg = 2.0;
+  p[0].x_deg = 1.0;
+  const auto m = reading_measures(p, 2, 12);
+  EXPECT_EQ(m[1].landing_chars, 1.5);
+  EXPECT_DOUBLE_EQ(*m[1].incoming_saccade_chars, 2.5);
+  EXPECT_DOUBLE_EQ(*m[1].incoming_saccade_deg, 1.0);
+  EXPECT_FALSE(m[1].single_fixation_ms);  // refixated in first pass
+  EXPECT_EQ(m[1].gaze_duration_ms, 340);
+  EXPECT_FALSE(m[0].incoming_saccade_deg);  // the trial's first fixation has none
+}
+
+// Invariants over 100 000 random scanpaths (definitions as above): TFT >= gaze
+// >= first fixation; go-past >= gaze; rereading = TFT - gaze; a region skipped
+// in first pass has no first-pass values; single fixation only with one
+// first-pass fixation.
+TEST(ReadingMeasures, InvariantsOverRandomScanpaths) {
+  std::mt19937 rng(2024);
+  std::uniform_int_distribution<int> regions(2, 10), length(0, 25);
+  std::uniform_real_distribution<double> ms(40, 900), u(0, 1);
+  for (int n = 0; n < 100000; ++n) {
+    const int R = regions(rng);
+    std::vector<PlacedFixation> p;
+    int at = 0;
+    const int len = length(rng);
+    for (int k = 0; k < len; ++k) {
+      const double r = u(rng);
+      if (r < 0.6) at = std::min(R - 1, at + 1);
+      else if (r < 0.75) at = std::max(0, at - 1 - static_cast<int>(u(rng) * 3));
+      else if (r < 0.85) at = std::min(R - 1, at + 2);
+      PlacedFixation f;
+      f.region = u(rng) < 0.05 ? -1 : at;
+      f.duration_ms = ms(rng);
+      p.push_back(f);
+    }
+    for (const auto& m : reading_measures(p, R, 12)) {
+      if (m.skipped) {
+        ASSERT_FALSE(m.first_fixation_ms || m.gaze_duration_ms || m.go_past_ms || m.single_fixation_ms || m.regression_out ||
+                     m.rereading_ms || m.first_pass_fixations || m.landing_chars);
+      } else {
+        ASSERT_TRUE(m.fixated);
+        ASSERT_GE(*m.total_time_ms + 1e-9, *m.gaze_duration_ms);
+        ASSERT_GE(*m.gaze_duration_ms + 1e-9, *m.first_fixation_ms);
+        ASSERT_GE(*m.go_past_ms + 1e-9, *m.gaze_duration_ms);
+        ASSERT_GE(*m.go_past_ms + 1e-9, *m.selective_go_past_ms);
+        ASSERT_NEAR(*m.rereading_ms, *m.total_time_ms - *m.gaze_duration_ms, 1e-9);
+        ASSERT_EQ(m.single_fixation_ms.has_value(), *m.first_pass_fixations == 1);
+      }
+      ASSERT_EQ(m.fixated, m.total_time_ms.has_value());
+      ASSERT_EQ(m.fixated, m.total_fixations > 0);
+    }
+  }
+}
+
+// Mapping: lines by the nearest centre (or only inside a line), margins by
+// the nearest region within the allowance, landing positions in characters.
+TEST(RegionMapper, LinesMarginsAndLanding) {
+  TextLayoutSpec spec;
+  spec.char_width_px = 10;
+  spec.line_height_px = 40;
+  spec.left_margin_px = 100;
+  spec.first_line_top_px = 200;
+  spec.wrap_width_chars = 12;
+  // "aa bbb / cccc dd / e": line 0 "aa bbb cccc" (columns 0-10), line 1 "dd e".
+  const RegionLayout L = region_layout_from_text(lay_out_item("x", "aa bbb / cccc dd / e", spec), spec, "");
+  ASSERT_EQ(L.regions[1].boxes.size(), 2u);  // "cccc" on line 0, "dd" on line 1
+  RegionSpec rs;
+  rs.layout = spec;
+  auto at = [&](double x, double y) { return place_fixation(L, x, y, rs); };
+  EXPECT_EQ(at(105, 220).region, 0);  // 'a' at column 0
+  EXPECT_EQ(at(165, 220).region, 1);  // column 6, the space before "cccc", belongs to region 1
+  EXPECT_EQ(at(105, 260).region, 1);  // "dd" on line 1
+  EXPECT_EQ(at(135, 260).region, 2);  // "e"
+  EXPECT_EQ(at(105, 238).line, 0);
+  EXPECT_EQ(at(105, 242).line, 1);
+  EXPECT_EQ(at(105, 330).line, -1);   // 70 px from line 1's centre (260): more than one line height
+  EXPECT_EQ(at(85, 220).region, 0);   // 15 px left of the text: within two characters
+  EXPECT_EQ(at(75, 220).region, -1);  // 25 px: beyond
+  rs.margin_nearest = false;
+  EXPECT_EQ(at(95, 220).region, -1);
+  rs.off_line_nearest = false;
+  EXPECT_EQ(at(105, 199).line, -1);   // above line 0's box
+  // Landing: region 1's first letter 'c' starts at 100 + 7 * 10 = 170; x = 185 is 1.5 characters in.
+  EXPECT_DOUBLE_EQ(*at(185, 220).landing_chars, 1.5);
+}
