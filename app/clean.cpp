@@ -9,6 +9,8 @@
 #include "filters/cleaning_engine.h"
 #include "gazemill/version.h"
 #include "io/cleaning_io.h"
+#include "io/region_files.h"
+#include "measures/region_mapper.h"
 #include "io/sha256.h"
 #include "io/study_store.h"
 #include "pipeline/input_error.h"
@@ -78,6 +80,23 @@ CleaningState cleaning_state_from_store(const StudyStoreReader& store) {
   return state;
 }
 
+void map_regions(CleaningState& state, const RegionCatalogue& regions, const RegionSpec& spec) {
+  for (auto& p : state.participants) {
+    for (auto& t : p.trials) {
+      const RegionLayout* layout = regions.find(t.item, t.condition);
+      if (!layout) {
+        throw InputError({"", 0, "regions"}, "no regions for item " + t.item + " in condition " + t.condition + " (participant " +
+                                                 t.participant + ", trial " + t.trial + ")");
+      }
+      for (auto& f : t.fixations) f.region = place_fixation(*layout, f.fixation.x_px, f.fixation.y_px, spec).region;
+      for (const auto& r : layout->regions) {
+        if (!r.role.empty()) t.region_roles.emplace(r.role, r.id);
+      }
+      t.regions_mapped = true;
+    }
+  }
+}
+
 AuditReport clean_study(const Protocol& protocol, const std::string& store_path, const std::string& report_folder) {
   if (protocol.cleaning.empty()) {
     throw InputError({protocol.path, 0, "cleaning"}, "the protocol has no [[cleaning]] rules");
@@ -85,7 +104,8 @@ AuditReport clean_study(const Protocol& protocol, const std::string& store_path,
   CleaningOutcome outcome;
   {
     StudyStoreReader source(store_path);
-    const CleaningState input = cleaning_state_from_store(source);
+    CleaningState input = cleaning_state_from_store(source);
+    if (protocol.regions.present()) map_regions(input, load_regions(protocol), protocol.regions);
     try {
       outcome = run_cleaning(input, protocol.cleaning);
     } catch (const std::invalid_argument& e) {

@@ -9,9 +9,14 @@
 namespace gazemill {
 
 class StudyStoreReader;
+class RegionCatalogue;
 
 /// The cleaning input from a store's recordings, trials and detected events.
 CleaningState cleaning_state_from_store(const StudyStoreReader& store);
+
+/// Places every fixation on its item's regions, for the region rules.
+/// Throws InputError when an item has no regions.
+void map_regions(CleaningState& state, const RegionCatalogue& regions, const RegionSpec& spec);
 
 /// Runs the rules, replaces the store with a copy holding the cleaned
 /// fixations, the removed ones with their rule and reason, and the audit;

@@ -41,6 +41,7 @@ std::string RuleParams::choice(const std::string& key, const std::vector<std::st
   if (spec_.numbers.count(key)) throw RuleParameterError(key, rule() + ": parameter " + key + " must be text");
   auto it = spec_.texts.find(key);
   if (it == spec_.texts.end()) return fallback;
+  if (allowed.empty()) return it->second;  // free text
   for (const auto& a : allowed) {
     if (a == it->second) return a;
   }

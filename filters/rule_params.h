@@ -17,6 +17,7 @@ class RuleParams {
   double required(const std::string& key, double min = 0.0, double max = 1e300);
   double optional(const std::string& key, double fallback, double min = 0.0, double max = 1e300);
   std::optional<double> maybe(const std::string& key, double min = 0.0, double max = 1e300);
+  /// A text parameter; one of `allowed` unless that list is empty.
   std::string choice(const std::string& key, const std::vector<std::string>& allowed, const std::string& fallback);
   std::string required_text(const std::string& key);
   /// Throws for any parameter not asked for; suggests the unit when only that is missing.

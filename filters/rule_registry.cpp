@@ -5,6 +5,7 @@
 #include "filters/fixation_filters.h"
 #include "filters/merge_short_fixations.h"
 #include "filters/participant_exclusions.h"
+#include "filters/region_exclusions.h"
 #include "filters/rule_params.h"
 #include "filters/trial_exclusions.h"
 
@@ -24,6 +25,9 @@ const std::vector<std::pair<std::string, AuditLevel>>& kinds() {
       {"exclude_trials_with_few_fixations", AuditLevel::trial},
       {"exclude_trials_by_duration", AuditLevel::trial},
       {"exclude_trials_with_gap_in_window", AuditLevel::trial},
+      {"exclude_trials_with_gap_in_first_pass", AuditLevel::trial},
+      {"exclude_trials_skipping_region", AuditLevel::trial},
+      {"exclude_trials_without_first_region", AuditLevel::trial},
       {"exclude_participants_by_trial_loss", AuditLevel::participant},
       {"exclude_participants_by_variable", AuditLevel::participant},
   };
@@ -96,6 +100,18 @@ std::unique_ptr<CleaningRule> make_cleaning_rule(const CleaningRuleSpec& spec) {
     const double from = p.required("from_ms", -kNoLimit), to = p.required("to_ms", -kNoLimit);
     if (to <= from) throw RuleParameterError("to_ms", "rule '" + spec.name + "': to_ms must be after from_ms");
     rule = std::make_unique<ExcludeTrialsWithGapInWindow>(marker, from, to, p.choice("events", {"blink", "loss", "any"}, "any"));
+  } else if (k == "exclude_trials_with_gap_in_first_pass" || k == "exclude_trials_skipping_region") {
+    NamedRegion region;
+    const auto number = p.maybe("region", 1);
+    region.role = p.choice("role", {}, "");
+    if (number.has_value() == !region.role.empty()) {
+      throw RuleParameterError("", "rule '" + spec.name + "' (" + k + "): name the region either by number (region = 3) or by role (role = \"target\")");
+    }
+    if (number) region.index = static_cast<int>(*number) - 1;
+    if (k == "exclude_trials_skipping_region") rule = std::make_unique<ExcludeTrialsSkippingRegion>(region);
+    else rule = std::make_unique<ExcludeTrialsWithGapInFirstPass>(region, p.choice("events", {"blink", "loss", "any"}, "any"));
+  } else if (k == "exclude_trials_without_first_region") {
+    rule = std::make_unique<ExcludeTrialsWithoutFirstRegion>();
   } else if (k == "exclude_participants_by_trial_loss") {
     rule = std::make_unique<ExcludeParticipantsByTrialLoss>(p.required("max_excluded_percent", 0, 100));
   } else if (k == "exclude_participants_by_variable") {

@@ -22,6 +22,7 @@ struct CleanFixation {
   std::uint32_t merged_count = 1; // input fixations it now stands for
   std::uint32_t merged_into = 0;  // when merged away: the id of the one it joined
   bool merged_away = false;
+  int region = -1;                // 0-based region it lies on (when the protocol has regions), -1 off the regions
 };
 
 struct CleanTrial {
@@ -40,6 +41,8 @@ struct CleanTrial {
   std::vector<std::pair<Microseconds, Microseconds>> losses;  // stretches of track loss
   std::vector<CleanFixation> fixations;  // time order
   bool kept = true;
+  bool regions_mapped = false;           // fixation.region is set (the protocol has regions)
+  std::map<std::string, int> region_roles;  // role -> 0-based region, from the region files
 };
 
 struct CleanParticipant {

@@ -310,3 +310,43 @@ TEST(CleaningRules, BadParametersNameTheProblem) {
   EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}}, {{"prefer", "left"}})).find("must be one of \"nearer\""), std::string::npos);
   EXPECT_NE(error(rule("x", "exclude_trials_with_data_loss", {{"max_missing_percent", 140}})).find("at most 100"), std::string::npos);
 }
+
+// Region rules, by hand. Regions (0-based) of the fixations, in time order:
+// trial 1: 0, 1, 3, 2, 4  -> region 3 ("target" here, index 2) skipped in first pass
+// trial 2: 0, 1, 2, 2, 3  -> target read in first pass from the third fixation until the
+//          fifth starts; a blink between the fourth and the fifth falls in that window
+// trial 3: 1, 2, 3        -> no fixation on the first region
+TEST(RegionExclusions, FirstPassGapSkippingAndFirstRegion) {
+  std::uint32_t id = 0;
+  auto make = [&](const std::string& name, std::vector<int> regions) {
+    std::vector<F> fs;
+    for (std::size_t k = 0; k < regions.size(); ++k) fs.push_back({200.0 * static_cast<double>(k), 180, 0});
+    CleanTrial t = trial_of(fs, id);
+    t.trial = name;
+    for (std::size_t k = 0; k < regions.size(); ++k) t.fixations[k].region = regions[k];
+    t.regions_mapped = true;
+    t.region_roles["target"] = 2;
+    return t;
+  };
+  auto t1 = make("1", {0, 1, 3, 2, 4});
+  auto t2 = make("2", {0, 1, 2, 2, 3});
+  t2.blinks.push_back({"2", Eye::left, 700'000, 790'000});  // fourth fixation ends at 780 ms, fifth starts at 800 ms
+  auto t3 = make("3", {1, 2, 3});
+  const auto input = state_of({t1, t2, t3});
+  auto o = run_cleaning(input, {rule("skip", "exclude_trials_skipping_region", {}, {{"role", "target"}})});
+  EXPECT_FALSE(o.state.participants[0].trials[0].kept);
+  EXPECT_TRUE(o.state.participants[0].trials[1].kept);
+  EXPECT_TRUE(o.state.participants[0].trials[2].kept);
+  o = run_cleaning(input, {rule("blink", "exclude_trials_with_gap_in_first_pass", {}, {{"role", "target"}, {"events", "blink"}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::trial), 1u);
+  EXPECT_FALSE(o.state.participants[0].trials[1].kept);
+  o = run_cleaning(input, {rule("blink", "exclude_trials_with_gap_in_first_pass", {{"region", 2}}, {{"events", "blink"}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::trial), 0u);  // region 2 (index 1) has no blink in its first pass
+  o = run_cleaning(input, {rule("first", "exclude_trials_without_first_region", {})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::trial), 1u);
+  EXPECT_FALSE(o.state.participants[0].trials[2].kept);
+  // Without regions mapped, the rule says what it needs.
+  auto plain = input;
+  for (auto& t : plain.participants[0].trials) t.regions_mapped = false;
+  EXPECT_THROW(run_cleaning(plain, {rule("first", "exclude_trials_without_first_region", {})}), std::invalid_argument);
+}
