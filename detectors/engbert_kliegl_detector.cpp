@@ -3,32 +3,20 @@
 #include <algorithm>
 #include <cmath>
 
+#include "detectors/median.h"
 #include "detectors/velocity.h"
 
 namespace gazemill {
-namespace {
-
-double median_of(std::vector<double>&& v) {
-  if (v.empty()) return 0.0;
-  const std::size_t m = v.size() / 2;
-  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m), v.end());
-  if (v.size() % 2) return v[m];
-  const double hi = v[m];
-  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m - 1), v.end());
-  return 0.5 * (hi + v[m - 1]);
-}
-
-}  // namespace
-
 double median_based_sd(const std::vector<double>& v) {
   std::vector<double> finite;
   finite.reserve(v.size());
   for (double x : v) {
     if (std::isfinite(x)) finite.push_back(x);
   }
-  const double m = median_of(std::vector<double>(finite));
+  if (finite.empty()) return 0.0;
+  const double m = median_in_place(finite);
   for (double& x : finite) x *= x;  // reuse the buffer for the squares
-  return std::sqrt(std::max(0.0, median_of(std::move(finite)) - m * m));
+  return std::sqrt(std::max(0.0, median_in_place(finite) - m * m));
 }
 
 ParameterList EngbertKlieglDetector::parameters() const {

@@ -4,6 +4,7 @@
 #include <cmath>
 #include <numbers>
 
+#include "detectors/median.h"
 #include "detectors/velocity.h"
 
 namespace gazemill {
@@ -24,16 +25,6 @@ void for_each_run(const std::vector<SampleLabel>& labels, F&& f) {
 double run_ms(const GazeTrace& g, std::size_t a, std::size_t b) {
   // A run covers its samples: from the first sample to one interval after the last.
   return (static_cast<double>(g.time_us[b - 1] - g.time_us[a]) + g.interval_us) / 1000.0;
-}
-
-double median(std::vector<double> v) {
-  if (v.empty()) return std::nan("");
-  const std::size_t m = v.size() / 2;
-  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m), v.end());
-  if (v.size() % 2) return v[m];
-  const double hi = v[m];
-  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(m - 1), v.end());
-  return 0.5 * (hi + v[m - 1]);
 }
 
 }  // namespace
@@ -190,8 +181,8 @@ void collect_events(const GazeTrace& g, const std::vector<SampleLabel>& labels, 
       f.y_px = sy / n;
       f.x_deg = sxd / n;
       f.y_deg = syd / n;
-      f.x_median_px = median(xs);
-      f.y_median_px = median(ys);
+      f.x_median_px = median_in_place(xs);
+      f.y_median_px = median_in_place(ys);
       f.dispersion_deg = (x_hi - x_lo) + (y_hi - y_lo);
       out.fixations.push_back(f);
     } else if (l == SampleLabel::saccade) {

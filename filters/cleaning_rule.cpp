@@ -2,10 +2,17 @@
 
 namespace gazemill {
 
-void remove_fixation(CleanTrial& trial, CleanFixation& f, std::size_t rule, const std::string& reason, AuditChannel& channel) {
+void remove_fixation(CleanTrial& trial, CleanFixation& f, std::size_t rule, const std::string& reason, AuditChannel& channel,
+                     const CleanFixation* merged_into) {
   if (!f.kept) return;
   f.kept = false;
   AuditNotice n;
+  if (merged_into) {
+    f.merged_away = true;
+    f.merged_into = merged_into->id;
+    n.merge = true;
+    n.into_id = merged_into->id;
+  }
   n.rule = rule;
   n.level = AuditLevel::fixation;
   n.participant = trial.participant;

@@ -35,8 +35,31 @@ std::unique_ptr<CleaningRule> make_cleaning_rule(const CleaningRuleSpec& spec);
 AuditLevel cleaning_rule_level(const std::string& kind);
 
 // Removal helpers used by the rules.
-void remove_fixation(CleanTrial& trial, CleanFixation& f, std::size_t rule, const std::string& reason, AuditChannel& channel);
+/// Removes a kept fixation; with `merged_into`, it was merged into that one.
+void remove_fixation(CleanTrial& trial, CleanFixation& f, std::size_t rule, const std::string& reason, AuditChannel& channel,
+                     const CleanFixation* merged_into = nullptr);
 void remove_trial(CleanTrial& trial, std::size_t rule, const std::string& reason, AuditChannel& channel);
 void remove_participant(CleanParticipant& p, std::size_t rule, const std::string& reason, AuditChannel& channel);
+
+/// Calls f(trial) for every trial still kept, of participants still kept.
+template <typename F>
+void for_each_kept_trial(CleaningState& state, F&& f) {
+  for (auto& p : state.participants) {
+    if (!p.kept) continue;
+    for (auto& t : p.trials) {
+      if (t.kept) f(t);
+    }
+  }
+}
+
+/// Calls f(trial, fixation) for every fixation still kept, in trials still kept.
+template <typename F>
+void for_each_kept_fixation(CleaningState& state, F&& f) {
+  for_each_kept_trial(state, [&](CleanTrial& t) {
+    for (auto& x : t.fixations) {
+      if (x.kept) f(t, x);
+    }
+  });
+}
 
 }  // namespace gazemill

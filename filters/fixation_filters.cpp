@@ -3,22 +3,6 @@
 #include <fmt/format.h>
 
 namespace gazemill {
-namespace {
-
-template <typename F>
-void for_each_kept_fixation(CleaningState& state, F&& f) {
-  for (auto& p : state.participants) {
-    for (auto& t : p.trials) {
-      if (!t.kept) continue;
-      for (auto& x : t.fixations) {
-        if (x.kept) f(t, x);
-      }
-    }
-  }
-}
-
-}  // namespace
-
 void DeleteShortFixations::apply(CleaningState& state, std::size_t rule, AuditChannel& channel) const {
   for_each_kept_fixation(state, [&](CleanTrial& t, CleanFixation& f) {
     if (f.duration_ms < min_ms_) remove_fixation(t, f, rule, fmt::format("{:.0f} ms < {:g} ms", f.duration_ms, min_ms_), channel);

@@ -66,21 +66,7 @@ void MergeShortFixations::apply(CleaningState& state, std::size_t rule, AuditCha
         target->duration_ms = p_.duration == "span" ? static_cast<double>(t.end_us - t.start_us) / 1000.0
                                                     : target->duration_ms + s.duration_ms;
         target->merged_count += s.merged_count;
-        s.kept = false;
-        s.merged_away = true;
-        s.merged_into = target->id;
-        AuditNotice n;
-        n.rule = rule;
-        n.level = AuditLevel::fixation;
-        n.participant = trial.participant;
-        n.condition = trial.condition;
-        n.trial = trial.trial;
-        n.count = 1;
-        n.ids = {s.id};
-        n.merge = true;
-        n.into_id = target->id;
-        n.reason = "merged into a longer neighbour";
-        channel.notice(n);
+        remove_fixation(trial, s, rule, "merged into a longer neighbour", channel, target);
       }
     }
   }

@@ -36,16 +36,6 @@ void require_regions(const CleanTrial& t) {
   }
 }
 
-template <typename F>
-void for_each_kept_trial(CleaningState& state, F&& f) {
-  for (auto& p : state.participants) {
-    if (!p.kept) continue;
-    for (auto& t : p.trials) {
-      if (t.kept) f(t);
-    }
-  }
-}
-
 }  // namespace
 
 int NamedRegion::resolve(const CleanTrial& t) const {

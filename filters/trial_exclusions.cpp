@@ -3,20 +3,6 @@
 #include <fmt/format.h>
 
 namespace gazemill {
-namespace {
-
-template <typename F>
-void for_each_kept_trial(CleaningState& state, F&& f) {
-  for (auto& p : state.participants) {
-    if (!p.kept) continue;
-    for (auto& t : p.trials) {
-      if (t.kept) f(t);
-    }
-  }
-}
-
-}  // namespace
-
 void ExcludeTrialsWithDataLoss::apply(CleaningState& state, std::size_t rule, AuditChannel& channel) const {
   for_each_kept_trial(state, [&](CleanTrial& t) {
     const double percent = t.samples ? 100.0 * static_cast<double>(t.missing_samples) / static_cast<double>(t.samples) : 100.0;

@@ -319,26 +319,6 @@ std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& st
   return out;
 }
 
-void write_file_atomically(const std::string& path, const std::string& text) {
-  const std::filesystem::path p(path);
-  const std::string tmp = (p.parent_path() / ("." + p.filename().string() + ".partial-" + std::to_string(::getpid()))).string();
-  {
-    std::ofstream out(tmp, std::ios::binary);
-    out << text;
-    out.flush();
-    if (!out) {
-      std::remove(tmp.c_str());
-      throw InputError({path, 0, ""}, "cannot write");
-    }
-  }
-  std::error_code ec;
-  std::filesystem::rename(tmp, path, ec);
-  if (ec) {
-    std::remove(tmp.c_str());
-    throw InputError({path, 0, ""}, "cannot move into place: " + ec.message());
-  }
-}
-
 void write_audit_tsv(const AuditReport& r, const std::string& counts_path, const std::string& totals_path) {
   std::string c = "order\trule\tkind\tlevel\tparticipant\tcondition\tremoved_sequential\tremoved_alone\tmerged_sequential\tmerged_alone\n";
   for (const auto& row : audit_rows(r)) {

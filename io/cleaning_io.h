@@ -17,6 +17,7 @@
 #include <string>
 #include <vector>
 
+#include "io/atomic_file.h"
 #include "io/study_store.h"
 #include "pipeline/cleaning_state.h"
 
@@ -49,7 +50,5 @@ std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& st
 void write_audit_tsv(const AuditReport& report, const std::string& counts_path, const std::string& totals_path);
 void write_audit_json(const AuditReport& report, const std::string& path);
 
-/// Writes `text` to path via a temporary file in the same folder and a rename.
-void write_file_atomically(const std::string& path, const std::string& text);
 
 }  // namespace gazemill

@@ -12,6 +12,7 @@
 #include <algorithm>
 
 #include "io/chunk_compressor.h"
+#include "io/atomic_file.h"
 #include "io/hdf5_util.h"
 #include "pipeline/input_error.h"
 
@@ -79,11 +80,6 @@ class ForwardingSink : public SampleSink {
   RecordingSampleWriter& target_;
 };
 
-std::string temp_name_for(const std::string& path) {
-  const fs::path p(path);
-  return (p.parent_path() / ("." + p.filename().string() + ".partial-" + std::to_string(::getpid()))).string();
-}
-
 }  // namespace
 
 struct StudyStoreWriter::Impl {
@@ -105,7 +101,7 @@ struct StudyStoreWriter::Impl {
 };
 
 StudyStoreWriter::StudyStoreWriter(std::string path, StoreWriteOptions options)
-    : path_(std::move(path)), temp_path_(temp_name_for(path_)) {
+    : path_(std::move(path)), temp_path_(temporary_path_beside(path_)) {
   try {
     impl_ = std::make_unique<Impl>(temp_path_, options);
   } catch (const H5::Exception& e) {
