@@ -235,6 +235,14 @@ void parse_regions(TomlSection& r, Protocol& p) {
     if (*v < 1) r.fail("wrap_width_chars", "expected a positive number of characters");
     L.wrap_width_chars = static_cast<int>(*v);
   }
+  if (auto adv = r.table("advances")) {
+    for (const auto& key : adv->keys()) {
+      if (key.size() != 1) adv->fail(key, "advances are given per character: one character per key, e.g. \"i\" = 5.5");
+      const auto v = adv->number(key);
+      if (!(*v > 0)) adv->fail(key, "expected a positive advance in px");
+      L.advance_px[key[0]] = *v;
+    }
+  }
   if (!spec.items_file.empty() && L.char_width_px <= 0) {
     throw InputError({p.path, r.line(), "regions.char_width_px"}, "items_file needs the font's character width (char_width_px)");
   }

@@ -24,9 +24,18 @@ RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSp
     info.has_letters = true;
     bool first_letter = true;
     // One box per line the region covers, from its characters.
+    bool first_box = true;
     for (int c = r.first_char; c <= r.last_char; ++c) {
       const PlacedChar& ch = item.chars[static_cast<std::size_t>(c)];
-      const double left = ch.centre_x_px - spec.char_width_px / 2, right = left + spec.char_width_px;
+      // A space left at the end of a line before a wrapped word is not part of any box.
+      const bool trailing_space = ch.c == ' ' && c + 1 < static_cast<int>(item.chars.size()) &&
+                                  item.chars[static_cast<std::size_t>(c + 1)].line != ch.line;
+      if (trailing_space) continue;
+      if (first_box) {
+        info.line = ch.line;
+        first_box = false;
+      }
+      const double left = ch.left_px, right = ch.left_px + ch.width_px;
       if (info.boxes.empty() || info.boxes.back().line != ch.line) {
         info.boxes.push_back({ch.line, left, out.lines[static_cast<std::size_t>(ch.line)].top_px, right,
                               out.lines[static_cast<std::size_t>(ch.line)].bottom_px});

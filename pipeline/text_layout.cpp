@@ -25,7 +25,7 @@ LaidOutItem lay_out_item(const std::string& item, const std::string& marked_text
   parts.push_back(current);
 
   // Plain text with the region of every character; collapse the spaces around marks.
-  std::vector<int> region_of;
+  std::vector<int> region_of;  // per character of the plain text
   for (std::size_t r = 0; r < parts.size(); ++r) {
     std::string p = parts[r];
     while (!p.empty() && p.front() == ' ') p.erase(p.begin());
@@ -51,41 +51,48 @@ LaidOutItem lay_out_item(const std::string& item, const std::string& marked_text
     word_spans.emplace_back(i, j - 1);
     i = j;
   }
+  // Greedy wrapping by width: a word that would cross wrap_width_px starts a new line.
+  const int n = static_cast<int>(out.text.size());
   std::vector<int> line_of(out.text.size(), 0), column_of(out.text.size(), 0);
+  std::vector<double> left_of(out.text.size(), 0.0);
   int line = 0, column = 0;
+  double x = 0;
   std::size_t next_word = 0;
-  for (int i = 0; i < static_cast<int>(out.text.size()); ++i) {
+  for (int i = 0; i < n; ++i) {
     if (next_word < word_spans.size() && word_spans[next_word].first == i) {
-      const int len = word_spans[next_word].second - word_spans[next_word].first + 1;
-      if (len > spec.wrap_width_chars) throw std::invalid_argument("item " + item + ": a word is longer than a line");
-      if (column > 0 && column + len > spec.wrap_width_chars) {
+      double width = 0;
+      for (int k = word_spans[next_word].first; k <= word_spans[next_word].second; ++k) width += spec.advance(out.text[k]);
+      if (width > spec.wrap_width_px()) throw std::invalid_argument("item " + item + ": a word is longer than a line");
+      if (column > 0 && x + width > spec.wrap_width_px() + 1e-9) {
         ++line;
         column = 0;
+        x = 0;
       }
       ++next_word;
     }
     if (out.text[i] == ' ' && column == 0 && line > 0) {
-      // A space at the start of a wrapped line is placed at the end of the previous one.
+      // A space at the start of a wrapped line stays at the end of the previous one.
       line_of[i] = line - 1;
-      column_of[i] = -1;
+      column_of[i] = i > 0 ? column_of[i - 1] + 1 : 0;
+      left_of[i] = i > 0 ? left_of[i - 1] + spec.advance(out.text[i - 1]) : 0.0;
       continue;
     }
     line_of[i] = line;
     column_of[i] = column++;
-  }
-  // Spaces that wrapped take the column after the previous character.
-  for (int i = 0; i < static_cast<int>(out.text.size()); ++i) {
-    if (column_of[i] == -1) column_of[i] = i > 0 ? column_of[i - 1] + 1 : 0;
+    left_of[i] = x;
+    x += spec.advance(out.text[i]);
   }
   out.line_count = line + 1;
 
-  for (int i = 0; i < static_cast<int>(out.text.size()); ++i) {
+  for (int i = 0; i < n; ++i) {
     PlacedChar pc;
     pc.c = out.text[i];
     pc.line = line_of[i];
     pc.column = column_of[i];
     pc.region = region_of[i];
-    pc.centre_x_px = spec.left_margin_px + (pc.column + 0.5) * spec.char_width_px;
+    pc.left_px = spec.left_margin_px + left_of[i];
+    pc.width_px = spec.advance(pc.c);
+    pc.centre_x_px = pc.left_px + pc.width_px / 2;
     pc.centre_y_px = out.line_centre_y(pc.line, spec);
     out.chars.push_back(pc);
   }
@@ -102,22 +109,26 @@ LaidOutItem lay_out_item(const std::string& item, const std::string& marked_text
     Region reg;
     reg.item = item;
     reg.id = static_cast<int>(r);
-    bool first = true;
+    reg.first_char = -1;
+    bool boxed = false;
     for (int i = 0; i < static_cast<int>(out.chars.size()); ++i) {
       if (out.chars[i].region != reg.id) continue;
       const PlacedChar& c = out.chars[i];
-      const double left = c.centre_x_px - spec.char_width_px / 2, right = c.centre_x_px + spec.char_width_px / 2;
+      if (reg.first_char < 0) reg.first_char = i;
+      reg.last_char = i;
+      // A space left at the end of a line before a wrapped word is text, not part of the box.
+      const bool trailing_space = c.c == ' ' && i + 1 < static_cast<int>(out.chars.size()) && out.chars[i + 1].line != c.line;
+      if (trailing_space) continue;
+      const double left = c.left_px, right = c.left_px + c.width_px;
       const double top = spec.first_line_top_px + c.line * spec.line_height_px, bottom = top + spec.line_height_px;
-      if (first) {
-        reg.first_char = i;
+      if (!boxed) {
         reg.line = c.line;
         reg.left_px = left;
         reg.top_px = top;
         reg.right_px = right;
         reg.bottom_px = bottom;
-        first = false;
+        boxed = true;
       }
-      reg.last_char = i;
       reg.left_px = std::min(reg.left_px, left);
       reg.right_px = std::max(reg.right_px, right);
       reg.top_px = std::min(reg.top_px, top);

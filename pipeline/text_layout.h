@@ -3,6 +3,7 @@
 // A region is a stretch of an item's text between '/' marks; a monospaced
 // font is described by one character width (px).
 
+#include <map>
 #include <string>
 #include <vector>
 
@@ -10,11 +11,18 @@ namespace gazemill {
 
 /// Screen layout of item text. All lengths in px, origin at the screen's top left.
 struct TextLayoutSpec {
-  double char_width_px = 12.0;
+  double char_width_px = 12.0;        // a monospaced font's advance; the unit of landing positions
   double line_height_px = 40.0;
   double left_margin_px = 100.0;
   double first_line_top_px = 200.0;   // top of the first line's box
-  int wrap_width_chars = 80;          // lines break at spaces before this many characters
+  int wrap_width_chars = 80;          // lines break at spaces before wrap_width_chars x char_width_px
+  // A proportional font: the advance of each character that differs from char_width_px.
+  std::map<char, double> advance_px;
+  double advance(char c) const {
+    auto it = advance_px.find(c);
+    return it == advance_px.end() ? char_width_px : it->second;
+  }
+  double wrap_width_px() const { return wrap_width_chars * char_width_px; }
 };
 
 struct Word {
@@ -43,6 +51,8 @@ struct PlacedChar {
   int line = 0;
   int column = 0;
   int region = 0;
+  double left_px = 0;
+  double width_px = 0;
   double centre_x_px = 0;
   double centre_y_px = 0;
 };

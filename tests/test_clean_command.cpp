@@ -10,6 +10,7 @@
 #include <sstream>
 #include <zlib.h>
 
+#include "app/audit_report.h"
 #include "app/clean.h"
 #include "app/detect.h"
 #include "app/ingest.h"
@@ -183,4 +184,60 @@ TEST(CleanCommand, BadRulesNameTheRuleAndLineAndWriteNothing) {
                "cleaning[1].max_duration_ms", "must be at least 0");
   expect_error("\n[[cleaning]]\nname = \"r\"\nkind = \"delete_long_fixations\"\nmax_duration_ms = 800\n[[cleaning]]\nname = \"r\"\n"
                "kind = \"delete_long_fixations\"\nmax_duration_ms = 900\n", 7, "cleaning[2].name", "names must be unique");
+}
+
+// Every count the audit prints comes from the ledger: check the printed table
+// against the report it was printed from.
+TEST(CleanCommand, PrintedAuditMatchesTheLedger) {
+  TempDir d;
+  const std::string proto = study(d);
+  run_all(proto, d.file("a.gzm.h5"), d.path().string());
+  const AuditReport r = read_audit(StudyStoreReader(d.file("a.gzm.h5")));
+  std::ostringstream out;
+  print_audit(r, false, out);
+  const std::string text = out.str();
+  std::array<std::uint64_t, kAuditLevels> input{}, kept{};
+  for (const auto& [g, t] : r.totals) {
+    for (std::size_t l = 0; l < kAuditLevels; ++l) {
+      input[l] += t.input[l];
+      kept[l] += t.kept[l];
+    }
+  }
+  for (std::size_t l = 0; l < kAuditLevels; ++l) {
+    // The totals line: level, input, kept, removed.
+    std::istringstream lines(text);
+    std::string line;
+    bool found = false;
+    while (std::getline(lines, line)) {
+      std::istringstream words(line);
+      std::string level;
+      std::uint64_t a = 0, b = 0, c = 0;
+      if (words >> level >> a >> b >> c && level == to_string(static_cast<AuditLevel>(l))) {
+        EXPECT_EQ(a, input[l]);
+        EXPECT_EQ(b, kept[l]);
+        EXPECT_EQ(c, input[l] - kept[l]);
+        found = true;
+      }
+    }
+    EXPECT_TRUE(found) << to_string(static_cast<AuditLevel>(l));
+  }
+  // Each rule row's "removed" is the ledger's sequential count summed over participants and conditions.
+  std::map<std::pair<std::size_t, std::string>, std::uint64_t> removed;
+  for (const auto& row : audit_rows(r)) removed[{row.order, to_string(row.level)}] += row.removed_sequential;
+  std::istringstream lines(text);
+  std::string line;
+  std::size_t rows_checked = 0;
+  while (std::getline(lines, line)) {
+    for (const auto& [key, n] : removed) {
+      const std::string& name = r.rules[key.first - 1];
+      if (line.rfind(std::to_string(key.first) + "  " + name, 0) == 0 && line.find("  " + key.second + " ") != std::string::npos) {
+        std::istringstream tail(line.substr(line.find("  " + key.second + " ") + key.second.size() + 2));
+        std::uint64_t printed = 0;
+        tail >> printed;
+        EXPECT_EQ(printed, n) << line;
+        ++rows_checked;
+      }
+    }
+  }
+  EXPECT_EQ(rows_checked, removed.size());
 }

@@ -196,3 +196,30 @@ TEST(RegionMapper, LinesMarginsAndLanding) {
   // Landing: region 1's first letter 'c' starts at 100 + 7 * 10 = 170; x = 185 is 1.5 characters in.
   EXPECT_DOUBLE_EQ(*at(185, 220).landing_chars, 1.5);
 }
+
+// A proportional font from an advance table, worked by hand: 'm' 16 px, 'i' 4 px,
+// others 10 px, margin 0, lines 50 px wide. "mim / iii": m 0-16, i 16-20, m 20-36,
+// the space 36-46; "iii" (12 px) would end at 58 > 50, so it wraps: 0-4, 4-8, 8-12 on line 2.
+TEST(RegionMapper, ProportionalFontFromAnAdvanceTable) {
+  TextLayoutSpec spec;
+  spec.char_width_px = 10;
+  spec.left_margin_px = 0;
+  spec.first_line_top_px = 0;
+  spec.line_height_px = 30;
+  spec.wrap_width_chars = 5;
+  spec.advance_px = {{'m', 16}, {'i', 4}};
+  const LaidOutItem item = lay_out_item("p", "mim / iii", spec);
+  EXPECT_DOUBLE_EQ(item.chars[2].left_px, 20);
+  EXPECT_EQ(item.chars[4].line, 1);
+  EXPECT_DOUBLE_EQ(item.chars[6].left_px, 8);
+  const RegionLayout L = region_layout_from_text(item, spec, "");
+  ASSERT_EQ(L.regions[0].boxes.size(), 1u);
+  EXPECT_DOUBLE_EQ(L.regions[0].boxes[0].right_px, 36);
+  ASSERT_EQ(L.regions[1].boxes.size(), 1u);  // the space left on line 1 is not part of the box
+  EXPECT_EQ(L.regions[1].line, 1);
+  EXPECT_DOUBLE_EQ(L.regions[1].boxes[0].right_px, 12);
+  RegionSpec rs;
+  EXPECT_EQ(place_fixation(L, 10, 45, rs).region, 1);
+  EXPECT_EQ(place_fixation(L, 18, 15, rs).region, 0);
+  EXPECT_THROW(lay_out_item("p", "mmmm", spec), std::invalid_argument);  // 64 px > 50 px
+}
