@@ -36,7 +36,8 @@ class CompressionPool {
   bool stop_ = false;
 };
 
-/// Shuffle + zlib exactly as HDF5's H5Z_FILTER_SHUFFLE then H5Z_FILTER_DEFLATE.
+/// Shuffle, then deflate in the zlib format: what HDF5's H5Z_FILTER_SHUFFLE and
+/// H5Z_FILTER_DEFLATE read back (the bytes may differ from zlib's own output).
 std::vector<char> shuffle_and_deflate(const char* data, std::size_t bytes, std::size_t element_size, int level);
 
 /// Compressed chunks waiting to be written, oldest first; bounded in number so

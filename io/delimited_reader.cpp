@@ -27,20 +27,35 @@ std::string_view trim(std::string_view s) {
   return s;
 }
 
-// Plain decimals such as "-512.25" are most of any export: read the digits as
-// one integer and divide by a power of ten in double, then narrow to float
-// (the same double-then-float path as numpy/pandas). Anything else (exponents,
-// long mantissas, inf/nan words) goes to fast_float.
-std::optional<float> parse_plain_decimal(std::string_view f) {
-  static constexpr double kPow10[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
-  const char* p = f.data();
-  const char* end = p + f.size();
+// Plain decimals such as "-512.25" are most of any export: the digits are read
+// as one integer and divided by a power of ten in double, then narrowed to
+// float (the same double-then-float path as numpy/pandas). Anything else
+// (exponents, long mantissas, inf/nan words) goes to fast_float.
+// scan_plain_decimal reads sign, digits and one dot at p and stops at the
+// first other character; `digits` is 0 when none was read.
+struct PlainDecimal {
+  std::uint64_t mantissa = 0;
+  int digits = 0;
+  int decimals = 0;
+  bool negative = false;
+  const char* end = nullptr;
+  double value() const;
+};
+
+constexpr double kPow10[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
+
+double PlainDecimal::value() const {
+  const double v = static_cast<double>(mantissa) / kPow10[decimals];
+  return negative ? -v : v;
+}
+
+inline PlainDecimal scan_plain_decimal(const char* p, const char* end) {
+  // Locals, not the struct's fields, in the loop: they stay in registers.
   bool negative = false;
   if (p != end && *p == '-') {
     negative = true;
     ++p;
   }
-  if (p == end || end - p > 16) return std::nullopt;
   std::uint64_t mantissa = 0;
   int digits = 0, decimals = 0;
   bool dot = false;
@@ -53,12 +68,16 @@ std::optional<float> parse_plain_decimal(std::string_view f) {
     } else if (c == '.' && !dot) {
       dot = true;
     } else {
-      return std::nullopt;
+      break;
     }
   }
-  if (digits == 0 || digits > 15) return std::nullopt;
-  const double v = static_cast<double>(mantissa) / kPow10[decimals];
-  return static_cast<float>(negative ? -v : v);
+  PlainDecimal d;
+  d.mantissa = mantissa;
+  d.digits = digits;
+  d.decimals = decimals;
+  d.negative = negative;
+  d.end = p;
+  return d;
 }
 
 std::string describe(char delimiter) {
@@ -75,7 +94,11 @@ class RowParser {
  public:
   RowParser(const std::string& path, const DelimitedReadOptions& opt, SampleSink& sink)
       : path_(path), opt_(opt), layout_(opt.layout), sink_(sink) {
-    for (const auto& t : layout_.missing_values) max_token_length_ = std::max(max_token_length_, t.size());
+    for (const auto& t : layout_.missing_values) {
+      max_token_length_ = std::max(max_token_length_, t.size());
+      const PlainDecimal d = scan_plain_decimal(t.data(), t.data() + t.size());
+      if (d.digits > 0 && d.end == t.data() + t.size()) numeric_tokens_ = true;
+    }
     chunk_.has_left = layout_.left.has_value();
     chunk_.has_right = layout_.right.has_value();
     chunk_.reserve(opt.chunk_rows);
@@ -104,6 +127,17 @@ class RowParser {
     if (layout_.left) left_ = {find(layout_.left->x, "left.x_column"), find(layout_.left->y, "left.y_column"), find(layout_.left->pupil, "left.pupil_column")};
     if (layout_.right) right_ = {find(layout_.right->x, "right.x_column"), find(layout_.right->y, "right.y_column"), find(layout_.right->pupil, "right.pupil_column")};
     fields_.resize(names_.size());
+    role_of_.assign(names_.size(), kNone);
+    auto set = [&](std::size_t column, int role) {
+      if (column != kNoColumn) role_of_[column] = role;
+    };
+    set(time_, kTime);
+    set(left_.x, kLeftX);
+    set(left_.y, kLeftY);
+    set(left_.pupil, kLeftPupil);
+    set(right_.x, kRightX);
+    set(right_.y, kRightY);
+    set(right_.pupil, kRightPupil);
   }
 
   void parse_header(std::string_view line, std::size_t line_no) {
@@ -113,13 +147,34 @@ class RowParser {
   }
 
   void parse_row(std::string_view line, std::size_t line_no) {
-    std::size_t count = 0;
+    // One pass over the line: numeric columns are read while their field is
+    // found; anything unusual falls back to the careful path per field.
     const std::size_t expected = names_.size();
-    split(line, [&](std::size_t i, std::string_view f) {
-      if (i < expected) fields_[i] = f;
-      count = i + 1;
-      return true;
-    });
+    const char delimiter = layout_.delimiter;
+    const char* p = line.data();
+    const char* end = p + line.size();
+    std::size_t count = 0;
+    for (;;) {
+      const char* start = p;
+      const int role = count < expected ? role_of_[count] : kNone;
+      if (role != kNone) {
+        const PlainDecimal d = scan_plain_decimal(p, end);
+        fast_[role] = d.digits > 0 && d.digits <= 15 && (d.end == end || *d.end == delimiter);
+        if (fast_[role]) {
+          // Field by field: copying the struct whole stalls on store forwarding.
+          mantissa_[role] = d.mantissa;
+          decimals_[role] = d.decimals;
+          negative_[role] = d.negative;
+          p = d.end;
+        }
+      }
+      while (p != end && *p != delimiter) ++p;
+      if (count < expected) fields_[count] = std::string_view(start, static_cast<std::size_t>(p - start));
+      if (role != kNone && fast_[role] && numeric_tokens_ && is_missing(fields_[count])) fast_[role] = false;
+      ++count;
+      if (p == end) break;
+      ++p;
+    }
     if (count != expected) {
       throw InputError({path_, line_no, ""}, "expected " + std::to_string(expected) + " " + describe(layout_.delimiter) +
                                                  "-separated fields as in the header, found " + std::to_string(count));
@@ -237,6 +292,9 @@ class RowParser {
   }
 
   Microseconds parse_time(std::size_t line_no) const {
+    if (fast_[kTime] && decimals_[kTime] == 0 && !negative_[kTime]) {
+      return scale_whole_time(static_cast<std::int64_t>(mantissa_[kTime]));
+    }
     const std::string_view f = trim(fields_[time_]);
     // Most exports write whole numbers: read the digits directly, exactly.
     if (!f.empty() && f.size() <= 18) {
@@ -266,10 +324,17 @@ class RowParser {
 
   float parse_value(std::size_t column, std::size_t line_no) const {
     if (column == kNoColumn) return kNaN;
+    if (const int role = role_of_[column]; fast_[role]) {
+      const double v = static_cast<double>(mantissa_[role]) / kPow10[decimals_[role]];
+      return static_cast<float>(negative_[role] ? -v : v);
+    }
     std::string_view f = fields_[column];
     if (!f.empty() && (f.front() == ' ' || f.back() == ' ' || f.back() == '\r')) f = trim(f);
     if (is_missing(f)) return kNaN;
-    if (auto quick = parse_plain_decimal(f)) return *quick;
+    if (const PlainDecimal d = scan_plain_decimal(f.data(), f.data() + f.size());
+        d.digits > 0 && d.digits <= 15 && d.end == f.data() + f.size()) {
+      return static_cast<float>(d.value());
+    }
     float v = 0.0f;
     auto r = fast_float::from_chars(f.data(), f.data() + f.size(), v);
     if (r.ec != std::errc() || r.ptr != f.data() + f.size()) not_a_number(line_no, column, f);
@@ -296,8 +361,15 @@ class RowParser {
   const DelimitedReadOptions& opt_;
   const TableLayout& layout_;
   SampleSink& sink_;
+  enum Role { kNone = 0, kTime, kLeftX, kLeftY, kLeftPupil, kRightX, kRightY, kRightPupil, kRoles };
   std::vector<std::string> names_;
   std::vector<std::string_view> fields_;
+  std::vector<int> role_of_;          // per column
+  bool fast_[kRoles] = {};            // this row's field of the role was a plain decimal
+  std::uint64_t mantissa_[kRoles] = {};
+  int decimals_[kRoles] = {};
+  bool negative_[kRoles] = {};
+  bool numeric_tokens_ = false;       // a missing-value token reads as a number (e.g. "-1")
   std::size_t time_ = kNoColumn, message_ = kNoColumn;
   EyeIndex left_, right_;
   std::size_t max_token_length_ = 0;
