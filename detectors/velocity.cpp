@@ -54,8 +54,14 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
   const bool sg = p.method == VelocityMethod::savitzky_golay;
   const bool acceleration = sg && p.with_acceleration;
   Velocity v;
-  v.vx.assign(n, kNaN);
-  v.vy.assign(n, kNaN);
+  // Without components, vx and vy are worked out but only the speed is kept.
+  std::vector<double> scratch_x, scratch_y;
+  std::vector<double>& vx = p.with_components ? v.vx : scratch_x;
+  std::vector<double>& vy = p.with_components ? v.vy : scratch_y;
+  if (p.with_components) {
+    vx.assign(n, kNaN);
+    vy.assign(n, kNaN);
+  }
   v.speed.assign(n, kNaN);
   v.acceleration.assign(acceleration ? n : 0, kNaN);
   if (n < 2 || g.interval_us <= 0) return v;
@@ -63,17 +69,23 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
   const double* Y = g.y_deg.data();
   const Microseconds* T = g.time_us.data();
 
+  auto store = [&](std::size_t i, double x, double y) {
+    if (p.with_components) {
+      vx[i] = x;
+      vy[i] = y;
+    }
+    v.speed[i] = std::sqrt(x * x + y * y);
+  };
   if (p.method == VelocityMethod::two_point) {
     for_each_stretch(g, p, [&](std::size_t a, std::size_t b) {
       for (std::size_t i = a + 1; i < b; ++i) {
         const double dt = static_cast<double>(T[i] - T[i - 1]) * 1e-6;
-        v.vx[i] = (X[i] - X[i - 1]) / dt;
-        v.vy[i] = (Y[i] - Y[i - 1]) / dt;
+        store(i, (X[i] - X[i - 1]) / dt, (Y[i] - Y[i - 1]) / dt);
       }
       // The first sample has no predecessor: it takes its successor's velocity.
       if (b - a >= 2) {
-        v.vx[a] = v.vx[a + 1];
-        v.vy[a] = v.vy[a + 1];
+        const double dt = static_cast<double>(T[a + 1] - T[a]) * 1e-6;
+        store(a, (X[a + 1] - X[a]) / dt, (Y[a + 1] - Y[a]) / dt);
       }
     });
   } else {
@@ -101,8 +113,7 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
         sx += c1[k] * X[a + k];
         sy += c1[k] * Y[a + k];
       }
-      v.vx[i] = sx * inv_dt;
-      v.vy[i] = sy * inv_dt;
+      store(i, sx * inv_dt, sy * inv_dt);
       if (acceleration) {
         const double* c2 = d2[q].data();
         double ax = 0, ay = 0;
@@ -120,7 +131,6 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
       for (std::size_t i = b - h; i < b && sg; ++i) apply(i, b - width, i - (b - width));
     });
   }
-  for (std::size_t i = 0; i < n; ++i) v.speed[i] = std::sqrt(v.vx[i] * v.vx[i] + v.vy[i] * v.vy[i]);
   return v;
 }
 

@@ -21,10 +21,11 @@ struct VelocityParams {
   int sg_order = 2;
   double max_gap_factor = 2.0;  // a step this much longer than the steps around it breaks windows
   bool with_acceleration = false;  // Savitzky-Golay only
+  bool with_components = true;     // keep vx and vy; off when only the speed is needed
 };
 
 struct Velocity {
-  std::vector<double> vx, vy;     // deg/s, NaN where the window is broken
+  std::vector<double> vx, vy;     // deg/s, NaN where the window is broken; empty without with_components
   std::vector<double> speed;      // deg/s
   std::vector<double> acceleration;  // deg/s^2 (Savitzky-Golay with_acceleration only; NaN otherwise)
 };

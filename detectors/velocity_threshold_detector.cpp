@@ -12,7 +12,9 @@ ParameterList VelocityThresholdDetector::parameters() const {
 }
 
 void VelocityThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
-  const Velocity v = compute_velocity(g, p_.velocity);
+  VelocityParams vp = p_.velocity;
+  vp.with_components = false;  // the speed is all I-VT needs
+  const Velocity v = compute_velocity(g, vp);
   const double threshold = p_.velocity_threshold_deg_s;
   for (std::size_t i = 0; i < labels.size(); ++i) {
     if (labels[i] != SampleLabel::other || !(v.speed[i] == v.speed[i])) continue;  // keep gaps and broken windows
