@@ -2,6 +2,8 @@
 
 #include <fmt/format.h>
 
+#include <stdexcept>
+
 namespace gazemill {
 void DeleteShortFixations::apply(CleaningState& state, std::size_t rule, AuditChannel& channel) const {
   for_each_kept_fixation(state, [&](CleanTrial& t, CleanFixation& f) {
@@ -29,11 +31,16 @@ void DeleteFixationsNearBlinks::apply(CleaningState& state, std::size_t rule, Au
 
 void DeleteFixationsOutside::apply(CleaningState& state, std::size_t rule, AuditChannel& channel) const {
   AreaBox box = box_;
-  if (whole_screen_) box = {0, 0, static_cast<double>(state.screen.width_px), static_cast<double>(state.screen.height_px)};
+  if (area_ == Area::screen) box = {0, 0, static_cast<double>(state.screen.width_px), static_cast<double>(state.screen.height_px)};
   for_each_kept_fixation(state, [&](CleanTrial& t, CleanFixation& f) {
+    if (area_ == Area::text) {
+      if (!t.regions_mapped) throw std::invalid_argument("area = \"text\" needs the protocol's [regions] section");
+      if (f.region < 0) remove_fixation(t, f, rule, "outside the text", channel);
+      return;
+    }
     const double x = f.fixation.x_px, y = f.fixation.y_px;
     if (x < box.left_px - margin_px_ || x > box.right_px + margin_px_ || y < box.top_px - margin_px_ || y > box.bottom_px + margin_px_) {
-      remove_fixation(t, f, rule, whole_screen_ ? "outside the screen" : "outside the area", channel);
+      remove_fixation(t, f, rule, area_ == Area::screen ? "outside the screen" : "outside the box", channel);
     }
   });
 }

@@ -42,19 +42,21 @@ class DeleteFixationsNearBlinks : public CleaningRule {
 };
 
 /// Deletes fixations whose mean position lies outside a box widened by margin_px:
-/// the screen, or a box given in px (e.g. the text area).
+/// the screen, or a box given in px; or, with the protocol's regions, every
+/// fixation that the mapping placed on no region (the text area, with the
+/// mapping's own margin allowances).
 struct AreaBox {
   double left_px = 0, top_px = 0, right_px = 0, bottom_px = 0;
 };
 class DeleteFixationsOutside : public CleaningRule {
  public:
-  DeleteFixationsOutside(bool whole_screen, AreaBox box, double margin_px)
-      : whole_screen_(whole_screen), box_(box), margin_px_(margin_px) {}
+  enum class Area { screen, box, text };
+  DeleteFixationsOutside(Area area, AreaBox box, double margin_px) : area_(area), box_(box), margin_px_(margin_px) {}
   AuditLevel level() const override { return AuditLevel::fixation; }
   void apply(CleaningState& state, std::size_t rule_index, AuditChannel& channel) const override;
 
  private:
-  bool whole_screen_;
+  Area area_;
   AreaBox box_;
   double margin_px_;
 };

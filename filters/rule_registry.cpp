@@ -77,7 +77,7 @@ std::unique_ptr<CleaningRule> make_cleaning_rule(const CleaningRuleSpec& spec) {
   } else if (k == "delete_fixations_near_blinks") {
     rule = std::make_unique<DeleteFixationsNearBlinks>(p.required("within_ms", 0));
   } else if (k == "delete_fixations_outside") {
-    const std::string area = p.choice("area", {"screen", "box"}, "screen");
+    const std::string area = p.choice("area", {"screen", "box", "text"}, "screen");
     AreaBox box;
     if (area == "box") {
       box = {p.required("left_px", -kNoLimit), p.required("top_px", -kNoLimit), p.required("right_px", -kNoLimit),
@@ -86,7 +86,10 @@ std::unique_ptr<CleaningRule> make_cleaning_rule(const CleaningRuleSpec& spec) {
         throw RuleParameterError("right_px", "rule '" + spec.name + "': the box must have right_px > left_px and bottom_px > top_px");
       }
     }
-    rule = std::make_unique<DeleteFixationsOutside>(area == "screen", box, p.optional("margin_px", 0, 0));
+    using Area = DeleteFixationsOutside::Area;
+    const Area which = area == "screen" ? Area::screen : area == "box" ? Area::box : Area::text;
+    const double margin = which == Area::text ? 0.0 : p.optional("margin_px", 0, 0);  // text: the mapping's margins
+    rule = std::make_unique<DeleteFixationsOutside>(which, box, margin);
   } else if (k == "exclude_trials_with_data_loss") {
     rule = std::make_unique<ExcludeTrialsWithDataLoss>(p.required("max_missing_percent", 0, 100));
   } else if (k == "exclude_trials_with_few_fixations") {

@@ -158,6 +158,14 @@ TEST(FixationFilters, NearBlinksAndOutsideTheScreen) {
   EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 1u);
   o = run_cleaning(input, {rule("screen", "delete_fixations_outside", {{"margin_px", 300}})});
   EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 0u);
+  // Outside the text: fixations the region mapping placed on no region.
+  auto mapped = input;
+  auto& tr = mapped.participants[0].trials[0];
+  tr.regions_mapped = true;
+  for (std::size_t k = 0; k < tr.fixations.size(); ++k) tr.fixations[k].region = k == 4 ? -1 : 0;
+  o = run_cleaning(mapped, {rule("text", "delete_fixations_outside", {}, {{"area", "text"}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 1u);
+  EXPECT_THROW(run_cleaning(input, {rule("text", "delete_fixations_outside", {}, {{"area", "text"}})}), std::invalid_argument);
 }
 
 TEST(TrialExclusions, EachKindByHand) {
