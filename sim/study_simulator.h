@@ -17,7 +17,7 @@
 
 namespace gazemill::sim {
 
-/// The time course of the eye's position during a saccade.
+/// How the eye's position changes over a saccade.
 enum class SaccadeProfile { half_sine, minimum_jerk };
 
 struct SignalParams {
