@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdint>
 
 #include "detectors/median.h"
 #include "detectors/velocity.h"
@@ -30,16 +31,15 @@ void EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& 
   const double eta_x = p_.lambda * std::max(p_.min_sd_deg_s, median_based_sd(v.vx));
   const double eta_y = p_.lambda * std::max(p_.min_sd_deg_s, median_based_sd(v.vy));
   const std::size_t n = labels.size();
-  std::vector<bool> above(n, false);
+  const double kx = 1.0 / (eta_x * eta_x), ky = 1.0 / (eta_y * eta_y);
+  std::vector<std::uint8_t> above(n, 0);
   for (std::size_t i = 0; i < n; ++i) {
-    if (!std::isfinite(v.vx[i])) continue;
-    const double rx = v.vx[i] / eta_x, ry = v.vy[i] / eta_y;
-    above[i] = rx * rx + ry * ry > 1.0;
+    const double vx = v.vx[i], vy = v.vy[i];
+    if (!std::isfinite(vx)) continue;
+    above[i] = vx * vx * kx + vy * vy * ky > 1.0;
+    if (labels[i] == SampleLabel::other) labels[i] = SampleLabel::fixation;
   }
-  for (std::size_t i = 0; i < n; ++i) {
-    if (labels[i] != SampleLabel::other || !std::isfinite(v.vx[i])) continue;
-    labels[i] = SampleLabel::fixation;
-  }
+  // Runs of supra-threshold samples long enough are saccades.
   std::size_t i = 0;
   while (i < n) {
     if (!above[i]) {

@@ -127,6 +127,14 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
     for_each_stretch(g, p, [&](std::size_t a, std::size_t b) {
       if (b - a < width) return;
       for (std::size_t i = a; i < a + h && sg; ++i) apply(i, a, i - a);
+      if (!sg) {
+        // The 5-sample moving difference, written out: (x[n+2] + x[n+1] - x[n-1] - x[n-2]) / (6 dt).
+        for (std::size_t i = a + 2; i + 2 < b; ++i) {
+          const double inv = 4.0 / (static_cast<double>(T[i + 2] - T[i - 2]) * 1e-6 * 6.0);
+          store(i, (X[i + 2] + X[i + 1] - X[i - 1] - X[i - 2]) * inv, (Y[i + 2] + Y[i + 1] - Y[i - 1] - Y[i - 2]) * inv);
+        }
+        return;
+      }
       for (std::size_t i = a + h; i + h < b; ++i) apply(i, i - h, h);
       for (std::size_t i = b - h; i < b && sg; ++i) apply(i, b - width, i - (b - width));
     });
