@@ -13,7 +13,14 @@ void print_store_overview(const std::string& store_path, std::ostream& out) {
   out << "store      " << store_path << '\n'
       << "created    " << prov.created_utc << " by gazemill " << prov.tool_version << '\n'
       << "protocol   " << prov.protocol_path << " (sha256 " << prov.protocol_sha256.substr(0, 12) << "…)\n"
-      << "inputs     " << prov.inputs.size() << " files\n\n";
+      << "inputs     " << prov.inputs.size() << " files\n";
+  std::string stages;
+  for (const char* stage : {"detect", "clean", "measure"}) {
+    if (store.exists(std::string("provenance/stages/") + stage)) {
+      stages += (stages.empty() ? "" : ", ") + std::string(stage) + " (" + store.stage_provenance(stage).created_utc + ")";
+    }
+  }
+  out << "stages     ingest" << (stages.empty() ? "" : ", " + stages) << "\n\n";
 
   TextTable table({"recording", "participant", "session", "rate_hz", "eyes", "trials", "samples", "span_s",
                    "missing_left", "missing_right"},
