@@ -27,6 +27,7 @@ ParameterList EngbertKlieglDetector::parameters() const {
 void EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   VelocityParams vp;
   vp.method = VelocityMethod::moving_average_5;
+  vp.with_speed = false;  // the elliptic criterion uses the components
   const Velocity v = compute_velocity(g, vp);
   const double eta_x = p_.lambda * std::max(p_.min_sd_deg_s, median_based_sd(v.vx));
   const double eta_y = p_.lambda * std::max(p_.min_sd_deg_s, median_based_sd(v.vy));

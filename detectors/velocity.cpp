@@ -27,6 +27,8 @@ void for_each_stretch(const GazeTrace& g, const VelocityParams& p, F&& f) {
   const Microseconds* t = g.time_us.data();
   auto broken = [&](std::size_t i) {  // the step from i - 1 to i
     const Microseconds step = t[i] - t[i - 1];
+    // The common case first: no longer than the step before and no gross gap.
+    if (i >= 2 && step <= t[i - 1] - t[i - 2] && static_cast<double>(step) <= 10.0 * g.interval_us) return false;
     Microseconds reference = i >= 2 ? t[i - 1] - t[i - 2] : 0;
     if (i + 1 < n) reference = std::max(reference, t[i + 1] - t[i]);
     if (reference == 0) reference = step;
@@ -62,7 +64,7 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
     vx.assign(n, kNaN);
     vy.assign(n, kNaN);
   }
-  v.speed.assign(n, kNaN);
+  if (p.with_speed) v.speed.assign(n, kNaN);
   v.acceleration.assign(acceleration ? n : 0, kNaN);
   if (n < 2 || g.interval_us <= 0) return v;
   const double* X = g.x_deg.data();
@@ -74,7 +76,7 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
       vx[i] = x;
       vy[i] = y;
     }
-    v.speed[i] = std::sqrt(x * x + y * y);
+    if (p.with_speed) v.speed[i] = std::sqrt(x * x + y * y);
   };
   if (p.method == VelocityMethod::two_point) {
     for_each_stretch(g, p, [&](std::size_t a, std::size_t b) {

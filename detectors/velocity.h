@@ -22,11 +22,12 @@ struct VelocityParams {
   double max_gap_factor = 2.0;  // a step this much longer than the steps around it breaks windows
   bool with_acceleration = false;  // Savitzky-Golay only
   bool with_components = true;     // keep vx and vy; off when only the speed is needed
+  bool with_speed = true;          // keep the speed; off when only the components are needed
 };
 
 struct Velocity {
   std::vector<double> vx, vy;     // deg/s, NaN where the window is broken; empty without with_components
-  std::vector<double> speed;      // deg/s
+  std::vector<double> speed;      // deg/s; empty without with_speed
   std::vector<double> acceleration;  // deg/s^2 (Savitzky-Golay with_acceleration only; NaN otherwise)
 };
 
