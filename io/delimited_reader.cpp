@@ -222,8 +222,8 @@ class RowParser {
     last_time_ = t;
     ++result_.samples;
     chunk_.time_us.push_back(t);
-    if (layout_.left) push_eye(chunk_.left, left_, line_no, result_.missing_left, "left");
-    if (layout_.right) push_eye(chunk_.right, right_, line_no, result_.missing_right, "right");
+    if (layout_.left) push_eye(chunk_.left, left_, line_no, result_.missing_left);
+    if (layout_.right) push_eye(chunk_.right, right_, line_no, result_.missing_right);
     if (chunk_.size() >= opt_.chunk_rows) flush();
   }
 
@@ -341,7 +341,7 @@ class RowParser {
     return v;
   }
 
-  void push_eye(EyeSamples& eye, const EyeIndex& idx, std::size_t line_no, std::uint64_t& missing, const char*) {
+  void push_eye(EyeSamples& eye, const EyeIndex& idx, std::size_t line_no, std::uint64_t& missing) {
     float x = parse_value(idx.x, line_no);
     float y = parse_value(idx.y, line_no);
     const float pupil = parse_value(idx.pupil, line_no);
