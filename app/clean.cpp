@@ -119,7 +119,8 @@ AuditReport clean_study(const Protocol& protocol, const std::string& store_path,
   for (const auto& r : protocol.cleaning) {
     settings.push_back({{"name", r.name}, {"kind", r.kind}, {"numbers", r.numbers}, {"texts", r.texts}});
   }
-  out->write_stage_provenance("clean", {kVersion, protocol.text, sha256_hex(protocol.text), utc_now_iso8601(), settings.dump()});
+  out->write_stage_provenance("clean", {kVersion, protocol.text, sha256_hex(protocol.text), utc_now_iso8601(), settings.dump(),
+                                         std::filesystem::absolute(protocol.path).lexically_normal().string()});
   out->commit();
   fs::create_directories(report_folder);
   write_audit_tsv(outcome.report, (fs::path(report_folder) / "audit.tsv").string(),

@@ -1,3 +1,5 @@
+#include <filesystem>
+
 #include "app/detect.h"
 
 #include <nlohmann/json.hpp>
@@ -49,7 +51,8 @@ DetectReport detect_study(const Protocol& protocol, const std::string& store_pat
     spdlog::debug("{}: {} fixations, {} saccades, {} blinks", id, d.events.fixations.size(), d.events.saccades.size(),
                   d.events.blinks.size());
   }
-  out->write_stage_provenance("detect", {kVersion, protocol.text, sha256_hex(protocol.text), utc_now_iso8601(), settings});
+  out->write_stage_provenance("detect", {kVersion, protocol.text, sha256_hex(protocol.text), utc_now_iso8601(), settings,
+                                         std::filesystem::absolute(protocol.path).lexically_normal().string()});
   out->commit();
   return report;
 }

@@ -125,7 +125,8 @@ std::vector<MeasureRow> measure_study(const Protocol& protocol, const std::strin
                                                                     : ""},
                              {"off_line", protocol.regions.off_line_nearest ? "nearest" : "exclude"},
                              {"margin", protocol.regions.margin_nearest ? "nearest" : "exclude"}};
-  out->write_stage_provenance("measure", {kVersion, protocol.text, sha256_hex(protocol.text), utc_now_iso8601(), settings.dump()});
+  out->write_stage_provenance("measure", {kVersion, protocol.text, sha256_hex(protocol.text), utc_now_iso8601(), settings.dump(),
+                                         std::filesystem::absolute(protocol.path).lexically_normal().string()});
   out->commit();
   fs::create_directories(out_folder);
   const fs::path o(out_folder);

@@ -47,15 +47,14 @@ bool verify_store(const std::string& store_path, std::ostream& out) {
   const std::string again = (tmp / "again.gzm.h5").string();
   try {
     ingest_study(parse_protocol_text(prov.protocol_text, prov.protocol_path), again, {});
-    if (store.exists("provenance/stages/detect")) {
-      detect_study(parse_protocol_text(store.stage_provenance("detect").protocol_text, prov.protocol_path), again);
-    }
-    if (store.exists("provenance/stages/clean")) {
-      clean_study(parse_protocol_text(store.stage_provenance("clean").protocol_text, prov.protocol_path), again, tmp.string());
-    }
-    if (store.exists("provenance/stages/measure")) {
-      measure_study(parse_protocol_text(store.stage_provenance("measure").protocol_text, prov.protocol_path), again, tmp.string());
-    }
+    // Each stage's own protocol text, read as if from where it was (for its relative file names).
+    auto stage_protocol = [&](const char* stage) {
+      const StageProvenance s = store.stage_provenance(stage);
+      return parse_protocol_text(s.protocol_text, s.protocol_path);
+    };
+    if (store.exists("provenance/stages/detect")) detect_study(stage_protocol("detect"), again);
+    if (store.exists("provenance/stages/clean")) clean_study(stage_protocol("clean"), again, tmp.string());
+    if (store.exists("provenance/stages/measure")) measure_study(stage_protocol("measure"), again, tmp.string());
   } catch (const InputError& e) {
     out << "re-run failed: " << e.what() << "\n";
     return false;

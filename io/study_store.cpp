@@ -289,6 +289,7 @@ void StudyStoreWriter::write_stage_provenance(const std::string& stage, const St
   h5::set_attr(g, "protocol_sha256", p.protocol_sha256);
   h5::set_attr(g, "created_utc", p.created_utc);
   h5::set_attr(g, "settings", p.settings_json);
+  h5::set_attr(g, "protocol_path", p.protocol_path);
 }
 
 StudyStoreWriter::~StudyStoreWriter() {
@@ -581,7 +582,8 @@ StageProvenance StudyStoreReader::stage_provenance(const std::string& stage) con
   h5::QuietErrors quiet;
   H5::Group g = impl_->group("provenance/stages/" + stage);
   return {h5::get_string_attr(g, "gazemill_version"), h5::get_string_attr(g, "protocol_text"),
-          h5::get_string_attr(g, "protocol_sha256"), h5::get_string_attr(g, "created_utc"), h5::get_string_attr(g, "settings")};
+          h5::get_string_attr(g, "protocol_sha256"),  h5::get_string_attr(g, "created_utc"),
+          h5::get_string_attr(g, "settings"),         h5::get_string_attr(g, "protocol_path")};
 }
 
 Recording StudyStoreReader::read_recording(const std::string& id, bool with_samples) const {

@@ -25,8 +25,8 @@
 //   /recordings/<id>/events/saccades/{trial,eye,start_us,end_us,start_x_px,start_y_px,end_x_px,end_y_px,
 //                                     amplitude_deg,peak_velocity_deg_s,direction_deg}
 //   /recordings/<id>/events/blinks/{trial,eye,start_us,end_us}
-//   /provenance/stages/<stage>                     attrs gazemill_version, protocol_text, protocol_sha256,
-//                                                  created_utc, settings (JSON) of each derived stage
+//   /provenance/stages/<stage>                     attrs gazemill_version, protocol_path, protocol_text,
+//                                                  protocol_sha256, created_utc, settings (JSON) of each derived stage
 // Every numeric dataset is chunked, shuffled and deflated, with a "unit" attribute.
 
 #include <H5Cpp.h>

@@ -39,6 +39,7 @@ struct StageProvenance {
   std::string protocol_sha256;
   std::string created_utc;
   std::string settings_json;  // the resolved settings of the stage
+  std::string protocol_path;  // absolute; relative file names in the protocol resolve from its folder
 };
 
 /// Summary figures of a recording's samples, kept beside them in the store.

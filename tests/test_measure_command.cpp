@@ -13,6 +13,8 @@
 #include "app/ingest.h"
 #include "app/measure.h"
 #include "app/protocol_parser.h"
+#include "app/verify.h"
+#include <sstream>
 #include "io/region_files.h"
 #include "io/study_store.h"
 #include "io/tsv_table.h"
@@ -145,4 +147,25 @@ TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
   expect(head + "1\t1\tThe\t100\t200\t150\t240\n", 2, "");
   expect(head + "1\t2\tdog\t150\t200\t190\t240\t1\n", 0, "region");  // region 1 missing
   expect("item\tlabel\n1\tThe\n", 1, "region");
+}
+
+// A later stage may run from a protocol file in another folder; verify reads
+// each stage's relative file names from that stage's own folder.
+TEST(MeasureCommand, VerifyResolvesEachStagesFilesFromItsOwnFolder) {
+  TempDir d;
+  const std::string proto = simulated(d, 2);
+  const Protocol p = parse_protocol_file(proto);
+  const std::string store = d.file("s.gzm.h5");
+  ingest_study(p, store, {});
+  std::string text = p.text;
+  const std::string from = "items_file = \"items.tsv\"";
+  ASSERT_NE(text.find(from), std::string::npos);
+  text.replace(text.find(from), from.size(), "items_file = \"../study/items.tsv\"");
+  const std::string later = d.write("analysis/gazemill.toml", text);
+  const Protocol q = parse_protocol_file(later);
+  detect_study(q, store);
+  clean_study(q, store, d.file("analysis"));
+  measure_study(q, store, d.file("analysis"));
+  std::ostringstream out;
+  EXPECT_TRUE(verify_store(store, out)) << out.str();
 }
