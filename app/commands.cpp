@@ -96,8 +96,10 @@ int run_score(const ScoreOptions& so) {
     const auto tu = parse_time_unit(so.time_unit);
     if (!tu) throw InputError({"", 0, "--time-unit"}, "expected s, ms, us or ns");
     f.time_unit = *tu;
-    if (so.codes.empty()) throw InputError({"", 0, "--codes"}, "a labelled file needs its label codes, e.g. --codes 1=fixation,2=saccade");
-    f.codes = parse_label_codes(so.codes);
+    if (so.codes.empty() && so.codes_file.empty()) {
+      throw InputError({"", 0, "--codes"}, "a labelled file needs its label codes, e.g. --codes 1=fixation,2=saccade (or --codes-file)");
+    }
+    f.codes = so.codes_file.empty() ? parse_label_codes(so.codes) : read_label_codes_file(so.codes_file);
     if (protocol && protocol->screen) f.screen = *protocol->screen;
     if (!so.screen_px.empty()) {
       const auto [w, h] = parse_pair(so.screen_px, "--screen-px");
@@ -164,7 +166,9 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   score->add_option("--protocol", so.protocol, "Take the detection settings (and screen) from this protocol");
   score->add_option("--method", so.method, "Detection method: ivt, idt, engbert_kliegl, nystrom_holmqvist");
   score->add_option("--param", so.params, "Method parameter NAME=VALUE (repeatable)");
-  score->add_option("--codes", so.codes, "Label codes of the labelled file, e.g. 1=fixation,2=saccade,3=pso,4=blink");
+  auto* codes_opt = score->add_option("--codes", so.codes, "Label codes of the labelled file, e.g. 1=fixation,2=saccade,3=pso,4=blink");
+  score->add_option("--codes-file", so.codes_file, "The label codes in a TOML file: [codes] \"1\" = \"fixation\" ...")
+      ->excludes(codes_opt)->check(CLI::ExistingFile);
   score->add_option("--columns", so.columns, "Time, x, y and label column names of the labelled file")->capture_default_str();
   score->add_option("--delimiter", so.delimiter, "tab, comma, semicolon or one character")->capture_default_str();
   score->add_option("--time-unit", so.time_unit, "s, ms, us or ns")->capture_default_str();

@@ -17,6 +17,7 @@ struct ScoreOptions {
   std::string method;             // or from the command line
   std::vector<std::string> params;  // NAME=VALUE
   std::string codes;              // CODE=CLASS,...
+  std::string codes_file;         // or a TOML file with a [codes] table
   std::string columns = "time,x,y,label";
   std::string delimiter = "tab";
   std::string time_unit = "ms";

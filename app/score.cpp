@@ -11,6 +11,7 @@
 #include "app/ingest.h"
 #include "app/protocol_parser.h"
 #include "app/text_table.h"
+#include "app/toml_section.h"
 #include "detectors/detector_registry.h"
 #include "detectors/recording_detection.h"
 #include "io/delimited_reader.h"
@@ -82,6 +83,28 @@ std::map<std::string, SampleLabel> parse_label_codes(const std::string& text) {
     start = comma + 1;
   }
   if (out.empty()) throw InputError({"", 0, "--codes"}, "no label codes given");
+  return out;
+}
+
+std::map<std::string, SampleLabel> read_label_codes_file(const std::string& path) {
+  toml::table root;
+  try {
+    root = toml::parse_file(path);
+  } catch (const toml::parse_error& e) {
+    throw InputError({path, e.source().begin.line, ""}, std::string("not valid TOML: ") + std::string(e.description()));
+  }
+  TomlSection top(root, "", path);
+  auto codes = top.table("codes");
+  if (!codes) throw InputError({path, 0, "codes"}, "expected a [codes] table, e.g. \"1\" = \"fixation\"");
+  std::map<std::string, SampleLabel> out;
+  for (const auto& key : codes->keys()) {
+    const auto value = codes->string(key);
+    const auto label = label_named(*value);
+    if (!label) codes->fail(key, "expected fixation, saccade, pso, blink, loss or other, found \"" + *value + "\"");
+    out[key] = *label;
+  }
+  top.finish();
+  if (out.empty()) throw InputError({path, 0, "codes"}, "no label codes given");
   return out;
 }
 

@@ -25,6 +25,9 @@ struct LabelledFileSpec {
 /// Parses "1=fixation,2=saccade,..." (classes: fixation, saccade, pso, blink, loss, other).
 /// Throws InputError naming the option on a bad entry.
 std::map<std::string, SampleLabel> parse_label_codes(const std::string& text);
+/// Reads the same mapping from a small TOML file: a [codes] table, e.g. "1" = "fixation".
+/// Throws InputError naming the file, line and key on a bad entry.
+std::map<std::string, SampleLabel> read_label_codes_file(const std::string& path);
 
 /// Scores `detection` on a simulated study folder (ingested into a temporary store).
 AgreementReport score_simulated_study(const std::string& folder, const DetectionSpec& detection);

@@ -129,6 +129,17 @@ TEST(ScoreCommand, LabelledFileAgreesWithDirectScoring) {
   EXPECT_EQ(from_file.classes[3].reference_samples,
             static_cast<std::uint64_t>(std::count(sr.truth.labels.begin(), sr.truth.labels.end(), SampleLabel::blink)));
   EXPECT_THROW(parse_label_codes("1=fix"), InputError);
+  // The same mapping from a small TOML file.
+  EXPECT_EQ(read_label_codes_file(d.write("codes.toml", "[codes]\n\"1\" = \"fixation\"\n\"2\" = \"saccade\"\n\"3\" = \"pso\"\n"
+                                                          "\"4\" = \"blink\"\n\"5\" = \"loss\"\n\"0\" = \"other\"\n")),
+            f.codes);
+  try {
+    read_label_codes_file(d.write("bad.toml", "[codes]\n\"1\" = \"fixation\"\n\"2\" = \"sacade\"\n"));
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().line, 3u);
+    EXPECT_EQ(e.where().field, "codes.2");
+  }
   f.codes.erase("5");
   EXPECT_THROW(score_labelled_file(f, spec), InputError);
 }
