@@ -90,9 +90,9 @@ int run_score(const ScoreOptions& so) {
     f.x_column = cols[1];
     f.y_column = cols[2];
     f.label_column = cols[3];
-    f.delimiter = so.delimiter == "tab" ? '\t' : so.delimiter == "comma" ? ',' : so.delimiter == "semicolon" ? ';'
-                : so.delimiter == "space" ? ' ' : so.delimiter.size() == 1 ? so.delimiter[0] : '\0';
-    if (f.delimiter == '\0') throw InputError({"", 0, "--delimiter"}, "expected tab, comma, semicolon, space or one character");
+    const auto delimiter = delimiter_named(so.delimiter);
+    if (!delimiter) throw InputError({"", 0, "--delimiter"}, "expected tab, comma, semicolon, space or one character");
+    f.delimiter = *delimiter;
     const auto tu = parse_time_unit(so.time_unit);
     if (!tu) throw InputError({"", 0, "--time-unit"}, "expected s, ms, us or ns");
     f.time_unit = *tu;

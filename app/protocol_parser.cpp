@@ -16,11 +16,7 @@ namespace {
 char parse_delimiter(TomlSection& s, const std::string& key, char fallback) {
   const auto v = s.string(key);
   if (!v) return fallback;
-  if (*v == "tab" || *v == "\t") return '\t';
-  if (*v == "comma" || *v == ",") return ',';
-  if (*v == "semicolon" || *v == ";") return ';';
-  if (*v == "space" || *v == " ") return ' ';
-  if (v->size() == 1 && *v != "\n" && *v != "\r" && *v != "\"") return (*v)[0];
+  if (auto d = delimiter_named(*v)) return *d;
   s.fail(key, "expected one character or tab, comma, semicolon, space; found \"" + *v + "\"");
 }
 
@@ -286,6 +282,15 @@ void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
 }
 
 }  // namespace
+
+std::optional<char> delimiter_named(const std::string& v) {
+  if (v == "tab" || v == "\t") return '\t';
+  if (v == "comma" || v == ",") return ',';
+  if (v == "semicolon" || v == ";") return ';';
+  if (v == "space" || v == " ") return ' ';
+  if (v.size() == 1 && v != "\n" && v != "\r" && v != "\"") return v[0];
+  return std::nullopt;
+}
 
 Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   Protocol p;

@@ -5,11 +5,11 @@
 
 #include <cmath>
 #include <filesystem>
-#include <random>
 
 #include "app/detect.h"
 #include "app/ingest.h"
 #include "app/protocol_parser.h"
+#include "app/temp_folder.h"
 #include "app/text_table.h"
 #include "app/toml_section.h"
 #include "detectors/detector_registry.h"
@@ -49,20 +49,6 @@ std::map<Microseconds, SampleLabel> read_truth_labels(const std::string& path) {
   }
   return out;
 }
-
-class TempFolder {
- public:
-  TempFolder() {
-    std::random_device rd;
-    path_ = fs::temp_directory_path() / ("gazemill-score-" + std::to_string(rd()));
-    fs::create_directories(path_);
-  }
-  ~TempFolder() {
-    std::error_code ec;
-    fs::remove_all(path_, ec);
-  }
-  fs::path path_;
-};
 
 }  // namespace
 
@@ -111,8 +97,8 @@ std::map<std::string, SampleLabel> read_label_codes_file(const std::string& path
 AgreementReport score_simulated_study(const std::string& folder, const DetectionSpec& detection) {
   const auto detector = make_detector(detection);
   Protocol protocol = parse_protocol_file((fs::path(folder) / "gazemill.toml").string());
-  TempFolder tmp;
-  const std::string store_path = (tmp.path_ / "scored.gzm.h5").string();
+  const TempFolder tmp("gazemill-score-");
+  const std::string store_path = (tmp.path() / "scored.gzm.h5").string();
   ingest_study(protocol, store_path, {});
   StudyStoreReader store(store_path);
   AgreementScorer scorer;

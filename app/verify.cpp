@@ -1,13 +1,13 @@
 #include "app/verify.h"
 
 #include <filesystem>
-#include <random>
 
 #include "app/clean.h"
 #include "app/detect.h"
 #include "app/ingest.h"
 #include "app/measure.h"
 #include "app/protocol_parser.h"
+#include "app/temp_folder.h"
 #include "io/sha256.h"
 #include "io/store_compare.h"
 #include "io/study_store.h"
@@ -34,16 +34,8 @@ bool verify_store(const std::string& store_path, std::ostream& out) {
   }
   if (ok) out << "inputs: " << prov.inputs.size() << " files match their recorded size and SHA-256\n";
 
-  std::random_device rd;
-  const fs::path tmp = fs::temp_directory_path() / ("gazemill-verify-" + std::to_string(rd()));
-  fs::create_directories(tmp);
-  struct Cleanup {
-    fs::path p;
-    ~Cleanup() {
-      std::error_code ec;
-      fs::remove_all(p, ec);
-    }
-  } cleanup{tmp};
+  const TempFolder scratch("gazemill-verify-");
+  const fs::path& tmp = scratch.path();
   const std::string again = (tmp / "again.gzm.h5").string();
   try {
     ingest_study(parse_protocol_text(prov.protocol_text, prov.protocol_path), again, {});

@@ -51,7 +51,9 @@ LaidOutItem lay_out_item(const std::string& item, const std::string& marked_text
     word_spans.emplace_back(i, j - 1);
     i = j;
   }
-  // Greedy wrapping by width: a word that would cross wrap_width_px starts a new line.
+  // Greedy wrapping by width: a word that would cross wrap_width_px starts a new
+  // line. The decision falls on the word's first letter, so the space before it
+  // stays at the end of the previous line.
   const int n = static_cast<int>(out.text.size());
   std::vector<int> line_of(out.text.size(), 0), column_of(out.text.size(), 0);
   std::vector<double> left_of(out.text.size(), 0.0);
@@ -69,13 +71,6 @@ LaidOutItem lay_out_item(const std::string& item, const std::string& marked_text
         x = 0;
       }
       ++next_word;
-    }
-    if (out.text[i] == ' ' && column == 0 && line > 0) {
-      // A space at the start of a wrapped line stays at the end of the previous one.
-      line_of[i] = line - 1;
-      column_of[i] = i > 0 ? column_of[i - 1] + 1 : 0;
-      left_of[i] = i > 0 ? left_of[i - 1] + spec.advance(out.text[i - 1]) : 0.0;
-      continue;
     }
     line_of[i] = line;
     column_of[i] = column++;
