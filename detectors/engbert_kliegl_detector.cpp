@@ -16,8 +16,12 @@ double median_based_sd(const std::vector<double>& v) {
   }
   if (finite.empty()) return 0.0;
   const double m = median_in_place(finite);
-  for (double& x : finite) x *= x;  // reuse the buffer for the squares
-  return std::sqrt(std::max(0.0, median_in_place(finite) - m * m));
+  // The middle squares are the squares of the middle magnitudes; magnitudes
+  // spread less than squares, which keeps the median search narrow.
+  for (double& x : finite) x = std::abs(x);
+  const MiddlePair a = middle_pair_in_place(finite);
+  const double median_square = finite.size() % 2 ? a.upper * a.upper : 0.5 * (a.upper * a.upper + a.lower * a.lower);
+  return std::sqrt(std::max(0.0, median_square - m * m));
 }
 
 ParameterList EngbertKlieglDetector::parameters() const {

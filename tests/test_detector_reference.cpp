@@ -5,11 +5,13 @@
 
 #include <cmath>
 #include <cstdio>
+#include <random>
 #include <sstream>
 
 #include "detectors/dispersion_threshold_detector.h"
 #include "detectors/engbert_kliegl_detector.h"
 #include "detectors/event_detector.h"
+#include "detectors/median.h"
 #include "detectors/nystrom_holmqvist_detector.h"
 #include "detectors/savitzky_golay.h"
 #include "detectors/scoring.h"
@@ -141,6 +143,41 @@ TEST(EngbertKliegl, RampVelocityAndMedianBasedSd) {
   EXPECT_TRUE(std::isnan(v.vx[0]));
   // Worked by hand (methods.md section 2): median(v^2) = 2.5, median(v) = 1, sigma = sqrt(1.5).
   EXPECT_NEAR(median_based_sd({1, -2, 3, -1, 2, 0, 50, -1, 1, 2}), 1.224745, 1e-6);
+}
+
+// The histogram-narrowed median against the textbook definition (sort, take
+// the middle value or the mean of the two middle values; common practice, no
+// source), bit for bit, on samples shaped like velocity traces (a crowd near
+// zero with a long tail), with ties, with one huge outlier and all equal.
+TEST(Median, MatchesTheSortedMiddleExactly) {
+  std::mt19937_64 rng(5);
+  std::normal_distribution<double> noise(0.0, 7.0);
+  std::uniform_real_distribution<double> tail(-600.0, 600.0);
+  for (int round = 0; round < 400; ++round) {
+    const std::size_t n = 1 + rng() % 6000;
+    std::vector<double> v(n);
+    for (auto& x : v) {
+      const auto kind = rng() % 20;
+      x = kind == 0 ? tail(rng) : kind == 1 ? std::round(noise(rng)) : noise(rng);
+    }
+    if (round % 50 == 7) v[0] = 1e300;                       // one absurd value
+    if (round % 50 == 9) std::fill(v.begin(), v.end(), 3.25);  // all equal
+    std::vector<double> sorted = v;
+    std::sort(sorted.begin(), sorted.end());
+    const double expected = n % 2 ? sorted[n / 2] : 0.5 * (sorted[n / 2] + sorted[n / 2 - 1]);
+    const double got = median_in_place(v);
+    ASSERT_EQ(got, expected) << "n = " << n << ", round " << round;
+    std::vector<double> after = v;  // reordered, but every value still there
+    std::sort(after.begin(), after.end());
+    ASSERT_EQ(after, sorted);
+    // The middle pair of the magnitudes, as the Engbert & Kliegl spread uses it.
+    for (auto& x : sorted) x = std::abs(x);
+    std::sort(sorted.begin(), sorted.end());
+    for (auto& x : v) x = std::abs(x);
+    const MiddlePair m = middle_pair_in_place(v);
+    ASSERT_EQ(m.lower, sorted[(n - 1) / 2]) << "n = " << n << ", round " << round;
+    ASSERT_EQ(m.upper, sorted[n / 2]);
+  }
 }
 
 // I-DT steps of Salvucci & Goldberg (2000) on the hand-made trace of methods.md
