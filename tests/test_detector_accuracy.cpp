@@ -5,17 +5,19 @@
 // sensible parameters. Kappa as defined by Cohen (1960); per class, one class
 // against the rest (common practice in event-detection evaluation, no single source).
 //
-// Measured (this seed): I-VT meets both targets. Engbert & Kliegl and
-// Nystrom & Holmqvist meet the saccade target but reach 0.93 for
-// fixations, and I-DT reaches 0.86 / 0.84: the low-velocity start and end of
-// each simulated saccade fall below their thresholds (I-DT by construction
-// absorbs into the neighbouring fixations every saccade sample within the
-// dispersion threshold). Those rows assert the measured level so that it
-// cannot silently get worse; the gap to the target is reported, not hidden.
+// Measured (this seed): I-VT and Engbert & Kliegl (lambda 3) meet both
+// targets. With the published lambda 5, Engbert & Kliegl reaches 0.936 for
+// fixations; Nystrom & Holmqvist reaches 0.945 / 0.942; I-DT 0.862 / 0.844.
+// The low-velocity start and end of each simulated saccade fall below the
+// velocity thresholds, and I-DT by construction absorbs into the neighbouring
+// fixations every saccade sample within the dispersion threshold. Rows below
+// target assert the measured level so that it cannot silently get worse; the
+// gap to the target is reported, not hidden.
 
 #include <gtest/gtest.h>
 
 #include <cstdio>
+#include <string>
 
 #include "detectors/detector_registry.h"
 #include "detectors/recording_detection.h"
@@ -83,12 +85,30 @@ TEST_P(DetectorAccuracy, KappaAt1000HzWithLowNoise) {
 INSTANTIATE_TEST_SUITE_P(
     EveryDetector, DetectorAccuracy,
     ::testing::Values(
-        // Targets met.
+        // Targets met (measured 0.966 / 0.967).
         Case{"ivt", {{"velocity_threshold_deg_s", 15}, {"sg_window_ms", 10}}, 0.95, 0.90},
-        // Saccade target met; fixation kappa below 0.95 (measured 0.936 and 0.929).
-        Case{"engbert_kliegl", {{"lambda", 5}}, 0.93, 0.90},
-        // No glissades in this simulation, so glissade labelling is off.
-        Case{"nystrom_holmqvist", {{"sg_window_ms", 4}, {"max_glissade_ms", 0}}, 0.92, 0.90},
-        // Below both targets (measured 0.862 and 0.844).
+        // Targets met with lambda = 3 (measured 0.962 / 0.969): at this noise the
+        // median-based SD is about 7 deg/s, so the threshold is about 21 deg/s,
+        // an ordinary velocity threshold; lambda = 4 gives 0.950 / 0.954.
+        Case{"engbert_kliegl", {{"lambda", 3}}, 0.95, 0.90},
+        // The published lambda = 5: saccade target met, fixations 0.936.
+        Case{"engbert_kliegl", {{"lambda", 5}}, 0.93, 0.93},
+        // No glissades in this simulation, so glissade labelling is off. The
+        // peak-threshold iteration starts at 60 deg/s: from the usual 100 it
+        // stays near its upper fixed point in 3 of the 36 trials (many small
+        // reading saccades below 100 deg/s inflate the SD) and misses every
+        // saccade below it (then 0.929 / 0.922). Measured 0.945 / 0.942: the
+        // walk back to a local velocity minimum starts each saccade about
+        // 1 ms early and ends it about 1 ms late.
+        Case{"nystrom_holmqvist", {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}}, 0.94, 0.94},
+        // Below both targets (measured 0.862 and 0.844); larger dispersion
+        // thresholds only absorb more of each saccade (0.25 deg and 40 ms:
+        // 0.795 / 0.756).
         Case{"idt", {{"dispersion_threshold_deg", 0.15}, {"min_duration_ms", 20}}, 0.85, 0.83}),
-    [](const ::testing::TestParamInfo<Case>& info) { return info.param.method; });
+    [](const ::testing::TestParamInfo<Case>& info) {
+      std::string name = info.param.method;
+      for (const auto& [key, value] : info.param.parameters) {
+        if (key == "lambda") name += "_lambda" + std::to_string(static_cast<int>(value));
+      }
+      return name;
+    });
