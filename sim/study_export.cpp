@@ -104,6 +104,16 @@ void write_samples(const Recording& r, const fs::path& path, int level, bool bid
   out.write(b);
 }
 
+// How both protocols find the trials in the messages the simulator writes.
+constexpr const char* kTrialsSection = R"([trials]
+start = '^begin trial (?<trial>\d+)$'
+end = '^end trial (?<trial>\d+)$'
+variables = ['^item (?<item>\S+) condition (?<condition>\S+)$']
+
+[trials.markers]
+text_shown = '^text shown$'
+)";
+
 std::string delimited_protocol(const SimulatedStudy& st) {
   const auto& sc = st.config.screen;
   const bool two = st.config.signal.binocular;
@@ -134,14 +144,7 @@ width_mm = {4}
 height_mm = {5}
 viewing_distance_mm = {6}
 
-[trials]
-start = '^begin trial (?<trial>\d+)$'
-end = '^end trial (?<trial>\d+)$'
-variables = ['^item (?<item>\S+) condition (?<condition>\S+)$']
-
-[trials.markers]
-text_shown = '^text shown$'
-
+{12}
 [regions]
 items_file = "items.tsv"
 char_width_px = {7}
@@ -152,7 +155,8 @@ wrap_width_chars = {11}
 )",
                      st.config.design.name, eyes, sc.width_px, sc.height_px, sc.width_mm, sc.height_mm,
                      sc.viewing_distance_mm, st.config.layout.char_width_px, st.config.layout.line_height_px,
-                     st.config.layout.left_margin_px, st.config.layout.first_line_top_px, st.config.layout.wrap_width_chars);
+                     st.config.layout.left_margin_px, st.config.layout.first_line_top_px, st.config.layout.wrap_width_chars,
+                     kTrialsSection);
 }
 
 std::string bids_protocol(const SimulatedStudy& st) {
@@ -164,15 +168,8 @@ name = "{0}-bids"
 format = "bids"
 files = ["bids/sub-*/beh/*_physio.tsv.gz"]
 
-[trials]
-start = '^begin trial (?<trial>\d+)$'
-end = '^end trial (?<trial>\d+)$'
-variables = ['^item (?<item>\S+) condition (?<condition>\S+)$']
-
-[trials.markers]
-text_shown = '^text shown$'
-)",
-                     st.config.design.name);
+{1})",
+                     st.config.design.name, kTrialsSection);
 }
 
 void write_bids_dataset_files(const SimulatedStudy& st, const fs::path& root) {
