@@ -56,20 +56,24 @@ inline PlainDecimal scan_plain_decimal(const char* p, const char* end) {
     negative = true;
     ++p;
   }
+  // Whole part, then the fraction: counts come from pointer differences, so
+  // the per-character loop only converts (this loop is most of parse time).
   std::uint64_t mantissa = 0;
-  int digits = 0, decimals = 0;
-  bool dot = false;
-  for (; p != end; ++p) {
-    const char c = *p;
-    if (c >= '0' && c <= '9') {
-      mantissa = mantissa * 10 + static_cast<std::uint64_t>(c - '0');
-      ++digits;
-      decimals += dot;
-    } else if (c == '.' && !dot) {
-      dot = true;
-    } else {
-      break;
+  const auto read_digits = [&] {
+    for (; p != end; ++p) {
+      const unsigned digit = static_cast<unsigned>(static_cast<unsigned char>(*p)) - '0';
+      if (digit > 9) break;
+      mantissa = mantissa * 10 + digit;
     }
+  };
+  const char* whole = p;
+  read_digits();
+  int digits = static_cast<int>(p - whole), decimals = 0;
+  if (p != end && *p == '.') {
+    const char* fraction = ++p;
+    read_digits();
+    decimals = static_cast<int>(p - fraction);
+    digits += decimals;
   }
   PlainDecimal d;
   d.mantissa = mantissa;
