@@ -58,7 +58,8 @@ void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel
   const double onset = pt.mean_deg_s + p_.onset_sd_factor * pt.sd_deg_s;
   const auto samples = [&](double ms) { return static_cast<std::size_t>(std::max(1.0, std::round(ms * 1000.0 / g.interval_us))); };
   const std::size_t noise_window = samples(p_.local_noise_window_ms);
-  const std::size_t glissade_window = samples(p_.max_glissade_ms);
+  // 0 ms turns glissade labelling off (samples() would round it up to one).
+  const std::size_t glissade_window = p_.max_glissade_ms > 0 ? samples(p_.max_glissade_ms) : 0;
   const std::vector<double>& s = v.speed;
 
   std::vector<SampleLabel> out(n, SampleLabel::other);

@@ -75,6 +75,11 @@ TEST(DetectionArtefacts, PostSaccadicOscillation) {
   const auto rn = score(sr.recording, sr.truth.labels, nh);
   EXPECT_GE(cls(rn, SampleLabel::pso).f1, 0.9) << "glissade events found by the adaptive method";
   EXPECT_GE(cls(rn, SampleLabel::saccade).f1, 0.95);
+
+  // A glissade window of 0 ms turns glissade labelling off entirely.
+  nh.parameters["max_glissade_ms"] = 0;
+  const auto off = score(sr.recording, sr.truth.labels, nh);
+  EXPECT_EQ(cls(off, SampleLabel::pso).detected_samples, 0u);
 }
 
 // A noise burst (single samples thrown far off) neither creates saccades nor
