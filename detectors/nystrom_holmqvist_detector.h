@@ -24,7 +24,7 @@ struct NystromHolmqvistParams {
   double max_acceleration_deg_s2 = 100000.0;
   double local_noise_window_ms = 40.0;
   double offset_onset_weight = 0.7;   // offset threshold = w * onset + (1 - w) * local noise threshold
-  double max_glissade_ms = 40.0;
+  double max_glissade_ms = 40.0;      // 0 turns glissade labelling off
   double min_saccade_ms = 10.0;
   VelocityParams velocity{VelocityMethod::savitzky_golay, 20.0, 2, 2.0, true};  // Savitzky-Golay, 2nd order, about 20 ms
 };
