@@ -12,6 +12,7 @@
 #include <string_view>
 
 #include "io/byte_source.h"
+#include "io/decimal_to_float.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
@@ -49,10 +50,15 @@ double PlainDecimal::value() const {
   return negative ? -v : v;
 }
 
-inline PlainDecimal scan_plain_decimal(const char* p, const char* end) {
+// With kSentinel the data is followed by a byte that is not a digit (the
+// reader puts a '\0' after each block), so the digit loops need not compare
+// against `end`; it is not read then.
+template <bool kSentinel>
+inline PlainDecimal scan_decimal(const char* p, const char* end) {
+  const auto more = [&] { return kSentinel || p != end; };
   // Locals, not the struct's fields, in the loop: they stay in registers.
   bool negative = false;
-  if (p != end && *p == '-') {
+  if (more() && *p == '-') {
     negative = true;
     ++p;
   }
@@ -60,7 +66,7 @@ inline PlainDecimal scan_plain_decimal(const char* p, const char* end) {
   // the per-character loop only converts (about a third of parse instructions).
   std::uint64_t mantissa = 0;
   const auto read_digits = [&] {
-    for (; p != end; ++p) {
+    for (; more(); ++p) {
       const unsigned digit = static_cast<unsigned>(static_cast<unsigned char>(*p)) - '0';
       if (digit > 9) break;
       mantissa = mantissa * 10 + digit;
@@ -69,7 +75,7 @@ inline PlainDecimal scan_plain_decimal(const char* p, const char* end) {
   const char* whole = p;
   read_digits();
   int digits = static_cast<int>(p - whole), decimals = 0;
-  if (p != end && *p == '.') {
+  if (more() && *p == '.') {
     const char* fraction = ++p;
     read_digits();
     decimals = static_cast<int>(p - fraction);
@@ -83,6 +89,20 @@ inline PlainDecimal scan_plain_decimal(const char* p, const char* end) {
   d.end = p;
   return d;
 }
+
+inline PlainDecimal scan_plain_decimal(const char* p, const char* end) { return scan_decimal<false>(p, end); }
+
+// A whole number of `unit` in microseconds, exactly.
+Microseconds scale_whole_time_in(TimeUnit unit, std::int64_t whole) {
+  switch (unit) {
+    case TimeUnit::seconds: return whole * 1000000;
+    case TimeUnit::milliseconds: return whole * 1000;
+    case TimeUnit::microseconds: return whole;
+    case TimeUnit::nanoseconds: return (whole + 500) / 1000;  // round half up, as llround for positives
+  }
+  return whole;
+}
+
 
 std::string describe(char delimiter) {
   if (delimiter == '\t') return "tab";
@@ -142,6 +162,7 @@ class RowParser {
     set(right_.x, kRightX);
     set(right_.y, kRightY);
     set(right_.pupil, kRightPupil);
+    plain_rows_ = opt_.common_row_path && (layout_.left || layout_.right);
   }
 
   void parse_header(std::string_view line, std::size_t line_no) {
@@ -231,6 +252,118 @@ class RowParser {
     if (chunk_.size() >= opt_.chunk_rows) flush();
   }
 
+  // Reads the common rows from p on, one after another, until a row that is
+  // not common or the end of the data; returns where it stopped, the start of
+  // a line for parse_row. A common row has a number or a missing token in
+  // every mapped column, an empty message column, no spaces, a later time
+  // than the row before, and ends with '\n' (or "\r\n") before `end`;
+  // *end must be '\0', the sentinel the digit loops stop at.
+  // parse_row would read such rows to the same samples; this path exists for
+  // speed: the state lives in locals for the whole run of rows, because the
+  // byte stores of the valid column may alias any member and would force the
+  // compiler to reload every member after each row.
+  const char* parse_common_rows(const char* p, const char* const end, std::size_t& line_no) {
+    if (!plain_rows_) return p;
+    const std::size_t columns = names_.size();
+    const int* const role_of = role_of_.data();
+    const char delimiter = layout_.delimiter;
+    const std::size_t message_column = message_;
+    const bool left = layout_.left.has_value(), right = layout_.right.has_value();
+    const bool zero_is_missing = layout_.zero_gaze_is_missing;
+    const bool numeric_tokens = numeric_tokens_;
+    const TimeUnit unit = layout_.time_unit;
+    const std::size_t capacity = std::max<std::size_t>(opt_.chunk_rows, 1);
+
+    std::size_t k = chunk_.size();
+    std::uint64_t samples = result_.samples, rows = result_.rows;
+    std::uint64_t missing_left = result_.missing_left, missing_right = result_.missing_right;
+    Microseconds last = last_time_, run_interval = run_interval_;
+    std::uint64_t run_length = run_length_;
+    std::size_t lines = 0;
+
+    float value[kRoles];
+    std::fill(std::begin(value), std::end(value), kNaN);  // unmapped roles stay NaN
+    while (p < end) {
+      const char* q = p;
+      Microseconds t = 0;
+      bool common = true;
+      for (std::size_t c = 0; c < columns && common; ++c) {
+        const char* field = q;
+        const int role = role_of[c];
+        if (role != kNone) {
+          const PlainDecimal d = scan_decimal<true>(q, end);
+          q = d.end;
+          bool missing = false;
+          if (d.digits == 0) {  // "", ".", a lone sign, or a word such as NaN
+            while (q < end && *q != delimiter && *q != '\n' && *q != '\r') ++q;
+            missing = is_missing(std::string_view(field, static_cast<std::size_t>(q - field)));
+            common = missing;
+          } else if (d.digits > 15) {
+            common = false;
+          } else if (numeric_tokens) {
+            missing = is_missing(std::string_view(field, static_cast<std::size_t>(q - field)));
+          }
+          if (role == kTime) {
+            common = common && !missing;
+            // As parse_time: whole numbers exactly, others through the double.
+            t = !d.negative && d.decimals == 0
+                    ? scale_whole_time_in(unit, static_cast<std::int64_t>(d.mantissa))
+                    : static_cast<Microseconds>(std::llround(d.value() * microseconds_per(unit)));
+          } else {
+            value[role] = missing ? kNaN : decimal_to_float(d.mantissa, d.decimals, d.negative);
+          }
+        } else if (c != message_column) {
+          while (q < end && *q != delimiter && *q != '\n') ++q;  // a column nobody asked for
+        }
+        if (!common || q >= end) {
+          common = false;
+        } else if (c + 1 < columns) {
+          common = *q == delimiter;  // not so: a message, spaces, or too few fields
+          ++q;
+        } else {
+          if (*q == '\r' && q + 1 < end) ++q;
+          common = *q == '\n';  // not so: too many fields
+          ++q;
+        }
+      }
+      if (!common) break;
+      if (samples > 0) {
+        if (t <= last) break;  // parse_row repairs or reports it
+        const Microseconds interval = t - last;
+        if (interval != run_interval) {
+          if (run_length) intervals_[run_interval] += run_length;
+          run_interval = interval;
+          run_length = 0;
+        }
+        ++run_length;
+      } else {
+        result_.first_time_us = t;
+      }
+      last = t;
+      ++samples, ++rows, ++lines;
+      chunk_.time_us.push_back(t);
+      const auto put_eye = [&](float x, float y, float pupil, EyeSamples& eye, std::uint64_t& missing) {
+        if (zero_is_missing && x == 0.0f && y == 0.0f) x = y = kNaN;
+        const bool ok = std::isfinite(x) && std::isfinite(y);
+        if (!ok) x = y = kNaN;  // half a coordinate is no position
+        missing += !ok;
+        eye.x_px.push_back(x), eye.y_px.push_back(y), eye.pupil.push_back(pupil), eye.valid.push_back(ok);
+      };
+      if (left) put_eye(value[kLeftX], value[kLeftY], value[kLeftPupil], chunk_.left, missing_left);
+      if (right) put_eye(value[kRightX], value[kRightY], value[kRightPupil], chunk_.right, missing_right);
+      p = q;
+      if (++k == capacity) {
+        flush();
+        k = 0;
+      }
+    }
+    result_.samples = samples, result_.rows = rows;
+    result_.missing_left = missing_left, result_.missing_right = missing_right;
+    last_time_ = last, run_interval_ = run_interval, run_length_ = run_length;
+    line_no += lines;
+    return p;
+  }
+
   void flush() {
     if (chunk_.size() == 0) return;
     sink_.append(chunk_);
@@ -316,28 +449,19 @@ class RowParser {
     return static_cast<Microseconds>(std::llround(v * microseconds_per(layout_.time_unit)));
   }
 
-  Microseconds scale_whole_time(std::int64_t whole) const {
-    switch (layout_.time_unit) {
-      case TimeUnit::seconds: return whole * 1000000;
-      case TimeUnit::milliseconds: return whole * 1000;
-      case TimeUnit::microseconds: return whole;
-      case TimeUnit::nanoseconds: return (whole + 500) / 1000;  // round half up, as llround for positives
-    }
-    return whole;
-  }
+  Microseconds scale_whole_time(std::int64_t whole) const { return scale_whole_time_in(layout_.time_unit, whole); }
 
   float parse_value(std::size_t column, std::size_t line_no) const {
     if (column == kNoColumn) return kNaN;
     if (const int role = role_of_[column]; fast_[role]) {
-      const double v = static_cast<double>(mantissa_[role]) / kPow10[decimals_[role]];
-      return static_cast<float>(negative_[role] ? -v : v);
+      return decimal_to_float(mantissa_[role], decimals_[role], negative_[role]);
     }
     std::string_view f = fields_[column];
     if (!f.empty() && (f.front() == ' ' || f.back() == ' ' || f.back() == '\r')) f = trim(f);
     if (is_missing(f)) return kNaN;
     if (const PlainDecimal d = scan_plain_decimal(f.data(), f.data() + f.size());
         d.digits > 0 && d.digits <= 15 && d.end == f.data() + f.size()) {
-      return static_cast<float>(d.value());
+      return decimal_to_float(d.mantissa, d.decimals, d.negative);
     }
     float v = 0.0f;
     auto r = fast_float::from_chars(f.data(), f.data() + f.size(), v);
@@ -374,6 +498,7 @@ class RowParser {
   int decimals_[kRoles] = {};
   bool negative_[kRoles] = {};
   bool numeric_tokens_ = false;       // a missing-value token reads as a number (e.g. "-1")
+  bool plain_rows_ = false;           // parse_common_rows may be tried
   std::size_t time_ = kNoColumn, message_ = kNoColumn;
   EyeIndex left_, right_;
   std::size_t max_token_length_ = 0;
@@ -392,7 +517,7 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
   RowParser parser(path, options, sink);
   const std::string& comment = options.layout.comment_prefix;
 
-  std::unique_ptr<char[]> buffer(new char[kBlockBytes]);
+  std::unique_ptr<char[]> buffer(new char[kBlockBytes + 1]);
   std::string carry;  // a line split across two blocks
   std::size_t line_no = 0;
   bool any_line = false;
@@ -414,6 +539,7 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
   for (;;) {
     const std::size_t n = source.read(buffer.get(), kBlockBytes);
     if (n == 0) break;
+    buffer[n] = '\0';  // the sentinel parse_common_rows relies on
     std::string_view block(buffer.get(), n);
     std::size_t pos = 0;
     if (!carry.empty()) {
@@ -428,6 +554,12 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
       carry.clear();
     }
     for (;;) {
+      if (parser.has_header()) {
+        const char* start = block.data() + pos;
+        const char* stop = parser.parse_common_rows(start, block.data() + block.size(), line_no);
+        any_line = any_line || stop != start;
+        pos = static_cast<std::size_t>(stop - block.data());
+      }
       const char* nl = static_cast<const char*>(std::memchr(block.data() + pos, '\n', block.size() - pos));
       if (!nl) break;
       const std::size_t end = static_cast<std::size_t>(nl - block.data());

@@ -43,6 +43,10 @@ struct DelimitedReadOptions {
   bool gazeless_message_rows_are_samples = false;
   // Protocol key prefix used in "column not found" errors, e.g. "input.table".
   std::string layout_key = "input.table";
+  // Read runs of common rows (numbers or missing tokens, no message) on a
+  // quicker path that hands anything else to the careful one. Off only in the
+  // test that checks both paths give the same result.
+  bool common_row_path = true;
   std::function<void(std::uint64_t done_bytes, std::uint64_t total_bytes)> progress;
 };
 

@@ -1,0 +1,245 @@
+// The delimited reader's quick path for common rows against two references:
+// decimal_to_float against the C library's correctly rounded strtof/strtod
+// (an outside reference), and the whole reader with the quick path on against
+// the careful path alone, on random files that mix every kind of row either
+// path must handle (invented data, generated here).
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <cstdlib>
+#include <cstring>
+#include <random>
+#include <string>
+
+#include "io/decimal_to_float.h"
+#include "io/delimited_reader.h"
+#include "pipeline/input_error.h"
+#include "test_support.h"
+
+using namespace gazemill;
+using gazemill::test_support::TempDir;
+
+namespace {
+
+std::string decimal_text(std::uint64_t mantissa, int decimals) {
+  std::string digits = std::to_string(mantissa);
+  if (decimals == 0) return digits;
+  if (static_cast<int>(digits.size()) <= decimals) digits.insert(0, decimals + 1 - digits.size(), '0');
+  digits.insert(digits.size() - decimals, ".");
+  return digits;
+}
+
+bool same_float(float a, float b) { return std::memcmp(&a, &b, sizeof a) == 0 || (std::isnan(a) && std::isnan(b)); }
+
+}  // namespace
+
+// Short numbers take the multiplication; the comment in decimal_to_float.h
+// argues it always lands on the float nearest the decimal, which is what the
+// C library's strtof returns (glibc rounds correctly). Every mantissa below
+// 200 000 and a million random ones below 10^7, at every decimal count 0-7.
+TEST(DecimalToFloat, ShortNumbersEqualStrtof) {
+  std::mt19937_64 rng(5);
+  std::uniform_int_distribution<std::uint64_t> any_short(0, 9999999);
+  std::size_t checked = 0;
+  for (int d = 0; d <= 7; ++d) {
+    auto check = [&](std::uint64_t m) {
+      const std::string text = decimal_text(m, d);
+      const float expected = std::strtof(text.c_str(), nullptr);
+      ASSERT_TRUE(same_float(decimal_to_float(m, d, false), expected)) << text;
+      ASSERT_TRUE(same_float(decimal_to_float(m, d, true), -expected)) << "-" << text;
+      ++checked;
+    };
+    for (std::uint64_t m = 0; m < 200000; ++m) check(m);
+    for (int i = 0; i < 125000; ++i) check(any_short(rng));
+  }
+  EXPECT_EQ(checked, 8u * 325000u);
+}
+
+// Longer numbers are divided in double and narrowed: the value of strtod
+// narrowed to float, as numpy and pandas read a column and then cast it.
+TEST(DecimalToFloat, LongNumbersEqualStrtodNarrowed) {
+  std::mt19937_64 rng(6);
+  std::uniform_int_distribution<std::uint64_t> any_long(10000000, 999999999999999);
+  std::uniform_int_distribution<int> decimals(0, 15);
+  for (int i = 0; i < 500000; ++i) {
+    const std::uint64_t m = any_long(rng);
+    const int d = decimals(rng);
+    const std::string text = decimal_text(m, d);
+    ASSERT_TRUE(same_float(decimal_to_float(m, d, false), static_cast<float>(std::strtod(text.c_str(), nullptr))))
+        << text;
+  }
+}
+
+namespace {
+
+struct Generated {
+  std::string text;
+  DelimitedReadOptions options;
+};
+
+// A random export: binocular or not, an unmapped column, messages, missing
+// tokens, numeric tokens, zeros, spaces, CRLF, comments, exponents, long
+// numbers, decimal and repeated timestamps.
+Generated random_export(std::mt19937_64& rng, std::size_t rows) {
+  Generated g;
+  auto chance = [&](double p) { return std::uniform_real_distribution<double>(0, 1)(rng) < p; };
+  auto pick = [&](int n) { return std::uniform_int_distribution<int>(0, n - 1)(rng); };
+  DelimitedReadOptions& o = g.options;
+  o.layout.delimiter = chance(0.5) ? '\t' : ',';
+  o.layout.time_column = "t";
+  o.layout.time_unit = chance(0.5) ? TimeUnit::milliseconds : TimeUnit::microseconds;
+  o.layout.message_column = "msg";
+  o.layout.comment_prefix = "#";
+  o.layout.left = EyeColumnNames{"lx", "ly", "lp"};
+  const bool binocular = chance(0.5);
+  if (binocular) o.layout.right = EyeColumnNames{"rx", "ry", ""};
+  if (chance(0.5)) o.layout.missing_values.push_back("-1");
+  o.layout.zero_gaze_is_missing = chance(0.5);
+  o.duplicate_timestamps = DuplicateTimestampPolicy::keep_first;
+  o.chunk_rows = 1 + pick(50);  // chunks end inside runs of common rows
+  const std::string sep(1, o.layout.delimiter);
+  std::vector<std::string> header = {"t", "lx", "ly", "lp", "extra"};
+  if (binocular) header.insert(header.end(), {"rx", "ry"});
+  header.push_back("msg");
+  if (chance(0.2)) {
+    o.column_names = header;  // a headerless file, as BIDS physio files are
+  } else {
+    for (std::size_t c = 0; c < header.size(); ++c) g.text += (c ? sep : "") + header[c];
+    g.text += chance(0.3) ? "\r\n" : "\n";
+  }
+
+  auto value = [&]() -> std::string {
+    switch (pick(20)) {
+      case 0: return "";
+      case 1: return ".";
+      case 2: return "NaN";
+      case 3: return "-1";
+      case 4: return "0";
+      case 5: return " 12.5";
+      case 6: return "1.5e2";
+      case 7: return decimal_text(std::uniform_int_distribution<std::uint64_t>(0, 999999999999)(rng), pick(9));
+      case 8: return "-" + decimal_text(pick(100000), pick(4));
+      default: return decimal_text(pick(2000000), pick(3));
+    }
+  };
+  std::uint64_t t = 1000 + pick(1000);
+  for (std::size_t r = 0; r < rows; ++r) {
+    if (chance(0.01)) {
+      g.text += "# a comment\n";
+      continue;
+    }
+    const int step = pick(40);
+    if (step > 0) t += step < 3 ? 2 : 1;  // mostly regular, sometimes a gap, sometimes a repeat
+    std::string time = std::to_string(t);
+    if (chance(0.02)) time += ".5";  // a decimal timestamp
+    std::vector<std::string> f = {time, value(), value(), value(), chance(0.5) ? "x" : ""};
+    if (binocular) f.insert(f.end(), {value(), value()});
+    f.push_back(chance(0.03) ? "MARK " + std::to_string(r) : "");
+    for (std::size_t c = 0; c < f.size(); ++c) g.text += (c ? sep : "") + f[c];
+    g.text += chance(0.2) ? "\r\n" : "\n";
+  }
+  return g;
+}
+
+void expect_same_floats(const std::vector<float>& a, const std::vector<float>& b, const char* what) {
+  ASSERT_EQ(a.size(), b.size()) << what;
+  for (std::size_t i = 0; i < a.size(); ++i) ASSERT_TRUE(same_float(a[i], b[i])) << what << " at " << i;
+}
+
+}  // namespace
+
+TEST(CommonRows, SameResultAsTheCarefulPath) {
+  TempDir dir;
+  std::mt19937_64 rng(11);
+  for (int round = 0; round < 40; ++round) {
+    // Most files are small; a few cross the reader's 1 MiB blocks.
+    const std::size_t rows = round % 10 == 9 ? 60000 : 300 + round * 37;
+    const Generated g = random_export(rng, rows);
+    const std::string path = dir.write("export" + std::to_string(round) + ".csv", g.text);
+    DelimitedReadOptions careful = g.options;
+    careful.common_row_path = false;
+    CollectingSink quick_sink, careful_sink;
+    DelimitedReadResult quick, slow;
+    std::string quick_error, careful_error;
+    try {
+      quick = read_delimited(path, g.options, quick_sink);
+    } catch (const InputError& e) {
+      quick_error = e.what();
+    }
+    try {
+      slow = read_delimited(path, careful, careful_sink);
+    } catch (const InputError& e) {
+      careful_error = e.what();
+    }
+    ASSERT_EQ(quick_error, careful_error) << "round " << round;
+    if (!careful_error.empty()) continue;
+    const SampleColumns& a = quick_sink.samples;
+    const SampleColumns& b = careful_sink.samples;
+    ASSERT_GT(b.size(), 0u);
+    ASSERT_EQ(a.time_us, b.time_us) << "round " << round;
+    for (const auto& [qa, qb] : {std::pair{&a.left, &b.left}, std::pair{&a.right, &b.right}}) {
+      expect_same_floats(qa->x_px, qb->x_px, "x");
+      expect_same_floats(qa->y_px, qb->y_px, "y");
+      expect_same_floats(qa->pupil, qb->pupil, "pupil");
+      ASSERT_EQ(qa->valid, qb->valid);
+    }
+    EXPECT_EQ(quick.samples, slow.samples);
+    EXPECT_EQ(quick.rows, slow.rows);
+    EXPECT_EQ(quick.missing_left, slow.missing_left);
+    EXPECT_EQ(quick.missing_right, slow.missing_right);
+    EXPECT_EQ(quick.first_time_us, slow.first_time_us);
+    EXPECT_EQ(quick.last_time_us, slow.last_time_us);
+    EXPECT_EQ(quick.median_interval_us, slow.median_interval_us);
+    EXPECT_EQ(quick.message_lines, slow.message_lines);
+    EXPECT_EQ(quick.repairs, slow.repairs);
+    ASSERT_EQ(quick.messages.size(), slow.messages.size());
+    for (std::size_t i = 0; i < quick.messages.size(); ++i) {
+      EXPECT_EQ(quick.messages[i].time_us, slow.messages[i].time_us);
+      EXPECT_EQ(quick.messages[i].text, slow.messages[i].text);
+    }
+  }
+}
+
+// An error in a row after a run of common rows names the same line either way.
+TEST(CommonRows, ErrorsNameTheSameLine) {
+  TempDir dir;
+  std::string text = "t\tx\ty\n";
+  for (int i = 0; i < 500; ++i) text += std::to_string(100 + i) + "\t" + std::to_string(i) + ".5\t7\n";
+  text += "700\tabc\t7\n";
+  const std::string path = dir.write("bad.tsv", text);
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.right = EyeColumnNames{"x", "y", ""};
+  for (const bool quick : {true, false}) {
+    o.common_row_path = quick;
+    NullSink sink;
+    try {
+      read_delimited(path, o, sink);
+      FAIL() << "no error";
+    } catch (const InputError& e) {
+      EXPECT_EQ(e.where().line, 502u);
+      EXPECT_EQ(e.where().field, "x");
+    }
+  }
+}
+
+// A headerless file (as BIDS physio files are) of nothing but common rows.
+TEST(CommonRows, HeaderlessFileOfCommonRowsOnly) {
+  TempDir dir;
+  const std::string path = dir.write("physio.tsv", "1000\t1.5\t2\n1002\t1.25\t3\n1004\t.\t4\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.time_unit = TimeUnit::microseconds;
+  o.layout.right = EyeColumnNames{"x", "y", ""};
+  o.column_names = {"t", "x", "y"};
+  for (const bool quick : {true, false}) {
+    o.common_row_path = quick;
+    CollectingSink sink;
+    const DelimitedReadResult r = read_delimited(path, o, sink);
+    EXPECT_EQ(r.samples, 3u);
+    EXPECT_EQ(sink.samples.time_us, (std::vector<Microseconds>{1000, 1002, 1004}));
+    EXPECT_EQ(sink.samples.right.x_px[1], 1.25f);
+    EXPECT_EQ(r.missing_right, 1u);
+  }
+}
