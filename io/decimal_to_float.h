@@ -20,15 +20,26 @@
 
 namespace gazemill {
 
+namespace decimal_detail {
+// All exact in double (10^22 is the last that is); the inverses are the nearest doubles.
+inline constexpr double kPow10[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
+inline constexpr double kInversePow10[] = {1e0, 1e-1, 1e-2, 1e-3, 1e-4, 1e-5, 1e-6, 1e-7};
+}  // namespace decimal_detail
+
+/// The double nearest to +-mantissa / 10^decimals, for mantissa < 2^53 and
+/// decimals <= 15: one correctly rounded division of two exact doubles.
+inline double decimal_to_double(std::uint64_t mantissa, int decimals, bool negative) {
+  const double v = static_cast<double>(mantissa) / decimal_detail::kPow10[decimals];
+  return negative ? -v : v;
+}
+
+/// The same value narrowed to float, for mantissa < 10^15 and decimals <= 15.
 inline float decimal_to_float(std::uint64_t mantissa, int decimals, bool negative) {
-  // All exact in double (10^22 is the last that is); the inverses are the nearest doubles.
-  static constexpr double kPow10[] = {1e0, 1e1, 1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
-                                      1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
-  static constexpr double kInversePow10[] = {1e0, 1e-1, 1e-2, 1e-3, 1e-4, 1e-5, 1e-6, 1e-7};
-  const double v = mantissa < 10000000 && decimals <= 7
-                       ? static_cast<double>(mantissa) * kInversePow10[decimals]
-                       : static_cast<double>(mantissa) / kPow10[decimals];
-  return static_cast<float>(negative ? -v : v);
+  if (mantissa < 10000000 && decimals <= 7) {
+    const double v = static_cast<double>(mantissa) * decimal_detail::kInversePow10[decimals];
+    return static_cast<float>(negative ? -v : v);
+  }
+  return static_cast<float>(decimal_to_double(mantissa, decimals, negative));
 }
 
 }  // namespace gazemill

@@ -29,9 +29,9 @@ std::string_view trim(std::string_view s) {
 }
 
 // Plain decimals such as "-512.25" are most of any export: the digits are read
-// as one integer and divided by a power of ten in double, then narrowed to
-// float (the same double-then-float path as numpy/pandas). Anything else
-// (exponents, long mantissas, inf/nan words) goes to fast_float.
+// as one integer and a count of decimals, and decimal_to_float gives the float
+// that parsing to double and narrowing gives (the numpy/pandas path). Anything
+// else (exponents, long mantissas, inf/nan words) goes to fast_float.
 // scan_plain_decimal reads sign, digits and one dot at p and stops at the
 // first other character; `digits` is 0 when none was read.
 struct PlainDecimal {
@@ -43,12 +43,7 @@ struct PlainDecimal {
   double value() const;
 };
 
-constexpr double kPow10[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
-
-double PlainDecimal::value() const {
-  const double v = static_cast<double>(mantissa) / kPow10[decimals];
-  return negative ? -v : v;
-}
+double PlainDecimal::value() const { return decimal_to_double(mantissa, decimals, negative); }
 
 // With kSentinel the data is followed by a byte that is not a digit (the
 // reader puts a '\0' after each block), so the digit loops need not compare
