@@ -98,7 +98,6 @@ Microseconds scale_whole_time_in(TimeUnit unit, std::int64_t whole) {
   return whole;
 }
 
-
 std::string describe(char delimiter) {
   if (delimiter == '\t') return "tab";
   return std::string("'") + delimiter + "'";
@@ -157,7 +156,7 @@ class RowParser {
     set(right_.x, kRightX);
     set(right_.y, kRightY);
     set(right_.pupil, kRightPupil);
-    plain_rows_ = opt_.common_row_path && (layout_.left || layout_.right);
+    common_rows_ = opt_.common_row_path && (layout_.left || layout_.right);
   }
 
   void parse_header(std::string_view line, std::size_t line_no) {
@@ -251,7 +250,7 @@ class RowParser {
   // byte stores of the valid column may alias any member and would force the
   // compiler to reload every member after each row.
   const char* parse_common_rows(const char* p, const char* const end, std::size_t& line_no) {
-    if (!plain_rows_) return p;
+    if (!common_rows_) return p;
     const std::size_t columns = names_.size();
     const int* const role_of = role_of_.data();
     const char delimiter = layout_.delimiter;
@@ -504,7 +503,7 @@ class RowParser {
   int decimals_[kRoles] = {};
   bool negative_[kRoles] = {};
   bool numeric_tokens_ = false;       // a missing-value token reads as a number (e.g. "-1")
-  bool plain_rows_ = false;           // parse_common_rows may be tried
+  bool common_rows_ = false;           // parse_common_rows may be tried
   std::size_t time_ = kNoColumn, message_ = kNoColumn;
   EyeIndex left_, right_;
   std::size_t max_token_length_ = 0;
