@@ -503,7 +503,7 @@ class RowParser {
   int decimals_[kRoles] = {};
   bool negative_[kRoles] = {};
   bool numeric_tokens_ = false;       // a missing-value token reads as a number (e.g. "-1")
-  bool common_rows_ = false;           // parse_common_rows may be tried
+  bool common_rows_ = false;          // parse_common_rows may be tried
   std::size_t time_ = kNoColumn, message_ = kNoColumn;
   EyeIndex left_, right_;
   std::size_t max_token_length_ = 0;
