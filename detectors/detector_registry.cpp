@@ -75,6 +75,7 @@ std::unique_ptr<EventDetector> make_detector(const DetectionSpec& spec) {
     DispersionThresholdParams p;
     Binder().positive("dispersion_threshold_deg", p.dispersion_threshold_deg)
         .positive("min_duration_ms", p.min_duration_ms)
+        .non_negative("smoothing_window_ms", p.smoothing_window_ms)
         .apply(spec.method, spec.parameters);
     return std::make_unique<DispersionThresholdDetector>(p);
   }

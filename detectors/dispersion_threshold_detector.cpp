@@ -3,6 +3,8 @@
 #include <algorithm>
 #include <cmath>
 
+#include "detectors/savitzky_golay.h"
+
 namespace gazemill {
 
 std::size_t dispersion_window_samples(double min_duration_ms, double interval_us) {
@@ -11,15 +13,36 @@ std::size_t dispersion_window_samples(double min_duration_ms, double interval_us
   return static_cast<std::size_t>(std::max(1.0, std::ceil(min_duration_ms * 1000.0 / interval_us - 1e-9)));
 }
 
-ParameterList DispersionThresholdDetector::parameters() const {
-  return {{"dispersion_threshold_deg", p_.dispersion_threshold_deg}, {"min_duration_ms", p_.min_duration_ms}};
+int smoothing_window_samples(double smoothing_window_ms, double interval_us) {
+  if (!(smoothing_window_ms > 0)) return 0;
+  int w = static_cast<int>(std::lround(smoothing_window_ms * 1000.0 / interval_us));
+  if (w % 2 == 0) ++w;
+  return std::max(w, 5);  // an order-2 fit needs more than three samples to smooth at all
 }
+
+ParameterList DispersionThresholdDetector::parameters() const {
+  return {{"dispersion_threshold_deg", p_.dispersion_threshold_deg},
+          {"min_duration_ms", p_.min_duration_ms},
+          {"smoothing_window_ms", p_.smoothing_window_ms}};
+}
+
 
 void DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   const std::size_t n = labels.size();
   const std::size_t window = dispersion_window_samples(p_.min_duration_ms, g.interval_us);
   const double threshold = p_.dispersion_threshold_deg;
   auto usable = [&](std::size_t k) { return labels[k] == SampleLabel::other; };
+  // Optional smoothing; the samples themselves are left alone for the events.
+  const int smoothing = smoothing_window_samples(p_.smoothing_window_ms, g.interval_us);
+  std::vector<double> xs, ys;
+  if (smoothing > 0) {
+    std::vector<bool> ok(n);
+    for (std::size_t k = 0; k < n; ++k) ok[k] = usable(k);
+    xs = savitzky_golay_smooth(g.x_deg, ok, smoothing, 2);
+    ys = savitzky_golay_smooth(g.y_deg, ok, smoothing, 2);
+  }
+  const std::vector<double>& X = smoothing > 0 ? xs : g.x_deg;
+  const std::vector<double>& Y = smoothing > 0 ? ys : g.y_deg;
   std::vector<bool> in_fixation(n, false);
   std::size_t i = 0;
   while (i + window <= n) {
@@ -33,18 +56,18 @@ void DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLa
       i = last_bad + 1;
       continue;
     }
-    double x_lo = g.x_deg[i], x_hi = x_lo, y_lo = g.y_deg[i], y_hi = y_lo;
+    double x_lo = X[i], x_hi = x_lo, y_lo = Y[i], y_hi = y_lo;
     for (std::size_t k = i + 1; k < j; ++k) {
-      x_lo = std::min(x_lo, g.x_deg[k]);
-      x_hi = std::max(x_hi, g.x_deg[k]);
-      y_lo = std::min(y_lo, g.y_deg[k]);
-      y_hi = std::max(y_hi, g.y_deg[k]);
+      x_lo = std::min(x_lo, X[k]);
+      x_hi = std::max(x_hi, X[k]);
+      y_lo = std::min(y_lo, Y[k]);
+      y_hi = std::max(y_hi, Y[k]);
     }
     if ((x_hi - x_lo) + (y_hi - y_lo) <= threshold) {
       // Grow until the next point would exceed the threshold; that point is not part of it.
       while (j < n && usable(j)) {
-        const double nx_lo = std::min(x_lo, g.x_deg[j]), nx_hi = std::max(x_hi, g.x_deg[j]);
-        const double ny_lo = std::min(y_lo, g.y_deg[j]), ny_hi = std::max(y_hi, g.y_deg[j]);
+        const double nx_lo = std::min(x_lo, X[j]), nx_hi = std::max(x_hi, X[j]);
+        const double ny_lo = std::min(y_lo, Y[j]), ny_hi = std::max(y_hi, Y[j]);
         if ((nx_hi - nx_lo) + (ny_hi - ny_lo) > threshold) break;
         x_lo = nx_lo, x_hi = nx_hi, y_lo = ny_lo, y_hi = ny_hi;
         ++j;

@@ -12,6 +12,10 @@ namespace gazemill {
 struct DispersionThresholdParams {
   double dispersion_threshold_deg = 1.0;  // Blignaut (2009) found 1 deg replicable
   double min_duration_ms = 100.0;         // typical 100-200 ms (from memory)
+  // 0 = the paper's raw samples. Otherwise each coordinate is first smoothed
+  // by a Savitzky-Golay fit (order 2) over this many ms, so that the window's
+  // dispersion measures the eye rather than the tracker's sample noise.
+  double smoothing_window_ms = 0.0;
 };
 
 class DispersionThresholdDetector : public EventDetector {
@@ -27,5 +31,8 @@ class DispersionThresholdDetector : public EventDetector {
 
 /// The number of samples the first window covers: ceil(min_duration / interval).
 std::size_t dispersion_window_samples(double min_duration_ms, double interval_us);
+
+/// The smoothing window in samples: rounded, made odd, at least 5; 0 when off.
+int smoothing_window_samples(double smoothing_window_ms, double interval_us);
 
 }  // namespace gazemill

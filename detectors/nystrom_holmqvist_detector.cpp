@@ -72,9 +72,13 @@ void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel
     }
     std::size_t peak_end = i;
     while (peak_end + 1 < n && usable[peak_end + 1] && s[peak_end + 1] > pt.peak_deg_s) ++peak_end;
-    // Onset: back to the first local minimum below the onset threshold.
+    // Onset: back to the first local minimum below the onset threshold. The
+    // minimum is the slowest sample, the last one still at rest, so the
+    // saccade starts after it (the paper leaves the side open; from memory).
     std::size_t a = i;
-    while (a > last_end && usable[a - 1] && !(s[a] < onset && s[a - 1] >= s[a])) --a;
+    auto minimum_before = [&](std::size_t q) { return q > last_end && usable[q - 1] && s[q] < onset && s[q - 1] >= s[q]; };
+    while (a > last_end && usable[a - 1] && !minimum_before(a)) --a;
+    const std::size_t first = minimum_before(a) ? a + 1 : a;  // stopped by missing data or the last saccade: keep a
     // Offset threshold from the noise just before the saccade.
     double m = 0, m2 = 0;
     std::size_t k = 0;
@@ -91,20 +95,26 @@ void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel
       local = mean + 3.0 * std::sqrt(std::max(0.0, m2 / static_cast<double>(k) - mean * mean));
     }
     const double offset = p_.offset_onset_weight * onset + (1.0 - p_.offset_onset_weight) * local;
-    // Offset: forward to the first local minimum below the offset threshold.
+    // Offset: forward to the first local minimum below the offset threshold;
+    // the minimum is again the first sample at rest, not part of the saccade.
     std::size_t b = peak_end;
-    while (b + 1 < n && usable[b + 1] && !(s[b] < offset && s[b + 1] >= s[b])) ++b;
-    if ((static_cast<double>(g.time_us[b] - g.time_us[a]) + g.interval_us) / 1000.0 >= p_.min_saccade_ms) {
-      for (std::size_t q = a; q <= b; ++q) out[q] = SampleLabel::saccade;
-      // Glissade: a velocity bump above the offset threshold soon after the offset.
+    auto minimum_after = [&](std::size_t q) { return q + 1 < n && usable[q + 1] && s[q] < offset && s[q + 1] >= s[q]; };
+    while (b + 1 < n && usable[b + 1] && !minimum_after(b)) ++b;
+    const std::size_t last = minimum_after(b) && b > first ? b - 1 : b;
+    if ((static_cast<double>(g.time_us[last] - g.time_us[first]) + g.interval_us) / 1000.0 >= p_.min_saccade_ms) {
+      for (std::size_t q = first; q <= last; ++q) out[q] = SampleLabel::saccade;
+      // Glissade: a velocity bump above the offset threshold soon after the
+      // offset. It runs from the saccade's end to the next local minimum,
+      // which again is at rest.
       std::size_t last_above = b;
       for (std::size_t q = b + 1; q < n && q <= b + glissade_window && usable[q]; ++q) {
         if (s[q] > offset) last_above = q;
       }
       if (last_above > b) {
         std::size_t e = last_above;
-        while (e + 1 < n && usable[e + 1] && !(s[e] < offset && s[e + 1] >= s[e])) ++e;
-        for (std::size_t q = b + 1; q <= e; ++q) out[q] = SampleLabel::pso;
+        while (e + 1 < n && usable[e + 1] && !minimum_after(e)) ++e;
+        const std::size_t glissade_last = minimum_after(e) ? e - 1 : e;
+        for (std::size_t q = last + 1; q <= glissade_last; ++q) out[q] = SampleLabel::pso;
         b = e;
       }
     }

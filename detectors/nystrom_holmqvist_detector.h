@@ -5,7 +5,9 @@
 // PT = mean + 6 SD of the velocities below PT, iterated to convergence;
 // saccade onset at mean + 3 SD walking back from each peak to a local
 // minimum; offset at a threshold mixing the onset threshold with the local
-// noise before the saccade; a glissade (post-saccadic oscillation) is a
+// noise before the saccade, walking forward to the next local minimum (each
+// minimum is the slowest sample, still at rest, so it stays out of the
+// saccade); a glissade (post-saccadic oscillation) is a
 // velocity bump above the offset threshold within a short window after the
 // offset. All numbers are the defaults as recalled (from memory; see
 // methods.md section 3); each is a parameter.

@@ -39,4 +39,21 @@ std::vector<double> savitzky_golay_coefficients_at(int window, int order, int de
   return c;
 }
 
+std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, const std::vector<bool>& usable,
+                                          int window, int order) {
+  const std::vector<double> c = savitzky_golay_coefficients(window, order, 0);
+  const std::size_t n = values.size(), w = static_cast<std::size_t>(window), h = w / 2;
+  std::vector<double> out = values;
+  std::size_t run = 0;  // usable samples ending at i + h
+  for (std::size_t j = 0; j < n; ++j) {
+    run = usable[j] ? run + 1 : 0;
+    if (run < w) continue;
+    const std::size_t i = j - h;  // the window i - h .. j is wholly usable
+    double sum = 0;
+    for (std::size_t k = 0; k < w; ++k) sum += c[k] * values[i - h + k];
+    out[i] = sum;
+  }
+  return out;
+}
+
 }  // namespace gazemill

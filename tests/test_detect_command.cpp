@@ -86,7 +86,7 @@ TEST(DetectCommand, BadDetectionSettingsNameTheKey) {
   };
   expect_error("[detection]\nmethod='hmm'\n", "detection.method", "unknown detection method hmm");
   expect_error("[detection]\nmethod='idt'\n[detection.parameters]\nlambda=5\n", "detection.parameters",
-               "method idt has no parameter lambda; it has: dispersion_threshold_deg, min_duration_ms");
+               "method idt has no parameter lambda; it has: dispersion_threshold_deg, min_duration_ms, smoothing_window_ms");
   expect_error("[detection]\n[detection.parameters]\nvelocity_threshold_deg_s=-3\n", "detection.parameters", "must be positive");
   expect_error("[detection]\neye='both'\n", "detection.eye", "expected \"left\", \"right\", \"best\" or \"average\"");
   expect_error("[detection]\n[detection.blinks]\nmin_ms=300\nmax_ms=100\n", "detection.blinks.max_ms", "must not be below");

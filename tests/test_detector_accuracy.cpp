@@ -5,12 +5,12 @@
 // sensible parameters. Kappa as defined by Cohen (1960); per class, one class
 // against the rest (common practice in event-detection evaluation, no single source).
 //
-// Measured (this seed): I-VT and Engbert & Kliegl (lambda 3) meet both
-// targets. With the published lambda 5, Engbert & Kliegl reaches 0.936 for
-// fixations; Nystrom & Holmqvist reaches 0.944 / 0.942; I-DT 0.862 / 0.844.
-// The low-velocity start and end of each simulated saccade fall below the
-// velocity thresholds, and I-DT by construction absorbs into the neighbouring
-// fixations every saccade sample within the dispersion threshold. Rows below
+// Measured (this seed): I-VT, Engbert & Kliegl (lambda 3) and Nystrom &
+// Holmqvist meet both targets. With the published lambda 5, Engbert & Kliegl
+// reaches 0.936 for fixations. I-DT meets the saccade target (0.920) and
+// reaches 0.913 for fixations: it sees positions only, and the first and last
+// few ms of each simulated saccade move the eye by hundredths of a degree,
+// inside any dispersion threshold that the sample noise allows. Rows below
 // target assert the measured level so that it cannot silently get worse; the
 // gap to the target is reported, not hidden.
 
@@ -97,22 +97,27 @@ INSTANTIATE_TEST_SUITE_P(
         // peak-threshold iteration starts at 60 deg/s: from the usual 100 it
         // stays near its upper fixed point in 3 of the 36 trials (many small
         // reading saccades below 100 deg/s inflate the SD) and misses every
-        // saccade below it (then 0.928 / 0.922). Measured 0.944 / 0.942: the
-        // walk back to a local velocity minimum starts each saccade about
-        // 1 ms early and ends it about 1 ms late.
-        Case{"nystrom_holmqvist", {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}}, 0.94, 0.94},
-        // Below both targets (measured 0.862 and 0.844); larger dispersion
-        // thresholds only absorb more of each saccade (0.25 deg and 40 ms:
-        // 0.795 / 0.756). A grid of 0.11-0.2 deg by 8-20 ms (`gazemill score`,
-        // same study and blink padding) peaked at 0.896 / 0.886 with 0.11 deg
-        // and 8 ms, a window far shorter than any fixation; with 20 ms,
-        // thresholds below 0.15 deg fall inside the noise's own dispersion
-        // and split fixations (0.12 deg: 0.684 / 0.688).
-        Case{"idt", {{"dispersion_threshold_deg", 0.15}, {"min_duration_ms", 20}}, 0.85, 0.83}),
+        // saccade below it (then 0.928 / 0.922). Targets met (measured
+        // 0.960 / 0.960). Before the velocity minima at either end were left
+        // out of the saccade, each saccade began about 1 ms early and ended
+        // about 1 ms late: 0.944 / 0.942.
+        Case{"nystrom_holmqvist", {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}}, 0.95, 0.90},
+        // The paper's raw samples: at best 0.896 / 0.886 over a grid of
+        // 0.11-0.2 deg by 8-20 ms (0.11 deg with an 8 ms window, far shorter
+        // than any fixation); with 20 ms, thresholds below 0.15 deg fall
+        // inside the noise's own dispersion and split fixations.
+        Case{"idt", {{"dispersion_threshold_deg", 0.15}, {"min_duration_ms", 20}}, 0.85, 0.83},
+        // Positions smoothed first (order-2 Savitzky-Golay over 16 ms): the
+        // threshold can drop below the noise's own dispersion. Saccade target
+        // met, fixations 0.913. A grid of 0.05-0.08 deg, 20-50 ms and
+        // 12-30 ms smoothing (`gazemill score`) stayed at or below
+        // 0.913 / 0.922; a running median in place of the fit, at or below 0.899 / 0.905.
+        Case{"idt", {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 24}, {"smoothing_window_ms", 16}}, 0.91, 0.90}),
     [](const ::testing::TestParamInfo<Case>& info) {
       std::string name = info.param.method;
       for (const auto& [key, value] : info.param.parameters) {
         if (key == "lambda") name += "_lambda" + std::to_string(static_cast<int>(value));
+        if (key == "smoothing_window_ms") name += "_smoothed";
       }
       return name;
     });

@@ -114,6 +114,45 @@ TEST(SavitzkyGolay, MatchesScipyIncludingOffCentrePositions) {
   }
 }
 
+// Smoothing: a least-squares fit of order p reproduces any polynomial of
+// degree <= p exactly (Savitzky & Golay 1964); away from the edges the values
+// equal scipy.signal.savgol_filter(x, w, 2) via /usr/bin/python3; samples whose
+// window reaches an unusable sample keep their own value (our rule).
+TEST(SavitzkyGolay, SmoothingMatchesScipyAndStopsAtUnusableSamples) {
+  const int w = 9, h = w / 2;
+  std::vector<double> quad;
+  for (int i = 0; i < 40; ++i) quad.push_back(0.5 + 0.25 * i - 0.01 * i * i);
+  expect_near_all(savitzky_golay_smooth(quad, std::vector<bool>(quad.size(), true), w, 2), quad, 1e-9);
+
+  std::vector<double> x;
+  std::mt19937 rng(5);
+  std::normal_distribution<double> noise(0.0, 0.2);
+  for (int i = 0; i < 60; ++i) x.push_back(std::sin(i / 7.0) + noise(rng));
+  std::string code = "import numpy as np\nfrom scipy.signal import savgol_filter\nx = np.array([";
+  for (double v : x) code += std::to_string(v) + ",";
+  code += "])\nprint(' '.join(repr(float(v)) for v in savgol_filter(x, " + std::to_string(w) + ", 2)))\n";
+  std::vector<double> parsed;  // the values as python read them, so both sides start from the same numbers
+  for (double v : x) parsed.push_back(std::stod(std::to_string(v)));
+  std::istringstream out(run_python(code));
+  std::vector<double> want;
+  double v;
+  while (out >> v) want.push_back(v);
+  ASSERT_EQ(want.size(), x.size()) << "scipy gave no answer; is python3-scipy installed?";
+  std::vector<bool> usable(x.size(), true);
+  const int gap = 30;
+  usable[gap] = false;
+  const std::vector<double> got = savitzky_golay_smooth(parsed, usable, w, 2);
+  for (int i = 0; i < static_cast<int>(x.size()); ++i) {
+    const bool edge = i < h || i >= static_cast<int>(x.size()) - h;
+    const bool near_gap = std::abs(i - gap) <= h;
+    if (edge || near_gap) {
+      EXPECT_EQ(got[i], parsed[i]) << "sample " << i << " should keep its own value";
+    } else {
+      EXPECT_NEAR(got[i], want[i], 1e-9) << "sample " << i;
+    }
+  }
+}
+
 // Visual angle: 1 cm at 57.3 cm is about 1 deg (common practice, no source);
 // exact values 2 atan(s / 2d) from methods.md section 5 (computed there).
 TEST(VisualAngle, RuleOfThumbAndExactValues) {
@@ -201,6 +240,38 @@ TEST(DispersionThreshold, HandMadeTraceFromThePublishedSteps) {
   EXPECT_EQ(ev.fixations[1].start_us, 150000);
 }
 
+// I-DT on a 1000 Hz trace whose samples alternate +-0.04 deg around two
+// points 2 deg apart: every pair of neighbouring samples is 0.08 deg apart, so
+// with a 0.06 deg threshold the paper's raw samples hold no fixation at all.
+// Smoothed first (order 2 over 17 samples damps the alternation to
+// 0.09 x 0.04 deg; gain from scipy.signal.savgol_coeffs, computed once by hand),
+// the same threshold finds both fixations and the ramp between them.
+TEST(DispersionThreshold, SmoothingKeepsNoisyFixationsWhole) {
+  std::vector<std::pair<double, double>> pts;
+  for (int i = 0; i < 150; ++i) pts.emplace_back((i % 2 ? 0.04 : -0.04), 0.0);
+  for (int i = 1; i <= 10; ++i) pts.emplace_back(0.2 * i, 0.0);
+  for (int i = 0; i < 150; ++i) pts.emplace_back(2.0 + (i % 2 ? 0.04 : -0.04), 0.0);
+  const GazeTrace g = trace_of(pts, 1000);
+  auto run = [&](double smoothing_ms) {
+    std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+    DispersionThresholdDetector({0.06, 24.0, smoothing_ms}).label(g, labels);
+    std::string got;
+    for (auto l : labels) got += l == SampleLabel::fixation ? 'F' : 'S';
+    return got;
+  };
+  EXPECT_EQ(run(0).find('F'), std::string::npos);
+  EXPECT_EQ(smoothing_window_samples(16, 1000), 17);
+  const std::string smoothed = run(16);
+  // Two runs of fixation around one run of saccade samples that covers the ramp.
+  const auto first_s = smoothed.find('S', smoothed.find('F'));
+  const auto second_f = smoothed.find('F', first_s);
+  ASSERT_NE(second_f, std::string::npos) << smoothed;
+  EXPECT_EQ(smoothed.find('S', second_f), smoothed.size() - 8) << "only the unsmoothed tail (h = 8 samples) may break it";
+  EXPECT_LE(first_s, 151u);
+  EXPECT_GE(second_f, 159u);
+  EXPECT_LT(second_f - first_s, 40u) << smoothed;
+}
+
 // I-VT with point-to-point (backward) velocities and 100 units/s, methods.md
 // Appendix A: labels FFFFFFFFFFFFSSSSFFFFFFFFFFFFFF (sample 15 is a saccade
 // sample because its backward difference spans the saccade's last step).
@@ -240,6 +311,48 @@ TEST(NystromHolmqvist, PeakThresholdIteration) {
   const PeakThreshold flat = find_peak_threshold(std::vector<double>(100, 3.0), std::vector<bool>(100, true), p);
   EXPECT_DOUBLE_EQ(flat.peak_deg_s, 3.0);
   EXPECT_DOUBLE_EQ(flat.sd_deg_s, 0.0);
+}
+
+// Nystrom & Holmqvist (2010) walk from each velocity peak back and forward to
+// the first local velocity minimum below the onset/offset threshold (methods.md
+// section 3, from memory). Which side of the saccade a minimum falls on is
+// left open there; ours: the minimum is the slowest sample, still at rest, so
+// the sample just before the first saccade sample and the one just after the
+// last are local minima of the speed and are labelled fixation.
+TEST(NystromHolmqvist, SaccadeRunsBetweenTheTwoVelocityMinima) {
+  std::vector<std::pair<double, double>> pts;
+  const double jit[] = {0.0, 0.012, -0.008, 0.015, -0.011, 0.004, -0.014, 0.009};
+  for (int i = 0; i < 200; ++i) pts.emplace_back(jit[i % 8], jit[(i + 3) % 8]);
+  for (int i = 1; i < 25; ++i) {  // a minimum-jerk movement of 2 deg over 25 ms
+    const double t = i / 25.0;
+    pts.emplace_back(2.0 * (10 * t * t * t - 15 * t * t * t * t + 6 * t * t * t * t * t), 0.0);
+  }
+  for (int i = 0; i < 200; ++i) pts.emplace_back(2.0 + jit[i % 8], jit[(i + 5) % 8]);
+  const GazeTrace g = trace_of(pts, 1000);
+  NystromHolmqvistParams p;
+  p.velocity.sg_window_ms = 4;
+  p.max_glissade_ms = 0;
+  std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+  NystromHolmqvistDetector(p).label(g, labels);
+  std::size_t first = g.size(), last = 0;
+  for (std::size_t i = 0; i < g.size(); ++i) {
+    if (labels[i] == SampleLabel::saccade) {
+      first = std::min(first, i);
+      last = i;
+    }
+  }
+  ASSERT_LT(first, last);
+  for (std::size_t i = first; i <= last; ++i) EXPECT_EQ(labels[i], SampleLabel::saccade) << "one saccade, sample " << i;
+  const std::vector<double> s = compute_velocity(g, p.velocity).speed;
+  EXPECT_EQ(labels[first - 1], SampleLabel::fixation);
+  EXPECT_LE(s[first - 1], s[first - 2]) << "the sample before the saccade is a local minimum";
+  EXPECT_LT(s[first - 1], s[first]);
+  EXPECT_EQ(labels[last + 1], SampleLabel::fixation);
+  EXPECT_LE(s[last + 1], s[last + 2]) << "the sample after the saccade is a local minimum";
+  EXPECT_LT(s[last + 1], s[last]);
+  // The movement itself (samples 200..224) lies inside.
+  EXPECT_LE(first, 201u);
+  EXPECT_GE(last, 222u);
 }
 
 // Cohen (1960): kappa = (po - pe) / (1 - pe). Worked by hand: 40 both, 10 and 5
