@@ -16,7 +16,10 @@ ByteSource::ByteSource(const std::string& path) : path_(path) {
   fd_ = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
   if (fd_ < 0) throw InputError({path, 0, ""}, std::string("cannot open file: ") + std::strerror(errno));
   struct stat st {};
-  if (::fstat(fd_, &st) == 0) raw_size_ = static_cast<std::uint64_t>(st.st_size);
+  if (::fstat(fd_, &st) == 0) {
+    raw_size_ = static_cast<std::uint64_t>(st.st_size);
+    regular_ = S_ISREG(st.st_mode);
+  }
   unsigned char magic[2] = {0, 0};
   const ssize_t got = ::pread(fd_, magic, 2, 0);
   if (got == 2 && magic[0] == 0x1f && magic[1] == 0x8b) {
@@ -55,6 +58,13 @@ std::size_t ByteSource::read(char* buffer, std::size_t capacity) {
     }
     if (errno != EINTR) throw InputError({path_, 0, ""}, std::string("read failed: ") + std::strerror(errno));
   }
+}
+
+void ByteSource::seek(std::uint64_t offset) {
+  if (gz_ || ::lseek(fd_, static_cast<off_t>(offset), SEEK_SET) < 0) {
+    throw InputError({path_, 0, ""}, std::string("cannot seek in the file: ") + std::strerror(errno));
+  }
+  plain_offset_ = offset;
 }
 
 std::uint64_t ByteSource::raw_offset() const {

@@ -24,6 +24,11 @@ class ByteSource {
   /// Bytes consumed from the file on disk so far (for progress reports).
   std::uint64_t raw_offset() const;
   std::uint64_t raw_size() const { return raw_size_; }
+  /// A plain regular file (not gzip, not a pipe): it can be mapped instead of read.
+  bool mappable() const { return !gz_ && regular_; }
+  int descriptor() const { return fd_; }
+  /// Skips ahead without reading (plain files only).
+  void seek(std::uint64_t offset);
 
  private:
   std::string path_;
@@ -31,6 +36,7 @@ class ByteSource {
   void* gz_ = nullptr;  // gzFile
   std::uint64_t raw_size_ = 0;
   std::uint64_t plain_offset_ = 0;
+  bool regular_ = false;
 };
 
 }  // namespace gazemill

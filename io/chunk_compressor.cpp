@@ -2,6 +2,10 @@
 
 #include <libdeflate.h>
 
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
+
 #include <cstring>
 #include <memory>
 #include <stdexcept>
@@ -49,19 +53,70 @@ std::future<std::vector<char>> CompressionPool::submit(std::function<std::vector
   return fut;
 }
 
+namespace {
+
+// HDF5's shuffle: byte b of element i goes to b * n + i. Sixteen elements at a
+// time, the transposition is four rounds of byte interleaving: each round
+// pairs register k with register k + N/2 and rotates the bits of every byte's
+// index (element bits above byte bits) left by one; after four rounds the
+// four element bits sit below the byte bits, so register b holds byte b of
+// all sixteen elements. SSE2 is part of x86-64, so no CPU check is needed.
+template <int N>
+void shuffle_bytes(const char* data, std::size_t n, char* out) {
+  std::size_t i = 0;
+#if defined(__SSE2__)
+  for (; i + 16 <= n; i += 16) {
+    __m128i r[N], t[N];
+    for (int k = 0; k < N; ++k) r[k] = _mm_loadu_si128(reinterpret_cast<const __m128i*>(data + N * i + 16 * k));
+    for (int round = 0; round < 4; ++round) {
+      for (int k = 0; k < N / 2; ++k) {
+        t[2 * k] = _mm_unpacklo_epi8(r[k], r[k + N / 2]);
+        t[2 * k + 1] = _mm_unpackhi_epi8(r[k], r[k + N / 2]);
+      }
+      for (int k = 0; k < N; ++k) r[k] = t[k];
+    }
+    for (int b = 0; b < N; ++b) _mm_storeu_si128(reinterpret_cast<__m128i*>(out + b * n + i), r[b]);
+  }
+#endif
+  for (; i < n; ++i) {
+    for (int b = 0; b < N; ++b) out[b * n + i] = data[N * i + b];
+  }
+}
+
+void shuffle_any(const char* data, std::size_t n, std::size_t element_size, char* out) {
+  switch (element_size) {
+    case 2: return shuffle_bytes<2>(data, n, out);
+    case 4: return shuffle_bytes<4>(data, n, out);
+    case 8: return shuffle_bytes<8>(data, n, out);
+    default:
+      for (std::size_t b = 0; b < element_size; ++b) {
+        for (std::size_t i = 0; i < n; ++i) out[b * n + i] = data[i * element_size + b];
+      }
+  }
+}
+
+// Grown as needed and kept: fresh buffers per chunk cost page faults and zeroing.
+char* scratch(std::unique_ptr<char[]>& buffer, std::size_t& capacity, std::size_t bytes) {
+  if (capacity < bytes) {
+    buffer.reset(new char[bytes]);
+    capacity = bytes;
+  }
+  return buffer.get();
+}
+
+}  // namespace
+
 std::vector<char> shuffle_and_deflate(const char* data, std::size_t bytes, std::size_t element_size, int level) {
-  std::vector<char> shuffled(bytes);
+  thread_local std::unique_ptr<char[]> shuffled, packed;
+  thread_local std::size_t shuffled_capacity = 0, packed_capacity = 0;
+  const char* input = data;
   const std::size_t n = bytes / element_size;
   if (element_size > 1 && n > 1) {
-    for (std::size_t b = 0; b < element_size; ++b) {
-      char* out = shuffled.data() + b * n;
-      const char* in = data + b;
-      for (std::size_t i = 0; i < n; ++i) out[i] = in[i * element_size];
-    }
+    char* out = scratch(shuffled, shuffled_capacity, bytes);
+    shuffle_any(data, n, element_size, out);
     // Bytes beyond a whole number of elements are copied unchanged, as HDF5 does.
-    std::memcpy(shuffled.data() + n * element_size, data + n * element_size, bytes - n * element_size);
-  } else {
-    std::memcpy(shuffled.data(), data, bytes);
+    std::memcpy(out + n * element_size, data + n * element_size, bytes - n * element_size);
+    input = out;
   }
   // libdeflate writes the same zlib format as zlib's compress2, several times
   // faster; one compressor per thread and level, reused.
@@ -72,11 +127,11 @@ std::vector<char> shuffle_and_deflate(const char* data, std::size_t bytes, std::
     compressor_level = level;
     if (!compressor) throw std::runtime_error("cannot create a deflate compressor");
   }
-  std::vector<char> out(libdeflate_zlib_compress_bound(compressor.get(), bytes));
-  const std::size_t written = libdeflate_zlib_compress(compressor.get(), shuffled.data(), bytes, out.data(), out.size());
+  const std::size_t bound = libdeflate_zlib_compress_bound(compressor.get(), bytes);
+  char* out = scratch(packed, packed_capacity, bound);
+  const std::size_t written = libdeflate_zlib_compress(compressor.get(), input, bytes, out, bound);
   if (written == 0) throw std::runtime_error("deflate compression failed");
-  out.resize(written);
-  return out;
+  return std::vector<char>(out, out + written);
 }
 
 void ChunkWriteQueue::push(hid_t dataset, hsize_t first_row, hsize_t rows_after,
@@ -133,7 +188,10 @@ void ChunkedColumnWriter::submit_staged() {
   auto job = [buf = std::move(staged_), esize, level] { return shuffle_and_deflate(buf.data(), buf.size(), esize, level); };
   const hsize_t first = rows_written_;
   rows_written_ += rows;
-  queue_.push(dataset_.getId(), first, first + chunk_rows_, pool_.submit(std::move(job)));
+  // The extent grows to the chunk's real end, not the whole chunk's: a last,
+  // partial chunk then needs no shrinking afterwards, which HDF5 would do by
+  // decompressing and recompressing it with zlib on this thread.
+  queue_.push(dataset_.getId(), first, first + rows, pool_.submit(std::move(job)));
   staged_ = std::vector<char>();
   staged_.reserve(chunk_rows_ * element_size_);
 }

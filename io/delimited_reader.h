@@ -47,6 +47,12 @@ struct DelimitedReadOptions {
   // quicker path that hands anything else to the careful one. Off only in the
   // test that checks both paths give the same result.
   bool common_row_path = true;
+  // Parse plain files from mapped windows rather than read() copies. Off only
+  // in the test that checks both ways give the same result.
+  bool map_plain_files = true;
+  // Bytes mapped at a time (rounded up to whole pages); small only in tests,
+  // to cross many window edges.
+  std::size_t mapped_window_bytes = std::size_t{4} << 20;
   std::function<void(std::uint64_t done_bytes, std::uint64_t total_bytes)> progress;
 };
 
