@@ -277,7 +277,7 @@ class RowParser {
     std::fill(std::begin(value), std::end(value), kNaN);  // unmapped roles stay NaN
     while (p < end) {
       const char* q = p;
-      Microseconds t = 0;
+      PlainDecimal time;
       bool common = true;
       for (std::size_t c = 0; c < columns && common; ++c) {
         const char* field = q;
@@ -297,10 +297,7 @@ class RowParser {
           }
           if (role == kTime) {
             common = common && !missing;
-            // As parse_time: whole numbers exactly, others through the double.
-            t = !d.negative && d.decimals == 0
-                    ? scale_whole_time_in(unit, static_cast<std::int64_t>(d.mantissa))
-                    : scale_time_in(unit, d.value());
+            time = d;  // converted after the row, out of this loop's way
           } else {
             value[role] = missing ? kNaN : decimal_to_float(d.mantissa, d.decimals, d.negative);
           }
@@ -319,6 +316,10 @@ class RowParser {
         }
       }
       if (!common) break;
+      // As parse_time: whole numbers exactly, others through the double.
+      const Microseconds t = !time.negative && time.decimals == 0
+                                 ? scale_whole_time_in(unit, static_cast<std::int64_t>(time.mantissa))
+                                 : scale_time_in(unit, time.value());
       if (samples > 0) {
         if (t <= last) break;  // parse_row repairs or reports it
       } else {
