@@ -53,6 +53,20 @@ std::future<std::vector<char>> CompressionPool::submit(std::function<std::vector
   return fut;
 }
 
+std::vector<char> CompressionPool::take_buffer() {
+  std::lock_guard lock(spare_mutex_);
+  if (spare_.empty()) return {};
+  std::vector<char> b = std::move(spare_.back());
+  spare_.pop_back();
+  return b;
+}
+
+void CompressionPool::give_back(std::vector<char> buffer) {
+  buffer.clear();
+  std::lock_guard lock(spare_mutex_);
+  if (spare_.size() < 64) spare_.push_back(std::move(buffer));  // bounded: memory stays flat
+}
+
 namespace {
 
 // HDF5's shuffle: byte b of element i goes to b * n + i. Sixteen elements at a
@@ -185,14 +199,18 @@ void ChunkedColumnWriter::submit_staged() {
   staged_.resize(chunk_rows_ * element_size_, 0);  // chunks are always whole; padding is beyond the extent
   const std::size_t esize = element_size_;
   const int level = level_;
-  auto job = [buf = std::move(staged_), esize, level] { return shuffle_and_deflate(buf.data(), buf.size(), esize, level); };
+  auto job = [buf = std::move(staged_), esize, level, &pool = pool_]() mutable {
+    std::vector<char> packed = shuffle_and_deflate(buf.data(), buf.size(), esize, level);
+    pool.give_back(std::move(buf));
+    return packed;
+  };
   const hsize_t first = rows_written_;
   rows_written_ += rows;
   // The extent grows to the chunk's real end, not the whole chunk's: a last,
   // partial chunk then needs no shrinking afterwards, which HDF5 would do by
   // decompressing and recompressing it with zlib on this thread.
   queue_.push(dataset_.getId(), first, first + rows, pool_.submit(std::move(job)));
-  staged_ = std::vector<char>();
+  staged_ = pool_.take_buffer();
   staged_.reserve(chunk_rows_ * element_size_);
 }
 

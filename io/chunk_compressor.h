@@ -28,7 +28,14 @@ class CompressionPool {
   CompressionPool& operator=(const CompressionPool&) = delete;
   std::future<std::vector<char>> submit(std::function<std::vector<char>()> job);
 
+  /// An empty buffer, with the capacity of one handed back earlier if any:
+  /// fresh staging buffers for every chunk cost page faults and zeroing.
+  std::vector<char> take_buffer();
+  void give_back(std::vector<char> buffer);
+
  private:
+  std::mutex spare_mutex_;
+  std::vector<std::vector<char>> spare_;
   std::vector<std::thread> workers_;
   std::deque<std::packaged_task<std::vector<char>()>> jobs_;
   std::mutex mutex_;
