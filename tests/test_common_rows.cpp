@@ -95,6 +95,7 @@ Generated random_export(std::mt19937_64& rng, std::size_t rows) {
   o.layout.left = EyeColumnNames{"lx", "ly", "lp"};
   const bool binocular = chance(0.5);
   if (binocular) o.layout.right = EyeColumnNames{"rx", "ry", ""};
+  else if (chance(0.5)) std::swap(o.layout.left, o.layout.right);  // the one eye may be the right one
   if (chance(0.5)) o.layout.missing_values.push_back("-1");
   o.layout.zero_gaze_is_missing = chance(0.5);
   o.duplicate_timestamps = DuplicateTimestampPolicy::keep_first;
