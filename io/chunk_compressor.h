@@ -28,8 +28,8 @@ class CompressionPool {
   CompressionPool& operator=(const CompressionPool&) = delete;
   std::future<std::vector<char>> submit(std::function<std::vector<char>()> job);
 
-  /// An empty buffer, with the capacity of one handed back earlier if any:
-  /// fresh staging buffers for every chunk cost page faults and zeroing.
+  /// An empty buffer, with the capacity of one handed back earlier if any, so
+  /// that staging a chunk seldom touches fresh pages.
   std::vector<char> take_buffer();
   void give_back(std::vector<char> buffer);
 
