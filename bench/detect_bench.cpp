@@ -67,7 +67,7 @@ DetectionSpec sensible(const std::string& method) {
   if (method == "ivt") s.parameters = {{"velocity_threshold_deg_s", 15}, {"sg_window_ms", 10}};
   if (method == "engbert_kliegl") s.parameters = {{"lambda", 3}};
   if (method == "nystrom_holmqvist") s.parameters = {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}};
-  if (method == "idt") s.parameters = {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 24}, {"smoothing_window_ms", 16}};
+  if (method == "idt") s.parameters = {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}};
   s.blink_padding_before_ms = s.blink_padding_after_ms = 30;
   return s;
 }

@@ -41,17 +41,35 @@ std::vector<double> savitzky_golay_coefficients_at(int window, int order, int de
 
 std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, const std::vector<bool>& usable,
                                           int window, int order) {
-  const std::vector<double> c = savitzky_golay_coefficients(window, order, 0);
   const std::size_t n = values.size(), w = static_cast<std::size_t>(window), h = w / 2;
+  const std::vector<double> centre = savitzky_golay_coefficients(window, order, 0);
+  // Off-centre fits for the first and last h samples of a stretch.
+  std::vector<std::vector<double>> edge(w);
+  for (std::size_t pos = 0; pos < w; ++pos) {
+    if (pos != h) edge[pos] = savitzky_golay_coefficients_at(window, order, 0, static_cast<int>(pos) - static_cast<int>(h));
+  }
   std::vector<double> out = values;
-  std::size_t run = 0;  // usable samples ending at i + h
-  for (std::size_t j = 0; j < n; ++j) {
-    run = usable[j] ? run + 1 : 0;
-    if (run < w) continue;
-    const std::size_t i = j - h;  // the window i - h .. j is wholly usable
+  const auto fit = [&](const std::vector<double>& c, std::size_t first) {
     double sum = 0;
-    for (std::size_t k = 0; k < w; ++k) sum += c[k] * values[i - h + k];
-    out[i] = sum;
+    for (std::size_t k = 0; k < w; ++k) sum += c[k] * values[first + k];
+    return sum;
+  };
+  std::size_t start = 0;
+  while (start < n) {
+    if (!usable[start]) {
+      ++start;
+      continue;
+    }
+    std::size_t end = start;
+    while (end < n && usable[end]) ++end;
+    if (end - start >= w) {  // a shorter stretch keeps its own values
+      for (std::size_t i = start; i < end; ++i) {
+        if (i < start + h) out[i] = fit(edge[i - start], start);
+        else if (i + h >= end) out[i] = fit(edge[w - (end - i)], end - w);
+        else out[i] = fit(centre, i - h);
+      }
+    }
+    start = end;
   }
   return out;
 }

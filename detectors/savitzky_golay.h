@@ -20,10 +20,12 @@ std::vector<double> savitzky_golay_coefficients(int window, int order, int deriv
 /// as scipy.signal.savgol_filter's mode='interp' does.
 std::vector<double> savitzky_golay_coefficients_at(int window, int order, int derivative, int position);
 
-/// `values` smoothed by a centred Savitzky-Golay fit of `order` over `window`
-/// samples (odd). A sample whose window is not wholly usable (near an edge or
-/// near an unusable sample) keeps its own value, so nothing is smoothed
-/// across missing data.
+/// `values` smoothed by a Savitzky-Golay fit of `order` over `window` samples
+/// (odd), stretch by stretch of usable samples, so nothing is smoothed across
+/// missing data. The first and last window/2 samples of a stretch take the
+/// fit over its first or last whole window, evaluated off-centre (as
+/// scipy.signal.savgol_filter's mode='interp' does at the ends); a stretch
+/// shorter than the window keeps its own values.
 std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, const std::vector<bool>& usable,
                                           int window, int order);
 
