@@ -592,7 +592,7 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
   };
 
   std::string carry;  // an unfinished line at the end of what has been parsed
-  std::uint64_t offset = 0;  // where the unparsed bytes begin in the file
+  bool rest_to_read = true;  // bytes left for read() below
   if (source.mappable() && options.map_plain_files) {
     // A plain file is parsed from mapped windows: no copy into a buffer,
     // which was a sixth of the parsing time. Each window ends after its last
@@ -600,6 +600,7 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
     // this mapping's private copy of the page (the next window maps the
     // file's own bytes again from that line on).
     const std::uint64_t size = source.raw_size();
+    std::uint64_t offset = 0;  // where the unparsed bytes begin in the file
     const std::size_t page = MappedWindow::page_size();
     const std::size_t window = std::max<std::size_t>(1, (options.mapped_window_bytes + page - 1) / page) * page;
     while (offset < size) {
@@ -639,9 +640,10 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
       offset += parse_block(begin, static_cast<std::size_t>(end - begin));
       report(offset);
     }
-    if (offset < size) source.seek(offset);
+    rest_to_read = offset < size;
+    if (rest_to_read) source.seek(offset);
   }
-  if (offset < source.raw_size() || source.compressed() || !source.mappable()) {
+  if (rest_to_read) {
     std::unique_ptr<char[]> buffer(new char[kBlockBytes + 1]);
     for (;;) {
       const std::size_t n = source.read(buffer.get(), kBlockBytes);

@@ -2,7 +2,6 @@
 
 #include <fcntl.h>
 #include <openssl/evp.h>
-#include <sys/mman.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
@@ -12,6 +11,7 @@
 #include <cstring>
 #include <stdexcept>
 
+#include "io/mapped_window.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
@@ -56,20 +56,17 @@ std::string sha256_file(const std::string& path) {
   struct stat st {};
   Sha256 h;
   // A regular file is hashed through windows of mapped pages: no copy into a
-  // buffer, which on a large input is a good part of the hashing time. The
+  // buffer, which on a large input is a good part of the hashing time. Each
   // window is unmapped before the next, so memory stays small.
   if (::fstat(fd, &st) == 0 && S_ISREG(st.st_mode)) {
-    constexpr std::size_t kWindow = std::size_t{8} << 20;
-    const auto size = static_cast<std::size_t>(st.st_size);
-    std::size_t offset = 0;
+    constexpr std::size_t kWindow = std::size_t{8} << 20;  // a whole number of pages
+    const auto size = static_cast<std::uint64_t>(st.st_size);
+    std::uint64_t offset = 0;
     while (offset < size) {
-      const std::size_t length = std::min(kWindow, size - offset);
-      void* p = ::mmap(nullptr, length, PROT_READ, MAP_PRIVATE, fd, static_cast<off_t>(offset));
-      if (p == MAP_FAILED) break;  // finish with read() below
-      ::madvise(p, length, MADV_SEQUENTIAL);
-      h.update(p, length);
-      ::munmap(p, length);
-      offset += length;
+      const auto w = MappedWindow::map(fd, offset, static_cast<std::size_t>(std::min<std::uint64_t>(kWindow, size - offset)));
+      if (!w) break;  // finish with read() below
+      h.update(w->data(), w->size());
+      offset += w->size();
     }
     if (offset == size) return h.hex_digest();
     if (::lseek(fd, static_cast<off_t>(offset), SEEK_SET) < 0) throw InputError({path, 0, ""}, "cannot seek while hashing");
