@@ -26,7 +26,6 @@ ParameterList DispersionThresholdDetector::parameters() const {
           {"smoothing_window_ms", p_.smoothing_window_ms}};
 }
 
-
 void DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   const std::size_t n = labels.size();
   const std::size_t window = dispersion_window_samples(p_.min_duration_ms, g.interval_us);
