@@ -60,6 +60,12 @@ std::size_t ByteSource::read(char* buffer, std::size_t capacity) {
   }
 }
 
+std::uint64_t ByteSource::current_size() const {
+  struct stat st {};
+  if (::fstat(fd_, &st) != 0) throw InputError({path_, 0, ""}, std::string("cannot stat the file: ") + std::strerror(errno));
+  return static_cast<std::uint64_t>(st.st_size);
+}
+
 void ByteSource::seek(std::uint64_t offset) {
   if (gz_ || ::lseek(fd_, static_cast<off_t>(offset), SEEK_SET) < 0) {
     throw InputError({path_, 0, ""}, std::string("cannot seek in the file: ") + std::strerror(errno));

@@ -27,6 +27,8 @@ class ByteSource {
   /// A plain regular file (not gzip, not a pipe): it can be mapped instead of read.
   bool mappable() const { return !gz_ && regular_; }
   int descriptor() const { return fd_; }
+  /// The file's size now (it may have changed since it was opened).
+  std::uint64_t current_size() const;
   /// Skips ahead without reading (plain files only).
   void seek(std::uint64_t offset);
 

@@ -9,6 +9,7 @@
 #include <map>
 #include <memory>
 #include <optional>
+#include <stdexcept>
 #include <string_view>
 
 #include "io/byte_source.h"
@@ -612,6 +613,13 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
       for (;;) {  // grow the window until it holds a whole line or the rest of the file
         w = MappedWindow::map(source.descriptor(), map_start, length);
         if (!w) break;
+        // Touching mapped pages past a file's end stops the program (SIGBUS):
+        // a file cut short by another program is caught here, window by
+        // window, as an error instead (a cut while a window is read is not).
+        if (const std::uint64_t now = source.current_size(); now < map_start + length) {
+          throw InputError({path, line_no, ""}, "the file shrank from " + std::to_string(size) + " to " +
+                                                    std::to_string(now) + " bytes while it was being read");
+        }
         begin = w->data() + (offset - map_start);
         nl = static_cast<const char*>(::memrchr(begin, '\n', static_cast<std::size_t>(w->data() + length - begin)));
         if (nl || map_start + length == size) break;
@@ -637,7 +645,9 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
         end = data + (prev - data) + 1;
       }
       *end = '\0';  // past the file's end this is the zero slack of its last page
-      offset += parse_block(begin, static_cast<std::size_t>(end - begin));
+      const std::size_t used = parse_block(begin, static_cast<std::size_t>(end - begin));
+      if (used == 0) throw std::logic_error("a mapped window made no progress");  // the block ends with '\n'
+      offset += used;
       report(offset);
     }
     rest_to_read = offset < size;

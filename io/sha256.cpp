@@ -65,6 +65,11 @@ std::string sha256_file(const std::string& path) {
     while (offset < size) {
       const auto w = MappedWindow::map(fd, offset, static_cast<std::size_t>(std::min<std::uint64_t>(kWindow, size - offset)));
       if (!w) break;  // finish with read() below
+      // Mapped pages past the file's end would stop the program (SIGBUS).
+      struct stat now {};
+      if (::fstat(fd, &now) != 0 || static_cast<std::uint64_t>(now.st_size) < offset + w->size()) {
+        throw InputError({path, 0, ""}, "the file changed size while it was being hashed");
+      }
       h.update(w->data(), w->size());
       offset += w->size();
     }

@@ -8,6 +8,7 @@
 #include <unistd.h>
 
 #include <cmath>
+#include <filesystem>
 #include <cstdlib>
 #include <cstring>
 #include <random>
@@ -296,3 +297,41 @@ TEST(CommonRows, HeaderlessFileOfCommonRowsOnly) {
     EXPECT_EQ(r.missing_right, 1u);
   }
 }
+
+// A file cut short by another program while it is mapped: the next window
+// sees the new size and stops with an error naming the file, rather than
+// touching pages past the end (which would stop the program with SIGBUS).
+TEST(MappedWindows, FileCutShortWhileReadingIsAnError) {
+  TempDir dir;
+  std::string text = "t\tx\ty\n";
+  for (int i = 0; i < 3000; ++i) text += std::to_string(1000 + i) + "\t" + std::to_string(i % 900) + ".5\t7\n";
+  const std::string path = dir.write("cut.tsv", text);
+  const std::size_t page = static_cast<std::size_t>(::sysconf(_SC_PAGESIZE));
+  ASSERT_GT(text.size(), 8 * page);
+  // Cuts the file to two pages at the first chunk, while the first window is being read.
+  struct CuttingSink : SampleSink {
+    std::string path;
+    std::uintmax_t keep = 0;
+    void append(const SampleColumns&) override {
+      if (keep) std::filesystem::resize_file(path, keep), keep = 0;
+    }
+  } sink;
+  sink.path = path;
+  sink.keep = 2 * page;
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.right = EyeColumnNames{"x", "y", ""};
+  o.chunk_rows = 10;
+  o.mapped_window_bytes = page;
+  try {
+    read_delimited(path, o, sink);
+    FAIL() << "no error";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("cut.tsv"), std::string::npos) << e.what();
+    EXPECT_NE(std::string(e.what()).find("shrank from " + std::to_string(text.size()) + " to " + std::to_string(2 * page) +
+                                         " bytes while it was being read"),
+              std::string::npos)
+        << e.what();
+  }
+}
+
