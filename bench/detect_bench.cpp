@@ -68,6 +68,10 @@ DetectionSpec sensible(const std::string& method) {
   if (method == "engbert_kliegl") s.parameters = {{"lambda", 3}};
   if (method == "nystrom_holmqvist") s.parameters = {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}};
   if (method == "idt") s.parameters = {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}};
+  if (method == "idt_short_window") {  // the second I-DT row of the accuracy test
+    s.method = "idt";
+    s.parameters = {{"dispersion_threshold_deg", 0.04}, {"min_duration_ms", 6}, {"smoothing_window_ms", 24}};
+  }
   s.blink_padding_before_ms = s.blink_padding_after_ms = 30;
   return s;
 }
@@ -150,7 +154,7 @@ void speed(std::size_t n) {
 void degradation() {
   const std::vector<double> noises = {0.01, 0.03, 0.05, 0.1, 0.2};
   const std::vector<double> rates = {250, 500, 1000, 2000};
-  const std::vector<std::string> methods = {"ivt", "idt", "engbert_kliegl", "nystrom_holmqvist"};
+  const std::vector<std::string> methods = {"ivt", "idt", "idt_short_window", "engbert_kliegl", "nystrom_holmqvist"};
   std::printf("## Agreement with the simulator's truth: kappa fixation / saccade\n\n");
   std::printf("2 simulated readers x 12 items per cell, no post-saccadic oscillation; parameters as in\n");
   std::printf("tests/test_detector_accuracy.cpp (fixed across cells, not re-tuned).\n\n");

@@ -7,12 +7,13 @@
 //
 // Measured (this seed): I-VT, Engbert & Kliegl (lambda 3) and Nystrom &
 // Holmqvist meet both targets. With the published lambda 5, Engbert & Kliegl
-// reaches 0.936 for fixations. I-DT meets the saccade target (0.929) and
-// reaches 0.934 for fixations: it sees positions only, and the first and last
-// few ms of each simulated saccade move the eye by hundredths of a degree,
-// inside any dispersion threshold that the sample noise allows. Rows below
-// target assert the measured level so that it cannot silently get worse; the
-// gap to the target is reported, not hidden.
+// reaches 0.936 for fixations. I-DT with windows of 20 ms or more meets the
+// saccade target (0.929) and reaches 0.934 for fixations: it sees positions
+// only, and the first and last few ms of each simulated saccade move the eye
+// by hundredths of a degree, inside any dispersion threshold that the sample
+// noise allows. With a 6 ms window on smoothed positions it meets both (see
+// its row). Rows below target assert the measured level so that it cannot
+// silently get worse; the gap to the target is reported, not hidden.
 
 #include <gtest/gtest.h>
 
@@ -113,12 +114,19 @@ INSTANTIATE_TEST_SUITE_P(
         // windows and 12-24 ms smoothing (`gazemill score`); 0.06 deg, 24 ms
         // and 16 ms gave 0.929 / 0.919, and a running median in place of
         // the fit never passed 0.899 / 0.905.
-        Case{"idt", {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}}, 0.93, 0.92}),
+        Case{"idt", {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}}, 0.93, 0.92},
+        // Targets met (measured 0.968 / 0.970) with a 6 ms window, far below
+        // the paper's idea of a minimum fixation duration: the shared
+        // clean-up's 40 ms minimum fixation takes that role, and dispersion
+        // over six smoothed samples works much like a low velocity
+        // threshold. Windows of 20 ms or more stayed at or below 0.934.
+        Case{"idt", {{"dispersion_threshold_deg", 0.04}, {"min_duration_ms", 6}, {"smoothing_window_ms", 24}}, 0.95, 0.90}),
     [](const ::testing::TestParamInfo<Case>& info) {
       std::string name = info.param.method;
       for (const auto& [key, value] : info.param.parameters) {
         if (key == "lambda") name += "_lambda" + std::to_string(static_cast<int>(value));
         if (key == "smoothing_window_ms") name += "_smoothed";
+        if (key == "min_duration_ms" && value < 10) name += "_short_window";
       }
       return name;
     });
