@@ -313,7 +313,9 @@ TEST(MappedWindows, FileCutShortWhileReadingIsAnError) {
     std::string path;
     std::uintmax_t keep = 0;
     void append(const SampleColumns&) override {
-      if (keep) std::filesystem::resize_file(path, keep), keep = 0;
+      if (keep == 0) return;
+      std::filesystem::resize_file(path, keep);
+      keep = 0;
     }
   } sink;
   sink.path = path;
