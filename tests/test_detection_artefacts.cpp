@@ -1,13 +1,17 @@
 // Detection on the artefacts of real recordings, one at a time: post-saccadic
 // oscillations, noise bursts, blinks with lid artefacts, track loss coded as
 // zeros, timestamp jitter, a sampling rate that changes part-way, and the
-// choice of eye in binocular recordings. The reference is the simulator's
-// ground truth; each test says what must hold.
+// choice of eye in binocular recordings. Bursts, blinks, jitter and the rate
+// change run for every detector, with the parameters of
+// tests/test_detector_accuracy.cpp. The reference is the simulator's ground
+// truth; each test says what must hold.
 
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <map>
 #include <random>
+#include <string>
 
 #include "detectors/detector_registry.h"
 #include "detectors/recording_detection.h"
@@ -82,46 +86,6 @@ TEST(DetectionArtefacts, PostSaccadicOscillation) {
   EXPECT_EQ(cls(off, SampleLabel::pso).detected_samples, 0u);
 }
 
-// A noise burst (single samples thrown far off) neither creates saccades nor
-// splits the fixation it falls in.
-TEST(DetectionArtefacts, NoiseBurstsInsideFixations) {
-  const auto st = make_study(false);
-  Recording rec = st.recordings[0].recording;
-  const auto& truth = st.recordings[0].truth.labels;
-  const auto clean = score(rec, truth, ivt());
-  std::mt19937 rng(5);
-  int injected = 0;
-  for (std::size_t i = 100; i + 100 < rec.samples.size() && injected < 60; i += 700) {
-    if (truth[i - 5] != SampleLabel::fixation || truth[i + 5] != SampleLabel::fixation || !rec.samples.left.valid[i]) continue;
-    rec.samples.left.x_px[i] += 150.0f;  // about 3.4 deg for one sample
-    ++injected;
-  }
-  ASSERT_GE(injected, 40);
-  const auto noisy = score(rec, truth, ivt());
-  EXPECT_EQ(cls(noisy, SampleLabel::saccade).detected_events, cls(clean, SampleLabel::saccade).detected_events);
-  EXPECT_EQ(cls(noisy, SampleLabel::fixation).detected_events, cls(clean, SampleLabel::fixation).detected_events);
-}
-
-// Blinks: the gap and its lid artefacts are one blink event; no saccade is
-// reported touching a blink.
-TEST(DetectionArtefacts, BlinksWithLidArtefacts) {
-  const auto st = make_study(false, 500, false, 44);
-  for (const auto& sr : st.recordings) {
-    const auto d = make_detector(ivt());
-    const auto det = detect_recording(sr.recording, *d, ivt());
-    AgreementScorer s;
-    s.add(sr.truth.labels, det.labels, sr.recording.samples.time_us);
-    const auto r = s.report();
-    EXPECT_EQ(cls(r, SampleLabel::blink).detected_events, cls(r, SampleLabel::blink).reference_events);
-    EXPECT_GE(cls(r, SampleLabel::blink).kappa, 0.9);
-    for (const auto& b : det.events.blinks) {
-      for (const auto& sac : det.events.saccades) {
-        EXPECT_FALSE(sac.end_us >= b.start_us - 2000 && sac.start_us <= b.end_us + 2000) << "saccade glued to a blink";
-      }
-    }
-  }
-}
-
 // Track loss coded as (0, 0) and read with zero_gaze_is_missing gives the same
 // labels as loss coded as missing values.
 TEST(DetectionArtefacts, TrackLossCodedAsZeros) {
@@ -158,49 +122,6 @@ TEST(DetectionArtefacts, TrackLossCodedAsZeros) {
   EXPECT_EQ(detect_recording(ra, *d, ivt()).labels, detect_recording(rb, *d, ivt()).labels);
 }
 
-// Timestamp jitter of up to a fifth of the interval changes the agreement very little.
-TEST(DetectionArtefacts, TimestampJitter) {
-  const auto st = make_study(false);
-  Recording rec = st.recordings[0].recording;
-  const auto& truth = st.recordings[0].truth.labels;
-  const double clean = cls(score(rec, truth, ivt()), SampleLabel::saccade).kappa;
-  std::mt19937 rng(9);
-  std::uniform_int_distribution<int> jitter(-200, 200);  // us, at 1000 Hz
-  for (auto& t : rec.samples.time_us) t += jitter(rng);
-  const double jittered = cls(score(rec, truth, ivt()), SampleLabel::saccade).kappa;
-  EXPECT_GE(jittered, clean - 0.02);
-}
-
-// The rate halves part-way through the recording: both parts are still detected well.
-TEST(DetectionArtefacts, RateChangesPartWay) {
-  const auto st = make_study(false);
-  const Recording& full = st.recordings[0].recording;
-  const auto& truth = st.recordings[0].truth.labels;
-  // Keep every sample in the first half, every second one after it.
-  const std::size_t half = full.samples.size() / 2;
-  Recording rec = full;
-  rec.samples.clear();
-  std::vector<SampleLabel> ref;
-  for (std::size_t i = 0; i < full.samples.size(); ++i) {
-    if (i >= half && (i - half) % 2) continue;
-    rec.samples.time_us.push_back(full.samples.time_us[i]);
-    rec.samples.left.x_px.push_back(full.samples.left.x_px[i]);
-    rec.samples.left.y_px.push_back(full.samples.left.y_px[i]);
-    rec.samples.left.pupil.push_back(full.samples.left.pupil[i]);
-    rec.samples.left.valid.push_back(full.samples.left.valid[i]);
-    ref.push_back(truth[i]);
-  }
-  const auto d = make_detector(ivt());
-  const auto labels = detect_recording(rec, *d, ivt()).labels;
-  const std::size_t cut = half;
-  for (auto [a, b] : {std::pair<std::size_t, std::size_t>{0, cut}, {cut, rec.samples.size()}}) {
-    AgreementScorer s;
-    s.add({ref.begin() + a, ref.begin() + b}, {labels.begin() + a, labels.begin() + b}, {rec.samples.time_us.begin() + a, rec.samples.time_us.begin() + b});
-    EXPECT_GE(cls(s.report(), SampleLabel::saccade).kappa, 0.85) << "part starting at sample " << a;
-    EXPECT_GE(cls(s.report(), SampleLabel::fixation).kappa, 0.85) << "part starting at sample " << a;
-  }
-}
-
 // Binocular: "best" takes, trial by trial, the eye with more valid samples.
 TEST(DetectionArtefacts, BestEyePerTrial) {
   const auto st = make_study(false, 500, true);
@@ -228,3 +149,132 @@ TEST(DetectionArtefacts, BestEyePerTrial) {
   const auto avg = detect_recording(rec, *d, spec);
   EXPECT_GT(avg.events.fixations.size(), 100u);
 }
+
+namespace {
+
+// A detector as the accuracy test sets it up, and how many of its saccade
+// events single-sample noise bursts may change (see NoiseBursts).
+struct DetectorCase {
+  std::string name;
+  std::string method;
+  std::map<std::string, double> parameters;
+  double burst_saccade_tolerance;
+  DetectionSpec spec() const {
+    DetectionSpec s;
+    s.method = method;
+    s.parameters = parameters;
+    s.blink_padding_before_ms = s.blink_padding_after_ms = 30;
+    return s;
+  }
+};
+
+void PrintTo(const DetectorCase& c, std::ostream* os) { *os << c.name; }
+
+}  // namespace
+
+class EveryDetector : public ::testing::TestWithParam<DetectorCase> {};
+
+// A noise burst (single samples thrown far off) neither splits the fixation it
+// falls in nor creates saccades. The burst becomes one lost sample; I-DT's
+// window cannot span it, so a saccade that starts within one window after it
+// touches the loss and is dropped with the artefacts around lost data
+// (measured: 3 of 166 saccade events with a 20 ms window, 1 with 6 ms).
+TEST_P(EveryDetector, NoiseBurstsInsideFixations) {
+  const DetectionSpec spec = GetParam().spec();
+  const auto st = make_study(false);
+  Recording rec = st.recordings[0].recording;
+  const auto& truth = st.recordings[0].truth.labels;
+  const auto clean = score(rec, truth, spec);
+  int injected = 0;
+  for (std::size_t i = 100; i + 100 < rec.samples.size() && injected < 60; i += 700) {
+    if (truth[i - 5] != SampleLabel::fixation || truth[i + 5] != SampleLabel::fixation || !rec.samples.left.valid[i]) continue;
+    rec.samples.left.x_px[i] += 150.0f;  // about 3.4 deg for one sample
+    ++injected;
+  }
+  ASSERT_GE(injected, 40);
+  const auto noisy = score(rec, truth, spec);
+  EXPECT_EQ(cls(noisy, SampleLabel::fixation).detected_events, cls(clean, SampleLabel::fixation).detected_events);
+  const double before = static_cast<double>(cls(clean, SampleLabel::saccade).detected_events);
+  EXPECT_NEAR(static_cast<double>(cls(noisy, SampleLabel::saccade).detected_events), before,
+              GetParam().burst_saccade_tolerance * before);
+}
+
+// Blinks: the gap and its lid artefacts are one blink event; no saccade is
+// reported touching a blink.
+TEST_P(EveryDetector, BlinksWithLidArtefacts) {
+  const DetectionSpec spec = GetParam().spec();
+  const auto st = make_study(false, 500, false, 44);
+  for (const auto& sr : st.recordings) {
+    const auto d = make_detector(spec);
+    const auto det = detect_recording(sr.recording, *d, spec);
+    AgreementScorer s;
+    s.add(sr.truth.labels, det.labels, sr.recording.samples.time_us);
+    const auto r = s.report();
+    EXPECT_EQ(cls(r, SampleLabel::blink).detected_events, cls(r, SampleLabel::blink).reference_events);
+    EXPECT_GE(cls(r, SampleLabel::blink).kappa, 0.9);
+    for (const auto& b : det.events.blinks) {
+      for (const auto& sac : det.events.saccades) {
+        EXPECT_FALSE(sac.end_us >= b.start_us - 2000 && sac.start_us <= b.end_us + 2000) << "saccade glued to a blink";
+      }
+    }
+  }
+}
+
+// Timestamp jitter of up to a fifth of the interval changes the agreement very little.
+TEST_P(EveryDetector, TimestampJitter) {
+  const DetectionSpec spec = GetParam().spec();
+  const auto st = make_study(false);
+  Recording rec = st.recordings[0].recording;
+  const auto& truth = st.recordings[0].truth.labels;
+  const auto clean = score(rec, truth, spec);
+  std::mt19937 rng(9);
+  std::uniform_int_distribution<int> jitter(-200, 200);  // us, at 1000 Hz
+  for (auto& t : rec.samples.time_us) t += jitter(rng);
+  const auto jittered = score(rec, truth, spec);
+  for (SampleLabel l : {SampleLabel::fixation, SampleLabel::saccade}) {
+    EXPECT_GE(cls(jittered, l).kappa, cls(clean, l).kappa - 0.02) << to_string(l);
+  }
+}
+
+// The rate halves part-way through the recording: both parts are still detected well.
+TEST_P(EveryDetector, RateChangesPartWay) {
+  const DetectionSpec spec = GetParam().spec();
+  const auto st = make_study(false);
+  const Recording& full = st.recordings[0].recording;
+  const auto& truth = st.recordings[0].truth.labels;
+  // Keep every sample in the first half, every second one after it.
+  const std::size_t half = full.samples.size() / 2;
+  Recording rec = full;
+  rec.samples.clear();
+  std::vector<SampleLabel> ref;
+  for (std::size_t i = 0; i < full.samples.size(); ++i) {
+    if (i >= half && (i - half) % 2) continue;
+    rec.samples.time_us.push_back(full.samples.time_us[i]);
+    rec.samples.left.x_px.push_back(full.samples.left.x_px[i]);
+    rec.samples.left.y_px.push_back(full.samples.left.y_px[i]);
+    rec.samples.left.pupil.push_back(full.samples.left.pupil[i]);
+    rec.samples.left.valid.push_back(full.samples.left.valid[i]);
+    ref.push_back(truth[i]);
+  }
+  const auto d = make_detector(spec);
+  const auto labels = detect_recording(rec, *d, spec).labels;
+  for (auto [a, b] : {std::pair<std::size_t, std::size_t>{0, half}, {half, rec.samples.size()}}) {
+    AgreementScorer s;
+    s.add({ref.begin() + a, ref.begin() + b}, {labels.begin() + a, labels.begin() + b}, {rec.samples.time_us.begin() + a, rec.samples.time_us.begin() + b});
+    EXPECT_GE(cls(s.report(), SampleLabel::saccade).kappa, 0.85) << "part starting at sample " << a;
+    EXPECT_GE(cls(s.report(), SampleLabel::fixation).kappa, 0.85) << "part starting at sample " << a;
+  }
+}
+
+INSTANTIATE_TEST_SUITE_P(
+    Artefacts, EveryDetector,
+    ::testing::Values(
+        DetectorCase{"ivt", "ivt", {{"velocity_threshold_deg_s", 15}, {"sg_window_ms", 10}}, 0.0},
+        DetectorCase{"engbert_kliegl", "engbert_kliegl", {{"lambda", 3}}, 0.0},
+        DetectorCase{"nystrom_holmqvist", "nystrom_holmqvist",
+                     {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}}, 0.0},
+        DetectorCase{"idt", "idt", {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}}, 0.02},
+        DetectorCase{"idt_short_window", "idt",
+                     {{"dispersion_threshold_deg", 0.04}, {"min_duration_ms", 6}, {"smoothing_window_ms", 24}}, 0.02}),
+    [](const ::testing::TestParamInfo<DetectorCase>& info) { return info.param.name; });
+
