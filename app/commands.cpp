@@ -134,7 +134,7 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   auto* ingest = app.add_subcommand("ingest", "Read the raw exports a protocol names into a new HDF5 study store");
   ingest->add_option("protocol", o.protocol_path, "Protocol file (TOML)")->required()->check(CLI::ExistingFile);
   ingest->add_option("-o,--output", o.store_path, "Store to write (default: <protocol folder>/<study name or 'study'>.gzm.h5)");
-  ingest->add_option("--deflate-level", o.deflate_level, "zlib level for sample chunks, 1 (fast) to 9 (small)")
+  ingest->add_option("--deflate-level", o.deflate_level, "Deflate level for sample chunks: 1 (fastest, by ISA-L) to 9 (smallest, by libdeflate)")
       ->check(CLI::Range(1, 9));
   ingest->add_option("--threads", o.compression_threads, "Compression threads (default: one per core)");
 

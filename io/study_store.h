@@ -48,7 +48,7 @@ inline constexpr std::int64_t kStoreFormatVersion = 1;
 inline constexpr Microseconds kMissingTime = INT64_MIN;
 
 struct StoreWriteOptions {
-  int deflate_level = 1;          // 1 = fastest; see bench/ingest for the measured trade-off
+  int deflate_level = 1;          // 1 = fastest (ISA-L); 2-9 libdeflate; see bench/ingest for the trade-off
   unsigned long chunk_rows = 1 << 16;
   unsigned compression_threads = 0;  // 0 = one per core
 };
