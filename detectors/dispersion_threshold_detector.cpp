@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "detectors/savitzky_golay.h"
+#include "detectors/timestamp_gaps.h"
 
 namespace gazemill {
 
@@ -30,15 +31,21 @@ void DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLa
   const std::size_t n = labels.size();
   const std::size_t window = dispersion_window_samples(p_.min_duration_ms, g.interval_us);
   const double threshold = p_.dispersion_threshold_deg;
-  auto usable = [&](std::size_t k) { return labels[k] == SampleLabel::other; };
+  // Our rule, not the paper's (which has no notion of time between samples):
+  // the first sample after a gap in the timestamps is treated as missing, so
+  // no window or fixation spans the gap, as no velocity window does. The
+  // shared clean-up then joins the fixations on either side only if the gap
+  // is short and the eye stayed put, as across lost samples.
+  const std::vector<bool> gaps = gap_steps(g);
+  auto usable = [&](std::size_t k) { return labels[k] == SampleLabel::other && !gaps[k]; };
   // Optional smoothing; the samples themselves are left alone for the events.
   const int smoothing = smoothing_window_samples(p_.smoothing_window_ms, g.interval_us);
   std::vector<double> xs, ys;
   if (smoothing > 0) {
     std::vector<bool> ok(n);
     for (std::size_t k = 0; k < n; ++k) ok[k] = usable(k);
-    xs = savitzky_golay_smooth(g.x_deg, ok, smoothing, 2);
-    ys = savitzky_golay_smooth(g.y_deg, ok, smoothing, 2);
+    xs = savitzky_golay_smooth(g.x_deg, ok, gaps, smoothing, 2);
+    ys = savitzky_golay_smooth(g.y_deg, ok, gaps, smoothing, 2);
   }
   const std::vector<double>& X = smoothing > 0 ? xs : g.x_deg;
   const std::vector<double>& Y = smoothing > 0 ? ys : g.y_deg;

@@ -40,7 +40,7 @@ std::vector<double> savitzky_golay_coefficients_at(int window, int order, int de
 }
 
 std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, const std::vector<bool>& usable,
-                                          int window, int order) {
+                                          const std::vector<bool>& gap_before, int window, int order) {
   const std::size_t n = values.size(), w = static_cast<std::size_t>(window), h = w / 2;
   const std::vector<double> centre = savitzky_golay_coefficients(window, order, 0);
   // Off-centre fits for the first and last h samples of a stretch.
@@ -60,8 +60,8 @@ std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, con
       ++start;
       continue;
     }
-    std::size_t end = start;
-    while (end < n && usable[end]) ++end;
+    std::size_t end = start + 1;
+    while (end < n && usable[end] && !(end < gap_before.size() && gap_before[end])) ++end;
     if (end - start >= w) {  // a shorter stretch keeps its own values
       for (std::size_t i = start; i < end; ++i) {
         if (i < start + h) out[i] = fit(edge[i - start], start);

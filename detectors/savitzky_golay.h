@@ -22,11 +22,13 @@ std::vector<double> savitzky_golay_coefficients_at(int window, int order, int de
 
 /// `values` smoothed by a Savitzky-Golay fit of `order` over `window` samples
 /// (odd), stretch by stretch of usable samples, so nothing is smoothed across
-/// missing data. The first and last window/2 samples of a stretch take the
-/// fit over its first or last whole window, evaluated off-centre (as
-/// scipy.signal.savgol_filter's mode='interp' does at the ends); a stretch
-/// shorter than the window keeps its own values.
+/// missing data nor across a step marked in `gap_before` (true at i when the
+/// step from i - 1 to i is a gap in the timestamps; empty = no gaps). The
+/// first and last window/2 samples of a stretch take the fit over its first
+/// or last whole window, evaluated off-centre (as scipy.signal.savgol_filter's
+/// mode='interp' does at the ends); a stretch shorter than the window keeps
+/// its own values.
 std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, const std::vector<bool>& usable,
-                                          int window, int order);
+                                          const std::vector<bool>& gap_before, int window, int order);
 
 }  // namespace gazemill

@@ -5,6 +5,7 @@
 #include <limits>
 
 #include "detectors/savitzky_golay.h"
+#include "detectors/timestamp_gaps.h"
 
 namespace gazemill {
 
@@ -17,24 +18,13 @@ int savitzky_golay_window_samples(const VelocityParams& p, double interval_us) {
 
 namespace {
 
-// Stretches of usable samples: valid, with no broken step between them. A step
-// is broken when it is longer than max_gap_factor x the longer of its two
-// neighbouring steps (a gap stands out from the steps around it, while jitter
-// and a rate that changes part-way do not), or longer than ten median intervals.
+// Stretches of usable samples: valid, with no gap in the timestamps between
+// them (is_gap_step).
 template <typename F>
 void for_each_stretch(const GazeTrace& g, const VelocityParams& p, F&& f) {
   const std::size_t n = g.size();
   const Microseconds* t = g.time_us.data();
-  auto broken = [&](std::size_t i) {  // the step from i - 1 to i
-    const Microseconds step = t[i] - t[i - 1];
-    // The common case first: no longer than the step before and no gross gap.
-    if (i >= 2 && step <= t[i - 1] - t[i - 2] && static_cast<double>(step) <= 10.0 * g.interval_us) return false;
-    Microseconds reference = i >= 2 ? t[i - 1] - t[i - 2] : 0;
-    if (i + 1 < n) reference = std::max(reference, t[i + 1] - t[i]);
-    if (reference == 0) reference = step;
-    return static_cast<double>(step) > p.max_gap_factor * static_cast<double>(reference) ||
-           static_cast<double>(step) > 10.0 * g.interval_us;
-  };
+  auto broken = [&](std::size_t i) { return is_gap_step(t, n, i, g.interval_us, p.max_gap_factor); };
   std::size_t start = 0;
   while (start < n) {
     if (!g.valid[start]) {

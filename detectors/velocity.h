@@ -6,6 +6,7 @@
 #include <vector>
 
 #include "detectors/gaze_trace.h"
+#include "detectors/timestamp_gaps.h"
 
 namespace gazemill {
 
@@ -19,7 +20,7 @@ struct VelocityParams {
   VelocityMethod method = VelocityMethod::savitzky_golay;
   double sg_window_ms = 20.0;  // rounded to an odd number of samples, at least order + 2
   int sg_order = 2;
-  double max_gap_factor = 2.0;  // a step this much longer than the steps around it breaks windows
+  double max_gap_factor = kDefaultMaxGapFactor;  // a step this much longer than the steps around it breaks windows
   bool with_acceleration = false;  // Savitzky-Golay only
   bool with_components = true;     // keep vx and vy; off when only the speed is needed
   bool with_speed = true;          // keep the speed; off when only the components are needed

@@ -15,6 +15,7 @@
 #include "detectors/nystrom_holmqvist_detector.h"
 #include "detectors/savitzky_golay.h"
 #include "detectors/scoring.h"
+#include "detectors/timestamp_gaps.h"
 #include "detectors/velocity.h"
 #include "detectors/velocity_threshold_detector.h"
 #include "detectors/visual_angle.h"
@@ -115,25 +116,29 @@ TEST(SavitzkyGolay, MatchesScipyIncludingOffCentrePositions) {
 }
 
 // Smoothing: a least-squares fit of order p reproduces any polynomial of
-// degree <= p exactly (Savitzky & Golay 1964). Each stretch of usable samples
-// equals scipy.signal.savgol_filter(x, w, 2, mode='interp') of that stretch
-// alone, via /usr/bin/python3 (mode='interp' fits the first and last window
+// degree <= p exactly (Savitzky & Golay 1964). Each stretch of usable samples,
+// ended by missing data or by a gap in the timestamps, equals
+// scipy.signal.savgol_filter(x, w, 2, mode='interp') of that stretch alone,
+// via /usr/bin/python3 (mode='interp' fits the first and last window
 // off-centre, as we do at every edge); a stretch shorter than the window
 // keeps its own values (our rule).
 TEST(SavitzkyGolay, SmoothingMatchesScipyStretchByStretch) {
   const int w = 9;
   std::vector<double> quad;
   for (int i = 0; i < 40; ++i) quad.push_back(0.5 + 0.25 * i - 0.01 * i * i);
-  expect_near_all(savitzky_golay_smooth(quad, std::vector<bool>(quad.size(), true), w, 2), quad, 1e-9);
+  expect_near_all(savitzky_golay_smooth(quad, std::vector<bool>(quad.size(), true), {}, w, 2), quad, 1e-9);
 
   std::vector<double> x;
   std::mt19937 rng(5);
   std::normal_distribution<double> noise(0.0, 0.2);
-  for (int i = 0; i < 60; ++i) x.push_back(std::stod(std::to_string(std::sin(i / 7.0) + noise(rng))));
-  // Usable: 0-29, then 31-35 (shorter than the window), then 37-59.
+  for (int i = 0; i < 80; ++i) x.push_back(std::stod(std::to_string(std::sin(i / 7.0) + noise(rng))));
+  // Usable: 0-29, then 31-35 (shorter than the window), then 37-59 and,
+  // after a gap in the timestamps before sample 60, 60-79.
   std::vector<bool> usable(x.size(), true);
   usable[30] = usable[36] = false;
-  const std::vector<std::pair<int, int>> stretches = {{0, 30}, {37, 60}};
+  std::vector<bool> gap_before(x.size(), false);
+  gap_before[60] = true;
+  const std::vector<std::pair<int, int>> stretches = {{0, 30}, {37, 60}, {60, 80}};
   std::string code = "import numpy as np\nfrom scipy.signal import savgol_filter\nx = np.array([";
   for (double v : x) code += std::to_string(v) + ",";
   code += "])\n";
@@ -142,7 +147,7 @@ TEST(SavitzkyGolay, SmoothingMatchesScipyStretchByStretch) {
             "], " + std::to_string(w) + ", 2, mode='interp')))\n";
   }
   std::istringstream out(run_python(code));
-  const std::vector<double> got = savitzky_golay_smooth(x, usable, w, 2);
+  const std::vector<double> got = savitzky_golay_smooth(x, usable, gap_before, w, 2);
   for (const auto& [a, b] : stretches) {
     std::string line;
     ASSERT_TRUE(std::getline(out, line)) << "scipy gave no answer; is python3-scipy installed?";
@@ -275,6 +280,38 @@ TEST(DispersionThreshold, SmoothingKeepsNoisyFixationsWhole) {
   EXPECT_LE(first_s, 151u);
   EXPECT_GE(second_f, 159u);
   EXPECT_LT(second_f - first_s, 40u) << smoothed;
+}
+
+// I-DT across gaps in the timestamps with no sample marked missing (a
+// tracker that dropped samples). No eye movement was recorded, so no sample
+// may become a saccade sample: the smoothing must not draw a ramp across a
+// gap, as velocity windows do not span one. Our rule: the sample after the
+// gap counts as missing, and the shared clean-up joins the fixations on
+// either side as it does across lost samples, only when the gap is short
+// (max_fixation_gap_ms, 20 ms) and the eye stayed put.
+TEST(DispersionThreshold, NoWindowSpansAGapInTheTimestamps) {
+  auto run = [](double shift_deg, Microseconds gap_us) {
+    std::vector<std::pair<double, double>> pts;
+    for (int i = 0; i < 150; ++i) pts.emplace_back((i % 2 ? 0.01 : -0.01), 0.0);
+    for (int i = 0; i < 150; ++i) pts.emplace_back(shift_deg + (i % 2 ? 0.01 : -0.01), 0.0);
+    GazeTrace g = trace_of(pts, 1000);
+    for (std::size_t i = 150; i < g.size(); ++i) g.time_us[i] += gap_us;
+    EXPECT_TRUE(gap_steps(g)[150]);
+    const std::vector<SampleLabel> labels =
+        label_trace(g, DispersionThresholdDetector({0.06, 20.0, 20.0}), BlinkParams{}, EventParams{});
+    for (std::size_t i = 0; i < labels.size(); ++i) EXPECT_NE(labels[i], SampleLabel::saccade) << "sample " << i;
+    DetectedEvents ev;
+    collect_events(g, labels, "1", Eye::left, ev);
+    return ev.fixations;
+  };
+  const auto apart = run(2.0, 100000);  // 100 ms and 2 deg: two fixations
+  ASSERT_EQ(apart.size(), 2u);
+  EXPECT_EQ(apart[0].end_us, 150000);
+  EXPECT_EQ(apart[1].start_us, 251000);
+  EXPECT_NEAR(apart[1].x_deg, 2.0, 1e-3);
+  const auto joined = run(0.0, 10000);  // 10 ms, same place: one fixation
+  ASSERT_EQ(joined.size(), 1u);
+  EXPECT_EQ(joined[0].end_us, 310000);
 }
 
 // I-VT with point-to-point (backward) velocities and 100 units/s, methods.md
