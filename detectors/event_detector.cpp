@@ -5,6 +5,7 @@
 #include <numbers>
 
 #include "detectors/median.h"
+#include "detectors/timestamp_gaps.h"
 #include "detectors/velocity.h"
 
 namespace gazemill {
@@ -53,6 +54,15 @@ std::vector<SampleLabel> label_missing(const GazeTrace& g, const BlinkParams& p)
     std::size_t hi = b;
     while (hi < g.size() && g.time_us[hi] <= to) ++hi;
     for (std::size_t k = lo; k < hi; ++k) labels[k] = SampleLabel::blink;
+  }
+  // Samples dropped without a mark leave only a gap in the timestamps. The
+  // sample after such a gap stands for the samples lost in it, so the rules
+  // for lost data apply there too: no saccade glued to it, and fixations
+  // joined across it only when the gap is short and the eye stayed put.
+  for (std::size_t i = 1; i < g.size(); ++i) {
+    if (labels[i] == SampleLabel::other && is_gap_step(g.time_us.data(), g.size(), i, g.interval_us, kDefaultMaxGapFactor)) {
+      labels[i] = SampleLabel::loss;
+    }
   }
   return labels;
 }

@@ -55,7 +55,8 @@ std::size_t remove_spikes(GazeTrace& trace, double spike_deg);
 std::vector<SampleLabel> label_trace(const GazeTrace& trace, const EventDetector& detector, const BlinkParams& blinks,
                                      const EventParams& events);
 
-/// Labels missing samples as blink or loss; everything else "other".
+/// Labels missing samples as blink or loss, and the first sample after a gap
+/// in the timestamps (is_gap_step) as loss; everything else "other".
 std::vector<SampleLabel> label_missing(const GazeTrace& trace, const BlinkParams& params);
 
 /// Minimum durations, noise limit, and no saccades glued to blinks or loss.

@@ -1,8 +1,9 @@
 // Detection on the artefacts of real recordings, one at a time: post-saccadic
 // oscillations, noise bursts, blinks with lid artefacts, track loss coded as
-// zeros, timestamp jitter, a sampling rate that changes part-way, and the
-// choice of eye in binocular recordings. Bursts, blinks, jitter and the rate
-// change run for every detector, with the parameters of
+// zeros, timestamp jitter, a sampling rate that changes part-way, samples
+// dropped without a mark, and the choice of eye in binocular recordings.
+// Bursts, blinks, jitter, the rate change and dropped samples run for every
+// detector, with the parameters of
 // tests/test_detector_accuracy.cpp. The reference is the simulator's ground
 // truth; each test says what must hold.
 
@@ -263,6 +264,77 @@ TEST_P(EveryDetector, RateChangesPartWay) {
     s.add({ref.begin() + a, ref.begin() + b}, {labels.begin() + a, labels.begin() + b}, {rec.samples.time_us.begin() + a, rec.samples.time_us.begin() + b});
     EXPECT_GE(cls(s.report(), SampleLabel::saccade).kappa, 0.85) << "part starting at sample " << a;
     EXPECT_GE(cls(s.report(), SampleLabel::fixation).kappa, 0.85) << "part starting at sample " << a;
+  }
+}
+
+// Samples dropped without being marked missing (25 ms at a time, every
+// 1.1 s, some inside fixations and some across saccades). The jump in
+// position across such a gap is no eye movement anyone saw: no saccade may
+// be reported next to a gap where the reference has none, and away from the
+// gaps (30 samples or more) the labels agree with the reference as well as
+// those of the whole recording do on the same samples.
+TEST_P(EveryDetector, DroppedSamplesWithoutMarkers) {
+  const DetectionSpec spec = GetParam().spec();
+  const auto st = make_study(false);
+  const Recording& full = st.recordings[0].recording;
+  const auto& truth = st.recordings[0].truth.labels;
+  const auto d = make_detector(spec);
+  const auto full_labels = detect_recording(full, *d, spec).labels;
+  Recording rec = full;
+  rec.samples.clear();
+  std::vector<std::size_t> kept;  // index in `full` of each sample of `rec`
+  std::vector<std::size_t> gaps;  // index in `rec` of the first sample after each gap
+  std::size_t next_drop = 1000;
+  for (std::size_t i = 0; i < full.samples.size(); ++i) {
+    if (i >= next_drop && i < next_drop + 25) continue;
+    if (i == next_drop + 25) {
+      gaps.push_back(rec.samples.size());
+      next_drop += 1100;
+    }
+    kept.push_back(i);
+    rec.samples.time_us.push_back(full.samples.time_us[i]);
+    rec.samples.left.x_px.push_back(full.samples.left.x_px[i]);
+    rec.samples.left.y_px.push_back(full.samples.left.y_px[i]);
+    rec.samples.left.pupil.push_back(full.samples.left.pupil[i]);
+    rec.samples.left.valid.push_back(full.samples.left.valid[i]);
+  }
+  ASSERT_GE(gaps.size(), 40u);
+  const auto labels = detect_recording(rec, *d, spec).labels;
+  const auto near_gap = [&](std::size_t k, std::size_t within) {
+    for (std::size_t g : gaps) {
+      if (k + within >= g && k < g + within) return true;
+    }
+    return false;
+  };
+  std::size_t invented = 0;
+  for (std::size_t a = 0; a < labels.size();) {
+    std::size_t b = a + 1;
+    if (labels[a] == SampleLabel::saccade) {
+      while (b < labels.size() && labels[b] == SampleLabel::saccade) ++b;
+      bool touches_gap = false, in_reference = false;
+      for (std::size_t k = a; k < b; ++k) {
+        touches_gap = touches_gap || near_gap(k, 10);
+        in_reference = in_reference || truth[kept[k]] == SampleLabel::saccade;
+      }
+      invented += touches_gap && !in_reference;
+    }
+    a = b;
+  }
+  EXPECT_EQ(invented, 0u) << "saccades next to a gap that the reference does not have";
+  AgreementScorer with_gaps, whole;
+  std::vector<SampleLabel> ref, got, got_whole;
+  std::vector<Microseconds> times;
+  for (std::size_t k = 0; k < labels.size(); ++k) {
+    if (near_gap(k, 30)) continue;
+    ref.push_back(truth[kept[k]]);
+    got.push_back(labels[k]);
+    got_whole.push_back(full_labels[kept[k]]);
+    times.push_back(rec.samples.time_us[k]);
+  }
+  with_gaps.add(ref, got, times);
+  whole.add(ref, got_whole, times);
+  for (SampleLabel l : {SampleLabel::fixation, SampleLabel::saccade}) {
+    EXPECT_GE(cls(with_gaps.report(), l).kappa, cls(whole.report(), l).kappa - 0.01) << to_string(l);
   }
 }
 
