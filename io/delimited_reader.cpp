@@ -126,7 +126,7 @@ class RowParser {
     }
     chunk_.has_left = layout_.left.has_value();
     chunk_.has_right = layout_.right.has_value();
-    chunk_.reserve(opt.chunk_rows);
+    size_chunk(capacity_);
     if (!opt.column_names.empty()) set_header(opt.column_names, 0);
   }
 
@@ -240,10 +240,10 @@ class RowParser {
     }
     last_time_ = t;
     ++result_.samples;
-    chunk_.time_us.push_back(t);
-    if (layout_.left) push_eye(chunk_.left, left_, line_no, result_.missing_left);
-    if (layout_.right) push_eye(chunk_.right, right_, line_no, result_.missing_right);
-    if (chunk_.size() >= opt_.chunk_rows) flush();
+    chunk_.time_us[rows_in_chunk_] = t;
+    if (layout_.left) put_eye(chunk_.left, left_, line_no, result_.missing_left);
+    if (layout_.right) put_eye(chunk_.right, right_, line_no, result_.missing_right);
+    if (++rows_in_chunk_ == capacity_) flush();
   }
 
   // Reads the common rows from p on, one after another, until a row that is
@@ -281,9 +281,25 @@ class RowParser {
     const bool zero_is_missing = kGeneral && layout_.zero_gaze_is_missing;
     const bool numeric_tokens = kGeneral && numeric_tokens_;
     const TimeUnit unit = layout_.time_unit;
-    const std::size_t capacity = std::max<std::size_t>(opt_.chunk_rows, 1);
+    // Rows are written by index into the chunk's columns, which stay sized for
+    // a whole chunk (size_chunk): push_back reloads and stores each vector's
+    // end on every row, as the byte stores to `valid` may alias it (about 35
+    // instructions a row). The pointers are locals, which nothing aliases.
+    struct EyeColumns {
+      float *x = nullptr, *y = nullptr, *pupil = nullptr;
+      std::uint8_t* valid = nullptr;
+    };
+    Microseconds* times = nullptr;
+    EyeColumns left_columns, right_columns;
+    const auto find_columns = [&] {
+      times = chunk_.time_us.data();
+      const auto eye = [](EyeSamples& e) { return EyeColumns{e.x_px.data(), e.y_px.data(), e.pupil.data(), e.valid.data()}; };
+      if (left) left_columns = eye(chunk_.left);
+      if (right) right_columns = eye(chunk_.right);
+    };
+    find_columns();
 
-    std::size_t k = chunk_.size();
+    std::size_t k = rows_in_chunk_;
     std::uint64_t samples = result_.samples, rows = result_.rows;
     std::uint64_t missing_left = result_.missing_left, missing_right = result_.missing_right;
     Microseconds last = last_time_;
@@ -343,24 +359,27 @@ class RowParser {
       }
       last = t;
       ++samples, ++rows, ++lines;
-      chunk_.time_us.push_back(t);
-      // The rule of push_eye, repeated here because a shared non-lambda helper
+      times[k] = t;
+      // The rule of put_eye, repeated here because a shared non-lambda helper
       // measured slower on this loop; the CommonRows tests hold the two equal.
-      const auto put_eye = [&](float x, float y, float pupil, EyeSamples& eye, std::uint64_t& missing) {
+      const auto put = [&](float x, float y, float pupil, const EyeColumns& eye, std::uint64_t& missing) {
         if (zero_is_missing && x == 0.0f && y == 0.0f) x = y = kNaN;
         const bool ok = std::isfinite(x) && std::isfinite(y);
         if (!ok) x = y = kNaN;  // half a coordinate is no position
         missing += !ok;
-        eye.x_px.push_back(x), eye.y_px.push_back(y), eye.pupil.push_back(pupil), eye.valid.push_back(ok);
+        eye.x[k] = x, eye.y[k] = y, eye.pupil[k] = pupil, eye.valid[k] = ok;
       };
-      if (left) put_eye(value[kLeftX], value[kLeftY], value[kLeftPupil], chunk_.left, missing_left);
-      if (right) put_eye(value[kRightX], value[kRightY], value[kRightPupil], chunk_.right, missing_right);
+      if (left) put(value[kLeftX], value[kLeftY], value[kLeftPupil], left_columns, missing_left);
+      if (right) put(value[kRightX], value[kRightY], value[kRightPupil], right_columns, missing_right);
       p = q;
-      if (++k == capacity) {
+      if (++k == capacity_) {
+        rows_in_chunk_ = k;
         flush();
+        find_columns();
         k = 0;
       }
     }
+    rows_in_chunk_ = k;
     result_.samples = samples, result_.rows = rows;
     result_.missing_left = missing_left, result_.missing_right = missing_right;
     last_time_ = last;
@@ -368,11 +387,25 @@ class RowParser {
     return p;
   }
 
+  // Hands the rows read so far to the sink. The columns are cut to those rows
+  // for the sink and then sized for a whole chunk again: a zero-fill only
+  // after a partial chunk, the last one.
   void flush() {
-    if (chunk_.size() == 0) return;
+    if (rows_in_chunk_ == 0) return;
+    size_chunk(rows_in_chunk_);
     count_intervals();
     sink_.append(chunk_);
-    chunk_.clear();
+    size_chunk(capacity_);
+    rows_in_chunk_ = 0;
+  }
+
+  void size_chunk(std::size_t rows) {
+    chunk_.time_us.resize(rows);
+    for (EyeSamples* eye : {&chunk_.left, &chunk_.right}) {
+      if ((eye == &chunk_.left ? chunk_.has_left : chunk_.has_right)) {
+        eye->x_px.resize(rows), eye->y_px.resize(rows), eye->pupil.resize(rows), eye->valid.resize(rows);
+      }
+    }
   }
 
   // The histogram of sample intervals, counted per chunk: one tight loop here
@@ -499,7 +532,7 @@ class RowParser {
     return v;
   }
 
-  void push_eye(EyeSamples& eye, const EyeIndex& idx, std::size_t line_no, std::uint64_t& missing) {
+  void put_eye(EyeSamples& eye, const EyeIndex& idx, std::size_t line_no, std::uint64_t& missing) {
     float x = parse_value(idx.x, line_no);
     float y = parse_value(idx.y, line_no);
     const float pupil = parse_value(idx.pupil, line_no);
@@ -509,10 +542,11 @@ class RowParser {
       x = y = kNaN;  // half a coordinate is no position
       ++missing;
     }
-    eye.x_px.push_back(x);
-    eye.y_px.push_back(y);
-    eye.pupil.push_back(pupil);
-    eye.valid.push_back(ok ? 1 : 0);
+    const std::size_t k = rows_in_chunk_;
+    eye.x_px[k] = x;
+    eye.y_px[k] = y;
+    eye.pupil[k] = pupil;
+    eye.valid[k] = ok ? 1 : 0;
   }
 
   const std::string& path_;
@@ -532,7 +566,9 @@ class RowParser {
   std::size_t time_ = kNoColumn, message_ = kNoColumn;
   EyeIndex left_, right_;
   std::size_t max_token_length_ = 0;
-  SampleColumns chunk_;
+  SampleColumns chunk_;                // sized for capacity_ rows between flushes
+  const std::size_t capacity_ = std::max<std::size_t>(opt_.chunk_rows, 1);
+  std::size_t rows_in_chunk_ = 0;      // rows of chunk_ read so far
   Microseconds last_time_ = 0;
   std::map<Microseconds, std::uint64_t> intervals_;  // histogram of sample intervals
   Microseconds run_interval_ = 0;                    // the current run of equal intervals
