@@ -151,13 +151,19 @@ void speed(std::size_t n) {
   std::printf("\n");
 }
 
-void degradation() {
+// Each method with nothing but its defaults (and the default blink padding).
+DetectionSpec defaults(const std::string& method) {
+  DetectionSpec s;
+  s.method = method;
+  return s;
+}
+
+void degradation(const char* title, const char* parameters, const std::vector<std::string>& methods,
+                 DetectionSpec (*spec_of)(const std::string&)) {
   const std::vector<double> noises = {0.01, 0.03, 0.05, 0.1, 0.2};
   const std::vector<double> rates = {250, 500, 1000, 2000};
-  const std::vector<std::string> methods = {"ivt", "idt", "idt_short_window", "engbert_kliegl", "nystrom_holmqvist"};
-  std::printf("## Agreement with the simulator's truth: kappa fixation / saccade\n\n");
-  std::printf("2 simulated readers x 12 items per cell, no post-saccadic oscillation; parameters as in\n");
-  std::printf("tests/test_detector_accuracy.cpp (fixed across cells, not re-tuned).\n\n");
+  std::printf("## %s: kappa fixation / saccade\n\n", title);
+  std::printf("2 simulated readers x 12 items per cell, no post-saccadic oscillation; %s\n\n", parameters);
   std::printf("| noise (deg RMS-S2S) | rate (Hz) |");
   for (const auto& m : methods) std::printf(" %s |", m.c_str());
   std::printf("\n|---|---|");
@@ -175,7 +181,7 @@ void degradation() {
       const auto st = sim::simulate_study(c);
       std::printf("| %.2f | %.0f |", noise, rate);
       for (const auto& m : methods) {
-        const DetectionSpec spec = sensible(m);
+        const DetectionSpec spec = spec_of(m);
         const auto d = make_detector(spec);
         AgreementScorer scorer;
         for (const auto& sr : st.recordings) scorer.add(sr.truth.labels, detect_recording(sr.recording, *d, spec).labels, sr.recording.samples.time_us);
@@ -199,6 +205,13 @@ int main(int argc, char** argv) {
     else if (!std::strcmp(argv[i], "--samples") && i + 1 < argc) n = std::stoul(argv[++i]);
   }
   if (!table_only) speed(n);
-  if (!speed_only) degradation();
+  if (!speed_only) {
+    degradation("Agreement with the simulator's truth",
+                "parameters as in\ntests/test_detector_accuracy.cpp (fixed across cells, not re-tuned).",
+                {"ivt", "idt", "idt_short_window", "engbert_kliegl", "nystrom_holmqvist"}, sensible);
+    std::printf("\n");
+    degradation("The same with every method's defaults", "no parameters given.",
+                {"ivt", "idt", "engbert_kliegl", "nystrom_holmqvist"}, defaults);
+  }
   return 0;
 }

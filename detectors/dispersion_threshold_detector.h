@@ -10,7 +10,10 @@
 namespace gazemill {
 
 struct DispersionThresholdParams {
-  double dispersion_threshold_deg = 1.0;  // Blignaut (2009) found 1 deg replicable
+  // 1 deg: the usual order of value (Blignaut 2009 found a 1 deg fixation
+  // *radius* replicable, a different measure). Too coarse for reading, whose
+  // saccades span 1-2 deg: see README, "Event detection".
+  double dispersion_threshold_deg = 1.0;
   double min_duration_ms = 100.0;         // typical 100-200 ms (from memory)
   // 0 = the paper's raw samples. Otherwise each coordinate is first smoothed
   // by a Savitzky-Golay fit (order 2) over this many ms, so that the window's
