@@ -283,8 +283,9 @@ class RowParser {
     const TimeUnit unit = layout_.time_unit;
     // Rows are written by index into the chunk's columns, which stay sized for
     // a whole chunk (size_chunk): push_back reloads and stores each vector's
-    // end on every row, as the byte stores to `valid` may alias it (about 35
-    // instructions a row). The pointers are locals, which nothing aliases.
+    // end on every row, as the byte stores to `valid` may alias it (see
+    // DEVELOPERS.md for what this saved). The pointers are locals, which
+    // nothing aliases.
     struct EyeColumns {
       float *x = nullptr, *y = nullptr, *pupil = nullptr;
       std::uint8_t* valid = nullptr;
