@@ -1,5 +1,6 @@
 // Detection benchmark: speed on a long recording, and how each detector's
-// agreement with the simulator's truth degrades with noise and sampling rate.
+// agreement with the simulator's truth degrades with noise and sampling rate, at
+// the accuracy test's parameters and at every method's defaults.
 // usage: gazemill_bench_detect [--speed-only | --table-only] [--samples N]
 // Prints markdown tables; every figure is measured in this run.
 
