@@ -269,10 +269,10 @@ TEST_P(EveryDetector, RateChangesPartWay) {
 
 // Samples dropped without being marked missing (25 ms at a time, every
 // 1.1 s, some inside fixations and some across saccades). The jump in
-// position across such a gap is no eye movement anyone saw: no saccade may
-// be reported next to a gap where the reference has none, and away from the
-// gaps (30 samples or more) the labels agree with the reference as well as
-// those of the whole recording do on the same samples.
+// position across such a gap is no eye movement anyone saw. Our rule: no
+// saccade may be reported next to a gap where the reference has none, and
+// away from the gaps (30 samples or more) the labels agree with the
+// reference as well as those of the whole recording do on the same samples.
 TEST_P(EveryDetector, DroppedSamplesWithoutMarkers) {
   const DetectionSpec spec = GetParam().spec();
   const auto st = make_study(false);
