@@ -402,11 +402,11 @@ class RowParser {
 
   void size_chunk(std::size_t rows) {
     chunk_.time_us.resize(rows);
-    for (EyeSamples* eye : {&chunk_.left, &chunk_.right}) {
-      if ((eye == &chunk_.left ? chunk_.has_left : chunk_.has_right)) {
-        eye->x_px.resize(rows), eye->y_px.resize(rows), eye->pupil.resize(rows), eye->valid.resize(rows);
-      }
-    }
+    const auto size_eye = [rows](EyeSamples& eye) {
+      eye.x_px.resize(rows), eye.y_px.resize(rows), eye.pupil.resize(rows), eye.valid.resize(rows);
+    };
+    if (chunk_.has_left) size_eye(chunk_.left);
+    if (chunk_.has_right) size_eye(chunk_.right);
   }
 
   // The histogram of sample intervals, counted per chunk: one tight loop here

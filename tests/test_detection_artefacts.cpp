@@ -53,6 +53,16 @@ AgreementReport score(const Recording& rec, const std::vector<SampleLabel>& trut
 
 const ClassAgreement& cls(const AgreementReport& r, SampleLabel l) { return r.classes[static_cast<std::size_t>(l)]; }
 
+// Sample i of a left-eye recording appended to another: for recordings made
+// from a part of the samples.
+void append_left_sample(const Recording& from, std::size_t i, Recording& to) {
+  to.samples.time_us.push_back(from.samples.time_us[i]);
+  to.samples.left.x_px.push_back(from.samples.left.x_px[i]);
+  to.samples.left.y_px.push_back(from.samples.left.y_px[i]);
+  to.samples.left.pupil.push_back(from.samples.left.pupil[i]);
+  to.samples.left.valid.push_back(from.samples.left.valid[i]);
+}
+
 std::size_t true_saccades(const RecordingTruth& t) {
   std::size_t n = 0;
   for (std::size_t i = 0; i < t.labels.size(); ++i) {
@@ -250,11 +260,7 @@ TEST_P(EveryDetector, RateChangesPartWay) {
   std::vector<SampleLabel> ref;
   for (std::size_t i = 0; i < full.samples.size(); ++i) {
     if (i >= half && (i - half) % 2) continue;
-    rec.samples.time_us.push_back(full.samples.time_us[i]);
-    rec.samples.left.x_px.push_back(full.samples.left.x_px[i]);
-    rec.samples.left.y_px.push_back(full.samples.left.y_px[i]);
-    rec.samples.left.pupil.push_back(full.samples.left.pupil[i]);
-    rec.samples.left.valid.push_back(full.samples.left.valid[i]);
+    append_left_sample(full, i, rec);
     ref.push_back(truth[i]);
   }
   const auto d = make_detector(spec);
@@ -292,11 +298,7 @@ TEST_P(EveryDetector, DroppedSamplesWithoutMarkers) {
       next_drop += 1100;
     }
     kept.push_back(i);
-    rec.samples.time_us.push_back(full.samples.time_us[i]);
-    rec.samples.left.x_px.push_back(full.samples.left.x_px[i]);
-    rec.samples.left.y_px.push_back(full.samples.left.y_px[i]);
-    rec.samples.left.pupil.push_back(full.samples.left.pupil[i]);
-    rec.samples.left.valid.push_back(full.samples.left.valid[i]);
+    append_left_sample(full, i, rec);
   }
   ASSERT_GE(gaps.size(), 40u);
   const auto labels = detect_recording(rec, *d, spec).labels;
