@@ -1,7 +1,8 @@
 // Detection benchmark: speed on a long recording, and how each detector's
 // agreement with the simulator's truth degrades with noise and sampling rate, at
 // the accuracy test's parameters and at every method's defaults.
-// usage: gazemill_bench_detect [--speed-only | --table-only] [--samples N]
+// usage: gazemill_bench_detect [--speed-only | --table-only] [--samples N] [--pso] [--timing]
+//        gazemill_bench_detect --settings 'METHOD NAME=VALUE ...' [--settings ...]
 // Prints markdown tables; every figure is measured in this run.
 
 #include <chrono>
@@ -66,7 +67,7 @@ DetectionSpec sensible(const std::string& method) {
   DetectionSpec s;
   s.method = method;
   if (method == "ivt") s.parameters = {{"velocity_threshold_deg_s", 15}, {"sg_window_ms", 10}};
-  if (method == "engbert_kliegl") s.parameters = {{"lambda", 3}};
+  if (method == "engbert_kliegl") s.parameters = {};  // its defaults meet the targets
   if (method == "nystrom_holmqvist") s.parameters = {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}};
   if (method == "idt") s.parameters = {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}};
   if (method == "idt_short_window") {  // the second I-DT row of the accuracy test
@@ -159,12 +160,42 @@ DetectionSpec defaults(const std::string& method) {
   return s;
 }
 
+// Settings given on the command line: "method name=value ...".
+std::vector<std::pair<std::string, DetectionSpec>> given_settings;
+
+DetectionSpec given(const std::string& column) {
+  for (const auto& [name, spec] : given_settings) {
+    if (name == column) return spec;
+  }
+  return defaults(column);
+}
+
+DetectionSpec parse_settings(const std::string& text) {
+  DetectionSpec s;
+  std::size_t a = 0;
+  while (a < text.size()) {
+    std::size_t b = text.find(' ', a);
+    if (b == std::string::npos) b = text.size();
+    const std::string word = text.substr(a, b - a);
+    a = b + 1;
+    if (word.empty()) continue;
+    const std::size_t eq = word.find('=');
+    if (eq == std::string::npos) s.method = word;
+    else s.parameters[word.substr(0, eq)] = std::stod(word.substr(eq + 1));
+  }
+  return s;
+}
+
+bool with_pso = false;
+bool with_timing = false;
+
 void degradation(const char* title, const char* parameters, const std::vector<std::string>& methods,
                  DetectionSpec (*spec_of)(const std::string&)) {
   const std::vector<double> noises = {0.01, 0.03, 0.05, 0.1, 0.2};
   const std::vector<double> rates = {250, 500, 1000, 2000};
   std::printf("## %s: kappa fixation / saccade\n\n", title);
-  std::printf("2 simulated readers x 12 items per cell, no post-saccadic oscillation; %s\n\n", parameters);
+  std::printf("2 simulated readers x 12 items per cell, %s; %s\n\n",
+              with_pso ? "with post-saccadic oscillation" : "no post-saccadic oscillation", parameters);
   std::printf("| noise (deg RMS-S2S) | rate (Hz) |");
   for (const auto& m : methods) std::printf(" %s |", m.c_str());
   std::printf("\n|---|---|");
@@ -177,7 +208,7 @@ void degradation(const char* title, const char* parameters, const std::vector<st
       c.design.participants = 2;
       c.signal.sample_rate_hz = rate;
       c.signal.noise_rms_s2s_deg = noise;
-      c.signal.post_saccadic_oscillation = false;
+      c.signal.post_saccadic_oscillation = with_pso;
       c.seed = 77;
       const auto st = sim::simulate_study(c);
       std::printf("| %.2f | %.0f |", noise, rate);
@@ -187,7 +218,11 @@ void degradation(const char* title, const char* parameters, const std::vector<st
         AgreementScorer scorer;
         for (const auto& sr : st.recordings) scorer.add(sr.truth.labels, detect_recording(sr.recording, *d, spec).labels, sr.recording.samples.time_us);
         const auto r = scorer.report();
-        std::printf(" %.2f / %.2f |", r.classes[0].kappa, r.classes[1].kappa);
+        std::printf(" %.2f / %.2f", r.classes[0].kappa, r.classes[1].kappa);
+        if (with_timing) {
+          std::printf(" (%+.1f, %+.1f ms)", r.classes[0].mean_onset_difference_ms, r.classes[0].mean_offset_difference_ms);
+        }
+        std::printf(" |");
       }
       std::printf("\n");
       std::fflush(stdout);
@@ -204,6 +239,29 @@ int main(int argc, char** argv) {
     if (!std::strcmp(argv[i], "--speed-only")) speed_only = true;
     else if (!std::strcmp(argv[i], "--table-only")) table_only = true;
     else if (!std::strcmp(argv[i], "--samples") && i + 1 < argc) n = std::stoul(argv[++i]);
+    else if (!std::strcmp(argv[i], "--pso")) with_pso = true;
+    else if (!std::strcmp(argv[i], "--timing")) with_timing = true;
+    else if (!std::strcmp(argv[i], "--settings") && i + 1 < argc) {
+      given_settings.emplace_back("s" + std::to_string(given_settings.size() + 1), parse_settings(argv[++i]));
+    } else {
+      std::fprintf(stderr,
+                   "usage: %s [--speed-only | --table-only] [--samples N] [--pso] [--timing]\n"
+                   "          [--settings 'METHOD NAME=VALUE ...']...\n",
+                   argv[0]);
+      return 2;
+    }
+  }
+  if (!given_settings.empty()) {
+    std::vector<std::string> columns;
+    for (const auto& [name, spec] : given_settings) {
+      columns.push_back(name);
+      std::printf("%s: %s", name.c_str(), spec.method.c_str());
+      for (const auto& [k, v] : spec.parameters) std::printf(" %s=%g", k.c_str(), v);
+      std::printf("\n");
+    }
+    std::printf("\n");
+    degradation("Given settings", "columns as listed above.", columns, given);
+    return 0;
   }
   if (!table_only) speed(n);
   if (!speed_only) {

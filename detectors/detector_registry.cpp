@@ -49,7 +49,7 @@ class Binder {
 
 VelocityMethod velocity_method(const std::string& name) {
   if (name == "savitzky_golay") return VelocityMethod::savitzky_golay;
-  if (name == "moving_average_5") return VelocityMethod::moving_average_5;
+  if (name == "moving_average_5") return VelocityMethod::moving_average;
   if (name == "two_point") return VelocityMethod::two_point;
   throw std::invalid_argument("velocity must be savitzky_golay, moving_average_5 or two_point, not " + name);
 }
@@ -81,7 +81,10 @@ std::unique_ptr<EventDetector> make_detector(const DetectionSpec& spec) {
   }
   if (spec.method == "engbert_kliegl") {
     EngbertKlieglParams p;
-    Binder().positive("lambda", p.lambda).whole("min_saccade_samples", p.min_saccade_samples).apply(spec.method, spec.parameters);
+    Binder().positive("lambda", p.lambda)
+        .whole("min_saccade_samples", p.min_saccade_samples)
+        .non_negative("velocity_window_ms", p.velocity_window_ms)
+        .apply(spec.method, spec.parameters);
     return std::make_unique<EngbertKlieglDetector>(p);
   }
   if (spec.method == "nystrom_holmqvist") {

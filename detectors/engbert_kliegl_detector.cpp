@@ -24,13 +24,21 @@ double median_based_sd(const std::vector<double>& v) {
   return std::sqrt(std::max(0.0, median_square - m * m));
 }
 
+int moving_average_half_width(double window_ms, double interval_us) {
+  if (!(window_ms > 0) || !(interval_us > 0)) return 2;
+  return std::max(2, static_cast<int>(std::lround(window_ms * 1000.0 / interval_us / 2.0)));
+}
+
 ParameterList EngbertKlieglDetector::parameters() const {
-  return {{"lambda", p_.lambda}, {"min_saccade_samples", static_cast<double>(p_.min_saccade_samples)}};
+  return {{"lambda", p_.lambda},
+          {"min_saccade_samples", static_cast<double>(p_.min_saccade_samples)},
+          {"velocity_window_ms", p_.velocity_window_ms}};
 }
 
 void EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   VelocityParams vp;
-  vp.method = VelocityMethod::moving_average_5;
+  vp.method = VelocityMethod::moving_average;
+  vp.moving_average_half_width = moving_average_half_width(p_.velocity_window_ms, g.interval_us);
   vp.with_speed = false;  // the elliptic criterion uses the components
   const Velocity v = compute_velocity(g, vp);
   const double eta_x = p_.lambda * std::max(p_.min_sd_deg_s, median_based_sd(v.vx));

@@ -1,6 +1,7 @@
 #pragma once
 // Adaptive velocity threshold of Engbert & Kliegl (2003, Vision Research 43):
-// velocities from a 5-sample moving average, a median-based estimate of
+// velocities from a moving average (5 samples, or more at high rates so that
+// it spans velocity_window_ms), a median-based estimate of
 // their spread per axis, sigma = sqrt(median(v^2) - median(v)^2), and an
 // elliptic threshold (vx / (lambda sx))^2 + (vy / (lambda sy))^2 > 1.
 // Runs of supra-threshold samples of at least the minimum length are
@@ -15,6 +16,12 @@ namespace gazemill {
 struct EngbertKlieglParams {
   double lambda = 6.0;             // 6 in Engbert & Kliegl 2003; 5 after Engbert & Mergenthaler 2006 (from memory)
   int min_saccade_samples = 3;     // 3 samples (from memory)
+  // Span of the moving difference, first to last sample. The papers' five
+  // samples span 16 ms at 250 Hz (2003) and 8 ms at 500 Hz (2006; rates from
+  // memory); five samples at 2000 Hz span 2 ms, and the velocity noise, which
+  // sets the threshold, then hides reading saccades. 8 ms keeps the 2006 span
+  // at any rate (never fewer than five samples); 0 = always five samples.
+  double velocity_window_ms = 8.0;
   double min_sd_deg_s = 1e-6;      // floor for the spread of a motionless trace
 };
 
@@ -28,6 +35,10 @@ class EngbertKlieglDetector : public EventDetector {
  private:
   EngbertKlieglParams p_;
 };
+
+/// Samples either side of the moving difference: the published 2, or more so
+/// that the window spans about `window_ms` at this sampling interval.
+int moving_average_half_width(double window_ms, double interval_us);
 
 /// sqrt(median(v^2) - median(v)^2) over the finite values of v.
 double median_based_sd(const std::vector<double>& v);

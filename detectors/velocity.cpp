@@ -81,7 +81,7 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
       }
     });
   } else {
-    const int w = sg ? savitzky_golay_window_samples(p, g.interval_us) : 5;
+    const int w = sg ? savitzky_golay_window_samples(p, g.interval_us) : 2 * std::max(1, p.moving_average_half_width) + 1;
     const std::size_t h = static_cast<std::size_t>(w / 2);
     // Coefficients for every position in the window: the centre for interior
     // samples, off-centre ones for samples near the edge of a stretch of data.
@@ -92,8 +92,6 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
         d1[static_cast<std::size_t>(q)] = savitzky_golay_coefficients_at(w, p.sg_order, 1, pos);
         if (acceleration) d2[static_cast<std::size_t>(q)] = savitzky_golay_coefficients_at(w, p.sg_order, 2, pos);
       }
-    } else {
-      d1[h] = {-1.0 / 6, -1.0 / 6, 0.0, 1.0 / 6, 1.0 / 6};
     }
     const std::size_t width = static_cast<std::size_t>(w);
     auto apply = [&](std::size_t i, std::size_t a, std::size_t q) {  // sample i from the window starting at a
@@ -120,10 +118,17 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
       if (b - a < width) return;
       for (std::size_t i = a; i < a + h && sg; ++i) apply(i, a, i - a);
       if (!sg) {
-        // The 5-sample moving difference, written out: (x[n+2] + x[n+1] - x[n-1] - x[n-2]) / (6 dt).
-        for (std::size_t i = a + 2; i + 2 < b; ++i) {
-          const double inv = 4.0 / (static_cast<double>(T[i + 2] - T[i - 2]) * 1e-6 * 6.0);
-          store(i, (X[i + 2] + X[i + 1] - X[i - 1] - X[i - 2]) * inv, (Y[i + 2] + Y[i + 1] - Y[i - 1] - Y[i - 2]) * inv);
+        // The moving difference: sum of (x[n+k] - x[n-k]) for k = 1..K, over
+        // K (K+1) dt, with dt from the window's own timestamps. Exact for a ramp.
+        const double scale = 2.0 * static_cast<double>(h) / static_cast<double>(h * (h + 1));
+        for (std::size_t i = a + h; i + h < b; ++i) {
+          double sx = 0, sy = 0;
+          for (std::size_t k = 1; k <= h; ++k) {
+            sx += X[i + k] - X[i - k];
+            sy += Y[i + k] - Y[i - k];
+          }
+          const double inv = scale / (static_cast<double>(T[i + h] - T[i - h]) * 1e-6);
+          store(i, sx * inv, sy * inv);
         }
         return;
       }

@@ -12,7 +12,8 @@ namespace gazemill {
 
 enum class VelocityMethod {
   savitzky_golay,     // Savitzky-Golay differentiation, as in Nystrom & Holmqvist (2010)
-  moving_average_5,   // (x[n+2] + x[n+1] - x[n-1] - x[n-2]) / (6 dt), Engbert & Kliegl (2003)
+  moving_average,     // sum over k = 1..K of (x[n+k] - x[n-k]), / (K (K+1) dt); K = 2 is the
+                      // 5-sample (x[n+2] + x[n+1] - x[n-1] - x[n-2]) / (6 dt) of Engbert & Kliegl (2003)
   two_point,          // (x[n] - x[n-1]) / dt, as in Salvucci & Goldberg (2000)
 };
 
@@ -20,6 +21,7 @@ struct VelocityParams {
   VelocityMethod method = VelocityMethod::savitzky_golay;
   double sg_window_ms = 20.0;  // rounded to an odd number of samples, at least order + 2
   int sg_order = 2;
+  int moving_average_half_width = 2;  // K, samples either side; 2 is the published 5-sample window
   double max_gap_factor = kDefaultMaxGapFactor;  // a step this much longer than the steps around it breaks windows
   bool with_acceleration = false;  // Savitzky-Golay only
   bool with_components = true;     // keep vx and vy; off when only the speed is needed

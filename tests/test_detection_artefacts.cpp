@@ -344,7 +344,7 @@ INSTANTIATE_TEST_SUITE_P(
     Artefacts, EveryDetector,
     ::testing::Values(
         DetectorCase{"ivt", "ivt", {{"velocity_threshold_deg_s", 15}, {"sg_window_ms", 10}}, 0.0},
-        DetectorCase{"engbert_kliegl", "engbert_kliegl", {{"lambda", 3}}, 0.0},
+        DetectorCase{"engbert_kliegl", "engbert_kliegl", {}, 0.0},
         DetectorCase{"nystrom_holmqvist", "nystrom_holmqvist",
                      {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}}, 0.0},
         DetectorCase{"idt", "idt", {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}}, 0.02},

@@ -184,12 +184,49 @@ TEST(EngbertKliegl, RampVelocityAndMedianBasedSd) {
   std::vector<std::pair<double, double>> ramp;
   for (int n = 0; n < 20; ++n) ramp.emplace_back(0.1 * n, 0.0);
   VelocityParams vp;
-  vp.method = VelocityMethod::moving_average_5;
+  vp.method = VelocityMethod::moving_average;
   const Velocity v = compute_velocity(trace_of(ramp, 4000), vp);
   for (int n = 2; n < 18; ++n) EXPECT_NEAR(v.vx[static_cast<std::size_t>(n)], 25.0, 1e-9);
   EXPECT_TRUE(std::isnan(v.vx[0]));
   // Worked by hand (methods.md section 2): median(v^2) = 2.5, median(v) = 1, sigma = sqrt(1.5).
   EXPECT_NEAR(median_based_sd({1, -2, 3, -1, 2, 0, 50, -1, 1, 2}), 1.224745, 1e-6);
+}
+
+// The moving difference widened to K samples either side (our generalisation
+// of the published K = 2): sum of (x[n+k] - x[n-k]) over K (K+1) dt is exact
+// for a ramp (algebra: the sum is dt * rate * 2 * (1 + ... + K)), and a step
+// of 1 deg at 1000 Hz with K = 3 gives, worked by hand, 3 / (12 * 0.001) =
+// 250 deg/s at the step and 1 / 0.012 = 83.3 deg/s two samples from it.
+TEST(EngbertKliegl, WiderMovingDifference) {
+  std::vector<std::pair<double, double>> ramp;
+  for (int n = 0; n < 40; ++n) ramp.emplace_back(0.1 * n, -0.05 * n);
+  VelocityParams vp;
+  vp.method = VelocityMethod::moving_average;
+  vp.moving_average_half_width = 4;
+  const Velocity v = compute_velocity(trace_of(ramp, 1000), vp);
+  for (int n = 4; n < 36; ++n) {
+    EXPECT_NEAR(v.vx[static_cast<std::size_t>(n)], 100.0, 1e-9);
+    EXPECT_NEAR(v.vy[static_cast<std::size_t>(n)], -50.0, 1e-9);
+  }
+  EXPECT_TRUE(std::isnan(v.vx[3]));
+  EXPECT_TRUE(std::isnan(v.vx[36]));
+  std::vector<std::pair<double, double>> step;
+  for (int n = 0; n < 12; ++n) step.emplace_back(n < 6 ? 0.0 : 1.0, 0.0);
+  vp.moving_average_half_width = 3;
+  const Velocity s = compute_velocity(trace_of(step, 1000), vp);
+  EXPECT_NEAR(s.vx[5], 250.0, 1e-9);  // x[6..8] - x[4..2]: all three differences span the step
+  EXPECT_NEAR(s.vx[3], 1.0 / 0.012, 1e-9);
+  EXPECT_NEAR(s.vx[8], 1.0 / 0.012, 1e-9);
+}
+
+// The window keeps its span in ms across rates and never drops below the
+// published five samples: 8 ms is five samples at 500 Hz.
+TEST(EngbertKliegl, MovingDifferenceSpansTheSameTimeAtEveryRate) {
+  EXPECT_EQ(moving_average_half_width(8.0, 4000), 2);  // 250 Hz: five samples, 16 ms
+  EXPECT_EQ(moving_average_half_width(8.0, 2000), 2);  // 500 Hz: 8 ms
+  EXPECT_EQ(moving_average_half_width(8.0, 1000), 4);  // 1000 Hz: nine samples, 8 ms
+  EXPECT_EQ(moving_average_half_width(8.0, 500), 8);   // 2000 Hz: 17 samples, 8 ms
+  EXPECT_EQ(moving_average_half_width(0.0, 500), 2);   // 0: always the published five samples
 }
 
 // The histogram-narrowed median against the textbook definition (sort, take
