@@ -119,8 +119,9 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
       for (std::size_t i = a; i < a + h && sg; ++i) apply(i, a, i - a);
       if (!sg) {
         // The moving difference: sum of (x[n+k] - x[n-k]) for k = 1..K, over
-        // K (K+1) dt, with dt from the window's own timestamps. Exact for a ramp.
-        const double scale = 2.0 * static_cast<double>(h) / static_cast<double>(h * (h + 1));
+        // K (K+1) dt, exact for a ramp. dt is the window's own span over 2K,
+        // which makes the divisor (K+1) span / 2.
+        const double scale = 2.0 / static_cast<double>(h + 1);
         for (std::size_t i = a + h; i + h < b; ++i) {
           double sx = 0, sy = 0;
           for (std::size_t k = 1; k <= h; ++k) {
