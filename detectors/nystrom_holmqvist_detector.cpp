@@ -105,7 +105,10 @@ void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel
       for (std::size_t q = first; q <= last; ++q) out[q] = SampleLabel::saccade;
       // Glissade: a velocity bump above the offset threshold soon after the
       // offset. It runs from the saccade's end to the next local minimum,
-      // which again is at rest.
+      // which again is at rest. A bump that runs into lost data is no
+      // glissade: velocity fitted at the edge of a stretch is noisy, and a
+      // single lost sample (a removed spike) would otherwise turn the
+      // fixation before it into a glissade.
       std::size_t last_above = b;
       for (std::size_t q = b + 1; q < n && q <= b + glissade_window && usable[q]; ++q) {
         if (s[q] > offset) last_above = q;
@@ -113,9 +116,10 @@ void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel
       if (last_above > b) {
         std::size_t e = last_above;
         while (e + 1 < n && usable[e + 1] && !minimum_after(e)) ++e;
-        const std::size_t glissade_last = minimum_after(e) ? e - 1 : e;
-        for (std::size_t q = last + 1; q <= glissade_last; ++q) out[q] = SampleLabel::pso;
-        b = e;
+        if (minimum_after(e)) {
+          for (std::size_t q = last + 1; q + 1 <= e; ++q) out[q] = SampleLabel::pso;
+          b = e;
+        }
       }
     }
     last_end = b + 1;

@@ -9,7 +9,7 @@
 // minimum is the slowest sample, still at rest, so it stays out of the
 // saccade); a glissade (post-saccadic oscillation) is a
 // velocity bump above the offset threshold within a short window after the
-// offset. All numbers but the filter window (below) are the paper's as
+// offset that comes back to rest before any lost sample. All numbers but the filter window (below) are the paper's as
 // recalled (from memory; see methods.md section 3); each is a parameter.
 
 #include "detectors/event_detector.h"

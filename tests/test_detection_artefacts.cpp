@@ -163,13 +163,15 @@ TEST(DetectionArtefacts, BestEyePerTrial) {
 
 namespace {
 
-// A detector as the accuracy test sets it up, and how many of its saccade
-// events single-sample noise bursts may change (see NoiseBursts).
+// A detector as the accuracy test sets it up, how many of its saccade events
+// single-sample noise bursts may change (see NoiseBursts), and the agreement
+// it must keep on either side of a rate change.
 struct DetectorCase {
   std::string name;
   std::string method;
   std::map<std::string, double> parameters;
   double burst_saccade_tolerance;
+  double rate_change_kappa_floor = 0.85;
   DetectionSpec spec() const {
     DetectionSpec s;
     s.method = method;
@@ -268,8 +270,8 @@ TEST_P(EveryDetector, RateChangesPartWay) {
   for (auto [a, b] : {std::pair<std::size_t, std::size_t>{0, half}, {half, rec.samples.size()}}) {
     AgreementScorer s;
     s.add({ref.begin() + a, ref.begin() + b}, {labels.begin() + a, labels.begin() + b}, {rec.samples.time_us.begin() + a, rec.samples.time_us.begin() + b});
-    EXPECT_GE(cls(s.report(), SampleLabel::saccade).kappa, 0.85) << "part starting at sample " << a;
-    EXPECT_GE(cls(s.report(), SampleLabel::fixation).kappa, 0.85) << "part starting at sample " << a;
+    EXPECT_GE(cls(s.report(), SampleLabel::saccade).kappa, GetParam().rate_change_kappa_floor) << "part starting at sample " << a;
+    EXPECT_GE(cls(s.report(), SampleLabel::fixation).kappa, GetParam().rate_change_kappa_floor) << "part starting at sample " << a;
   }
 }
 
@@ -352,3 +354,17 @@ INSTANTIATE_TEST_SUITE_P(
                      {{"dispersion_threshold_deg", 0.04}, {"min_duration_ms", 6}, {"smoothing_window_ms", 24}}, 0.02}),
     [](const ::testing::TestParamInfo<DetectorCase>& info) { return info.param.name; });
 
+
+// The same artefacts with the velocity methods' defaults (nothing but the
+// blink padding set). Nystrom & Holmqvist: one saccade of 158 starts right
+// after a burst and, touching the lost sample, is dropped (as I-DT's above).
+// Its fixation kappa is 0.857 before the rate change and 0.845 after it, at
+// 500 Hz, about its level on clean 500 Hz data (0.84-0.88 in bench/detect),
+// so the floor is 0.83. I-DT's published defaults are not for
+// reading (README, Event detection): at 0.3-0.5 kappa there is no level to
+// hold steady.
+INSTANTIATE_TEST_SUITE_P(
+    ArtefactsWithDefaults, EveryDetector,
+    ::testing::Values(DetectorCase{"ivt", "ivt", {}, 0.0}, DetectorCase{"engbert_kliegl", "engbert_kliegl", {}, 0.0},
+                      DetectorCase{"nystrom_holmqvist", "nystrom_holmqvist", {}, 0.01, 0.83}),
+    [](const ::testing::TestParamInfo<DetectorCase>& info) { return info.param.name; });
