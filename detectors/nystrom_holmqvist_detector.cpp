@@ -117,7 +117,7 @@ void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel
         std::size_t e = last_above;
         while (e + 1 < n && usable[e + 1] && !minimum_after(e)) ++e;
         if (minimum_after(e)) {
-          for (std::size_t q = last + 1; q + 1 <= e; ++q) out[q] = SampleLabel::pso;
+          for (std::size_t q = last + 1; q < e; ++q) out[q] = SampleLabel::pso;  // e, the minimum, is at rest
           b = e;
         }
       }

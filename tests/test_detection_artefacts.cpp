@@ -97,8 +97,6 @@ TEST(DetectionArtefacts, PostSaccadicOscillation) {
   EXPECT_EQ(cls(off, SampleLabel::pso).detected_samples, 0u);
 }
 
-// Track loss coded as (0, 0) and read with zero_gaze_is_missing gives the same
-// labels as loss coded as missing values.
 // A spike removed as one lost sample soon after a saccade does not make a
 // glissade of the fixation in between. Our rule (no outside source): a
 // glissade must come back to rest before lost data, as velocity fitted at
@@ -130,6 +128,8 @@ TEST(DetectionArtefacts, SpikeAfterASaccadeMakesNoGlissade) {
   EXPECT_EQ(new_glissade_samples, 0);
 }
 
+// Track loss coded as (0, 0) and read with zero_gaze_is_missing gives the same
+// labels as loss coded as missing values.
 TEST(DetectionArtefacts, TrackLossCodedAsZeros) {
   test_support::TempDir dir;
   const auto st = make_study(false, 500);
@@ -385,12 +385,12 @@ INSTANTIATE_TEST_SUITE_P(
                      {{"dispersion_threshold_deg", 0.04}, {"min_duration_ms", 6}, {"smoothing_window_ms", 24}}, 0.02}),
     [](const ::testing::TestParamInfo<DetectorCase>& info) { return info.param.name; });
 
-
 // The same artefacts with the velocity methods' defaults (nothing but the
 // blink padding set). Nystrom & Holmqvist: one saccade of 158 starts right
 // after a burst and, touching the lost sample, is dropped (as I-DT's above).
 // Its fixation kappa is 0.857 before the rate change and 0.845 after it, at
-// 500 Hz, about its level on clean 500 Hz data (0.84-0.88 in bench/detect),
+// 500 Hz, about its level on clean 500 Hz data (0.84-0.88 in bench/detect
+// up to 0.1 deg of noise),
 // so the floor is 0.83. I-DT's published defaults are not for
 // reading (README, Event detection): at 0.3-0.5 kappa there is no level to
 // hold steady.
