@@ -9,6 +9,7 @@
 #include <cstdio>
 #include <cstring>
 #include <random>
+#include <stdexcept>
 #include <string>
 
 #include "detectors/detector_registry.h"
@@ -167,7 +168,7 @@ DetectionSpec given(const std::string& column) {
   for (const auto& [name, spec] : given_settings) {
     if (name == column) return spec;
   }
-  return defaults(column);
+  throw std::logic_error("no settings named " + column);
 }
 
 DetectionSpec parse_settings(const std::string& text) {
@@ -203,14 +204,7 @@ void degradation(const char* title, const char* parameters, const std::vector<st
   std::printf("\n");
   for (double noise : noises) {
     for (double rate : rates) {
-      sim::SimulationConfig c;
-      c.design = sim::demo_design();
-      c.design.participants = 2;
-      c.signal.sample_rate_hz = rate;
-      c.signal.noise_rms_s2s_deg = noise;
-      c.signal.post_saccadic_oscillation = with_pso;
-      c.seed = 77;
-      const auto st = sim::simulate_study(c);
+      const auto st = sim::simulate_study(sim::detection_grid_config(rate, noise, with_pso));
       std::printf("| %.2f | %.0f |", noise, rate);
       for (const auto& m : methods) {
         const DetectionSpec spec = spec_of(m);

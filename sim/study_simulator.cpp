@@ -145,6 +145,17 @@ std::string participant_label(std::size_t i) {
   return buf;
 }
 
+SimulationConfig detection_grid_config(double sample_rate_hz, double noise_rms_s2s_deg, bool post_saccadic_oscillation) {
+  SimulationConfig c;
+  c.design = demo_design();
+  c.design.participants = 2;
+  c.signal.sample_rate_hz = sample_rate_hz;
+  c.signal.noise_rms_s2s_deg = noise_rms_s2s_deg;
+  c.signal.post_saccadic_oscillation = post_saccadic_oscillation;
+  c.seed = 77;
+  return c;
+}
+
 SimulatedStudy simulate_study(const SimulationConfig& cfg) {
   SimulatedStudy study;
   study.config = cfg;

@@ -71,6 +71,10 @@ struct SimulatedStudy {
 
 SimulatedStudy simulate_study(const SimulationConfig& config);
 
+/// The small study behind bench/detect's agreement grid and the tests that
+/// hold detector defaults to it: two readers of the demo design, seed 77.
+SimulationConfig detection_grid_config(double sample_rate_hz, double noise_rms_s2s_deg, bool post_saccadic_oscillation);
+
 /// Saccade duration (ms) from amplitude (deg): D = 2.2 A + 21, the linear
 /// main-sequence fit attributed to Carpenter (1988), Movements of the Eyes.
 double saccade_duration_ms(double amplitude_deg);

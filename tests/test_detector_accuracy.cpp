@@ -55,6 +55,16 @@ const sim::SimulatedStudy& study() {
   return st;
 }
 
+// A detector's labels for every recording of a study against its truth.
+AgreementReport agreement(const sim::SimulatedStudy& st, const DetectionSpec& spec) {
+  const auto detector = make_detector(spec);
+  AgreementScorer scorer;
+  for (const auto& sr : st.recordings) {
+    scorer.add(sr.truth.labels, detect_recording(sr.recording, *detector, spec).labels, sr.recording.samples.time_us);
+  }
+  return scorer.report();
+}
+
 double kappa(const AgreementReport& r, SampleLabel l) {
   for (const auto& c : r.classes) {
     if (c.label == l) return c.kappa;
@@ -73,12 +83,7 @@ TEST_P(DetectorAccuracy, KappaAt1000HzWithLowNoise) {
   spec.parameters = c.parameters;
   // Lid artefacts last tens of ms; 30 ms either side covers them here.
   spec.blink_padding_before_ms = spec.blink_padding_after_ms = 30;
-  const auto detector = make_detector(spec);
-  AgreementScorer scorer;
-  for (const auto& sr : study().recordings) {
-    scorer.add(sr.truth.labels, detect_recording(sr.recording, *detector, spec).labels, sr.recording.samples.time_us);
-  }
-  const auto r = scorer.report();
+  const auto r = agreement(study(), spec);
   std::printf("%s: fixation kappa %.3f, saccade kappa %.3f\n", c.method.c_str(), kappa(r, SampleLabel::fixation),
               kappa(r, SampleLabel::saccade));
   EXPECT_GE(kappa(r, SampleLabel::fixation), c.fixation_floor);
@@ -142,7 +147,7 @@ INSTANTIATE_TEST_SUITE_P(
     });
 
 // Every method with nothing but its defaults, across rates and noise, on the
-// simulated study of bench/detect (2 readers x 12 items, seed 77): floors
+// simulated study of bench/detect's grid (sim::detection_grid_config): floors
 // about 0.01 below the levels measured when the defaults were set, so that
 // they cannot silently get worse. The README's table is the whole grid. I-DT's published defaults are
 // poor on reading at any rate (see the README); its row guards the level only.
@@ -160,14 +165,8 @@ const sim::SimulatedStudy& grid_study(double rate_hz, double noise_deg) {
   static std::map<std::pair<double, double>, sim::SimulatedStudy> cache;
   auto it = cache.find({rate_hz, noise_deg});
   if (it != cache.end()) return it->second;
-  sim::SimulationConfig c;
-  c.design = sim::demo_design();
-  c.design.participants = 2;
-  c.signal.sample_rate_hz = rate_hz;
-  c.signal.noise_rms_s2s_deg = noise_deg;
-  c.signal.post_saccadic_oscillation = false;
-  c.seed = 77;
-  return cache.emplace(std::make_pair(rate_hz, noise_deg), sim::simulate_study(c)).first->second;
+  return cache.emplace(std::make_pair(rate_hz, noise_deg), sim::simulate_study(sim::detection_grid_config(rate_hz, noise_deg, false)))
+      .first->second;
 }
 
 }  // namespace
@@ -178,12 +177,7 @@ TEST_P(DetectorDefaults, KappaWithNoParametersGiven) {
   const DefaultsCase& c = GetParam();
   DetectionSpec spec;
   spec.method = c.method;
-  const auto detector = make_detector(spec);
-  AgreementScorer scorer;
-  for (const auto& sr : grid_study(c.rate_hz, c.noise_deg).recordings) {
-    scorer.add(sr.truth.labels, detect_recording(sr.recording, *detector, spec).labels, sr.recording.samples.time_us);
-  }
-  const auto r = scorer.report();
+  const auto r = agreement(grid_study(c.rate_hz, c.noise_deg), spec);
   std::printf("%s at %.0f Hz, %.2f deg: fixation kappa %.3f, saccade kappa %.3f\n", c.method.c_str(), c.rate_hz,
               c.noise_deg, kappa(r, SampleLabel::fixation), kappa(r, SampleLabel::saccade));
   EXPECT_GE(kappa(r, SampleLabel::fixation), c.fixation_floor);

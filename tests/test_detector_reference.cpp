@@ -220,7 +220,8 @@ TEST(EngbertKliegl, WiderMovingDifference) {
 }
 
 // The window keeps its span in ms across rates and never drops below the
-// published five samples: 8 ms is five samples at 500 Hz.
+// published five samples: 8 ms is five samples at 500 Hz, the rate of
+// Engbert & Mergenthaler (2006) (from memory). The widths are our rule.
 TEST(EngbertKliegl, MovingDifferenceSpansTheSameTimeAtEveryRate) {
   EXPECT_EQ(moving_average_half_width(8.0, 4000), 2);  // 250 Hz: five samples, 16 ms
   EXPECT_EQ(moving_average_half_width(8.0, 2000), 2);  // 500 Hz: 8 ms
