@@ -1,6 +1,7 @@
 #include "io/bids_reader.h"
 
 #include <algorithm>
+#include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <map>
@@ -20,7 +21,7 @@ json load_json(const std::string& path) {
   if (!in) throw InputError({path, 0, ""}, "cannot open JSON sidecar");
   try {
     return json::parse(in);
-  } catch (const json::parse_error& e) {
+  } catch (const json::exception& e) {  // parse_error, and out_of_range for a number past a double (found by fuzzing)
     throw InputError({path, 0, ""}, std::string("not valid JSON: ") + e.what());
   }
 }
@@ -70,29 +71,43 @@ std::optional<ScreenGeometry> read_screen(const std::string& path) {
   for (const char* f : {"ScreenDistance", "ScreenResolution", "ScreenSize"}) {
     if (!sp.contains(f)) return std::nullopt;
   }
-  try {
-    ScreenGeometry g;
-    g.viewing_distance_mm = sp.at("ScreenDistance").get<double>() * 1000.0;
-    g.width_px = sp.at("ScreenResolution").at(0).get<int>();
-    g.height_px = sp.at("ScreenResolution").at(1).get<int>();
-    g.width_mm = sp.at("ScreenSize").at(0).get<double>() * 1000.0;
-    g.height_mm = sp.at("ScreenSize").at(1).get<double>() * 1000.0;
-    return g;
-  } catch (const json::exception& e) {
-    throw InputError({path, 0, "StimulusPresentation"}, std::string("expected ScreenDistance (m), ScreenResolution [w, h] (px) and ScreenSize [w, h] (m): ") + e.what());
-  }
+  // Checked by hand, not by get<int>: that of a huge double is undefined.
+  const auto bad = [&] {
+    return InputError({path, 0, "StimulusPresentation"},
+                      "expected ScreenDistance (m), ScreenResolution [w, h] (px) and ScreenSize [w, h] (m) as positive "
+                      "numbers, found " + sp.dump());
+  };
+  const auto positive = [&](const json& v, double most) {
+    if (!v.is_number() || !(v.get<double>() > 0.0 && v.get<double>() <= most)) throw bad();
+    return v.get<double>();
+  };
+  const auto pair = [&](const char* f) -> const json& {
+    const json& v = sp.at(f);
+    if (!v.is_array() || v.size() != 2) throw bad();
+    return v;
+  };
+  ScreenGeometry g;
+  g.viewing_distance_mm = positive(sp.at("ScreenDistance"), 1e3) * 1000.0;
+  g.width_px = static_cast<int>(positive(pair("ScreenResolution")[0], 1e6));
+  g.height_px = static_cast<int>(positive(pair("ScreenResolution")[1], 1e6));
+  g.width_mm = positive(pair("ScreenSize")[0], 1e3) * 1000.0;
+  g.height_mm = positive(pair("ScreenSize")[1], 1e3) * 1000.0;
+  return g;
 }
 
 std::vector<Message> read_bids_events(const BidsEyeFiles& eye, std::vector<std::size_t>& lines) {
   const json j = load_json(eye.events_json);
-  const json& cols = require(j, eye.events_json, "Columns");
-  const std::string onset_source = require(j, eye.events_json, "OnsetSource").get<std::string>();
-  if (onset_source != "timestamp") {
-    throw InputError({eye.events_json, 0, "OnsetSource"},
-                     "only OnsetSource \"timestamp\" (onsets on the physio clock) is supported, found \"" + onset_source + "\"");
-  }
   DelimitedReadOptions opt;
-  opt.column_names = cols.get<std::vector<std::string>>();
+  try {
+    const std::string onset_source = require(j, eye.events_json, "OnsetSource").get<std::string>();
+    if (onset_source != "timestamp") {
+      throw InputError({eye.events_json, 0, "OnsetSource"},
+                       "only OnsetSource \"timestamp\" (onsets on the physio clock) is supported, found \"" + onset_source + "\"");
+    }
+    opt.column_names = require(j, eye.events_json, "Columns").get<std::vector<std::string>>();
+  } catch (const json::exception& e) {
+    throw InputError({eye.events_json, 0, ""}, std::string("a field has the wrong type: ") + e.what());
+  }
   if (std::find(opt.column_names.begin(), opt.column_names.end(), "message") == opt.column_names.end()) return {};
   opt.layout.delimiter = '\t';
   opt.layout.time_column = "onset";
@@ -106,29 +121,26 @@ std::vector<Message> read_bids_events(const BidsEyeFiles& eye, std::vector<std::
   return std::move(r.messages);
 }
 
-}  // namespace
-
-BidsPhysioSidecar read_bids_physio_sidecar(const std::string& path) {
-  const json j = load_json(path);
+// The sidecar's fields; nlohmann's json::exception for a value of the wrong type.
+BidsPhysioSidecar physio_sidecar_fields(const json& j, const std::string& path) {
   BidsPhysioSidecar s;
-  try {
-    const std::string type = j.value("PhysioType", "generic");
-    if (type != "eyetrack") {
-      throw InputError({path, 0, "PhysioType"}, "expected \"eyetrack\", found \"" + type + "\"");
-    }
-    s.sampling_frequency_hz = require(j, path, "SamplingFrequency").get<double>();
-    s.start_time_s = require(j, path, "StartTime").get<double>();
-    s.columns = require(j, path, "Columns").get<std::vector<std::string>>();
-    const std::string eye = require(j, path, "RecordedEye").get<std::string>();
-    if (eye == "left") s.recorded_eye = Eye::left;
-    else if (eye == "right") s.recorded_eye = Eye::right;
-    else throw InputError({path, 0, "RecordedEye"}, "expected \"left\" or \"right\" (cyclopean signals are not supported yet), found \"" + eye + "\"");
-    const std::string coords = require(j, path, "SampleCoordinateSystem").get<std::string>();
-    if (coords != "gaze-on-screen") {
-      throw InputError({path, 0, "SampleCoordinateSystem"}, "expected \"gaze-on-screen\", found \"" + coords + "\"");
-    }
-  } catch (const json::exception& e) {
-    throw InputError({path, 0, ""}, std::string("a field has the wrong type: ") + e.what());
+  const std::string type = j.value("PhysioType", "generic");
+  if (type != "eyetrack") {
+    throw InputError({path, 0, "PhysioType"}, "expected \"eyetrack\", found \"" + type + "\"");
+  }
+  s.sampling_frequency_hz = require(j, path, "SamplingFrequency").get<double>();
+  if (!(s.sampling_frequency_hz > 0.0) || !std::isfinite(s.sampling_frequency_hz)) {
+    throw InputError({path, 0, "SamplingFrequency"}, "expected a positive number of samples per second");
+  }
+  s.start_time_s = require(j, path, "StartTime").get<double>();
+  s.columns = require(j, path, "Columns").get<std::vector<std::string>>();
+  const std::string eye = require(j, path, "RecordedEye").get<std::string>();
+  if (eye == "left") s.recorded_eye = Eye::left;
+  else if (eye == "right") s.recorded_eye = Eye::right;
+  else throw InputError({path, 0, "RecordedEye"}, "expected \"left\" or \"right\" (cyclopean signals are not supported yet), found \"" + eye + "\"");
+  const std::string coords = require(j, path, "SampleCoordinateSystem").get<std::string>();
+  if (coords != "gaze-on-screen") {
+    throw InputError({path, 0, "SampleCoordinateSystem"}, "expected \"gaze-on-screen\", found \"" + coords + "\"");
   }
   for (const char* required : {"timestamp", "x_coordinate", "y_coordinate"}) {
     if (std::find(s.columns.begin(), s.columns.end(), required) == s.columns.end()) {
@@ -150,6 +162,19 @@ BidsPhysioSidecar read_bids_physio_sidecar(const std::string& path) {
     if (u != "pixel" && u != "px") throw InputError({path, 0, std::string(axis) + ".Units"}, "expected \"pixel\", found \"" + u + "\"");
   }
   return s;
+}
+
+}  // namespace
+
+BidsPhysioSidecar read_bids_physio_sidecar(const std::string& path) {
+  const json j = load_json(path);
+  // One try for every field: a value of the wrong JSON type anywhere (a
+  // number for a unit, say) is an input error naming the file, not a crash.
+  try {
+    return physio_sidecar_fields(j, path);
+  } catch (const json::exception& e) {
+    throw InputError({path, 0, ""}, std::string("a field has the wrong type: ") + e.what());
+  }
 }
 
 std::vector<BidsRecordingFiles> group_bids_recordings(const std::vector<std::string>& physio_paths) {

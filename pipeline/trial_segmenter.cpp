@@ -55,47 +55,53 @@ std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
     }
   };
 
-  for (std::size_t i = 0; i < messages.size(); ++i) {
-    const Message& m = messages[i];
-    if (auto caps = start_.search(m.text)) {
-      if (open) {
-        if (policy_ == UnterminatedTrialPolicy::drop) {
-          ++repairs["unterminated_trial_dropped"];
-        } else {
-          fail(open_index, "trial '" + open->id + "' starts here but has no end message before the next trial starts (line " +
-                               std::to_string(line_of(i)) + "); expected a message matching trials.end");
+  // A message too long to match safely is an error of its line.
+  std::size_t i = 0;
+  try {
+    for (; i < messages.size(); ++i) {
+      const Message& m = messages[i];
+      if (auto caps = start_.search(m.text)) {
+        if (open) {
+          if (policy_ == UnterminatedTrialPolicy::drop) {
+            ++repairs["unterminated_trial_dropped"];
+          } else {
+            fail(open_index, "trial '" + open->id + "' starts here but has no end message before the next trial starts (line " +
+                                 std::to_string(line_of(i)) + "); expected a message matching trials.end");
+          }
         }
+        open = Trial{};
+        open_index = i;
+        auto id = caps->find("trial");
+        open->id = id != caps->end() ? id->second : std::to_string(trials.size() + 1);
+        open->start_us = m.time_us;
+        absorb(*open, m);
+        continue;
       }
-      open = Trial{};
-      open_index = i;
-      auto id = caps->find("trial");
-      open->id = id != caps->end() ? id->second : std::to_string(trials.size() + 1);
-      open->start_us = m.time_us;
-      absorb(*open, m);
-      continue;
-    }
-    if (auto caps = end_.search(m.text)) {
-      if (!open) {
-        if (policy_ == UnterminatedTrialPolicy::drop) {
-          ++repairs["trial_end_without_start_dropped"];
-          continue;
+      if (auto caps = end_.search(m.text)) {
+        if (!open) {
+          if (policy_ == UnterminatedTrialPolicy::drop) {
+            ++repairs["trial_end_without_start_dropped"];
+            continue;
+          }
+          fail(i, "trial end message without a preceding trial start; expected a message matching trials.start first");
         }
-        fail(i, "trial end message without a preceding trial start; expected a message matching trials.start first");
+        auto id = caps->find("trial");
+        if (id != caps->end() && id->second != open->id) {
+          fail(i, "trial end names trial '" + id->second + "' but the open trial is '" + open->id + "'");
+        }
+        absorb(*open, m);
+        open->end_us = m.time_us;
+        if (!seen_ids.insert(open->id).second) {
+          fail(open_index, "trial id '" + open->id + "' appears more than once; trial ids must be unique within a recording");
+        }
+        trials.push_back(std::move(*open));
+        open.reset();
+        continue;
       }
-      auto id = caps->find("trial");
-      if (id != caps->end() && id->second != open->id) {
-        fail(i, "trial end names trial '" + id->second + "' but the open trial is '" + open->id + "'");
-      }
-      absorb(*open, m);
-      open->end_us = m.time_us;
-      if (!seen_ids.insert(open->id).second) {
-        fail(open_index, "trial id '" + open->id + "' appears more than once; trial ids must be unique within a recording");
-      }
-      trials.push_back(std::move(*open));
-      open.reset();
-      continue;
+      if (open) absorb(*open, m);
     }
-    if (open) absorb(*open, m);
+  } catch (const std::length_error& e) {
+    fail(i, e.what());
   }
   if (open) {
     if (policy_ == UnterminatedTrialPolicy::drop) {

@@ -11,6 +11,8 @@
 
 #include <gtest/gtest.h>
 
+#include <filesystem>
+
 #include "app/ingest.h"
 #include "app/protocol_parser.h"
 #include "io/bids_reader.h"
@@ -137,4 +139,28 @@ TEST(BidsReader, SidecarProblemsNameTheField) {
   expect_field(std::string(s).replace(s.find("\"right\""), 7, "\"both\""), "RecordedEye");
   expect_field(std::string(s).replace(s.find("\"timestamp\": {\"Units\": \"ms\"}, "), 30, ""), "timestamp.Units");
   expect_field(std::string(s).replace(s.find("\"x_coordinate\", "), 16, ""), "Columns");
+  expect_field(std::string(s).replace(s.find("1000"), 4, "0"), "SamplingFrequency");
+  // Found by fuzzing: a number past a double escaped as nlohmann's out_of_range.
+  expect_field(std::string(s).replace(s.find("1000"), 4, "7E777777"), "");
+  // A value of the wrong JSON type anywhere is an error of the file.
+  expect_field(std::string(s).replace(s.find("{\"Units\": \"ms\"}"), 15, "{\"Units\": 5}"), "");
+}
+
+// The screen from StimulusPresentation is checked by hand: nlohmann's
+// get<int> of a huge double is undefined behaviour.
+TEST(BidsReader, ScreenOutOfRangeNamesTheField) {
+  TempDir d;
+  write_eye(d, "eye1", "right");
+  std::string task = kTaskEvents;
+  d.write("task-read_events.json", task.replace(task.find("1024"), 4, "1e300"));
+  d.write("dataset_description.json", R"({"Name": "t", "BIDSVersion": "1.11.0"})");
+  const Protocol p = parse_protocol_file(d.write("gazemill.toml", protocol()));
+  try {
+    ingest_study(p, d.file("s.gzm.h5"), {});
+    FAIL() << "expected an InputError";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().file, d.file("task-read_events.json"));
+    EXPECT_EQ(e.where().field, "StimulusPresentation") << e.what();
+  }
+  EXPECT_FALSE(std::filesystem::exists(d.file("s.gzm.h5")));
 }

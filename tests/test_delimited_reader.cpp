@@ -4,6 +4,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <cstdlib>
 
 #include "io/delimited_reader.h"
 #include "pipeline/input_error.h"
@@ -211,4 +212,33 @@ TEST(DelimitedReaderErrors, CorruptGzip) {
   o.layout.left = EyeColumnNames{"x", "y", ""};
   NullSink sink;
   EXPECT_THROW(read_delimited(path, o, sink), InputError);
+}
+
+// Found by fuzzing: a number with more than 15 digits in a row of the quick
+// path was converted with a table index past its end before the row went to
+// the careful path. Its value is that of strtod narrowed to float (C library).
+TEST(DelimitedReader, LongDecimalsReadAsStrtodNarrowed) {
+  TempDir dir;
+  const std::string longest = "01.9999999999999999999";
+  const auto path = dir.write("long.tsv", "t\tx\ty\n1\t1.5\t2\n2\t" + longest + "\t3\n");
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  CollectingSink sink;
+  read_delimited(path, o, sink);
+  ASSERT_EQ(sink.samples.size(), 2u);
+  EXPECT_EQ(sink.samples.left.x_px[1], static_cast<float>(std::strtod(longest.c_str(), nullptr)));
+}
+
+// Seconds with 15 digits overflowed 64-bit microseconds.
+TEST(DelimitedReaderErrors, TimestampOutOfRange) {
+  TempDir dir;
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.time_unit = TimeUnit::seconds;
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(dir.write("s.tsv", "t\tx\ty\n1\t2\t3\n999999999999999\t2\t3\n"), o, 3, "t", "within 2^61 microseconds");
+  expect_error(dir.write("f.tsv", "t\tx\ty\n1e300\t2\t3\n"), o, 2, "t", "within 2^61 microseconds");
+  o.layout.time_unit = TimeUnit::milliseconds;
+  expect_error(dir.write("m.tsv", "t\tx\ty\n999999999999999999\t2\t3\n"), o, 2, "t", "within 2^61 microseconds");
 }

@@ -1,5 +1,8 @@
 #include <gtest/gtest.h>
 
+#include <stdexcept>
+#include <string>
+
 #include "pipeline/named_regex.h"
 
 using gazemill::NamedRegex;
@@ -34,4 +37,29 @@ TEST(NamedRegex, RejectsMalformedPatterns) {
   EXPECT_THROW(NamedRegex("(?<>x)"), std::invalid_argument);
   EXPECT_THROW(NamedRegex("(?<a x)"), std::invalid_argument);
   EXPECT_THROW(NamedRegex("(unclosed"), std::invalid_argument);
+}
+
+// std::regex (libstdc++) reads counts into an int without an overflow check;
+// a fuzzer found "\8888888888888888888" in a protocol pattern.
+TEST(NamedRegex, RejectsCountsAndPatternsTooLongToCompileSafely) {
+  EXPECT_THROW(NamedRegex(R"(\8888888888888888888)"), std::invalid_argument);
+  EXPECT_THROW(NamedRegex("a{99999999999}"), std::invalid_argument);
+  EXPECT_THROW(NamedRegex("a{1,99999}"), std::invalid_argument);
+  EXPECT_THROW(NamedRegex(std::string(1001, 'a')), std::invalid_argument);
+  EXPECT_NO_THROW(NamedRegex(R"(^T(?<trial>\d{1,4}) [a-z]{2,3}$)"));
+  EXPECT_NO_THROW(NamedRegex(R"(\\12345)"));  // an escaped backslash, then digits
+  EXPECT_NO_THROW(NamedRegex(std::string(1000, 'a')));
+}
+
+// The matcher recurses per character matched: with an 8 MiB stack a 26 000-
+// character message crashed a search for ".*". Long texts now match on a
+// stack sized for them; absurd ones are refused with a reason.
+TEST(NamedRegex, LongTextsMatchWithoutOverflowingTheStack) {
+  NamedRegex re(R"(^TRIAL (?<trial>\d+) (?<rest>.*)$)");
+  const std::string text = "TRIAL 7 " + std::string(60000, 'w');
+  const auto m = re.search(text);
+  ASSERT_TRUE(m.has_value());
+  EXPECT_EQ(m->at("trial"), "7");
+  EXPECT_EQ(m->at("rest").size(), 60000u);
+  EXPECT_THROW(re.search(std::string(20000000, 'w')), std::length_error);
 }

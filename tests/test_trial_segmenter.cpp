@@ -80,3 +80,18 @@ TEST(TrialSegmenter, DropPolicyCountsWhatItDrops) {
   EXPECT_EQ(repairs.at("unterminated_trial_dropped"), 2u);
   EXPECT_EQ(repairs.at("trial_end_without_start_dropped"), 1u);
 }
+
+TEST(TrialSegmenter, MessageTooLongToMatchNamesTheLine) {
+  TrialSegmenter seg(spec(), UnterminatedTrialPolicy::error);
+  RepairCounts repairs;
+  std::vector<Message> m = msgs({{1, "BEGIN 1"}, {2, "FINISH 1"}});
+  m.insert(m.begin() + 1, Message{1, std::string(20000000, 'x')});
+  try {
+    seg.segment(m, {10, 20, 30}, "m.tsv", repairs);
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().file, "m.tsv");
+    EXPECT_EQ(e.where().line, 20u);
+    EXPECT_NE(std::string(e.what()).find("too long"), std::string::npos) << e.what();
+  }
+}
