@@ -11,6 +11,12 @@
 namespace gazemill {
 namespace fs = std::filesystem;
 
+namespace {
+constexpr int kMaxRegionsPerItem = 10000;
+constexpr int kMaxLinesPerItem = 1000;
+constexpr int kMaxCount = 1000000;  // letters or words of one region
+}  // namespace
+
 RegionCatalogue read_region_boxes(const std::string& path, double char_width_px) {
   TsvTable t(path);
   std::map<std::pair<std::string, std::string>, RegionLayout> layouts;
@@ -21,10 +27,9 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px)
     L.item = item;
     L.condition = condition;
     L.char_width_px = char_width_px;
-    const int region = static_cast<int>(t.number(r, "region")) - 1;
-    const int line = static_cast<int>(t.number(r, "line")) - 1;
-    if (region < 0) throw InputError({path, t.line_of(r), "region"}, "regions are numbered from 1");
-    if (line < 0) throw InputError({path, t.line_of(r), "line"}, "lines are numbered from 1");
+    // Numbered from 1; the bounds keep a stray number from sizing a vector of billions.
+    const int region = t.whole(r, "region", 1, kMaxRegionsPerItem) - 1;
+    const int line = t.whole(r, "line", 1, kMaxLinesPerItem) - 1;
     RegionBox box{line, t.number(r, "left_px"), t.number(r, "top_px"), t.number(r, "right_px"), t.number(r, "bottom_px")};
     if (box.right_px <= box.left_px || box.bottom_px <= box.top_px) {
       throw InputError({path, t.line_of(r), "right_px"}, "a box needs right_px > left_px and bottom_px > top_px");
@@ -38,10 +43,10 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px)
       info.line = line;
       info.first_letter_left_px = box.left_px;
       if (t.has("letters")) {
-        info.letters = static_cast<int>(t.number(r, "letters"));
+        info.letters = t.whole(r, "letters", 0, kMaxCount);
         info.has_letters = true;
       }
-      if (t.has("words")) info.words = static_cast<int>(t.number(r, "words"));
+      if (t.has("words")) info.words = t.whole(r, "words", 0, kMaxCount);
     }
     info.boxes.push_back(box);
     if (static_cast<int>(L.lines.size()) <= line) L.lines.resize(static_cast<std::size_t>(line) + 1, {1e300, -1e300});

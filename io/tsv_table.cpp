@@ -1,6 +1,7 @@
 #include "io/tsv_table.h"
 
 #include <charconv>
+#include <cmath>
 #include <fstream>
 
 #include "pipeline/input_error.h"
@@ -54,10 +55,20 @@ double TsvTable::number(std::size_t row, const std::string& column) const {
   const std::string& s = text(row, column);
   double v = 0;
   const auto r = std::from_chars(s.data(), s.data() + s.size(), v);
-  if (s.empty() || r.ec != std::errc() || r.ptr != s.data() + s.size()) {
+  if (s.empty() || r.ec != std::errc() || r.ptr != s.data() + s.size() || !std::isfinite(v)) {
     throw InputError({path_, lines_[row], column}, "expected a number, found '" + s + "'");
   }
   return v;
+}
+
+int TsvTable::whole(std::size_t row, const std::string& column, int least, int most) const {
+  const double v = number(row, column);
+  // Checked before the cast: converting an out-of-range double to int is undefined (found by fuzzing).
+  if (v != std::floor(v) || v < least || v > most) {
+    throw InputError({path_, lines_[row], column}, "expected a whole number from " + std::to_string(least) + " to " +
+                                                       std::to_string(most) + ", found '" + text(row, column) + "'");
+  }
+  return static_cast<int>(v);
 }
 
 }  // namespace gazemill

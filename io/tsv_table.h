@@ -19,8 +19,11 @@ class TsvTable {
   /// Throws InputError naming the file and the missing column.
   const std::string& text(std::size_t row, const std::string& column) const;
   std::string text_or(std::size_t row, const std::string& column, const std::string& fallback) const;
-  /// Throws InputError naming file, line and column when the cell is not a number.
+  /// Throws InputError naming file, line and column when the cell is not a
+  /// finite number.
   double number(std::size_t row, const std::string& column) const;
+  /// The same for a whole number from `least` to `most`.
+  int whole(std::size_t row, const std::string& column, int least, int most) const;
   const std::string& path() const { return path_; }
   std::size_t line_of(std::size_t row) const { return lines_[row]; }
 

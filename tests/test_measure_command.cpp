@@ -147,6 +147,12 @@ TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
   expect(head + "1\t1\tThe\t100\t200\t150\t240\n", 2, "");
   expect(head + "1\t2\tdog\t150\t200\t190\t240\t1\n", 0, "region");  // region 1 missing
   expect("item\tlabel\n1\tThe\n", 1, "region");
+  // Found by fuzzing: a huge line number was cast to int unchecked; a huge
+  // region number would have sized a vector of billions.
+  expect(head + "1\t1\tThe\t100\t200\t150\t240\t91111111111111111111111111111\n", 2, "line");
+  expect(head + "1\t2000000000\tThe\t100\t200\t150\t240\t1\n", 2, "region");
+  expect(head + "1\t1.5\tThe\t100\t200\t150\t240\t1\n", 2, "region");
+  expect(head + "1\t1\tThe\tnan\t200\t150\t240\t1\n", 2, "left_px");
 }
 
 // A later stage may run from a protocol file in another folder; verify reads
