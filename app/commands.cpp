@@ -2,7 +2,9 @@
 
 #include <spdlog/spdlog.h>
 
+#include <charconv>
 #include <chrono>
+#include <cmath>
 #include <filesystem>
 #include <iostream>
 
@@ -22,6 +24,7 @@
 #include "pipeline/input_error.h"
 #include <fstream>
 #include <optional>
+#include <string_view>
 #include "sim/study_export.h"
 #include "sim/study_simulator.h"
 
@@ -35,13 +38,19 @@ std::string default_store_path(const Protocol& protocol, const std::string& prot
   return (fs::path(protocol_path).parent_path() / (name + ".gzm.h5")).string();
 }
 
-std::pair<double, double> parse_pair(const std::string& text, const std::string& option) {
+// Two positive finite numbers, the whole text read; `most` bounds each.
+std::pair<double, double> parse_pair(const std::string& text, const std::string& option, double most) {
   const auto x = text.find('x');
-  try {
-    if (x != std::string::npos) return {std::stod(text.substr(0, x)), std::stod(text.substr(x + 1))};
-  } catch (const std::exception&) {
+  const auto read = [&](std::string_view part, double& v) {
+    const auto r = std::from_chars(part.data(), part.data() + part.size(), v);
+    return !part.empty() && r.ec == std::errc() && r.ptr == part.data() + part.size() && v > 0 && v <= most;
+  };
+  double w = 0, h = 0;
+  if (x != std::string::npos && read(std::string_view(text).substr(0, x), w) && read(std::string_view(text).substr(x + 1), h)) {
+    return {w, h};
   }
-  throw InputError({"", 0, option}, "expected WIDTHxHEIGHT, e.g. 1920x1080; found \"" + text + "\"");
+  throw InputError({"", 0, option}, "expected WIDTHxHEIGHT, two positive numbers up to " + std::to_string(static_cast<long>(most)) +
+                                        ", e.g. 1920x1080; found \"" + text + "\"");
 }
 
 int run_score(const ScoreOptions& so) {
@@ -102,12 +111,18 @@ int run_score(const ScoreOptions& so) {
     f.codes = so.codes_file.empty() ? parse_label_codes(so.codes) : read_label_codes_file(so.codes_file);
     if (protocol && protocol->screen) f.screen = *protocol->screen;
     if (!so.screen_px.empty()) {
-      const auto [w, h] = parse_pair(so.screen_px, "--screen-px");
+      const auto [w, h] = parse_pair(so.screen_px, "--screen-px", 100000);
+      if (w != std::floor(w) || h != std::floor(h)) throw InputError({"", 0, "--screen-px"}, "expected whole pixels, e.g. 1920x1080");
       f.screen.width_px = static_cast<int>(w);
       f.screen.height_px = static_cast<int>(h);
     }
-    if (!so.screen_mm.empty()) std::tie(f.screen.width_mm, f.screen.height_mm) = parse_pair(so.screen_mm, "--screen-mm");
-    if (so.distance_mm > 0) f.screen.viewing_distance_mm = so.distance_mm;
+    if (!so.screen_mm.empty()) std::tie(f.screen.width_mm, f.screen.height_mm) = parse_pair(so.screen_mm, "--screen-mm", 100000);
+    if (so.distance_mm != 0) {  // given
+      if (!(so.distance_mm > 0) || !std::isfinite(so.distance_mm)) {
+        throw InputError({"", 0, "--distance-mm"}, "expected a positive number of millimetres");
+      }
+      f.screen.viewing_distance_mm = so.distance_mm;
+    }
     if (f.screen.width_px <= 0 || f.screen.width_mm <= 0 || f.screen.viewing_distance_mm <= 0) {
       throw InputError({"", 0, "--screen-px/--screen-mm/--distance-mm"},
                        "the screen geometry is needed to work in degrees: give it, or a --protocol with [screen]");

@@ -1,12 +1,13 @@
 #include "app/protocol_parser.h"
 
+#include <cmath>
 #include <fstream>
+#include <set>
 #include <sstream>
 
 #include "app/toml_section.h"
 #include "detectors/detector_registry.h"
 #include "filters/cleaning_rule.h"
-#include <set>
 #include "pipeline/input_error.h"
 #include "pipeline/named_regex.h"
 
@@ -28,9 +29,12 @@ void check_regex(TomlSection& s, const std::string& key, const std::string& patt
   }
 }
 
+constexpr std::int64_t kMostScreenPx = 100000;
+
 double positive(TomlSection& s, const std::string& key) {
   const double v = s.required_number(key);
-  if (!(v > 0)) s.fail(key, "expected a positive number, found " + std::to_string(v));
+  // TOML has inf and nan; neither is a size.
+  if (!(v > 0) || !std::isfinite(v)) s.fail(key, "expected a positive number, found " + std::to_string(v));
   return v;
 }
 
@@ -124,8 +128,9 @@ void parse_screen(TomlSection& s, Protocol& p) {
   ScreenGeometry g;
   const auto w = s.required_integer("width_px");
   const auto h = s.required_integer("height_px");
-  if (w <= 0) s.fail("width_px", "expected a positive number of pixels");
-  if (h <= 0) s.fail("height_px", "expected a positive number of pixels");
+  // Bounded so that the cast to int keeps the value.
+  if (w <= 0 || w > kMostScreenPx) s.fail("width_px", "expected a positive number of pixels, at most " + std::to_string(kMostScreenPx));
+  if (h <= 0 || h > kMostScreenPx) s.fail("height_px", "expected a positive number of pixels, at most " + std::to_string(kMostScreenPx));
   g.width_px = static_cast<int>(w);
   g.height_px = static_cast<int>(h);
   g.width_mm = positive(s, "width_mm");
@@ -220,7 +225,7 @@ void parse_regions(TomlSection& r, Protocol& p) {
   auto positive_or = [&](const std::string& key, double fallback) {
     auto v = r.number(key);
     if (!v) return fallback;
-    if (!(*v > 0)) r.fail(key, "expected a positive number");
+    if (!(*v > 0) || !std::isfinite(*v)) r.fail(key, "expected a positive number");
     return *v;
   };
   L.char_width_px = positive_or("char_width_px", 0);
@@ -228,14 +233,14 @@ void parse_regions(TomlSection& r, Protocol& p) {
   if (auto v = r.number("left_margin_px")) L.left_margin_px = *v;
   if (auto v = r.number("first_line_top_px")) L.first_line_top_px = *v;
   if (auto v = r.integer("wrap_width_chars")) {
-    if (*v < 1) r.fail("wrap_width_chars", "expected a positive number of characters");
+    if (*v < 1 || *v > 100000) r.fail("wrap_width_chars", "expected a positive number of characters, at most 100000");
     L.wrap_width_chars = static_cast<int>(*v);
   }
   if (auto adv = r.table("advances")) {
     for (const auto& key : adv->keys()) {
       if (key.size() != 1) adv->fail(key, "advances are given per character: one character per key, e.g. \"i\" = 5.5");
       const auto v = adv->number(key);
-      if (!(*v > 0)) adv->fail(key, "expected a positive advance in px");
+      if (!(*v > 0) || !std::isfinite(*v)) adv->fail(key, "expected a positive advance in px");
       L.advance_px[key[0]] = *v;
     }
   }

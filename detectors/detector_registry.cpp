@@ -1,5 +1,6 @@
 #include "detectors/detector_registry.h"
 
+#include <cmath>
 #include <functional>
 #include <map>
 #include <stdexcept>
@@ -13,13 +14,17 @@ namespace gazemill {
 namespace {
 
 // Binds parameter names to fields, then applies the protocol's values.
+// Every value must be finite, and sizes are bounded: a filter of 10^18 ms or
+// an order of 10^300 is a typing slip, and casting it to int is undefined.
 class Binder {
  public:
   Binder& positive(const std::string& name, double& field) { return add(name, field, true); }
   Binder& non_negative(const std::string& name, double& field) { return add(name, field, false); }
   Binder& whole(const std::string& name, int& field) {
     setters_[name] = [&field, name](double v) {
-      if (v < 1 || v != static_cast<int>(v)) throw std::invalid_argument("parameter " + name + " must be a whole number >= 1");
+      if (!(v >= 1 && v <= kMostWhole) || v != std::floor(v)) {
+        throw std::invalid_argument("parameter " + name + " must be a whole number from 1 to " + std::to_string(kMostWhole));
+      }
       field = static_cast<int>(v);
     };
     return *this;
@@ -37,9 +42,21 @@ class Binder {
   }
 
  private:
+  static constexpr int kMostWhole = 100;            // sample counts and filter orders
+  static constexpr double kMostWindowMs = 1000.0;   // filters and noise windows
+  static constexpr double kMostDurationMs = 60000.0;
+
   Binder& add(const std::string& name, double& field, bool strictly) {
     setters_[name] = [&field, name, strictly](double v) {
-      if (strictly ? !(v > 0) : !(v >= 0)) throw std::invalid_argument("parameter " + name + " must be " + (strictly ? "positive" : "zero or more"));
+      if (!std::isfinite(v) || (strictly ? !(v > 0) : !(v >= 0))) {
+        throw std::invalid_argument("parameter " + name + " must be a finite number " + (strictly ? "above zero" : "of zero or more"));
+      }
+      const bool window = name.find("window_ms") != std::string::npos;
+      const bool duration = name.size() > 3 && name.compare(name.size() - 3, 3, "_ms") == 0;
+      if ((window && v > kMostWindowMs) || (duration && v > kMostDurationMs)) {
+        throw std::invalid_argument("parameter " + name + " must be at most " +
+                                    std::to_string(static_cast<int>(window ? kMostWindowMs : kMostDurationMs)) + " ms");
+      }
       field = v;
     };
     return *this;

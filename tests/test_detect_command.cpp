@@ -87,7 +87,12 @@ TEST(DetectCommand, BadDetectionSettingsNameTheKey) {
   expect_error("[detection]\nmethod='hmm'\n", "detection.method", "unknown detection method hmm");
   expect_error("[detection]\nmethod='idt'\n[detection.parameters]\nlambda=5\n", "detection.parameters",
                "method idt has no parameter lambda; it has: dispersion_threshold_deg, min_duration_ms, smoothing_window_ms");
-  expect_error("[detection]\n[detection.parameters]\nvelocity_threshold_deg_s=-3\n", "detection.parameters", "must be positive");
+  expect_error("[detection]\n[detection.parameters]\nvelocity_threshold_deg_s=-3\n", "detection.parameters", "above zero");
+  // TOML allows inf; and a huge order or window once reached an unchecked cast to int.
+  expect_error("[detection]\n[detection.parameters]\nvelocity_threshold_deg_s=inf\n", "detection.parameters", "finite");
+  expect_error("[detection]\n[detection.parameters]\nsg_order=1e300\n", "detection.parameters", "from 1 to 100");
+  expect_error("[detection]\nmethod='engbert_kliegl'\n[detection.parameters]\nvelocity_window_ms=1e18\n", "detection.parameters",
+               "at most 1000 ms");
   expect_error("[detection]\neye='both'\n", "detection.eye", "expected \"left\", \"right\", \"best\" or \"average\"");
   expect_error("[detection]\n[detection.blinks]\nmin_ms=300\nmax_ms=100\n", "detection.blinks.max_ms", "must not be below");
   expect_error("[detection]\n[detection.events]\nmin_fixation=40\n", "detection.events.min_fixation", "unknown key");

@@ -95,6 +95,10 @@ TEST(ProtocolParser, WrongTypesAndValues) {
   expect_error_at(replace(kProtocol, "width_px = 1280", "width_px = \"1280\""), 25, "screen.width_px", "expected a whole number");
   expect_error_at(replace(kProtocol, "viewing_distance_mm = 650", "viewing_distance_mm = -650"), 29,
                   "screen.viewing_distance_mm", "expected a positive number");
+  // TOML allows inf; an unbounded width once reached an int unchecked.
+  expect_error_at(replace(kProtocol, "viewing_distance_mm = 650", "viewing_distance_mm = inf"), 29,
+                  "screen.viewing_distance_mm", "expected a positive number");
+  expect_error_at(replace(kProtocol, "width_px = 1280", "width_px = 8589934592"), 25, "screen.width_px", "at most 100000");
   expect_error_at(replace(kProtocol, "time_unit = \"us\"", "time_unit = \"minutes\""), 13, "input.table.time_unit",
                   "expected \"s\", \"ms\", \"us\" or \"ns\"");
   expect_error_at(replace(kProtocol, "start = '^GO (?<trial>\\d+)'", "start = '^GO (?<trial\\d+)'"), 32, "trials.start",

@@ -74,6 +74,19 @@ end = '^E$'
     check(f"{data}:3:" in r.stderr and "expected 3" in r.stderr, "bad data names file and line", r)
     check(set(os.listdir(tmp)) == before, "a failed ingest leaves nothing behind", r)
 
+    # score's screen options: two positive numbers, whole for pixels; a huge
+    # or negative value once reached an int unchecked.
+    labelled = os.path.join(tmp, "labelled.tsv")
+    with open(labelled, "w") as f:
+        f.write("time\tx\ty\tlabel\n1\t2\t3\t1\n2\t2\t3\t1\n")
+    for px in ["1e300x5", "-5x5", "1920x1080abc", "1920.5x1080"]:
+        r = run("score", "--labelled", labelled, "--codes", "1=fixation", "--screen-px", px,
+                "--screen-mm", "500x300", "--distance-mm", "600")
+        check(r.returncode == 1 and "'--screen-px'" in r.stderr, f"score --screen-px {px} exits 1 naming the option", r)
+    r = run("score", "--labelled", labelled, "--codes", "1=fixation", "--screen-px", "1920x1080",
+            "--screen-mm", "500x300", "--distance-mm", "inf")
+    check(r.returncode == 1 and "'--distance-mm'" in r.stderr, "score --distance-mm inf exits 1 naming the option", r)
+
     r = run("inspect", os.path.join(tmp, "nothing.h5"))
     check(r.returncode == 1 and "no such file" in r.stderr, "inspect of a missing store exits 1", r)
     r = run("inspect", data)
