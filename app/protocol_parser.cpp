@@ -174,9 +174,11 @@ void parse_detection(TomlSection& d, Protocol& p) {
     else if (*e == "average") spec.eye = EyeChoice::average;
     else d.fail("eye", "expected \"left\", \"right\", \"best\" or \"average\", found \"" + *e + "\"");
   }
+  // Durations (ms), speeds (deg/s) and distances (deg): finite (TOML has
+  // inf) and bounded, so that a duration's microseconds fit any integer.
   auto non_negative = [&](TomlSection& s, const std::string& key, double& field) {
     if (auto v = s.number(key)) {
-      if (!(*v >= 0)) s.fail(key, "expected zero or a positive number, found " + std::to_string(*v));
+      if (!(*v >= 0 && *v <= 60000)) s.fail(key, "expected a number from 0 to 60000, found " + std::to_string(*v));
       field = *v;
     }
   };

@@ -96,6 +96,7 @@ TEST(DetectCommand, BadDetectionSettingsNameTheKey) {
   expect_error("[detection]\neye='both'\n", "detection.eye", "expected \"left\", \"right\", \"best\" or \"average\"");
   expect_error("[detection]\n[detection.blinks]\nmin_ms=300\nmax_ms=100\n", "detection.blinks.max_ms", "must not be below");
   expect_error("[detection]\n[detection.events]\nmin_fixation=40\n", "detection.events.min_fixation", "unknown key");
+  expect_error("[detection]\n[detection.blinks]\npadding_after_ms=inf\n", "detection.blinks.padding_after_ms", "from 0 to 60000");
 }
 
 TEST(ScoreCommand, LabelledFileAgreesWithDirectScoring) {
