@@ -48,6 +48,17 @@ std::size_t ByteSource::read(char* buffer, std::size_t capacity) {
       const char* msg = gzerror(static_cast<gzFile>(gz_), &code);
       throw InputError({path_, 0, ""}, std::string("gzip data is corrupt: ") + (msg ? msg : "unknown error"));
     }
+    if (static_cast<std::size_t>(n) < capacity) {
+      // The end of the data. zlib returns what it has when the file ends in
+      // the middle of a stream and reports Z_BUF_ERROR only through gzerror;
+      // unchecked, a file cut by an interrupted copy read as a shorter one.
+      int code = Z_OK;
+      gzerror(static_cast<gzFile>(gz_), &code);
+      if (code == Z_BUF_ERROR) {
+        throw InputError({path_, 0, ""}, "the gzip data ends in the middle of its stream: the file is truncated "
+                                         "(an interrupted copy or download?)");
+      }
+    }
     return static_cast<std::size_t>(n);
   }
   for (;;) {
