@@ -1,7 +1,7 @@
 // Coverage-guided fuzzing of the BIDS physio sidecar reader (libFuzzer,
 // clang only; built by scripts/fuzz). Any JSON text must give a sidecar or an
 // InputError; a crash, a sanitizer report or any other exception is a bug.
-// Seeds are the fixtures' sidecars.
+// Seeds are in tests/fuzz/seeds/bids.
 
 #include <unistd.h>
 

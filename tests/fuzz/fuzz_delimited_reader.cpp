@@ -9,7 +9,7 @@
 //
 // The first input byte chooses the layout (delimiter, one or two eyes, time
 // unit, numeric missing token, zero gaze rule, header or none); the rest is
-// the file. Seeds are the fixtures' small exports.
+// the file. Seeds are in tests/fuzz/seeds/reader.
 
 #include <unistd.h>
 

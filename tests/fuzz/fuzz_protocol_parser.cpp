@@ -1,8 +1,7 @@
 // Coverage-guided fuzzing of the protocol parser (libFuzzer, clang only;
-// built by scripts/fuzz). Any text must give a protocol or an InputError that
-// names the file; a crash, a sanitizer report or any other exception is a
-// bug. (Protocol files that name other files, such as region tables, are
-// read as text too; those errors name the file read.) Seeds are the fixtures' protocol files.
+// built by scripts/fuzz). Any text must give a protocol or an InputError; a
+// crash, a sanitizer report or any other exception is a bug. The parser
+// reads no other file. The seed is the demo study's protocol.
 
 #include <cstdint>
 #include <string>

@@ -2,7 +2,8 @@
 // built by scripts/fuzz). The first byte chooses a boxes file or an items
 // file laid out with default font metrics; the rest is the file. Any input
 // must give regions or an InputError; a crash, a sanitizer report or any
-// other exception is a bug. Seeds are the demo study's region files.
+// other exception is a bug. Seeds (tests/fuzz/seeds/regions) are the first
+// rows of the demo study's region files.
 
 #include <unistd.h>
 
