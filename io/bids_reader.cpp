@@ -74,8 +74,8 @@ std::optional<ScreenGeometry> read_screen(const std::string& path) {
   // Checked by hand, not by get<int>: that of a huge double is undefined.
   const auto bad = [&] {
     return InputError({path, 0, "StimulusPresentation"},
-                      "expected ScreenDistance (m), ScreenResolution [w, h] (px) and ScreenSize [w, h] (m) as positive "
-                      "numbers, found " + sp.dump());
+                      "expected ScreenDistance (m), ScreenResolution [w, h] (whole px) and ScreenSize [w, h] (m) as "
+                      "positive numbers, found " + sp.dump());
   };
   const auto positive = [&](const json& v, double most) {
     if (!v.is_number() || !(v.get<double>() > 0.0 && v.get<double>() <= most)) throw bad();
@@ -88,8 +88,13 @@ std::optional<ScreenGeometry> read_screen(const std::string& path) {
   };
   ScreenGeometry g;
   g.viewing_distance_mm = positive(sp.at("ScreenDistance"), 1e3) * 1000.0;
-  g.width_px = static_cast<int>(positive(pair("ScreenResolution")[0], 1e6));
-  g.height_px = static_cast<int>(positive(pair("ScreenResolution")[1], 1e6));
+  const auto pixels = [&](const json& v) {
+    const double n = positive(v, 1e6);
+    if (n != std::floor(n)) throw bad();
+    return static_cast<int>(n);
+  };
+  g.width_px = pixels(pair("ScreenResolution")[0]);
+  g.height_px = pixels(pair("ScreenResolution")[1]);
   g.width_mm = positive(pair("ScreenSize")[0], 1e3) * 1000.0;
   g.height_mm = positive(pair("ScreenSize")[1], 1e3) * 1000.0;
   return g;

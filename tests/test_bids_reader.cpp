@@ -163,4 +163,7 @@ TEST(BidsReader, ScreenOutOfRangeNamesTheField) {
     EXPECT_EQ(e.where().field, "StimulusPresentation") << e.what();
   }
   EXPECT_FALSE(std::filesystem::exists(d.file("s.gzm.h5")));
+  task = kTaskEvents;
+  d.write("task-read_events.json", task.replace(task.find("1024"), 4, "1024.5"));
+  EXPECT_THROW(ingest_study(p, d.file("s.gzm.h5"), {}), InputError);
 }
