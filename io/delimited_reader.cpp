@@ -211,6 +211,7 @@ class RowParser {
       ++p;
     }
     if (count != expected) {
+      if (line.find('\0') != std::string_view::npos) damaged(line_no, "");
       throw InputError({path_, line_no, ""}, "expected " + std::to_string(expected) + " " + describe(layout_.delimiter) +
                                                  "-separated fields as in the header, found " + std::to_string(count));
     }
@@ -220,6 +221,8 @@ class RowParser {
     if (is_missing(message)) message = {};  // e.g. BIDS writes n/a where a row has no message
     const Microseconds t = parse_time(line_no);
     if (!message.empty()) {
+      // The store keeps C strings: a NUL would cut the message short unseen.
+      if (message.find('\0') != std::string_view::npos) damaged(line_no, names_[message_]);
       result_.messages.push_back({t, std::string(message)});
       result_.message_lines.push_back(line_no);
       // A row with a message and no gaze values at all is a message row, not a sample.
@@ -502,7 +505,13 @@ class RowParser {
     return true;
   }
 
+  [[noreturn]] void damaged(std::size_t line_no, const std::string& field) const {
+    throw InputError({path_, line_no, field}, "found NUL bytes (\\0), which no text export writes: the file is damaged "
+                                              "(an interrupted write can leave blocks of zeros)");
+  }
+
   [[noreturn]] void not_a_number(std::size_t line_no, std::size_t column, std::string_view f) const {
+    if (f.find('\0') != std::string_view::npos) damaged(line_no, names_[column]);
     throw InputError({path_, line_no, names_[column]}, "expected a number, found '" + std::string(f) + "'");
   }
 

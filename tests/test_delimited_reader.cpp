@@ -274,3 +274,25 @@ TEST(DelimitedReaderErrors, TruncatedGzip) {
     }
   }
 }
+
+// The store keeps messages as C strings, so a NUL byte cut a message short
+// without a word ("S 1 a\0b" was stored as "S 1 a"). No text export writes
+// NUL bytes; an interrupted write can leave blocks of zeros (common practice,
+// no source). Wherever they are, the error says the file is damaged.
+TEST(DelimitedReaderErrors, NulBytesMeanADamagedFile) {
+  TempDir dir;
+  const std::string head = "t\tx\ty\tmsg\n1\t1\t2\t\n";
+  auto expect_damaged = [&](const std::string& name, const std::string& rest, std::size_t line, const std::string& field) {
+    for (const bool mapped : {true, false}) {
+      DelimitedReadOptions o;
+      o.layout.time_column = "t";
+      o.layout.message_column = "msg";
+      o.layout.left = EyeColumnNames{"x", "y", ""};
+      o.map_plain_files = mapped;
+      expect_error(dir.write(name, head + rest), o, line, field, "NUL bytes");
+    }
+  };
+  expect_damaged("message.tsv", std::string("2\t\t\tS 1 a\0b\n", 12), 3, "msg");
+  expect_damaged("number.tsv", std::string("2\t1\0\t2\t\n", 8), 3, "x");
+  expect_damaged("zeros.tsv", "2\t1\t2\t\n" + std::string(300, '\0'), 4, "");
+}
