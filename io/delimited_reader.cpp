@@ -622,6 +622,9 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
 
   auto handle_line = [&](std::string_view line) {
     ++line_no;
+    // A byte-order mark, which some Windows tools put before UTF-8 text, is
+    // no part of the first column's name (common practice, no source).
+    if (line_no == 1 && line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
     if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
     if (line.empty()) return;
     if (!comment.empty() && line.substr(0, comment.size()) == comment) return;

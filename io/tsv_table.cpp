@@ -24,6 +24,7 @@ TsvTable::TsvTable(const std::string& path) : path_(path) {
   };
   while (std::getline(in, line)) {
     ++n;
+    if (n == 1 && line.rfind("\xEF\xBB\xBF", 0) == 0) line.erase(0, 3);  // a byte-order mark, as the delimited reader
     if (line.empty() || line[0] == '#') continue;
     auto fields = split(line);
     if (header.empty()) {

@@ -296,3 +296,21 @@ TEST(DelimitedReaderErrors, NulBytesMeanADamagedFile) {
   expect_damaged("number.tsv", std::string("2\t1\0\t2\t\n", 8), 3, "x");
   expect_damaged("zeros.tsv", "2\t1\t2\t\n" + std::string(300, '\0'), 4, "");
 }
+
+// Some Windows tools begin UTF-8 text with a byte-order mark; it made the
+// first column's name differ from the protocol's, with an error listing a name
+// that looked the same (common practice, no source).
+TEST(DelimitedReader, ByteOrderMarkIsNoPartOfTheHeader) {
+  TempDir dir;
+  for (const bool header : {true, false}) {
+    DelimitedReadOptions o;
+    o.layout.time_column = "t";
+    o.layout.left = EyeColumnNames{"x", "y", ""};
+    if (!header) o.column_names = {"t", "x", "y"};
+    const std::string rows = "1\t2.5\t3\n2\t2.5\t3\n";
+    CollectingSink sink;
+    const auto r = read_delimited(dir.write("bom.tsv", "\xEF\xBB\xBF" + (header ? "t\tx\ty\n" + rows : rows)), o, sink);
+    EXPECT_EQ(r.samples, 2u);
+    EXPECT_EQ(sink.samples.time_us.front(), 1000);
+  }
+}

@@ -153,6 +153,8 @@ TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
   expect(head + "1\t2000000000\tThe\t100\t200\t150\t240\t1\n", 2, "region");
   expect(head + "1\t1.5\tThe\t100\t200\t150\t240\t1\n", 2, "region");
   expect(head + "1\t1\tThe\tnan\t200\t150\t240\t1\n", 2, "left_px");
+  // A byte-order mark before the header is no part of the first column's name.
+  EXPECT_EQ(read_region_boxes(d.write("bom.tsv", "\xEF\xBB\xBF" + head + "1\t1\tThe\t100\t200\t150\t240\t1\n"), 12).size(), 1u);
 }
 
 // A later stage may run from a protocol file in another folder; verify reads
