@@ -3,6 +3,7 @@
 #include <fast_float/fast_float.h>
 
 #include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <cstring>
 #include <limits>
@@ -512,7 +513,14 @@ class RowParser {
 
   [[noreturn]] void not_a_number(std::size_t line_no, std::size_t column, std::string_view f) const {
     if (f.find('\0') != std::string_view::npos) damaged(line_no, names_[column]);
-    throw InputError({path_, line_no, names_[column]}, "expected a number, found '" + std::string(f) + "'");
+    // Exports written under a European locale use decimal commas.
+    const auto comma = f.find(',');
+    const bool decimal_comma = comma != std::string_view::npos && comma > 0 && comma + 1 < f.size() &&
+                               std::isdigit(static_cast<unsigned char>(f[comma - 1])) &&
+                               std::isdigit(static_cast<unsigned char>(f[comma + 1]));
+    throw InputError({path_, line_no, names_[column]},
+                     "expected a number, found '" + std::string(f) + "'" +
+                         (decimal_comma ? " (a decimal comma? numbers need a decimal point; re-export with one)" : ""));
   }
 
   Microseconds parse_time(std::size_t line_no) const {

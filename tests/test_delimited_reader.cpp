@@ -143,6 +143,17 @@ TEST(DelimitedReaderErrors, NonNumericField) {
   expect_error(path, o, 3, "x", "expected a number, found '4x'");
 }
 
+// Exports written under a European locale have decimal commas; the error
+// says so (common practice, no source).
+TEST(DelimitedReaderErrors, DecimalCommaIsNamed) {
+  TempDir dir;
+  DelimitedReadOptions o;
+  o.layout.delimiter = ';';
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(dir.write("comma.csv", "t;x;y\n1;512,25;300\n"), o, 2, "x", "a decimal comma?");
+}
+
 TEST(DelimitedReaderErrors, WrongFieldCount) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n2\t4\n");
