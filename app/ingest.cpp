@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <chrono>
+#include <cstdio>
 #include <cstring>
 #include <ctime>
 #include <filesystem>
@@ -24,6 +25,17 @@ namespace gazemill {
 namespace fs = std::filesystem;
 
 namespace {
+
+// The sampling rates of eye trackers, generously: webcams to the fastest
+// research systems (common practice, no source).
+constexpr double kLeastRateHz = 10.0;
+constexpr double kMostRateHz = 10000.0;
+
+std::string format_number(double v) {
+  char text[32];
+  std::snprintf(text, sizeof text, "%.6g", v);
+  return text;
+}
 
 struct Identity {
   std::string participant;
@@ -249,6 +261,21 @@ IngestReport ingest_study(const Protocol& protocol, const std::string& store_pat
                                                                 protocol.trials.start_pattern + "\"");
     }
 
+    // Timestamps read in the wrong unit give a rate no tracker has (1 Hz from
+    // microseconds read as milliseconds); they would pass unseen to every
+    // duration downstream.
+    if (result.median_interval_us > 0) {
+      const double implied_hz = 1e6 / result.median_interval_us;
+      if (implied_hz < kLeastRateHz || implied_hz > kMostRateHz) {
+        const bool bids_input = protocol.input.format == InputFormat::bids;
+        const std::string unit = bids_input ? to_string(bids[k].eyes.front().sidecar.timestamp_unit) : to_string(protocol.input.table.time_unit);
+        throw InputError({bids_input ? bids[k].eyes.front().physio_json : file, 0, bids_input ? "timestamp.Units" : "input.table.time_unit"},
+                         "the samples are a median " + format_number(result.median_interval_us / 1000.0) + " ms apart with times read in " +
+                             unit + ", which is " + format_number(implied_hz) + " Hz; eye trackers sample at " +
+                             format_number(kLeastRateHz) + " to " + format_number(kMostRateHz) + " Hz. Is " + unit +
+                             " the unit of the time column?");
+      }
+    }
     if (protocol.input.sample_rate_hz > 0) rec.sample_rate_hz = protocol.input.sample_rate_hz;
     else if (rec.sample_rate_hz <= 0 && result.median_interval_us > 0) rec.sample_rate_hz = 1e6 / result.median_interval_us;
 

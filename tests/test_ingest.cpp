@@ -163,6 +163,27 @@ TEST(IngestErrors, BadFieldLeavesNoStore) {
   expect_no_store(d);
 }
 
+// Times read in the wrong unit give a rate no eye tracker has; unchecked,
+// every duration downstream would be off a thousandfold. Trackers sample at
+// about 30 to 2000 Hz (common practice, no source); the bounds are 10 to
+// 10 000 Hz.
+TEST(IngestErrors, TimestampsInTheWrongUnit) {
+  TempDir d;
+  for (const char* unit : {"s", "us"}) {  // the 1 ms steps of the samples read as 1 s, or as 1 us
+    std::string text = kProtocol;
+    text.replace(text.find("time_unit = \"ms\""), 16, std::string("time_unit = \"") + unit + "\"");
+    const Protocol p = write_study(d, text);
+    try {
+      ingest_study(p, d.file("tiny.gzm.h5"), {});
+      FAIL() << unit;
+    } catch (const InputError& e) {
+      EXPECT_EQ(e.where().field, "input.table.time_unit") << e.what();
+      EXPECT_NE(std::string(e.what()).find("Is " + std::string(unit) + " the unit of the time column?"), std::string::npos) << e.what();
+    }
+    expect_no_store(d);
+  }
+}
+
 TEST(IngestErrors, ProtocolNamesAColumnTheFileLacks) {
   TempDir d;
   std::string text = kProtocol;
