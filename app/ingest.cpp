@@ -9,6 +9,7 @@
 #include <ctime>
 #include <filesystem>
 #include <future>
+#include <map>
 #include <set>
 
 #include <spdlog/spdlog.h>
@@ -168,6 +169,7 @@ IngestReport ingest_study(const Protocol& protocol, const std::string& store_pat
     for (const auto& b : bids) primary.push_back(b.eyes.front().physio_tsv);
   }
 
+  std::map<std::string, std::string> file_of_id;  // to name both files when two give one id
   for (std::size_t k = 0; k < primary.size(); ++k) {
     const std::string& file = primary[k];
     const Identity who = identify(protocol, file);
@@ -175,6 +177,11 @@ IngestReport ingest_study(const Protocol& protocol, const std::string& store_pat
     rec.participant = who.participant;
     rec.session = who.session;
     rec.id = sanitize_id(who.session.empty() ? who.participant : who.participant + "_" + who.session);
+    if (const auto [it, fresh] = file_of_id.emplace(rec.id, file); !fresh) {
+      throw InputError({protocol.path, 0, "input.filename_pattern"},
+                       "the files " + it->second + " and " + file + " both give recording '" + rec.id +
+                           "' (participant and session); the pattern must tell them apart");
+    }
     rec.source_file = file;
     spdlog::debug("reading {} as recording {}", file, rec.id);
 

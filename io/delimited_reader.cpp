@@ -147,6 +147,10 @@ class RowParser {
     auto find = [&](const std::string& name, const std::string& key) -> std::size_t {
       if (name.empty()) return kNoColumn;
       auto it = std::find(names_.begin(), names_.end(), name);
+      if (it != names_.end() && std::find(it + 1, names_.end(), name) != names_.end()) {
+        throw InputError({path_, line, name}, "column named by protocol key " + opt_.layout_key + "." + key +
+                                                  " appears more than once in the header; which one is meant?");
+      }
       if (it == names_.end()) {
         std::string have;
         for (const auto& n : names_) have += (have.empty() ? "" : ", ") + n;

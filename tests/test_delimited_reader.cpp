@@ -154,6 +154,15 @@ TEST(DelimitedReaderErrors, DecimalCommaIsNamed) {
   expect_error(dir.write("comma.csv", "t;x;y\n1;512,25;300\n"), o, 2, "x", "a decimal comma?");
 }
 
+// Two columns of the same name: reading the first would be a guess.
+TEST(DelimitedReaderErrors, ColumnNamedTwice) {
+  TempDir dir;
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  expect_error(dir.write("twice.tsv", "t\tx\ty\tx\n1\t2\t3\t4\n"), o, 1, "x", "appears more than once");
+}
+
 TEST(DelimitedReaderErrors, WrongFieldCount) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n2\t4\n");

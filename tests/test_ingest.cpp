@@ -184,6 +184,25 @@ TEST(IngestErrors, TimestampsInTheWrongUnit) {
   }
 }
 
+// A pattern that drops the session gives two files one recording id.
+TEST(IngestErrors, TwoFilesGiveOneRecording) {
+  TempDir d;
+  std::string text = kProtocol;
+  text.replace(text.find("filename_pattern"), text.find('\n', text.find("filename_pattern")) - text.find("filename_pattern"),
+               "filename_pattern = '(?<participant>r\\d+)'");
+  d.write("raw/r01-b.tsv", samples(1, 100));
+  const Protocol p = write_study(d, text);
+  try {
+    ingest_study(p, d.file("tiny.gzm.h5"), {});
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().field, "input.filename_pattern");
+    EXPECT_NE(std::string(e.what()).find("r01-a.tsv and "), std::string::npos) << e.what();
+    EXPECT_NE(std::string(e.what()).find("r01-b.tsv both give recording 'r01'"), std::string::npos) << e.what();
+  }
+  expect_no_store(d);
+}
+
 TEST(IngestErrors, ProtocolNamesAColumnTheFileLacks) {
   TempDir d;
   std::string text = kProtocol;
