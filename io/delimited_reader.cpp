@@ -637,6 +637,11 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
     // A byte-order mark, which some Windows tools put before UTF-8 text, is
     // no part of the first column's name (common practice, no source).
     if (line_no == 1 && line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
+    // "Unicode text" from some Windows tools is UTF-16: every other byte a
+    // NUL, which would otherwise surface as a header that matches nothing.
+    if (line_no == 1 && (line.substr(0, 2) == "\xFF\xFE" || line.substr(0, 2) == "\xFE\xFF")) {
+      throw InputError({path, 1, ""}, "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); save or export it as UTF-8");
+    }
     if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
     if (line.empty()) return;
     if (!comment.empty() && line.substr(0, comment.size()) == comment) return;

@@ -163,6 +163,18 @@ TEST(DelimitedReaderErrors, ColumnNamedTwice) {
   expect_error(dir.write("twice.tsv", "t\tx\ty\tx\n1\t2\t3\t4\n"), o, 1, "x", "appears more than once");
 }
 
+// "Unicode text" exports of some Windows tools are UTF-16 (common practice,
+// no source).
+TEST(DelimitedReaderErrors, Utf16TextIsNamed) {
+  TempDir dir;
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  std::string utf16 = "\xFF\xFE";
+  for (const char c : std::string("t\tx\ty\n1\t2\t3\n")) utf16 += std::string{c, '\0'};
+  expect_error(dir.write("utf16.tsv", utf16), o, 1, "", "UTF-16");
+}
+
 TEST(DelimitedReaderErrors, WrongFieldCount) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n2\t4\n");
