@@ -29,6 +29,14 @@ DelimitedReadOptions binocular_options() {
   return o;
 }
 
+// Time in "t" (ms), one eye's gaze in "x" and "y": the layout of most small cases here.
+DelimitedReadOptions gaze_options() {
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.left = EyeColumnNames{"x", "y", ""};
+  return o;
+}
+
 const char* kGood =
     "# exported by a tracker\n"
     "t\tlx\tly\tlp\trx\try\tmsg\n"
@@ -101,9 +109,7 @@ TEST(DelimitedReader, GzipCsvCrlfAndTimeUnits) {
 TEST(DelimitedReader, ZeroGazeAndCustomMissingTokens) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n0\t0\t0\n1\t-1\t-1\n2\t3\t4\n");
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   o.layout.zero_gaze_is_missing = true;
   o.layout.missing_values = {"", "-1"};
   CollectingSink sink;
@@ -120,9 +126,7 @@ TEST(DelimitedReader, ChunksAndBlockBoundariesDoNotChangeTheResult) {
     text += std::to_string(i) + "\t" + std::to_string(i % 977) + ".25\t" + std::to_string(i % 13) + "\n";
   }
   const auto path = dir.write("big.tsv", text);
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   o.chunk_rows = 7777;
   CollectingSink sink;
   const auto r = read_delimited(path, o, sink);
@@ -137,9 +141,7 @@ TEST(DelimitedReader, ChunksAndBlockBoundariesDoNotChangeTheResult) {
 TEST(DelimitedReaderErrors, NonNumericField) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n2\t4x\t5\n");
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   expect_error(path, o, 3, "x", "expected a number, found '4x'");
 }
 
@@ -147,19 +149,15 @@ TEST(DelimitedReaderErrors, NonNumericField) {
 // says so (common practice, no source).
 TEST(DelimitedReaderErrors, DecimalCommaIsNamed) {
   TempDir dir;
-  DelimitedReadOptions o;
+  DelimitedReadOptions o = gaze_options();
   o.layout.delimiter = ';';
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
   expect_error(dir.write("comma.csv", "t;x;y\n1;512,25;300\n"), o, 2, "x", "a decimal comma?");
 }
 
 // Two columns of the same name: reading the first would be a guess.
 TEST(DelimitedReaderErrors, ColumnNamedTwice) {
   TempDir dir;
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   expect_error(dir.write("twice.tsv", "t\tx\ty\tx\n1\t2\t3\t4\n"), o, 1, "x", "appears more than once");
 }
 
@@ -167,9 +165,7 @@ TEST(DelimitedReaderErrors, ColumnNamedTwice) {
 // no source).
 TEST(DelimitedReaderErrors, Utf16TextIsNamed) {
   TempDir dir;
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   std::string utf16 = "\xFF\xFE";
   for (const char c : std::string("t\tx\ty\n1\t2\t3\n")) utf16 += std::string{c, '\0'};
   expect_error(dir.write("utf16.tsv", utf16), o, 1, "", "UTF-16");
@@ -178,36 +174,28 @@ TEST(DelimitedReaderErrors, Utf16TextIsNamed) {
 TEST(DelimitedReaderErrors, WrongFieldCount) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n2\t4\n");
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   expect_error(path, o, 3, "", "expected 3 tab-separated fields as in the header, found 2");
 }
 
 TEST(DelimitedReaderErrors, MissingRequiredColumn) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tgx\ty\n1\t2\t3\n");
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   expect_error(path, o, 1, "x", "input.table.left.x_column is not in the header; the file has: t, gx, y");
 }
 
 TEST(DelimitedReaderErrors, DecreasingTimestamps) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n3\t2\t3\n2\t2\t3\n");
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   expect_error(path, o, 4, "t", "timestamps must not decrease");
 }
 
 TEST(DelimitedReaderErrors, DuplicateTimestampsFailOrAreCountedWhenRepaired) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n1\t9\t9\n2\t4\t5\n2\t9\t9\n");
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   expect_error(path, o, 3, "t", "duplicate timestamp 1");
 
   o.duplicate_timestamps = DuplicateTimestampPolicy::keep_first;
@@ -220,9 +208,7 @@ TEST(DelimitedReaderErrors, DuplicateTimestampsFailOrAreCountedWhenRepaired) {
 
 TEST(DelimitedReaderErrors, EmptyFileAndHeaderOnly) {
   TempDir dir;
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   o.layout.comment_prefix = "#";
   expect_error(dir.write("empty.tsv", ""), o, 0, "", "the file is empty");
   expect_error(dir.write("comments.tsv", "# nothing\n\n"), o, 0, "", "the file is empty");
@@ -232,9 +218,7 @@ TEST(DelimitedReaderErrors, EmptyFileAndHeaderOnly) {
 TEST(DelimitedReaderErrors, MissingTimestamp) {
   TempDir dir;
   const auto path = dir.write("a.tsv", "t\tx\ty\n1\t2\t3\n\t2\t3\n");
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   expect_error(path, o, 3, "t", "expected a timestamp");
 }
 
@@ -242,9 +226,7 @@ TEST(DelimitedReaderErrors, CorruptGzip) {
   TempDir dir;
   std::string bytes = "\x1f\x8b\x08\x00\x00\x00\x00\x00\x00\x03garbage-that-is-not-deflate";
   const auto path = dir.write("bad.tsv.gz", bytes);
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   NullSink sink;
   EXPECT_THROW(read_delimited(path, o, sink), InputError);
 }
@@ -256,9 +238,7 @@ TEST(DelimitedReader, LongDecimalsReadAsStrtodNarrowed) {
   TempDir dir;
   const std::string longest = "01.9999999999999999999";
   const auto path = dir.write("long.tsv", "t\tx\ty\n1\t1.5\t2\n2\t" + longest + "\t3\n");
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   CollectingSink sink;
   read_delimited(path, o, sink);
   ASSERT_EQ(sink.samples.size(), 2u);
@@ -268,10 +248,8 @@ TEST(DelimitedReader, LongDecimalsReadAsStrtodNarrowed) {
 // Seconds with 15 digits overflowed 64-bit microseconds.
 TEST(DelimitedReaderErrors, TimestampOutOfRange) {
   TempDir dir;
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
+  DelimitedReadOptions o = gaze_options();
   o.layout.time_unit = TimeUnit::seconds;
-  o.layout.left = EyeColumnNames{"x", "y", ""};
   expect_error(dir.write("s.tsv", "t\tx\ty\n1\t2\t3\n999999999999999\t2\t3\n"), o, 3, "t", "within 2^61 microseconds");
   expect_error(dir.write("f.tsv", "t\tx\ty\n1e300\t2\t3\n"), o, 2, "t", "within 2^61 microseconds");
   o.layout.time_unit = TimeUnit::milliseconds;
@@ -289,9 +267,7 @@ TEST(DelimitedReaderErrors, TruncatedGzip) {
   const auto whole_path = dir.write_gz("whole.tsv.gz", text);
   std::ifstream in(whole_path, std::ios::binary);
   const std::string bytes((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
-  DelimitedReadOptions o;
-  o.layout.time_column = "t";
-  o.layout.left = EyeColumnNames{"x", "y", ""};
+  DelimitedReadOptions o = gaze_options();
   CollectingSink whole;
   EXPECT_EQ(read_delimited(whole_path, o, whole).samples, 20000u);
   for (const std::size_t cut : {bytes.size() / 2, bytes.size() - 9, bytes.size() - 4, bytes.size() - 1}) {
@@ -316,10 +292,8 @@ TEST(DelimitedReaderErrors, NulBytesMeanADamagedFile) {
   const std::string head = "t\tx\ty\tmsg\n1\t1\t2\t\n";
   auto expect_damaged = [&](const std::string& name, const std::string& rest, std::size_t line, const std::string& field) {
     for (const bool mapped : {true, false}) {
-      DelimitedReadOptions o;
-      o.layout.time_column = "t";
+      DelimitedReadOptions o = gaze_options();
       o.layout.message_column = "msg";
-      o.layout.left = EyeColumnNames{"x", "y", ""};
       o.map_plain_files = mapped;
       expect_error(dir.write(name, head + rest), o, line, field, "NUL bytes");
     }
@@ -335,9 +309,7 @@ TEST(DelimitedReaderErrors, NulBytesMeanADamagedFile) {
 TEST(DelimitedReader, ByteOrderMarkIsNoPartOfTheHeader) {
   TempDir dir;
   for (const bool header : {true, false}) {
-    DelimitedReadOptions o;
-    o.layout.time_column = "t";
-    o.layout.left = EyeColumnNames{"x", "y", ""};
+    DelimitedReadOptions o = gaze_options();
     if (!header) o.column_names = {"t", "x", "y"};
     const std::string rows = "1\t2.5\t3\n2\t2.5\t3\n";
     CollectingSink sink;

@@ -13,19 +13,17 @@
 
 #include <unistd.h>
 
-#include <cmath>
 #include <cstdint>
 #include <cstdio>
 #include <cstdlib>
-#include <cstring>
-#include <exception>
 #include <fstream>
 #include <string>
 
 #include "io/delimited_reader.h"
-#include "pipeline/input_error.h"
+#include "tests/reading_comparison.h"
 
 using namespace gazemill;
+using namespace gazemill::test_support;
 
 namespace {
 
@@ -44,50 +42,6 @@ DelimitedReadOptions options_from(std::uint8_t bits) {
   if (bits & 64) o.column_names = {"t", "x", "y", "p", "rx", "ry", "msg"};  // headerless, as BIDS
   o.chunk_rows = (bits & 128) ? 3 : 64;  // small chunks: they end mid-run, and big ones only slow fuzzing
   return o;
-}
-
-struct Reading {
-  CollectingSink sink;
-  DelimitedReadResult result;
-  std::string error;
-};
-
-void read_into(Reading& r, const std::string& path, const DelimitedReadOptions& o) {
-  try {
-    r.result = read_delimited(path, o, r.sink);
-  } catch (const InputError& e) {
-    r.error = e.what();
-  }
-  // Any other exception escapes and libFuzzer reports it.
-}
-
-bool same_floats(const std::vector<float>& a, const std::vector<float>& b) {
-  if (a.size() != b.size()) return false;
-  for (std::size_t i = 0; i < a.size(); ++i)
-    if (std::memcmp(&a[i], &b[i], sizeof(float)) != 0 && !(std::isnan(a[i]) && std::isnan(b[i]))) return false;
-  return true;
-}
-
-bool same(const Reading& a, const Reading& b) {
-  if (a.error != b.error) return false;
-  if (!a.error.empty()) return true;
-  const SampleColumns& sa = a.sink.samples;
-  const SampleColumns& sb = b.sink.samples;
-  if (sa.time_us != sb.time_us) return false;
-  for (const auto& [qa, qb] : {std::pair{&sa.left, &sb.left}, std::pair{&sa.right, &sb.right}})
-    if (!same_floats(qa->x_px, qb->x_px) || !same_floats(qa->y_px, qb->y_px) || !same_floats(qa->pupil, qb->pupil) ||
-        qa->valid != qb->valid)
-      return false;
-  const DelimitedReadResult& x = a.result;
-  const DelimitedReadResult& y = b.result;
-  if (x.samples != y.samples || x.rows != y.rows || x.missing_left != y.missing_left ||
-      x.missing_right != y.missing_right || x.first_time_us != y.first_time_us || x.last_time_us != y.last_time_us ||
-      x.median_interval_us != y.median_interval_us || x.message_lines != y.message_lines || x.repairs != y.repairs ||
-      x.messages.size() != y.messages.size())
-    return false;
-  for (std::size_t i = 0; i < x.messages.size(); ++i)
-    if (x.messages[i].time_us != y.messages[i].time_us || x.messages[i].text != y.messages[i].text) return false;
-  return true;
 }
 
 std::string scratch_path() {
@@ -114,12 +68,12 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
   read_into(a, path, mapped);
   read_into(b, path, copied);
   read_into(c, path, careful);
-  if (!same(a, b)) {
-    std::fprintf(stderr, "mapped and read() disagree:\n  %s\n  %s\n", a.error.c_str(), b.error.c_str());
+  if (const std::string d = first_difference(a, b); !d.empty()) {
+    std::fprintf(stderr, "mapped and read() disagree in %s\n", d.c_str());
     std::abort();
   }
-  if (!same(b, c)) {
-    std::fprintf(stderr, "quick and careful paths disagree:\n  %s\n  %s\n", b.error.c_str(), c.error.c_str());
+  if (const std::string d = first_difference(b, c); !d.empty()) {
+    std::fprintf(stderr, "quick and careful paths disagree in %s\n", d.c_str());
     std::abort();
   }
   return 0;
