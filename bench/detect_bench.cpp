@@ -126,8 +126,9 @@ void speed(std::size_t n) {
   };
   row("Savitzky-Golay velocity (10 ms)", t_vel);
   row("velocity + I-VT labels", t_ivt);
-  for (const char* m : {"engbert_kliegl", "nystrom_holmqvist", "idt"}) {
-    const DetectionSpec spec = sensible(m);
+  for (const char* m : {"engbert_kliegl", "nystrom_holmqvist", "idt", "idt (defaults: threshold from the data)"}) {
+    DetectionSpec spec = sensible(m);
+    if (std::string(m).rfind("idt (", 0) == 0) spec.method = "idt";  // nothing but the defaults
     const auto d = make_detector(spec);
     const double t = best_seconds(3, [&] {
       for (const auto& g : trials) {

@@ -90,9 +90,10 @@ std::unique_ptr<EventDetector> make_detector(const DetectionSpec& spec) {
   }
   if (spec.method == "idt") {
     DispersionThresholdParams p;
-    Binder().positive("dispersion_threshold_deg", p.dispersion_threshold_deg)
+    Binder().non_negative("dispersion_threshold_deg", p.dispersion_threshold_deg)
         .positive("min_duration_ms", p.min_duration_ms)
         .non_negative("smoothing_window_ms", p.smoothing_window_ms)
+        .positive("dispersion_median_factor", p.dispersion_median_factor)
         .apply(spec.method, spec.parameters);
     return std::make_unique<DispersionThresholdDetector>(p);
   }

@@ -2,7 +2,9 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 
+#include "detectors/median.h"
 #include "detectors/savitzky_golay.h"
 #include "detectors/timestamp_gaps.h"
 
@@ -21,57 +23,90 @@ int smoothing_window_samples(double smoothing_window_ms, double interval_us) {
   return std::max(w, 5);  // an order-2 fit needs more than three samples to smooth at all
 }
 
+double median_window_dispersion(const std::vector<double>& x, const std::vector<double>& y,
+                                const std::vector<bool>& usable, std::size_t window) {
+  // Windows side by side from the start of each stretch of usable samples:
+  // each sample is read once. Every overlapping window gave about the same
+  // median at several times the cost.
+  std::vector<double> dispersions;
+  const std::size_t n = x.size();
+  std::size_t a = 0;
+  while (window > 0 && a + window <= n) {
+    double x_lo = x[a], x_hi = x_lo, y_lo = y[a], y_hi = y_lo;
+    std::size_t k = a;
+    for (; k < a + window && usable[k]; ++k) {
+      x_lo = std::min(x_lo, x[k]), x_hi = std::max(x_hi, x[k]);
+      y_lo = std::min(y_lo, y[k]), y_hi = std::max(y_hi, y[k]);
+    }
+    if (k < a + window) {
+      a = k + 1;  // an unusable sample: the next window starts after it
+      continue;
+    }
+    dispersions.push_back((x_hi - x_lo) + (y_hi - y_lo));
+    a = k;
+  }
+  if (dispersions.empty()) return std::numeric_limits<double>::quiet_NaN();
+  const MiddlePair m = middle_pair_in_place(dispersions);
+  return (m.lower + m.upper) / 2.0;
+}
+
 ParameterList DispersionThresholdDetector::parameters() const {
   return {{"dispersion_threshold_deg", p_.dispersion_threshold_deg},
           {"min_duration_ms", p_.min_duration_ms},
-          {"smoothing_window_ms", p_.smoothing_window_ms}};
+          {"smoothing_window_ms", p_.smoothing_window_ms},
+          {"dispersion_median_factor", p_.dispersion_median_factor}};
 }
 
 void DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   const std::size_t n = labels.size();
   const std::size_t window = dispersion_window_samples(p_.min_duration_ms, g.interval_us);
-  const double threshold = p_.dispersion_threshold_deg;
   // Our rule, not the paper's (which has no notion of time between samples):
   // the first sample after a gap in the timestamps is treated as missing, so
   // no window or fixation spans the gap, as no velocity window does. The
   // shared clean-up then joins the fixations on either side only if the gap
   // is short and the eye stayed put, as across lost samples.
   const std::vector<bool> gaps = gap_steps(g);
-  auto usable = [&](std::size_t k) { return labels[k] == SampleLabel::other && !gaps[k]; };
+  std::vector<bool> usable(n);
+  for (std::size_t k = 0; k < n; ++k) usable[k] = labels[k] == SampleLabel::other && !gaps[k];
   // Optional smoothing; the samples themselves are left alone for the events.
   const int smoothing = smoothing_window_samples(p_.smoothing_window_ms, g.interval_us);
   std::vector<double> xs, ys;
   if (smoothing > 0) {
-    std::vector<bool> ok(n);
-    for (std::size_t k = 0; k < n; ++k) ok[k] = usable(k);
-    xs = savitzky_golay_smooth(g.x_deg, ok, gaps, smoothing, 2);
-    ys = savitzky_golay_smooth(g.y_deg, ok, gaps, smoothing, 2);
+    xs = savitzky_golay_smooth(g.x_deg, usable, gaps, smoothing, 2);
+    ys = savitzky_golay_smooth(g.y_deg, usable, gaps, smoothing, 2);
   }
   const std::vector<double>& X = smoothing > 0 ? xs : g.x_deg;
   const std::vector<double>& Y = smoothing > 0 ? ys : g.y_deg;
+  // Our rule too: with no fixed threshold, it comes from this trace's own
+  // windows. A trace without one whole window holds no fixation either way.
+  double threshold = p_.dispersion_threshold_deg;
+  if (!(threshold > 0)) threshold = p_.dispersion_median_factor * median_window_dispersion(X, Y, usable, window);
   std::vector<bool> in_fixation(n, false);
   std::size_t i = 0;
-  while (i + window <= n) {
+  while (!std::isnan(threshold) && i + window <= n) {
     std::size_t j = i + window;
     // A window cannot span missing data: restart after the last unusable sample in it.
     std::size_t last_bad = n;
     for (std::size_t k = i; k < j; ++k) {
-      if (!usable(k)) last_bad = k;
+      if (!usable[k]) last_bad = k;
     }
     if (last_bad != n) {
       i = last_bad + 1;
       continue;
     }
+    // D only grows as samples are added: stop at the first that passes the threshold.
     double x_lo = X[i], x_hi = x_lo, y_lo = Y[i], y_hi = y_lo;
-    for (std::size_t k = i + 1; k < j; ++k) {
+    bool fits = true;
+    for (std::size_t k = i + 1; k < j && fits; ++k) {
       x_lo = std::min(x_lo, X[k]);
       x_hi = std::max(x_hi, X[k]);
       y_lo = std::min(y_lo, Y[k]);
       y_hi = std::max(y_hi, Y[k]);
+      fits = (x_hi - x_lo) + (y_hi - y_lo) <= threshold;
     }
-    if ((x_hi - x_lo) + (y_hi - y_lo) <= threshold) {
+    if (fits) {
       // Grow until the next point would exceed the threshold; that point is not part of it.
-      while (j < n && usable(j)) {
+      while (j < n && usable[j]) {
         const double nx_lo = std::min(x_lo, X[j]), nx_hi = std::max(x_hi, X[j]);
         const double ny_lo = std::min(y_lo, Y[j]), ny_hi = std::max(y_hi, Y[j]);
         if ((nx_hi - nx_lo) + (ny_hi - ny_lo) > threshold) break;
@@ -85,7 +120,7 @@ void DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLa
     }
   }
   for (std::size_t k = 0; k < n; ++k) {
-    if (usable(k)) labels[k] = in_fixation[k] ? SampleLabel::fixation : SampleLabel::saccade;
+    if (usable[k]) labels[k] = in_fixation[k] ? SampleLabel::fixation : SampleLabel::saccade;
   }
 }
 

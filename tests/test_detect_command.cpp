@@ -86,7 +86,7 @@ TEST(DetectCommand, BadDetectionSettingsNameTheKey) {
   };
   expect_error("[detection]\nmethod='hmm'\n", "detection.method", "unknown detection method hmm");
   expect_error("[detection]\nmethod='idt'\n[detection.parameters]\nlambda=5\n", "detection.parameters",
-               "method idt has no parameter lambda; it has: dispersion_threshold_deg, min_duration_ms, smoothing_window_ms");
+               "method idt has no parameter lambda; it has: dispersion_median_factor, dispersion_threshold_deg, min_duration_ms, smoothing_window_ms");
   expect_error("[detection]\n[detection.parameters]\nvelocity_threshold_deg_s=-3\n", "detection.parameters", "above zero");
   // TOML allows inf; and a huge order or window once reached an unchecked cast to int.
   expect_error("[detection]\n[detection.parameters]\nvelocity_threshold_deg_s=inf\n", "detection.parameters", "finite");

@@ -272,7 +272,7 @@ TEST(DispersionThreshold, HandMadeTraceFromThePublishedSteps) {
   const GazeTrace g = trace_of(appendix_a_trace(), 10000);
   EXPECT_EQ(dispersion_window_samples(100, 10000), 10u);
   std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
-  DispersionThresholdDetector({1.0, 100.0}).label(g, labels);
+  DispersionThresholdDetector({1.0, 100.0, 0.0}).label(g, labels);  // raw samples, as published
   std::string got;
   for (auto l : labels) got += l == SampleLabel::fixation ? 'F' : 'S';
   EXPECT_EQ(got, "FFFFFFFFFFFFSSSFFFFFFFFFFFFFFF");
@@ -318,6 +318,61 @@ TEST(DispersionThreshold, SmoothingKeepsNoisyFixationsWhole) {
   EXPECT_LE(first_s, 151u);
   EXPECT_GE(second_f, 159u);
   EXPECT_LT(second_f - first_s, 40u) << smoothed;
+}
+
+// The data-driven threshold (our rule, no published source): the median
+// dispersion D of windows laid side by side in each stretch of usable
+// samples, worked by hand.
+TEST(DispersionThreshold, MedianWindowDispersionByHand) {
+  const std::vector<double> x = {0.0, 0.1, 0.0, 0.3, 0.3, 0.3};
+  const std::vector<double> y = {0.0, 0.0, 0.0, 0.0, 0.0, 0.2};
+  const std::vector<bool> all(6, true);
+  // Windows of 2: samples 0-1, 2-3, 4-5 give D = 0.1, 0.3, 0.2.
+  EXPECT_NEAR(median_window_dispersion(x, y, all, 2), 0.2, 1e-12);
+  // Windows of 3: D = 0.1 and 0.2; the mean of the middle pair.
+  EXPECT_NEAR(median_window_dispersion(x, y, all, 3), 0.15, 1e-12);
+  // No window spans an unusable sample: with sample 2 out, windows of 2 are
+  // 0-1 (0.1) and 3-4 (0); sample 5 is left over.
+  std::vector<bool> hole = all;
+  hole[2] = false;
+  EXPECT_NEAR(median_window_dispersion(x, y, hole, 2), 0.05, 1e-12);
+  EXPECT_TRUE(std::isnan(median_window_dispersion(x, y, hole, 4)));
+}
+
+// With no fixed threshold, I-DT sets it from the trace: the same two
+// fixations and ramp are found at five times the noise, where a threshold
+// fitted to the quiet trace finds no fixation at all.
+TEST(DispersionThreshold, ThresholdFromTheDataFollowsTheNoise) {
+  auto trace = [](double noise) {
+    std::vector<std::pair<double, double>> pts;
+    for (int i = 0; i < 150; ++i) pts.emplace_back(i % 2 ? noise : -noise, 0.0);
+    for (int i = 1; i <= 10; ++i) pts.emplace_back(0.2 * i, 0.0);
+    for (int i = 0; i < 150; ++i) pts.emplace_back(2.0 + (i % 2 ? noise : -noise), 0.0);
+    return trace_of(pts, 1000);
+  };
+  auto run = [](const GazeTrace& g, double threshold_deg) {
+    std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+    DispersionThresholdDetector({threshold_deg, 20.0, 0.0}).label(g, labels);
+    std::string got;
+    for (auto l : labels) got += l == SampleLabel::fixation ? 'F' : 'S';
+    return got;
+  };
+  // Quiet: windows inside the fixations spread 0.04 deg, so the threshold is
+  // 0.08; the ramp's last sample, at 2.0 deg, already belongs to the second fixation.
+  const std::string quiet = run(trace(0.02), 0.0);
+  EXPECT_EQ(quiet, std::string(150, 'F') + std::string(9, 'S') + std::string(151, 'F'));
+  const GazeTrace noisy = trace(0.1);
+  EXPECT_EQ(run(noisy, 0.08).find('F'), std::string::npos);
+  // Noisy: threshold 0.4 deg, so each fixation takes in the ramp's first or
+  // last step (0.2 deg), and the ramp's middle stays a saccade.
+  const std::string adapted = run(noisy, 0.0);
+  const auto first_s = adapted.find('S');
+  const auto second_f = adapted.find('F', first_s);
+  ASSERT_NE(second_f, std::string::npos) << adapted;
+  EXPECT_EQ(adapted.find('S', second_f), std::string::npos) << adapted;
+  EXPECT_GE(first_s, 150u);
+  EXPECT_LE(second_f, 160u);
+  EXPECT_GE(second_f - first_s, 6u) << adapted;
 }
 
 // I-DT across gaps in the timestamps with no sample marked missing (a
