@@ -57,7 +57,7 @@ ParameterList DispersionThresholdDetector::parameters() const {
           {"dispersion_median_factor", p_.dispersion_median_factor}};
 }
 
-void DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
+ParameterList DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   const std::size_t n = labels.size();
   const std::size_t window = dispersion_window_samples(p_.min_duration_ms, g.interval_us);
   // Our rule, not the paper's (which has no notion of time between samples):
@@ -122,6 +122,8 @@ void DispersionThresholdDetector::label(const GazeTrace& g, std::vector<SampleLa
   for (std::size_t k = 0; k < n; ++k) {
     if (usable[k]) labels[k] = in_fixation[k] ? SampleLabel::fixation : SampleLabel::saccade;
   }
+  if (std::isnan(threshold)) return {};  // no whole window, so no fixation
+  return {{"dispersion_threshold_deg", threshold}};
 }
 
 }  // namespace gazemill

@@ -39,7 +39,7 @@ class DispersionThresholdDetector : public EventDetector {
   explicit DispersionThresholdDetector(DispersionThresholdParams p) : p_(p) {}
   std::string name() const override { return "idt"; }
   ParameterList parameters() const override;
-  void label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
+  ParameterList label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
 
  private:
   DispersionThresholdParams p_;

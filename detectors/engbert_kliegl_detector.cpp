@@ -35,7 +35,7 @@ ParameterList EngbertKlieglDetector::parameters() const {
           {"velocity_window_ms", p_.velocity_window_ms}};
 }
 
-void EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
+ParameterList EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   VelocityParams vp;
   vp.method = VelocityMethod::moving_average;
   vp.moving_average_half_width = moving_average_half_width(p_.velocity_window_ms, g.interval_us);
@@ -68,6 +68,7 @@ void EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& 
     }
     i = j;
   }
+  return {{"threshold_x_deg_s", eta_x}, {"threshold_y_deg_s", eta_y}};
 }
 
 }  // namespace gazemill

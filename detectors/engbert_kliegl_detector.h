@@ -30,7 +30,7 @@ class EngbertKlieglDetector : public EventDetector {
   explicit EngbertKlieglDetector(EngbertKlieglParams p) : p_(p) {}
   std::string name() const override { return "engbert_kliegl"; }
   ParameterList parameters() const override;
-  void label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
+  ParameterList label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
 
  private:
   EngbertKlieglParams p_;

@@ -134,9 +134,11 @@ std::size_t remove_spikes(GazeTrace& g, double spike_deg) {
   return spikes.size();
 }
 
-std::vector<SampleLabel> label_trace(const GazeTrace& g, const EventDetector& d, const BlinkParams& bp, const EventParams& ep) {
+std::vector<SampleLabel> label_trace(const GazeTrace& g, const EventDetector& d, const BlinkParams& bp, const EventParams& ep,
+                                     ParameterList* fitted) {
   std::vector<SampleLabel> labels = label_missing(g, bp);
-  d.label(g, labels);
+  ParameterList set = d.label(g, labels);
+  if (fitted) *fitted = std::move(set);
   tidy_labels(g, ep, labels);
   return labels;
 }

@@ -23,7 +23,9 @@ class EventDetector {
   virtual ParameterList parameters() const = 0;
   /// Sets fixation, saccade or pso on samples that are still SampleLabel::other;
   /// blink and loss samples are already labelled and must be left alone.
-  virtual void label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const = 0;
+  /// Returns the thresholds it set from this trace's own data (none for a
+  /// fixed threshold), for the store.
+  virtual ParameterList label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const = 0;
 };
 
 /// Missing data: a run of missing gaze is a blink when the pupil is missing
@@ -51,9 +53,10 @@ struct EventParams {
 /// become missing. Returns how many were removed. 0 deg = off.
 std::size_t remove_spikes(GazeTrace& trace, double spike_deg);
 
-/// Labels for a trace: missing data first (blink/loss), then the detector.
+/// Labels for a trace: missing data first (blink/loss), then the detector;
+/// `fitted`, when given, receives what the detector set from the trace.
 std::vector<SampleLabel> label_trace(const GazeTrace& trace, const EventDetector& detector, const BlinkParams& blinks,
-                                     const EventParams& events);
+                                     const EventParams& events, ParameterList* fitted = nullptr);
 
 /// Labels missing samples as blink or loss, and the first sample after a gap
 /// in the timestamps (is_gap_step) as loss; everything else "other".

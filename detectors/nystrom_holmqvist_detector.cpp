@@ -44,9 +44,9 @@ PeakThreshold find_peak_threshold(const std::vector<double>& speed, const std::v
   return t;
 }
 
-void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
+ParameterList NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   const std::size_t n = labels.size();
-  if (n < 3) return;
+  if (n < 3) return {};
   const Velocity v = compute_velocity(g, p_.velocity);
   std::vector<bool> usable(n, false);
   for (std::size_t i = 0; i < n; ++i) {
@@ -130,6 +130,7 @@ void NystromHolmqvistDetector::label(const GazeTrace& g, std::vector<SampleLabel
     if (out[q] != SampleLabel::other) labels[q] = out[q];
     else if (usable[q]) labels[q] = SampleLabel::fixation;
   }
+  return {{"peak_threshold_deg_s", pt.peak_deg_s}, {"onset_threshold_deg_s", onset}};
 }
 
 }  // namespace gazemill

@@ -45,7 +45,7 @@ class NystromHolmqvistDetector : public EventDetector {
   explicit NystromHolmqvistDetector(NystromHolmqvistParams p) : p_(p) {}
   std::string name() const override { return "nystrom_holmqvist"; }
   ParameterList parameters() const override;
-  void label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
+  ParameterList label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
 
  private:
   NystromHolmqvistParams p_;

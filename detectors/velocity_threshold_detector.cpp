@@ -11,7 +11,7 @@ ParameterList VelocityThresholdDetector::parameters() const {
           {"sg_order", static_cast<double>(p_.velocity.sg_order)}};
 }
 
-void VelocityThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
+ParameterList VelocityThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
   VelocityParams vp = p_.velocity;
   vp.with_components = false;  // the speed is all I-VT needs
   const Velocity v = compute_velocity(g, vp);
@@ -20,6 +20,7 @@ void VelocityThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabe
     if (labels[i] != SampleLabel::other || !(v.speed[i] == v.speed[i])) continue;  // keep gaps and broken windows
     labels[i] = v.speed[i] < threshold ? SampleLabel::fixation : SampleLabel::saccade;
   }
+  return {};  // a fixed threshold: nothing set from the data
 }
 
 }  // namespace gazemill

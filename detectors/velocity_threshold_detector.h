@@ -20,7 +20,7 @@ class VelocityThresholdDetector : public EventDetector {
   explicit VelocityThresholdDetector(VelocityThresholdParams p) : p_(p) {}
   std::string name() const override { return "ivt"; }
   ParameterList parameters() const override;
-  void label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
+  ParameterList label(const GazeTrace& trace, std::vector<SampleLabel>& labels) const override;
 
  private:
   VelocityThresholdParams p_;

@@ -2,8 +2,10 @@
 
 #include <unistd.h>
 
+#include <cmath>
 #include <cstdio>
 #include <filesystem>
+#include <limits>
 #include <map>
 #include <optional>
 #include <set>
@@ -200,6 +202,17 @@ std::unique_ptr<StudyStoreWriter> StudyStoreWriter::derive(const std::string& st
 
 namespace {
 
+// "deg/s" for peak_threshold_deg_s: fitted values carry their unit in their name.
+std::string unit_in_name(const std::string& name) {
+  const auto ends = [&](const std::string& suffix) {
+    return name.size() > suffix.size() && name.compare(name.size() - suffix.size(), suffix.size(), suffix) == 0;
+  };
+  if (ends("_deg_s")) return "deg/s";
+  if (ends("_deg")) return "deg";
+  if (ends("_ms")) return "ms";
+  return "";
+}
+
 template <typename E, typename F>
 std::vector<std::string> trial_column(const std::vector<E>& events, F&& get) {
   std::vector<std::string> out;
@@ -264,6 +277,25 @@ void StudyStoreWriter::write_events(const std::string& id, const DetectedEvents&
   h5::write_strings(bg, "eye", trial_column(bl, eye_of));
   h5::write_column(bg, "start_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.start_us; }), "us");
   h5::write_column(bg, "end_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.end_us; }), "us");
+
+  // Per trial, the eye used and what the detector set from the trial's own
+  // data: a column per name, NaN for a trial where it set nothing.
+  H5::Group tg = h5::create_group(g, "trials");
+  const auto& tr = ev.trials;
+  h5::write_strings(tg, "trial", trial_column(tr, trial_of));
+  h5::write_strings(tg, "eye", trial_column(tr, eye_of));
+  std::set<std::string> names;
+  for (const auto& t : tr) {
+    for (const auto& [name, value] : t.fitted) names.insert(name);
+  }
+  for (const auto& name : names) {
+    std::vector<double> column;
+    for (const auto& t : tr) {
+      const auto it = t.fitted.find(name);
+      column.push_back(it == t.fitted.end() ? std::numeric_limits<double>::quiet_NaN() : it->second);
+    }
+    h5::write_column(tg, name, column, unit_in_name(name));
+  }
 }
 
 H5::Group StudyStoreWriter::group(const std::string& path) {
@@ -563,6 +595,18 @@ DetectedEvents StudyStoreReader::read_events(const std::string& id) const {
     const auto bt = h5::read_strings(b, "trial"), be = h5::read_strings(b, "eye");
     const auto bs = h5::read_column<std::int64_t>(b, "start_us"), bn = h5::read_column<std::int64_t>(b, "end_us");
     for (std::size_t i = 0; i < bt.size(); ++i) ev.blinks.push_back({bt[i], eye(be[i]), bs[i], bn[i]});
+    if (h5::exists(g, "trials")) {  // stores written before it have none
+      H5::Group t = g.openGroup("trials");
+      const auto tt = h5::read_strings(t, "trial"), te = h5::read_strings(t, "eye");
+      for (std::size_t i = 0; i < tt.size(); ++i) ev.trials.push_back({tt[i], eye(te[i]), {}});
+      for (const auto& name : h5::child_names(t)) {
+        if (name == "trial" || name == "eye") continue;
+        const auto values = h5::read_column<double>(t, name);
+        for (std::size_t i = 0; i < values.size() && i < ev.trials.size(); ++i) {
+          if (!std::isnan(values[i])) ev.trials[i].fitted[name] = values[i];
+        }
+      }
+    }
   } catch (const H5::Exception& e) {
     impl_->fail(base, "damaged or incomplete events: " + e.getDetailMsg());
   }

@@ -25,6 +25,9 @@
 //   /recordings/<id>/events/saccades/{trial,eye,start_us,end_us,start_x_px,start_y_px,end_x_px,end_y_px,
 //                                     amplitude_deg,peak_velocity_deg_s,direction_deg}
 //   /recordings/<id>/events/blinks/{trial,eye,start_us,end_us}
+//   /recordings/<id>/events/trials/{trial,eye,<fitted>}  one row per trial: the eye used and each value the
+//                                                  detector set from the trial's own data (float64 with
+//                                                  its unit, NaN where not set), e.g. dispersion_threshold_deg
 //   /provenance/stages/<stage>                     attrs gazemill_version, protocol_path, protocol_text,
 //                                                  protocol_sha256, created_utc, settings (JSON) of each derived stage
 // Every numeric dataset is chunked, shuffled and deflated, with a "unit" attribute.

@@ -24,6 +24,8 @@ inline const char* to_string(SampleLabel l) {
 
 }  // namespace gazemill
 
+#include <map>
+#include <string>
 #include <vector>
 
 #include "pipeline/recording.h"
@@ -61,11 +63,21 @@ struct BlinkEvent {
   Microseconds end_us = 0;
 };
 
+/// One trial's detection: the eye used and the values the detector set from
+/// the trial's own data (adaptive thresholds, by name with the unit in it;
+/// none for a fixed threshold), so that every trial's labels can be redone.
+struct TrialDetection {
+  std::string trial;
+  Eye eye = Eye::left;
+  std::map<std::string, double> fitted;
+};
+
 /// Everything detected in one recording, trial by trial.
 struct DetectedEvents {
   std::vector<FixationEvent> fixations;
   std::vector<SaccadeEvent> saccades;
   std::vector<BlinkEvent> blinks;
+  std::vector<TrialDetection> trials;  // one per trial of the recording, in its order
 };
 
 }  // namespace gazemill

@@ -6,6 +6,9 @@
 
 #include <filesystem>
 #include <fstream>
+#include <map>
+#include <string>
+#include <vector>
 
 #include "app/detect.h"
 #include "app/ingest.h"
@@ -61,12 +64,51 @@ TEST(DetectCommand, WritesEventsAndKeepsTheRest) {
   EXPECT_EQ(stored.saccades.size(), expected.events.saccades.size());
   EXPECT_EQ(stored.blinks.size(), expected.events.blinks.size());
   EXPECT_EQ(r.read_sample_labels("p02_1"), expected.labels);
+  // One row per trial with the eye used; a fixed threshold sets nothing from the data.
+  ASSERT_EQ(stored.trials.size(), rec.trials.size());
+  for (std::size_t i = 0; i < rec.trials.size(); ++i) {
+    EXPECT_EQ(stored.trials[i].trial, rec.trials[i].id);
+    EXPECT_EQ(stored.trials[i].eye, expected.trial_eye[i]);
+    EXPECT_TRUE(stored.trials[i].fitted.empty());
+  }
 
   // Running it again replaces the events rather than adding to them.
   detect_study(p, store);
   EXPECT_EQ(StudyStoreReader(store).read_events("p02_1").fixations.size(), expected.events.fixations.size());
   for (const auto& e : std::filesystem::directory_iterator(d.path())) {
     EXPECT_EQ(e.path().filename().string().find(".partial"), std::string::npos) << "left behind: " << e.path();
+  }
+}
+
+// The adaptive methods set thresholds from each trial's own data; the store
+// keeps them per trial, with their units, so that any trial can be redone.
+TEST(DetectCommand, ThresholdsSetFromTheDataAreStoredPerTrial) {
+  const std::map<std::string, std::vector<std::string>> fitted_names = {
+      {"idt", {"dispersion_threshold_deg"}},
+      {"engbert_kliegl", {"threshold_x_deg_s", "threshold_y_deg_s"}},
+      {"nystrom_holmqvist", {"onset_threshold_deg_s", "peak_threshold_deg_s"}}};
+  for (const auto& [method, names] : fitted_names) {
+    TempDir d;
+    std::string proto_path = copy_fixture(d);
+    std::ofstream(proto_path, std::ios::app) << "\n[detection]\nmethod = \"" << method << "\"\n";
+    const Protocol p = parse_protocol_file(proto_path);
+    const std::string store = d.file("s.gzm.h5");
+    ingest_study(p, store, {});
+    detect_study(p, store);
+    StudyStoreReader r(store);
+    const Recording rec = r.read_recording("p02_1", true);
+    const auto expected = detect_recording(rec, *make_detector(p.detection), p.detection);
+    const DetectedEvents stored = r.read_events("p02_1");
+    ASSERT_EQ(stored.trials.size(), rec.trials.size()) << method;
+    for (std::size_t i = 0; i < stored.trials.size(); ++i) {
+      const auto& fitted = stored.trials[i].fitted;
+      ASSERT_EQ(fitted.size(), names.size()) << method << " trial " << i;
+      for (const auto& name : names) {
+        ASSERT_EQ(fitted.count(name), 1u) << method << " " << name;
+        EXPECT_GT(fitted.at(name), 0.0) << method << " " << name;
+        EXPECT_DOUBLE_EQ(fitted.at(name), expected.events.trials[i].fitted.at(name)) << method << " " << name;
+      }
+    }
   }
 }
 

@@ -350,22 +350,26 @@ TEST(DispersionThreshold, ThresholdFromTheDataFollowsTheNoise) {
     for (int i = 0; i < 150; ++i) pts.emplace_back(2.0 + (i % 2 ? noise : -noise), 0.0);
     return trace_of(pts, 1000);
   };
-  auto run = [](const GazeTrace& g, double threshold_deg) {
+  double used_deg = 0;  // the threshold the detector reports it used
+  auto run = [&](const GazeTrace& g, double threshold_deg) {
     std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
-    DispersionThresholdDetector({threshold_deg, 20.0, 0.0}).label(g, labels);
+    used_deg = DispersionThresholdDetector({threshold_deg, 20.0, 0.0}).label(g, labels).at("dispersion_threshold_deg");
     std::string got;
     for (auto l : labels) got += l == SampleLabel::fixation ? 'F' : 'S';
     return got;
   };
-  // Quiet: windows inside the fixations spread 0.04 deg, so the threshold is
-  // 0.08; the ramp's last sample, at 2.0 deg, already belongs to the second fixation.
+  // Quiet: 14 of the 15 windows of 20 samples lie inside a fixation and
+  // spread 0.04 deg, so the threshold is 0.08; the ramp's last sample, at
+  // 2.0 deg, already belongs to the second fixation.
   const std::string quiet = run(trace(0.02), 0.0);
+  EXPECT_NEAR(used_deg, 0.08, 1e-12);
   EXPECT_EQ(quiet, std::string(150, 'F') + std::string(9, 'S') + std::string(151, 'F'));
   const GazeTrace noisy = trace(0.1);
   EXPECT_EQ(run(noisy, 0.08).find('F'), std::string::npos);
   // Noisy: threshold 0.4 deg, so each fixation takes in the ramp's first or
   // last step (0.2 deg), and the ramp's middle stays a saccade.
   const std::string adapted = run(noisy, 0.0);
+  EXPECT_NEAR(used_deg, 0.4, 1e-12);
   const auto first_s = adapted.find('S');
   const auto second_f = adapted.find('F', first_s);
   ASSERT_NE(second_f, std::string::npos) << adapted;

@@ -192,6 +192,12 @@ max_missing_percent = 3
             for a, b in zip(start, end):
                 inside |= (t >= a) & (t < b)
             check(np.array_equal(inside, lab == 0), f"{rid}: fixation labels match fixation events")
+            # One row per trial, in the trials' order, with the eye used; I-VT's
+            # fixed threshold sets nothing from the data.
+            tr = ev["trials"]
+            check([x.decode() for x in tr["trial"][:]] == [x.decode() for x in rec["trials/id"][:]], f"{rid}: a detection row per trial")
+            check({x.decode() for x in tr["eye"][:]} <= {"left", "right"}, f"{rid}: eye per trial")
+            check(set(tr.keys()) == {"trial", "eye"}, f"{rid}: nothing fitted by I-VT")
         check("detect" in h["provenance/stages"], "detect stage provenance")
         # The ledger read back: per level, input = kept + removed in protocol order.
         a = h["audit"]
@@ -211,6 +217,17 @@ max_missing_percent = 3
     tsv = pd.read_csv(os.path.join(tmp, "audit.tsv"), sep="\t")
     check(set(tsv.columns) >= {"rule", "level", "participant", "condition", "removed_sequential", "removed_alone"}, "audit.tsv columns")
     check(len(tsv) == len(cnt_level), "audit.tsv has one row per ledger row")
+    # I-DT with its defaults sets its threshold per trial from the data; the
+    # store keeps it with its unit.
+    with open(proto, "a") as f:
+        f.write('\n[detection]\nmethod = "idt"\n')
+    subprocess.run([gazemill, "-q", "detect", proto, "-s", store], check=True)
+    with h5py.File(store, "r") as h:
+        for rid, rec in h["recordings"].items():
+            d = rec["events/trials/dispersion_threshold_deg"]
+            check(d.attrs["unit"] == "deg", f"{rid}: fitted threshold unit")
+            check(d.shape[0] == rec["trials/id"].shape[0] and np.all(np.isfinite(d[:])) and np.all(d[:] > 0),
+                  f"{rid}: a positive I-DT threshold for every trial")
 
 print(f"{0 if failures else 1} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)
