@@ -126,9 +126,13 @@ void speed(std::size_t n) {
   };
   row("Savitzky-Golay velocity (10 ms)", t_vel);
   row("velocity + I-VT labels", t_ivt);
-  for (const char* m : {"engbert_kliegl", "nystrom_holmqvist", "idt", "idt (defaults: threshold from the data)"}) {
-    DetectionSpec spec = sensible(m);
-    if (std::string(m).rfind("idt (", 0) == 0) spec.method = "idt";  // nothing but the defaults
+  DetectionSpec idt_defaults;
+  idt_defaults.method = "idt";  // nothing but the defaults: the threshold comes from the data
+  const std::pair<const char*, DetectionSpec> timed[] = {{"engbert_kliegl", sensible("engbert_kliegl")},
+                                                        {"nystrom_holmqvist", sensible("nystrom_holmqvist")},
+                                                        {"idt", sensible("idt")},
+                                                        {"idt (defaults: threshold from the data)", idt_defaults}};
+  for (const auto& [m, spec] : timed) {
     const auto d = make_detector(spec);
     const double t = best_seconds(3, [&] {
       for (const auto& g : trials) {

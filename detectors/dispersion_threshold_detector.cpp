@@ -122,7 +122,8 @@ ParameterList DispersionThresholdDetector::label(const GazeTrace& g, std::vector
   for (std::size_t k = 0; k < n; ++k) {
     if (usable[k]) labels[k] = in_fixation[k] ? SampleLabel::fixation : SampleLabel::saccade;
   }
-  if (std::isnan(threshold)) return {};  // no whole window, so no fixation
+  // Nothing set from the data with a fixed threshold, or with no whole window.
+  if (p_.dispersion_threshold_deg > 0 || std::isnan(threshold)) return {};
   return {{"dispersion_threshold_deg", threshold}};
 }
 

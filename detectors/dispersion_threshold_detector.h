@@ -12,7 +12,7 @@ namespace gazemill {
 struct DispersionThresholdParams {
   // A fixed threshold, as in the paper; 0 (the default) sets it per trace
   // from the data instead: dispersion_median_factor times the median
-  // dispersion of all minimum-duration windows (below). No fixed value suits
+  // dispersion of minimum-duration windows laid side by side (below). No fixed value suits
   // every tracker's noise, and the usual 1 deg (Blignaut 2009 found a 1 deg
   // fixation *radius* replicable, a different measure) swallows reading
   // saccades of 1-2 deg: see README, "Event detection".

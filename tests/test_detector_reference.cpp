@@ -350,10 +350,11 @@ TEST(DispersionThreshold, ThresholdFromTheDataFollowsTheNoise) {
     for (int i = 0; i < 150; ++i) pts.emplace_back(2.0 + (i % 2 ? noise : -noise), 0.0);
     return trace_of(pts, 1000);
   };
-  double used_deg = 0;  // the threshold the detector reports it used
+  double used_deg = 0;  // the threshold the detector reports it set from the data (NaN: none)
   auto run = [&](const GazeTrace& g, double threshold_deg) {
     std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
-    used_deg = DispersionThresholdDetector({threshold_deg, 20.0, 0.0}).label(g, labels).at("dispersion_threshold_deg");
+    const ParameterList fitted = DispersionThresholdDetector({threshold_deg, 20.0, 0.0}).label(g, labels);
+    used_deg = fitted.count("dispersion_threshold_deg") ? fitted.at("dispersion_threshold_deg") : std::nan("");
     std::string got;
     for (auto l : labels) got += l == SampleLabel::fixation ? 'F' : 'S';
     return got;
@@ -366,6 +367,7 @@ TEST(DispersionThreshold, ThresholdFromTheDataFollowsTheNoise) {
   EXPECT_EQ(quiet, std::string(150, 'F') + std::string(9, 'S') + std::string(151, 'F'));
   const GazeTrace noisy = trace(0.1);
   EXPECT_EQ(run(noisy, 0.08).find('F'), std::string::npos);
+  EXPECT_TRUE(std::isnan(used_deg));  // a fixed threshold is a parameter, not set from the data
   // Noisy: threshold 0.4 deg, so each fixation takes in the ramp's first or
   // last step (0.2 deg), and the ramp's middle stays a saccade.
   const std::string adapted = run(noisy, 0.0);
