@@ -23,6 +23,21 @@ int smoothing_window_samples(double smoothing_window_ms, double interval_us) {
   return std::max(w, 5);  // an order-2 fit needs more than three samples to smooth at all
 }
 
+namespace {
+
+// The bounding box of the samples seen so far; D = width + height.
+struct Extent {
+  double x_lo, x_hi, y_lo, y_hi;
+  Extent(double x, double y) : x_lo(x), x_hi(x), y_lo(y), y_hi(y) {}
+  void add(double x, double y) {
+    x_lo = std::min(x_lo, x), x_hi = std::max(x_hi, x);
+    y_lo = std::min(y_lo, y), y_hi = std::max(y_hi, y);
+  }
+  double dispersion() const { return (x_hi - x_lo) + (y_hi - y_lo); }
+};
+
+}  // namespace
+
 double median_window_dispersion(const std::vector<double>& x, const std::vector<double>& y,
                                 const std::vector<bool>& usable, std::size_t window) {
   // Windows side by side from the start of each stretch of usable samples:
@@ -32,17 +47,14 @@ double median_window_dispersion(const std::vector<double>& x, const std::vector<
   const std::size_t n = x.size();
   std::size_t a = 0;
   while (window > 0 && a + window <= n) {
-    double x_lo = x[a], x_hi = x_lo, y_lo = y[a], y_hi = y_lo;
+    Extent box(x[a], y[a]);
     std::size_t k = a;
-    for (; k < a + window && usable[k]; ++k) {
-      x_lo = std::min(x_lo, x[k]), x_hi = std::max(x_hi, x[k]);
-      y_lo = std::min(y_lo, y[k]), y_hi = std::max(y_hi, y[k]);
-    }
+    for (; k < a + window && usable[k]; ++k) box.add(x[k], y[k]);
     if (k < a + window) {
       a = k + 1;  // an unusable sample: the next window starts after it
       continue;
     }
-    dispersions.push_back((x_hi - x_lo) + (y_hi - y_lo));
+    dispersions.push_back(box.dispersion());
     a = k;
   }
   if (dispersions.empty()) return std::numeric_limits<double>::quiet_NaN();
@@ -95,22 +107,19 @@ ParameterList DispersionThresholdDetector::label(const GazeTrace& g, std::vector
       continue;
     }
     // D only grows as samples are added: stop at the first that passes the threshold.
-    double x_lo = X[i], x_hi = x_lo, y_lo = Y[i], y_hi = y_lo;
+    Extent box(X[i], Y[i]);
     bool fits = true;
     for (std::size_t k = i + 1; k < j && fits; ++k) {
-      x_lo = std::min(x_lo, X[k]);
-      x_hi = std::max(x_hi, X[k]);
-      y_lo = std::min(y_lo, Y[k]);
-      y_hi = std::max(y_hi, Y[k]);
-      fits = (x_hi - x_lo) + (y_hi - y_lo) <= threshold;
+      box.add(X[k], Y[k]);
+      fits = box.dispersion() <= threshold;
     }
     if (fits) {
       // Grow until the next point would exceed the threshold; that point is not part of it.
       while (j < n && usable[j]) {
-        const double nx_lo = std::min(x_lo, X[j]), nx_hi = std::max(x_hi, X[j]);
-        const double ny_lo = std::min(y_lo, Y[j]), ny_hi = std::max(y_hi, Y[j]);
-        if ((nx_hi - nx_lo) + (ny_hi - ny_lo) > threshold) break;
-        x_lo = nx_lo, x_hi = nx_hi, y_lo = ny_lo, y_hi = ny_hi;
+        Extent grown = box;
+        grown.add(X[j], Y[j]);
+        if (grown.dispersion() > threshold) break;
+        box = grown;
         ++j;
       }
       for (std::size_t k = i; k < j; ++k) in_fixation[k] = true;

@@ -43,8 +43,7 @@ RecordingDetection detect_recording(const Recording& rec, const EventDetector& d
   for (const Trial& trial : rec.trials) {
     const auto [first, last] = sample_range(rec.samples.time_us, trial.start_us, trial.end_us);
     if (last <= first) {
-      out.trial_eye.push_back(rec.samples.has_left ? Eye::left : Eye::right);
-      out.events.trials.push_back({trial.id, out.trial_eye.back(), {}});
+      out.events.trials.push_back({trial.id, rec.samples.has_left ? Eye::left : Eye::right, {}});
       continue;
     }
     GazeTrace trace;
@@ -75,7 +74,6 @@ RecordingDetection detect_recording(const Recording& rec, const EventDetector& d
     const std::vector<SampleLabel> labels = label_trace(trace, detector, bp, ep, &fitted);
     std::copy(labels.begin(), labels.end(), out.labels.begin() + static_cast<std::ptrdiff_t>(first));
     collect_events(trace, labels, trial.id, eye, out.events);
-    out.trial_eye.push_back(eye);
     out.events.trials.push_back({trial.id, eye, std::move(fitted)});
   }
   return out;

@@ -13,7 +13,6 @@ namespace gazemill {
 struct RecordingDetection {
   DetectedEvents events;
   std::vector<SampleLabel> labels;  // one per sample of the recording; "other" outside trials
-  std::vector<Eye> trial_eye;       // the eye used for each trial (left for an average)
 };
 
 /// Index range [first, last) of the samples inside [start_us, end_us].

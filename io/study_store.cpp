@@ -204,12 +204,9 @@ namespace {
 
 // "deg/s" for peak_threshold_deg_s: fitted values carry their unit in their name.
 std::string unit_in_name(const std::string& name) {
-  const auto ends = [&](const std::string& suffix) {
-    return name.size() > suffix.size() && name.compare(name.size() - suffix.size(), suffix.size(), suffix) == 0;
-  };
-  if (ends("_deg_s")) return "deg/s";
-  if (ends("_deg")) return "deg";
-  if (ends("_ms")) return "ms";
+  if (name.ends_with("_deg_s")) return "deg/s";
+  if (name.ends_with("_deg")) return "deg";
+  if (name.ends_with("_ms")) return "ms";
   return "";
 }
 

@@ -68,7 +68,7 @@ struct BlinkEvent {
 /// none for a fixed threshold), so that every trial's labels can be redone.
 struct TrialDetection {
   std::string trial;
-  Eye eye = Eye::left;
+  Eye eye = Eye::left;  // left for the average of both eyes
   std::map<std::string, double> fitted;
 };
 

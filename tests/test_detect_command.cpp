@@ -68,7 +68,7 @@ TEST(DetectCommand, WritesEventsAndKeepsTheRest) {
   ASSERT_EQ(stored.trials.size(), rec.trials.size());
   for (std::size_t i = 0; i < rec.trials.size(); ++i) {
     EXPECT_EQ(stored.trials[i].trial, rec.trials[i].id);
-    EXPECT_EQ(stored.trials[i].eye, expected.trial_eye[i]);
+    EXPECT_EQ(stored.trials[i].eye, expected.events.trials[i].eye);
     EXPECT_TRUE(stored.trials[i].fitted.empty());
   }
 

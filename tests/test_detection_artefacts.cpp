@@ -183,10 +183,10 @@ TEST(DetectionArtefacts, BestEyePerTrial) {
   spec.eye = EyeChoice::best;
   const auto d = make_detector(spec);
   const auto det = detect_recording(rec, *d, spec);
-  EXPECT_EQ(det.trial_eye[0], Eye::right);
-  EXPECT_EQ(det.trial_eye[1], Eye::left);
+  EXPECT_EQ(det.events.trials[0].eye, Eye::right);
+  EXPECT_EQ(det.events.trials[1].eye, Eye::left);
   spec.eye = EyeChoice::left;
-  EXPECT_EQ(detect_recording(rec, *d, spec).trial_eye[1], Eye::left);
+  EXPECT_EQ(detect_recording(rec, *d, spec).events.trials[1].eye, Eye::left);
   spec.eye = EyeChoice::average;
   const auto avg = detect_recording(rec, *d, spec);
   EXPECT_GT(avg.events.fixations.size(), 100u);

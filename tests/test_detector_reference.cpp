@@ -339,9 +339,10 @@ TEST(DispersionThreshold, MedianWindowDispersionByHand) {
   EXPECT_TRUE(std::isnan(median_window_dispersion(x, y, hole, 4)));
 }
 
-// With no fixed threshold, I-DT sets it from the trace: the same two
-// fixations and ramp are found at five times the noise, where a threshold
-// fitted to the quiet trace finds no fixation at all.
+// With no fixed threshold, I-DT sets it from the trace (our rule; the
+// thresholds worked by hand): the same two fixations and ramp are found at
+// five times the noise, where a threshold fitted to the quiet trace finds no
+// fixation at all.
 TEST(DispersionThreshold, ThresholdFromTheDataFollowsTheNoise) {
   auto trace = [](double noise) {
     std::vector<std::pair<double, double>> pts;
