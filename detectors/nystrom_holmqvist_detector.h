@@ -20,9 +20,8 @@ namespace gazemill {
 struct NystromHolmqvistParams {
   // The paper starts the iteration at 100-300 deg/s (from memory). Reading
   // saccades of 1-2 deg peak near or below 100 deg/s (main sequence, from
-  // memory), and
-  // when they are many the iteration can settle near its start, above them:
-  // 60 lets it settle below them (README, "Event detection").
+  // memory), and when they are many the iteration can settle near its
+  // start, above them: 60 lets it settle below them (README, "Event detection").
   double initial_peak_threshold_deg_s = 60.0;
   double peak_sd_factor = 6.0;
   double onset_sd_factor = 3.0;
