@@ -16,6 +16,7 @@
 #include "io/byte_source.h"
 #include "io/decimal_to_float.h"
 #include "io/mapped_window.h"
+#include "io/row_group_reader.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
@@ -115,6 +116,19 @@ Microseconds scale_time_in(TimeUnit unit, double value) {
   return static_cast<Microseconds>(std::llround(us));
 }
 
+// A row group's times in microseconds, as the row path scales whole times,
+// when each is later than the one before it: the first later than `last`,
+// unless it is the recording's first sample. False otherwise (the row path
+// then repairs or reports them).
+bool group_times(const RowGroup& g, TimeUnit unit, Microseconds last, bool first_sample, Microseconds (&t)[kGroupRows]) {
+  for (int i = 0; i < kGroupRows; ++i) {
+    t[i] = scale_whole_time_in(unit, static_cast<std::int64_t>(g.time[i]));
+    if (t[i] == kTimeOutOfRange || (t[i] <= last && !(first_sample && i == 0))) return false;
+    last = t[i];
+  }
+  return true;
+}
+
 std::string describe(char delimiter) {
   if (delimiter == '\t') return "tab";
   return std::string("'") + delimiter + "'";
@@ -178,6 +192,37 @@ class RowParser {
     set(right_.y, kRightY);
     set(right_.pupil, kRightPupil);
     common_rows_ = opt_.common_row_path && (layout_.left || layout_.right);
+    group_layout_ = common_rows_ && opt_.row_groups ? row_group_layout_for_header() : RowGroupLayout{};
+  }
+
+  // How read_row_group reads this header's rows, and where its values go;
+  // a layout with no time column when groups cannot be used.
+  RowGroupLayout row_group_layout_for_header() {
+    const std::size_t columns = names_.size();
+    if (!row_groups_supported() || columns > static_cast<std::size_t>(kGroupMaxColumns) ||
+        layout_.missing_values.size() > static_cast<std::size_t>(kGroupMaxTokens)) {
+      return {};
+    }
+    RowGroupLayout g = row_group_layout(layout_.delimiter, static_cast<int>(columns));
+    g.time_column = static_cast<int>(time_);
+    g.message_column = message_ == kNoColumn ? -1 : static_cast<int>(message_);
+    g.numeric_tokens = numeric_tokens_;
+    for (const auto& t : layout_.missing_values) {
+      if (t.size() > 8) continue;  // no field a group reads is longer
+      std::uint64_t word = 0;
+      std::memcpy(&word, t.data(), t.size());
+      g.token_word[g.token_count] = word;
+      g.token_length[g.token_count++] = static_cast<int>(t.size());
+    }
+    std::fill(std::begin(left_slots_), std::end(left_slots_), -1);
+    std::fill(std::begin(right_slots_), std::end(right_slots_), -1);
+    for (std::size_t c = 0; c < columns; ++c) {
+      const int role = role_of_[c];
+      if (role <= kTime) continue;
+      (role <= kLeftPupil ? left_slots_[role - kLeftX] : right_slots_[role - kRightX]) = g.value_count;
+      g.value_columns[g.value_count++] = static_cast<int>(c);
+    }
+    return g;
   }
 
   void parse_header(std::string_view line, std::size_t line_no) {
@@ -325,7 +370,50 @@ class RowParser {
 
     float value[kRoles];
     std::fill(std::begin(value), std::end(value), kNaN);  // unmapped roles stay NaN
+    // The rule of put_eye, repeated here because a shared non-lambda helper
+    // measured slower on this loop; the CommonRows tests hold the two equal.
+    const auto put = [&](float x, float y, float pupil, const EyeColumns& eye, std::uint64_t& missing) {
+      if (zero_is_missing && x == 0.0f && y == 0.0f) x = y = kNaN;
+      const bool ok = std::isfinite(x) && std::isfinite(y);
+      if (!ok) x = y = kNaN;  // half a coordinate is no position
+      missing += !ok;
+      eye.x[k] = x, eye.y[k] = y, eye.pupil[k] = pupil, eye.valid[k] = ok;
+    };
+    const bool groups = group_layout_.time_column >= 0;
+    int single_rows = 0;  // rows to read one at a time before the next group
+    int failed_groups = 0;  // in a row
+    RowGroup group;
     while (p < end) {
+      if (groups && single_rows == 0 && k + kGroupRows <= capacity_) {
+        Microseconds t[kGroupRows];
+        if (read_row_group(p, end, group_layout_, group) && group_times(group, unit, last, samples == 0, t)) {
+          if (samples == 0) result_.first_time_us = t[0];
+          std::copy(t, t + kGroupRows, times + k);
+          const auto store = [&](const int* slot, const EyeColumns& eye, std::uint64_t& missing) {
+            missing += store_eye_group(group, slot, zero_is_missing, eye.x + k, eye.y + k, eye.pupil + k, eye.valid + k);
+          };
+          if (left) store(left_slots_, left_columns, missing_left);
+          if (right) store(right_slots_, right_columns, missing_right);
+          k += kGroupRows;
+          last = t[kGroupRows - 1];
+          samples += kGroupRows, rows += kGroupRows, lines += kGroupRows;
+          result_.grouped_rows += kGroupRows;
+          p = group.end;
+          failed_groups = 0;
+          if (k == capacity_) {
+            rows_in_chunk_ = k;
+            flush();
+            find_columns();
+            k = 0;
+          }
+          continue;
+        }
+        // A group that fails is read row by row; after many in a row, groups
+        // are tried less often (files whose rows never fit one).
+        ++failed_groups;
+        single_rows = failed_groups < 8 ? kGroupRows : kGroupRows << std::min(failed_groups - 8, 7);
+      }
+      if (single_rows > 0) --single_rows;
       const char* q = p;
       PlainDecimal time;
       bool common = true;
@@ -383,15 +471,6 @@ class RowParser {
       last = t;
       ++samples, ++rows, ++lines;
       times[k] = t;
-      // The rule of put_eye, repeated here because a shared non-lambda helper
-      // measured slower on this loop; the CommonRows tests hold the two equal.
-      const auto put = [&](float x, float y, float pupil, const EyeColumns& eye, std::uint64_t& missing) {
-        if (zero_is_missing && x == 0.0f && y == 0.0f) x = y = kNaN;
-        const bool ok = std::isfinite(x) && std::isfinite(y);
-        if (!ok) x = y = kNaN;  // half a coordinate is no position
-        missing += !ok;
-        eye.x[k] = x, eye.y[k] = y, eye.pupil[k] = pupil, eye.valid[k] = ok;
-      };
       if (left) put(value[kLeftX], value[kLeftY], value[kLeftPupil], left_columns, missing_left);
       if (right) put(value[kRightX], value[kRightY], value[kRightPupil], right_columns, missing_right);
       p = q;
@@ -608,6 +687,9 @@ class RowParser {
   bool negative_[kRoles] = {};
   bool numeric_tokens_ = false;       // a missing-value token reads as a number (e.g. "-1")
   bool common_rows_ = false;          // parse_common_rows may be tried
+  RowGroupLayout group_layout_;       // time_column < 0: rows are not read in groups
+  int left_slots_[3] = {-1, -1, -1};   // x, y, pupil: where in a RowGroup's values
+  int right_slots_[3] = {-1, -1, -1};
   std::size_t time_ = kNoColumn, message_ = kNoColumn;
   EyeIndex left_, right_;
   std::size_t max_token_length_ = 0;

@@ -29,6 +29,7 @@ struct DelimitedReadResult {
   std::vector<Message> messages;      // in file order
   std::vector<std::size_t> message_lines;
   RepairCounts repairs;
+  std::uint64_t grouped_rows = 0;     // rows read eight at a time (io/row_group_reader.h)
 };
 
 struct DelimitedReadOptions {
@@ -47,6 +48,9 @@ struct DelimitedReadOptions {
   // quicker path that hands anything else to the careful one. Off only in the
   // test that checks both paths give the same result.
   bool common_row_path = true;
+  // On that path, read eight rows at a time with AVX-512 where the processor
+  // has it. Off only in tests that compare with and without.
+  bool row_groups = true;
   // Parse plain files from mapped windows rather than read() copies. Off only
   // in the test that checks both ways give the same result.
   bool map_plain_files = true;
