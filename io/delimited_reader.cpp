@@ -370,15 +370,6 @@ class RowParser {
 
     float value[kRoles];
     std::fill(std::begin(value), std::end(value), kNaN);  // unmapped roles stay NaN
-    // The rule of put_eye, repeated here because a shared non-lambda helper
-    // measured slower on this loop; the CommonRows tests hold the two equal.
-    const auto put = [&](float x, float y, float pupil, const EyeColumns& eye, std::uint64_t& missing) {
-      if (zero_is_missing && x == 0.0f && y == 0.0f) x = y = kNaN;
-      const bool ok = std::isfinite(x) && std::isfinite(y);
-      if (!ok) x = y = kNaN;  // half a coordinate is no position
-      missing += !ok;
-      eye.x[k] = x, eye.y[k] = y, eye.pupil[k] = pupil, eye.valid[k] = ok;
-    };
     const bool groups = group_layout_.time_column >= 0;
     int single_rows = 0;  // rows to read one at a time before the next group
     int failed_groups = 0;  // in a row
@@ -471,6 +462,15 @@ class RowParser {
       last = t;
       ++samples, ++rows, ++lines;
       times[k] = t;
+      // The rule of put_eye, repeated here because a shared non-lambda helper
+      // measured slower on this loop; the CommonRows tests hold the two equal.
+      const auto put = [&](float x, float y, float pupil, const EyeColumns& eye, std::uint64_t& missing) {
+        if (zero_is_missing && x == 0.0f && y == 0.0f) x = y = kNaN;
+        const bool ok = std::isfinite(x) && std::isfinite(y);
+        if (!ok) x = y = kNaN;  // half a coordinate is no position
+        missing += !ok;
+        eye.x[k] = x, eye.y[k] = y, eye.pupil[k] = pupil, eye.valid[k] = ok;
+      };
       if (left) put(value[kLeftX], value[kLeftY], value[kLeftPupil], left_columns, missing_left);
       if (right) put(value[kRightX], value[kRightY], value[kRightPupil], right_columns, missing_right);
       p = q;
