@@ -116,13 +116,19 @@ Microseconds scale_time_in(TimeUnit unit, double value) {
   return static_cast<Microseconds>(std::llround(us));
 }
 
-// A row group's times in microseconds, as the row path scales whole times,
+// A row group's times in microseconds, scaled as the row path scales them,
 // when each is later than the one before it: the first later than `last`,
 // unless it is the recording's first sample. False otherwise (the row path
 // then repairs or reports them).
 bool group_times(const RowGroup& g, TimeUnit unit, Microseconds last, bool first_sample, Microseconds (&t)[kGroupRows]) {
+  for (int i = 0; i < kGroupRows; ++i) t[i] = scale_whole_time_in(unit, static_cast<std::int64_t>(g.time[i]));
+  if (!g.time_whole) {
+    for (int i = 0; i < kGroupRows; ++i) {
+      const bool negative = (g.time_negative >> i) & 1;
+      if (g.time_decimals[i] != 0 || negative) t[i] = scale_time_in(unit, decimal_to_double(g.time[i], g.time_decimals[i], negative));
+    }
+  }
   for (int i = 0; i < kGroupRows; ++i) {
-    t[i] = scale_whole_time_in(unit, static_cast<std::int64_t>(g.time[i]));
     if (t[i] == kTimeOutOfRange || (t[i] <= last && !(first_sample && i == 0))) return false;
     last = t[i];
   }

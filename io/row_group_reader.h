@@ -35,7 +35,12 @@ struct RowGroupLayout {
 };
 
 struct RowGroup {
-  std::uint64_t time[kGroupRows];  // whole numbers of the file's time unit
+  // Times in the file's unit: whole numbers, or where time_whole is false,
+  // digits without the dot and sign, with their decimals and signs.
+  std::uint64_t time[kGroupRows];
+  bool time_whole = true;
+  std::uint8_t time_decimals[kGroupRows] = {};
+  std::uint8_t time_negative = 0;  // bit i: row i's time is negative
   float value[kGroupMaxValues][kGroupRows];  // NaN where missing
   const char* end = nullptr;       // just past the eighth row's '\n'
 };
@@ -48,7 +53,8 @@ bool row_groups_supported();
 
 /// Reads the eight rows at p when every one is plain: each field in a value
 /// column a plain decimal of at most 8 characters (sign and dot included) or
-/// a missing token, the time a whole number of 1 to 15 digits, the message
+/// a missing token, the time a whole number of 1 to 15 digits or a plain
+/// decimal of at most 8 characters, the message
 /// empty, the field count right, each row ending in '\n' (or "\r\n"), all
 /// eight within 1 KiB. Reads nothing at or past `end`, and fails when the
 /// rows come within 8 bytes of it. False when any row is not plain.

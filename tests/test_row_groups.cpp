@@ -57,6 +57,58 @@ TEST(RowGroups, NumberFormsEqualStrtof) {
   }
 }
 
+namespace {
+
+// value / 10^decimals written with exactly `decimals` decimals: 325, 2 -> "3.25".
+std::string fixed(long long value, int decimals) {
+  const bool negative = value < 0;
+  std::string digits = std::to_string(negative ? -value : value);
+  if (decimals > 0) {
+    if (static_cast<int>(digits.size()) <= decimals) digits.insert(0, decimals + 1 - digits.size(), '0');
+    digits.insert(digits.size() - decimals, ".");
+  }
+  return (negative ? "-" : "") + digits;
+}
+
+}  // namespace
+
+// Times a group takes: whole numbers up to 15 digits, and decimals of up to
+// 8 characters, signed or not, in every unit; each read as the row path
+// reads it.
+TEST(RowGroups, TimeFormsReadAsWithout) {
+  TempDir dir;
+  struct Form {
+    long long first, step;
+    int decimals;
+    TimeUnit unit;
+  };
+  const std::vector<Form> forms = {{7, 1, 0, TimeUnit::milliseconds},
+                                   {123456789012345, 2, 0, TimeUnit::microseconds},
+                                   {99999000, 1000, 0, TimeUnit::nanoseconds},
+                                   {12345, 1, 3, TimeUnit::seconds},   // 12.345 s
+                                   {-325, 25, 2, TimeUnit::milliseconds},  // -3.25 ms, through 0.00
+                                   {125, 125, 6, TimeUnit::seconds},  // 0.000125 s
+                                   {12345, 10, 1, TimeUnit::microseconds},  // 1234.5 us: halves round away from zero
+                                   {-5, 1, 1, TimeUnit::seconds}};  // -0.5 s, through 0.0
+  for (const Form& form : forms) {
+    std::string text = "t\tx\ty\tp\n";
+    for (int i = 0; i < 24; ++i) text += fixed(form.first + form.step * i, form.decimals) + "\t1.5\t2.5\t3\n";
+    const std::string path = dir.write("times.tsv", text);
+    DelimitedReadOptions with = one_eye_options(), without = with;
+    with.layout.time_unit = without.layout.time_unit = form.unit;
+    without.row_groups = false;
+    Reading a, b;
+    read_into(a, path, with);
+    read_into(b, path, without);
+    const std::string first = fixed(form.first, form.decimals);
+    EXPECT_EQ(first_difference(a, b), "") << first;
+    EXPECT_EQ(a.error, "") << first;
+    if (row_groups_supported()) {
+      EXPECT_GT(a.result.grouped_rows, 0u) << first;
+    }
+  }
+}
+
 // Forms a group must refuse, each in the fifth row: the group falls back to
 // the row path, which reads or reports them; the readings with and without
 // groups are the same.
@@ -88,7 +140,7 @@ struct Generated {
 // column order, one eye or two, pupil or not, an unmapped column, a message
 // column anywhere; now and then a message, a missing token or word, a form a
 // group refuses, a CRLF row end, a comment, a repeated or decimal time, a
-// number too long for a group.
+// number too long for a group. Some files give times as decimal seconds.
 Generated mostly_plain_export(std::mt19937_64& rng, std::size_t rows) {
   Generated g;
   auto chance = [&](double p) { return std::uniform_real_distribution<double>(0, 1)(rng) < p; };
@@ -99,6 +151,9 @@ Generated mostly_plain_export(std::mt19937_64& rng, std::size_t rows) {
   o.layout.time_unit = std::vector<TimeUnit>{TimeUnit::seconds, TimeUnit::milliseconds, TimeUnit::microseconds,
                                              TimeUnit::nanoseconds}[pick(4)];
   o.layout.comment_prefix = "#";
+  // Times as seconds with three decimals, as some lab scripts write them.
+  const bool seconds_with_decimals = chance(0.2);
+  if (seconds_with_decimals) o.layout.time_unit = TimeUnit::seconds;
   const bool binocular = chance(0.4), pupil = chance(0.7), message = chance(0.7), unmapped = chance(0.3);
   o.layout.left = EyeColumnNames{"lx", "ly", pupil ? "lp" : ""};
   if (binocular) o.layout.right = EyeColumnNames{"rx", "ry", "rp"};
@@ -149,7 +204,11 @@ Generated mostly_plain_export(std::mt19937_64& rng, std::size_t rows) {
     }
     if (!chance(odd)) t += 1 + (chance(0.01) ? pick(50) : 0);  // else a repeat
     std::string time = std::to_string(t);
-    if (chance(odd / 4)) time += ".5", ++t;  // a decimal time, and the next is later even if repeated
+    if (seconds_with_decimals) {
+      time = std::to_string(t / 1000) + "." + std::to_string(1000 + t % 1000).substr(1);  // 12.345
+    } else if (chance(odd / 4)) {
+      time += ".5", ++t;  // a decimal time, and the next is later even if repeated
+    }
     std::vector<std::string> f;
     for (const std::string& name : header) {
       if (name == "t") f.push_back(time);
