@@ -22,8 +22,8 @@ struct RowGroupLayout {
   int time_column = -1;
   int value_columns[kGroupMaxValues] = {};  // columns read as floats, in output order
   int value_count = 0;
-  int message_column = -1;         // must be empty in a plain row; -1: none
-  // Any other column is skipped unread.
+  int message_column = -1;         // must be empty in a plain row; -1: none;
+                                   // any other column is skipped unread
   // Missing-value tokens of at most 8 bytes, as little-endian words.
   std::uint64_t token_word[kGroupMaxTokens] = {};
   int token_length[kGroupMaxTokens] = {};
@@ -54,9 +54,8 @@ bool row_groups_supported();
 /// Reads the eight rows at p when every one is plain: each field in a value
 /// column a plain decimal of at most 8 characters (sign and dot included) or
 /// a missing token, the time a whole number of 1 to 15 digits or a plain
-/// decimal of at most 8 characters, the message
-/// empty, the field count right, each row ending in '\n' (or "\r\n"), all
-/// eight within 1 KiB. Reads nothing at or past `end`, and fails when the
+/// decimal of at most 8 characters, the message empty, the field count
+/// right, each row ending in '\n' (or "\r\n"), all eight within 1 KiB. Reads nothing at or past `end`, and fails when the
 /// rows come within 8 bytes of it. False when any row is not plain.
 bool read_row_group(const char* p, const char* end, const RowGroupLayout& layout, RowGroup& out);
 
