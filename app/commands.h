@@ -7,26 +7,9 @@
 #include <vector>
 
 #include "app/progress_bar.h"
+#include "app/score.h"
 
 namespace gazemill {
-
-struct ScoreOptions {
-  std::string simulated_folder;
-  std::string labelled_file;
-  std::string protocol;           // detection settings (and screen) from a protocol
-  std::string method;             // or from the command line
-  std::vector<std::string> params;  // NAME=VALUE
-  std::string codes;              // CODE=CLASS,...
-  std::string codes_file;         // or a TOML file with a [codes] table
-  std::string columns = "time,x,y,label";
-  std::string delimiter = "tab";
-  std::string time_unit = "ms";
-  std::string screen_px;          // WIDTHxHEIGHT
-  std::string screen_mm;          // WIDTHxHEIGHT
-  double distance_mm = 0;
-  double rate_hz = 0;
-  std::string json_out;
-};
 
 struct CommandOptions {
   bool show_progress = false;

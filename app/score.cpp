@@ -3,8 +3,13 @@
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
+#include <charconv>
 #include <cmath>
 #include <filesystem>
+#include <fstream>
+#include <iostream>
+#include <optional>
+#include <string_view>
 
 #include "app/detect.h"
 #include "app/ingest.h"
@@ -210,6 +215,138 @@ std::string agreement_json(const AgreementReport& r, const DetectionSpec& detect
     }
   }
   return j.dump(2);
+}
+
+namespace {
+
+// Two positive finite numbers, the whole text read; `most` bounds each.
+std::pair<double, double> parse_pair(const std::string& text, const std::string& option, double most) {
+  const auto x = text.find('x');
+  const auto read = [&](std::string_view part, double& v) {
+    const auto r = std::from_chars(part.data(), part.data() + part.size(), v);
+    return !part.empty() && r.ec == std::errc() && r.ptr == part.data() + part.size() && v > 0 && v <= most;
+  };
+  double w = 0, h = 0;
+  if (x != std::string::npos && read(std::string_view(text).substr(0, x), w) && read(std::string_view(text).substr(x + 1), h)) {
+    return {w, h};
+  }
+  throw InputError({"", 0, option}, "expected WIDTHxHEIGHT, two positive numbers up to " + std::to_string(static_cast<long>(most)) +
+                                        ", e.g. 1920x1080; found \"" + text + "\"");
+}
+
+}  // namespace
+
+int run_score(const ScoreOptions& so) {
+  if (so.simulated_folder.empty() == so.labelled_file.empty()) {
+    throw InputError({"", 0, "score"}, "give either --simulated FOLDER or --labelled FILE");
+  }
+  DetectionSpec detection;
+  std::optional<Protocol> protocol;
+  if (!so.protocol.empty()) {
+    protocol = parse_protocol_file(so.protocol);
+    detection = protocol->detection;
+  }
+  if (!so.method.empty()) detection.method = so.method;
+  for (const auto& p : so.params) {
+    const auto eq = p.find('=');
+    try {
+      if (eq == std::string::npos) throw std::invalid_argument("no =");
+      detection.parameters[p.substr(0, eq)] = std::stod(p.substr(eq + 1));
+    } catch (const std::exception&) {
+      throw InputError({"", 0, "--param"}, "expected NAME=VALUE with a number, found \"" + p + "\"");
+    }
+  }
+  try {
+    make_detector(detection);
+  } catch (const std::invalid_argument& e) {
+    throw InputError({"", 0, "--method/--param"}, e.what());
+  }
+  AgreementReport report;
+  if (!so.simulated_folder.empty()) {
+    report = score_simulated_study(so.simulated_folder, detection);
+  } else {
+    LabelledFileSpec f;
+    f.path = so.labelled_file;
+    std::vector<std::string> cols;
+    std::string c;
+    for (char ch : so.columns + ",") {
+      if (ch == ',') {
+        cols.push_back(c);
+        c.clear();
+      } else {
+        c += ch;
+      }
+    }
+    if (cols.size() != 4) throw InputError({"", 0, "--columns"}, "expected four names: time,x,y,label");
+    f.time_column = cols[0];
+    f.x_column = cols[1];
+    f.y_column = cols[2];
+    f.label_column = cols[3];
+    const auto delimiter = delimiter_named(so.delimiter);
+    if (!delimiter) throw InputError({"", 0, "--delimiter"}, "expected tab, comma, semicolon, space or one character");
+    f.delimiter = *delimiter;
+    const auto tu = parse_time_unit(so.time_unit);
+    if (!tu) throw InputError({"", 0, "--time-unit"}, "expected s, ms, us or ns");
+    f.time_unit = *tu;
+    if (so.codes.empty() && so.codes_file.empty()) {
+      throw InputError({"", 0, "--codes"}, "a labelled file needs its label codes, e.g. --codes 1=fixation,2=saccade (or --codes-file)");
+    }
+    f.codes = so.codes_file.empty() ? parse_label_codes(so.codes) : read_label_codes_file(so.codes_file);
+    if (protocol && protocol->screen) f.screen = *protocol->screen;
+    if (!so.screen_px.empty()) {
+      const auto [w, h] = parse_pair(so.screen_px, "--screen-px", 100000);
+      if (w != std::floor(w) || h != std::floor(h)) throw InputError({"", 0, "--screen-px"}, "expected whole pixels, e.g. 1920x1080");
+      f.screen.width_px = static_cast<int>(w);
+      f.screen.height_px = static_cast<int>(h);
+    }
+    if (!so.screen_mm.empty()) std::tie(f.screen.width_mm, f.screen.height_mm) = parse_pair(so.screen_mm, "--screen-mm", 100000);
+    if (so.distance_mm != 0) {  // given
+      if (!(so.distance_mm > 0) || !std::isfinite(so.distance_mm)) {
+        throw InputError({"", 0, "--distance-mm"}, "expected a positive number of millimetres");
+      }
+      f.screen.viewing_distance_mm = so.distance_mm;
+    }
+    if (f.screen.width_px <= 0 || f.screen.width_mm <= 0 || f.screen.viewing_distance_mm <= 0) {
+      throw InputError({"", 0, "--screen-px/--screen-mm/--distance-mm"},
+                       "the screen geometry is needed to work in degrees: give it, or a --protocol with [screen]");
+    }
+    f.sample_rate_hz = so.rate_hz;
+    report = score_labelled_file(f, detection);
+  }
+  print_agreement(report, std::cout);
+  if (!so.json_out.empty()) {
+    const std::string tmp = so.json_out + ".partial";
+    {
+      std::ofstream out(tmp);
+      out << agreement_json(report, detection) << "\n";
+      if (!out) throw InputError({so.json_out, 0, ""}, "cannot write");
+    }
+    fs::rename(tmp, so.json_out);
+  }
+  return 0;
+}
+
+
+void register_score_command(CLI::App& app, ScoreOptions& so) {
+  auto* score = app.add_subcommand("score", "Compare a detector's labels with a reference labelling");
+  auto* sim_opt = score->add_option("--simulated", so.simulated_folder, "Folder written by gazemill simulate (uses its truth/)");
+  auto* lab_opt = score->add_option("--labelled", so.labelled_file, "Delimited file with time, x, y and a label column");
+  sim_opt->excludes(lab_opt);
+  score->add_option("--protocol", so.protocol, "Take the detection settings (and screen) from this protocol");
+  score->add_option("--method", so.method, "Detection method: ivt, idt, engbert_kliegl, nystrom_holmqvist");
+  score->add_option("--param", so.params, "Method parameter NAME=VALUE (repeatable)");
+  auto* codes_opt = score->add_option("--codes", so.codes, "Label codes of the labelled file, e.g. 1=fixation,2=saccade,3=pso,4=blink");
+  score->add_option("--codes-file", so.codes_file, "The label codes in a TOML file: [codes] \"1\" = \"fixation\" ...")
+      ->excludes(codes_opt)->check(CLI::ExistingFile);
+  score->add_option("--columns", so.columns, "Time, x, y and label column names of the labelled file")->capture_default_str();
+  score->add_option("--delimiter", so.delimiter, "tab, comma, semicolon or one character")->capture_default_str();
+  score->add_option("--time-unit", so.time_unit, "s, ms, us or ns")->capture_default_str();
+  score->add_option("--screen-px", so.screen_px, "Screen size in pixels, WIDTHxHEIGHT");
+  score->add_option("--screen-mm", so.screen_mm, "Screen size in millimetres, WIDTHxHEIGHT");
+  score->add_option("--distance-mm", so.distance_mm, "Viewing distance in millimetres");
+  score->add_option("--rate", so.rate_hz, "Sampling rate in Hz (default: from the timestamps)");
+  score->add_option("--json", so.json_out, "Also write the results as JSON to this file");
+
 }
 
 }  // namespace gazemill

@@ -2,6 +2,8 @@
 // score: how well a detector agrees with a reference labelling, either the
 // simulator's ground truth or any labelled recording in a delimited file.
 
+#include <CLI/CLI.hpp>
+
 #include <map>
 #include <ostream>
 #include <string>
@@ -10,6 +12,26 @@
 #include "pipeline/protocol.h"
 
 namespace gazemill {
+
+/// The options of `gazemill score`.
+struct ScoreOptions {
+  std::string simulated_folder;
+  std::string labelled_file;
+  std::string protocol;           // detection settings (and screen) from a protocol
+  std::string method;             // or from the command line
+  std::vector<std::string> params;  // NAME=VALUE
+  std::string codes;              // CODE=CLASS,...
+  std::string codes_file;         // or a TOML file with a [codes] table
+  std::string columns = "time,x,y,label";
+  std::string delimiter = "tab";
+  std::string time_unit = "ms";
+  std::string screen_px;          // WIDTHxHEIGHT
+  std::string screen_mm;          // WIDTHxHEIGHT
+  double distance_mm = 0;
+  double rate_hz = 0;
+  std::string json_out;
+};
+
 
 /// A plain labelled recording: one delimited file with time, x, y and label columns.
 struct LabelledFileSpec {
@@ -37,5 +59,10 @@ AgreementReport score_labelled_file(const LabelledFileSpec& file, const Detectio
 
 void print_agreement(const AgreementReport& report, std::ostream& out);
 std::string agreement_json(const AgreementReport& report, const DetectionSpec& detection);
+
+/// Adds the score subcommand, its options stored in `options`.
+void register_score_command(CLI::App& app, ScoreOptions& options);
+/// Runs it; returns the exit code. Throws InputError on bad input.
+int run_score(const ScoreOptions& options);
 
 }  // namespace gazemill
