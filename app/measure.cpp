@@ -82,6 +82,7 @@ std::vector<MeasureRow> measure_rows(const StudyStoreReader& store, const Region
         row.region_letters = info.letters;
         row.region_words = info.words;
         row.region_line = info.line + 1;
+        row.region_last_line = info.last_line + 1;
         row.fixated = x.fixated;
         row.skipped = x.skipped;
         row.regression_in = x.regression_in;

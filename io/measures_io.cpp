@@ -54,6 +54,7 @@ std::vector<Column> wide_columns(const std::vector<MeasureRow>& rows) {
   text("region_role", [](const MeasureRow& r) { return text_or_na(r.region_role); });
   num("region_letters", [](const MeasureRow& r) { return r.region_letters ? std::optional<double>(r.region_letters) : std::nullopt; });
   num("region_line", [](const MeasureRow& r) { return r.region_line; });
+  num("region_last_line", [](const MeasureRow& r) { return r.region_last_line; });
   for (const auto& m : measure_names()) num(m, [m](const MeasureRow& r) { return measure_value(r, m); });
   for (const char* side : {"previous", "next"}) {
     const bool prev = std::string(side) == "previous";

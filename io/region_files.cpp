@@ -30,7 +30,8 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px)
     // Numbered from 1; the bounds keep a stray number from sizing a vector of billions.
     const int region = t.whole(r, "region", 1, kMaxRegionsPerItem) - 1;
     const int line = t.whole(r, "line", 1, kMaxLinesPerItem) - 1;
-    RegionBox box{line, t.number(r, "left_px"), t.number(r, "top_px"), t.number(r, "right_px"), t.number(r, "bottom_px")};
+    RegionBox box{line, t.number(r, "left_px"), t.number(r, "top_px"), t.number(r, "right_px"), t.number(r, "bottom_px"), 0, 0};
+    box.first_letter_left_px = box.left_px;
     if (box.right_px <= box.left_px || box.bottom_px <= box.top_px) {
       throw InputError({path, t.line_of(r), "right_px"}, "a box needs right_px > left_px and bottom_px > top_px");
     }
@@ -41,14 +42,19 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px)
       info.label = t.text(r, "label");
       info.role = t.text_or(r, "role", "");
       info.line = line;
-      info.first_letter_left_px = box.left_px;
       if (t.has("letters")) {
         info.letters = t.whole(r, "letters", 0, kMaxCount);
         info.has_letters = true;
       }
       if (t.has("words")) info.words = t.whole(r, "words", 0, kMaxCount);
     }
+    // A wrapped region's later boxes: the characters of its earlier boxes
+    // come before them, as many as fit their widths.
+    for (const RegionBox& earlier : info.boxes) {
+      box.chars_before += char_width_px > 0 ? (earlier.right_px - earlier.left_px) / char_width_px : 0;
+    }
     info.boxes.push_back(box);
+    info.last_line = std::max(info.last_line, line);
     if (static_cast<int>(L.lines.size()) <= line) L.lines.resize(static_cast<std::size_t>(line) + 1, {1e300, -1e300});
     LineInfo& li = L.lines[static_cast<std::size_t>(line)];
     li.top_px = std::min(li.top_px, box.top_px);

@@ -3,6 +3,21 @@
 #include <cmath>
 
 namespace gazemill {
+namespace {
+
+// The end (exclusive) of the run on `region` that starts at `k`.
+std::size_t run_end(const std::vector<PlacedFixation>& fx, std::size_t k, int region) {
+  while (k < fx.size() && fx[k].region == region) ++k;
+  return k;
+}
+
+double run_duration(const std::vector<PlacedFixation>& fx, std::size_t from, std::size_t to) {
+  double sum = 0;
+  for (std::size_t k = from; k < to; ++k) sum += fx[k].duration_ms;
+  return sum;
+}
+
+}  // namespace
 
 std::vector<RegionMeasures> reading_measures(const std::vector<PlacedFixation>& fx, int region_count, double char_width_px) {
   std::vector<RegionMeasures> out(static_cast<std::size_t>(std::max(0, region_count)));
@@ -16,26 +31,34 @@ std::vector<RegionMeasures> reading_measures(const std::vector<PlacedFixation>& 
     m.region = r;
     double total = 0;
     std::size_t first = n;
+    bool entered_from_further = false;
     for (std::size_t k = 0; k < n; ++k) {
       if (fx[k].region != r) continue;
       total += fx[k].duration_ms;
       ++m.total_fixations;
       if (first == n) first = k;
-      // Entered from a region further on: the previous fixation on a region is beyond this one.
+      // A run's first fixation: was the fixation on a region just before it further on?
       for (std::size_t j = k; j-- > 0;) {
         if (fx[j].region < 0) continue;
-        if (fx[j].region > r) m.regression_in = true;
+        if (fx[j].region > r) entered_from_further = true;
         break;
       }
     }
     m.fixated = m.total_fixations > 0;
-    if (m.fixated) m.total_time_ms = total;
-    if (first == n || furthest_before[first] > r) continue;  // skipped in first pass
+    if (!m.fixated) continue;  // every duration and indicator stays missing; counts stay 0
+    m.total_time_ms = total;
+    m.regression_in = entered_from_further;
+
+    if (furthest_before[first] > r) {  // skipped in first pass, read later
+      const std::size_t end = run_end(fx, first, r);
+      m.second_pass_ms = run_duration(fx, first, end);
+      m.rereading_ms = total;
+      continue;
+    }
 
     m.skipped = false;
-    std::size_t end = first;
-    double gaze = 0;
-    while (end < n && fx[end].region == r) gaze += fx[end++].duration_ms;
+    const std::size_t end = run_end(fx, first, r);
+    const double gaze = run_duration(fx, first, end);
     m.first_fixation_ms = fx[first].duration_ms;
     m.first_pass_fixations = static_cast<int>(end - first);
     if (end - first == 1) m.single_fixation_ms = fx[first].duration_ms;
@@ -58,11 +81,9 @@ std::vector<RegionMeasures> reading_measures(const std::vector<PlacedFixation>& 
     m.selective_go_past_ms = selective;
 
     // Second pass: the next run on the region after the first-pass run.
-    double second = 0;
     std::size_t k = end;
     while (k < n && fx[k].region != r) ++k;
-    while (k < n && fx[k].region == r) second += fx[k++].duration_ms;
-    m.second_pass_ms = second;
+    m.second_pass_ms = run_duration(fx, k, run_end(fx, k, r));
 
     m.landing_chars = fx[first].landing_chars;
     if (first > 0) {

@@ -5,10 +5,15 @@
 // reading and scene perception). Regions are numbered in reading order.
 //
 // A region is entered in first pass when its first fixation comes before any
-// fixation on a region further on; otherwise it was skipped in first pass and
-// every first-pass measure is missing. The first-pass run is the fixations on
-// the region from that first one until the eyes first leave it (a fixation on
-// another region, or off the regions). Missing values are std::nullopt, never 0.
+// fixation on a region further on; otherwise it was skipped in first pass.
+// The first-pass run is the fixations on the region from that first one until
+// the eyes first leave it (a fixation on another region, or off the regions).
+// A run is a stretch of consecutive fixations on the region.
+//
+// Missing values (std::nullopt) follow one convention: a count is 0 when
+// nothing happened; a duration or an indicator is missing when the event it
+// describes did not exist (first-pass measures of a region skipped in first
+// pass; any-pass measures of a region never fixated).
 //
 //   first_fixation_ms      duration of the first first-pass fixation
 //   single_fixation_ms     the same, when the first-pass run has exactly one fixation
@@ -18,19 +23,27 @@
 //                          and off the regions; to the end of the trial when that never happens
 //   selective_go_past_ms   the same span, only the fixations on the region itself
 //   total_time_ms          all fixations on the region; missing when it was never fixated
-//   rereading_ms           total time - gaze duration (missing when skipped in first pass)
-//   second_pass_ms         the region's second run (first visit after the first pass); 0 when not
-//                          revisited, missing when skipped in first pass
-//   skipped                1 when not entered in first pass (never fixated included)
-//   fixated                1 when fixated at all
-//   first_pass_fixations   fixations in the first-pass run; total_fixations: all on the region
-//   regression_out         1 when the first fixation after the first-pass run that is on a region
-//                          lies on an earlier one; missing when skipped in first pass
-//   regression_in          1 when the region was entered from a region further on at any time
+//   rereading_ms           all fixations on the region outside its first-pass run: total time - gaze
+//                          duration, or total time when skipped in first pass; 0 when read only in
+//                          first pass; missing when never fixated
+//   second_pass_ms         the first run on the region after its first pass: the run after the
+//                          first-pass run, or the first run of a region skipped in first pass; 0 when
+//                          read only in first pass; missing when never fixated
+//   skipped                true when not entered in first pass (never fixated included)
+//   fixated                true when fixated at all
+//   first_pass_fixations   fixations in the first-pass run (0 when skipped); total_fixations: all on it
+//   regression_out         true when the first fixation on a region after the first-pass run lies on an
+//                          earlier one; false when a later region or nothing follows; missing when
+//                          skipped in first pass
+//   regression_in          true when some run on the region began right after a fixation on a region
+//                          further on (fixations off the regions between them left out); missing when
+//                          never fixated
 //   landing_chars          landing position of the first first-pass fixation (characters from the
-//                          left edge of the region's first letter)
-//   incoming_saccade_chars horizontal distance from the previous fixation (same line), characters
-//   incoming_saccade_deg   distance from the previous fixation, degrees
+//                          left edge of the region's first letter, in reading order)
+//   incoming_saccade_chars signed horizontal distance from the previous fixation to the first
+//                          first-pass fixation, in characters, when both are on one line (negative:
+//                          leftwards); missing for the trial's first fixation
+//   incoming_saccade_deg   the same saccade's amplitude in degrees (unsigned)
 
 #include <optional>
 #include <vector>
@@ -53,10 +66,9 @@ struct RegionMeasures {
   bool skipped = true;
   std::optional<double> first_fixation_ms, single_fixation_ms, gaze_duration_ms, go_past_ms, selective_go_past_ms;
   std::optional<double> total_time_ms, rereading_ms, second_pass_ms;
-  std::optional<int> first_pass_fixations;
+  int first_pass_fixations = 0;
   int total_fixations = 0;
-  std::optional<bool> regression_out;
-  bool regression_in = false;
+  std::optional<bool> regression_out, regression_in;
   std::optional<double> landing_chars, incoming_saccade_chars, incoming_saccade_deg;
 };
 

@@ -27,6 +27,7 @@ FixationPlace place_fixation(const RegionLayout& L, double x, double y, const Re
   // Region on that line.
   const RegionInfo* first = nullptr;
   const RegionInfo* last = nullptr;
+  const RegionBox* hit = nullptr;
   const RegionBox* first_box = nullptr;
   const RegionBox* last_box = nullptr;
   for (const RegionInfo& r : L.regions) {
@@ -34,6 +35,7 @@ FixationPlace place_fixation(const RegionLayout& L, double x, double y, const Re
       if (b.line != best) continue;
       if (x >= b.left_px && x < b.right_px) {
         out.region = r.id;
+        hit = &b;
         break;
       }
       if (!first_box || b.left_px < first_box->left_px) {
@@ -49,13 +51,15 @@ FixationPlace place_fixation(const RegionLayout& L, double x, double y, const Re
   }
   if (out.region < 0 && spec.margin_nearest && first_box) {
     const double margin = spec.margin_px > 0 ? spec.margin_px : (L.char_width_px > 0 ? 2 * L.char_width_px : 20.0);
-    if (x < first_box->left_px && first_box->left_px - x <= margin) out.region = first->id;
-    else if (x >= last_box->right_px && x - last_box->right_px <= margin) out.region = last->id;
+    if (x < first_box->left_px && first_box->left_px - x <= margin) {
+      out.region = first->id;
+      hit = first_box;
+    } else if (x >= last_box->right_px && x - last_box->right_px <= margin) {
+      out.region = last->id;
+      hit = last_box;
+    }
   }
-  if (out.region >= 0 && L.char_width_px > 0) {
-    const RegionInfo& r = L.regions[static_cast<std::size_t>(out.region)];
-    if (r.line == best) out.landing_chars = (x - r.first_letter_left_px) / L.char_width_px;
-  }
+  if (hit && L.char_width_px > 0) out.landing_chars = hit->chars_before + (x - hit->first_letter_left_px) / L.char_width_px;
   return out;
 }
 

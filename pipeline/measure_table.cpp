@@ -23,10 +23,10 @@ std::optional<double> measure_value(const MeasureRow& r, const std::string& n) {
   if (n == "second_pass_ms") return opt(r.second_pass_ms);
   if (n == "skipped") return r.skipped ? 1.0 : 0.0;
   if (n == "fixated") return r.fixated ? 1.0 : 0.0;
-  if (n == "first_pass_fixations") return r.first_pass_fixations ? std::optional<double>(*r.first_pass_fixations) : std::nullopt;
+  if (n == "first_pass_fixations") return static_cast<double>(r.first_pass_fixations);
   if (n == "total_fixations") return static_cast<double>(r.total_fixations);
   if (n == "regression_out") return r.regression_out ? std::optional<double>(*r.regression_out ? 1.0 : 0.0) : std::nullopt;
-  if (n == "regression_in") return r.regression_in ? 1.0 : 0.0;
+  if (n == "regression_in") return r.regression_in ? std::optional<double>(*r.regression_in ? 1.0 : 0.0) : std::nullopt;
   if (n == "landing_chars") return opt(r.landing_chars);
   if (n == "incoming_saccade_chars") return opt(r.incoming_saccade_chars);
   if (n == "incoming_saccade_deg") return opt(r.incoming_saccade_deg);

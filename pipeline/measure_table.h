@@ -24,13 +24,12 @@ struct MeasureRow {
   std::map<std::string, std::string> variables;
   int region = 0;  // 1-based, reading order
   std::string region_label, region_role;
-  int region_letters = 0, region_words = 0, region_line = 0;  // line 1-based
-  bool fixated = false, skipped = true, regression_in = false;
-  std::optional<bool> regression_out;
+  int region_letters = 0, region_words = 0, region_line = 0, region_last_line = 0;  // lines 1-based
+  bool fixated = false, skipped = true;
+  std::optional<bool> regression_out, regression_in;
   std::optional<double> first_fixation_ms, single_fixation_ms, gaze_duration_ms, go_past_ms, selective_go_past_ms;
   std::optional<double> total_time_ms, rereading_ms, second_pass_ms;
-  std::optional<int> first_pass_fixations;
-  int total_fixations = 0;
+  int first_pass_fixations = 0, total_fixations = 0;
   std::optional<double> landing_chars, incoming_saccade_chars, incoming_saccade_deg;
   std::optional<NeighbourMeasures> previous, next;
 };

@@ -22,7 +22,7 @@ RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSp
     info.line = r.line;
     info.words = static_cast<int>(r.words.size());
     info.has_letters = true;
-    bool first_letter = true;
+    int first_letter = -1;  // index of the region's first letter
     // One box per line the region covers, from its characters.
     bool first_box = true;
     for (int c = r.first_char; c <= r.last_char; ++c) {
@@ -37,20 +37,22 @@ RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSp
       }
       const double left = ch.left_px, right = ch.left_px + ch.width_px;
       if (info.boxes.empty() || info.boxes.back().line != ch.line) {
-        info.boxes.push_back({ch.line, left, out.lines[static_cast<std::size_t>(ch.line)].top_px, right,
-                              out.lines[static_cast<std::size_t>(ch.line)].bottom_px});
+        const LineInfo& line = out.lines[static_cast<std::size_t>(ch.line)];
+        const double before = first_letter < 0 ? 0 : c - first_letter;
+        info.boxes.push_back({ch.line, left, line.top_px, right, line.bottom_px, left, before});
       }
       RegionBox& b = info.boxes.back();
       b.left_px = std::min(b.left_px, left);
       b.right_px = std::max(b.right_px, right);
       if (ch.c != ' ') {
         ++info.letters;
-        if (first_letter) {
-          info.first_letter_left_px = left;
-          first_letter = false;
+        if (first_letter < 0) {
+          first_letter = c;
+          b.first_letter_left_px = left;
         }
       }
     }
+    info.last_line = info.boxes.empty() ? info.line : info.boxes.back().line;
     out.regions.push_back(info);
   }
   return out;

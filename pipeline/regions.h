@@ -13,9 +13,14 @@
 
 namespace gazemill {
 
+/// The part of a region on one line. A region that wraps has one box per line.
 struct RegionBox {
   int line = 0;
   double left_px = 0, top_px = 0, right_px = 0, bottom_px = 0;
+  // Landing positions count characters in reading order from the region's
+  // first letter: this box's first letter is `chars_before` characters in.
+  double first_letter_left_px = 0;
+  double chars_before = 0;
 };
 
 struct RegionInfo {
@@ -23,10 +28,10 @@ struct RegionInfo {
   std::string label;
   std::string role;         // e.g. "target", "spillover"; may be empty
   int line = 0;             // of its first box
+  int last_line = 0;        // of its last box (the same unless it wraps)
   std::vector<RegionBox> boxes;
   int letters = 0;          // characters without spaces; 0 when unknown
   int words = 0;            // 0 when unknown
-  double first_letter_left_px = 0;  // left edge of its first letter (landing positions)
   bool has_letters = false;
 };
 

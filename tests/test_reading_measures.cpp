@@ -50,16 +50,20 @@ TEST(ReadingMeasures, WorkedScanpathWithRegressionsAndASkip) {
   EXPECT_EQ(m[1].total_time_ms, 410);
   EXPECT_EQ(m[1].rereading_ms, 190);
   EXPECT_EQ(m[1].second_pass_ms, 190);
-  EXPECT_TRUE(m[1].regression_in);  // re-entered from region 4
+  EXPECT_EQ(m[1].regression_in, true);  // re-entered from region 4
+  EXPECT_EQ(m[0].regression_in, false);  // only ever entered at the trial's start
+  EXPECT_EQ(m[4].regression_in, false);  // entered from region 2
   EXPECT_TRUE(m[2].skipped);
   EXPECT_TRUE(m[2].fixated);
   EXPECT_FALSE(m[2].first_fixation_ms);
   EXPECT_FALSE(m[2].gaze_duration_ms);
   EXPECT_FALSE(m[2].go_past_ms);
   EXPECT_FALSE(m[2].regression_out);
-  EXPECT_FALSE(m[2].rereading_ms);
+  EXPECT_EQ(m[2].first_pass_fixations, 0);  // a count: nothing happened in first pass
   EXPECT_EQ(m[2].total_time_ms, 210);
-  EXPECT_TRUE(m[2].regression_in);   // entered from region 3
+  EXPECT_EQ(m[2].rereading_ms, 210);        // all of its time came after the first pass
+  EXPECT_EQ(m[2].second_pass_ms, 210);      // its one run is its first visit after the first pass
+  EXPECT_EQ(m[2].regression_in, true);  // entered from region 3
   EXPECT_EQ(m[3].first_fixation_ms, 250);
   EXPECT_FALSE(m[3].single_fixation_ms);
   EXPECT_EQ(m[3].gaze_duration_ms, 430);
@@ -104,6 +108,90 @@ TEST(ReadingMeasures, OffRegionFixationsAndNeverFixatedRegions) {
   EXPECT_FALSE(m[3].total_time_ms);
   EXPECT_FALSE(m[3].first_fixation_ms);
   EXPECT_EQ(m[3].total_fixations, 0);
+  EXPECT_EQ(m[3].first_pass_fixations, 0);
+  EXPECT_FALSE(m[3].regression_in);   // never entered: undefined, not "no"
+  EXPECT_FALSE(m[3].second_pass_ms);
+  EXPECT_FALSE(m[3].rereading_ms);
+}
+
+// Gaze duration against selective go-past, by hand (Liversedge, Paterson &
+// Pickering 1998: gaze duration ends when the eyes first leave the region;
+// the selective regression-path time sums the region's own fixations until a
+// region further on is fixated): (0,200) (1,150) (0,100) (1,180) (2,200).
+//   region 1: first-pass run = the 150 ms fixation only (the eyes go back to region 0), so
+//             gaze duration 150, not 330; selective go-past 150 + 180 = 330; go-past
+//             150 + 100 + 180 = 430; regression out 1; second pass 180; rereading 180.
+TEST(ReadingMeasures, GazeDurationEndsAtTheFirstExitButSelectiveGoPastDoesNot) {
+  const auto m = reading_measures(path({{0, 200}, {1, 150}, {0, 100}, {1, 180}, {2, 200}}), 3, 12);
+  EXPECT_EQ(m[1].gaze_duration_ms, 150);
+  EXPECT_EQ(m[1].first_pass_fixations, 1);
+  EXPECT_EQ(m[1].single_fixation_ms, 150);
+  EXPECT_EQ(m[1].selective_go_past_ms, 330);
+  EXPECT_EQ(m[1].go_past_ms, 430);
+  EXPECT_EQ(m[1].regression_out, true);
+  EXPECT_EQ(m[1].second_pass_ms, 180);
+  EXPECT_EQ(m[1].rereading_ms, 180);
+  EXPECT_EQ(m[1].regression_in, false);  // re-entered from region 0, an earlier region
+  EXPECT_EQ(m[0].regression_in, true);   // entered again from region 1
+}
+
+// Second pass against rereading, by hand: a region read three times,
+// (0,200) (1,100) (2,150) (1,120) (2,80) (1,90) (3,100).
+//   region 1: first-pass run 100; later runs 120 and 90. Second pass = the next run only: 120;
+//             rereading = every later fixation: 210 (= total 310 - gaze 100). They differ here,
+//             so second pass computed as total - gaze duration would show.
+//   region 2: first pass 150, second pass 80, rereading 80; regression in 0 (each run of region 2
+//             begins after region 1, an earlier region).
+TEST(ReadingMeasures, SecondPassIsOneRunRereadingIsEveryLaterRun) {
+  const auto m = reading_measures(path({{0, 200}, {1, 100}, {2, 150}, {1, 120}, {2, 80}, {1, 90}, {3, 100}}), 4, 12);
+  EXPECT_EQ(m[1].gaze_duration_ms, 100);
+  EXPECT_EQ(m[1].second_pass_ms, 120);
+  EXPECT_EQ(m[1].rereading_ms, 210);
+  EXPECT_EQ(m[1].total_time_ms, 310);
+  EXPECT_EQ(m[1].total_fixations, 3);
+  EXPECT_EQ(m[1].regression_in, true);
+  EXPECT_EQ(m[2].second_pass_ms, 80);
+  EXPECT_EQ(m[2].rereading_ms, 80);
+  EXPECT_EQ(m[2].regression_in, false);
+  EXPECT_EQ(m[3].second_pass_ms, 0);  // read once: nothing after its first pass
+  EXPECT_EQ(m[3].rereading_ms, 0);
+}
+
+// Regression in is decided by the fixation that entered a run, not by any
+// earlier one; a region skipped in first pass keeps the time it was read
+// later. By hand: (0,200) (2,180) (3,150) (1,120) (2,100) (4,200).
+//   region 2: runs begin after region 0 and after region 1, both earlier: regression in 0, although
+//             region 3, further on, was fixated before its second run.
+//   region 1: skipped in first pass (regions 2 and 3 came first); entered from region 3: regression
+//             in 1; total 120, rereading 120, second pass 120; first-pass values NA, count 0.
+TEST(ReadingMeasures, RegressionInLooksAtTheEnteringFixationAndSkippedRegionsKeepLaterTime) {
+  const auto m = reading_measures(path({{0, 200}, {2, 180}, {3, 150}, {1, 120}, {2, 100}, {4, 200}}), 5, 12);
+  EXPECT_EQ(m[2].regression_in, false);
+  EXPECT_EQ(m[1].regression_in, true);
+  EXPECT_TRUE(m[1].skipped);
+  EXPECT_EQ(m[1].total_time_ms, 120);
+  EXPECT_EQ(m[1].rereading_ms, 120);
+  EXPECT_EQ(m[1].second_pass_ms, 120);
+  EXPECT_FALSE(m[1].gaze_duration_ms);
+  EXPECT_EQ(m[1].first_pass_fixations, 0);
+  EXPECT_EQ(m[2].gaze_duration_ms, 180);
+  EXPECT_EQ(m[2].second_pass_ms, 100);
+}
+
+// A regressive incoming saccade keeps its sign: the region's first first-pass
+// fixation at x = 130 comes from a fixation beyond the text at x = 400 on the
+// same line: (130 - 400) / 12 = -22.5 characters; amplitude 3 - 1 = 2 degrees, unsigned.
+TEST(ReadingMeasures, RegressiveIncomingSaccadeIsNegative) {
+  auto p = path({{-1, 150}, {0, 200}});
+  p[0].x_px = 400;
+  p[0].line = 0;
+  p[0].x_deg = 3.0;
+  p[1].x_px = 130;
+  p[1].x_deg = 1.0;
+  const auto m = reading_measures(p, 1, 12);
+  ASSERT_TRUE(m[0].incoming_saccade_chars);
+  EXPECT_DOUBLE_EQ(*m[0].incoming_saccade_chars, -22.5);
+  EXPECT_DOUBLE_EQ(*m[0].incoming_saccade_deg, 2.0);
 }
 
 // A refixation and a single fixation; landing position and incoming saccade:
@@ -149,7 +237,9 @@ TEST(ReadingMeasures, InvariantsOverRandomScanpaths) {
     for (const auto& m : reading_measures(p, R, 12)) {
       if (m.skipped) {
         ASSERT_FALSE(m.first_fixation_ms || m.gaze_duration_ms || m.go_past_ms || m.single_fixation_ms || m.regression_out ||
-                     m.rereading_ms || m.first_pass_fixations || m.landing_chars);
+                     m.landing_chars);
+        ASSERT_EQ(m.first_pass_fixations, 0);
+        if (m.fixated) ASSERT_NEAR(*m.rereading_ms, *m.total_time_ms, 1e-9);  // all its time came later
       } else {
         ASSERT_TRUE(m.fixated);
         ASSERT_GE(*m.total_time_ms + 1e-9, *m.gaze_duration_ms);
@@ -157,10 +247,13 @@ TEST(ReadingMeasures, InvariantsOverRandomScanpaths) {
         ASSERT_GE(*m.go_past_ms + 1e-9, *m.gaze_duration_ms);
         ASSERT_GE(*m.go_past_ms + 1e-9, *m.selective_go_past_ms);
         ASSERT_NEAR(*m.rereading_ms, *m.total_time_ms - *m.gaze_duration_ms, 1e-9);
-        ASSERT_EQ(m.single_fixation_ms.has_value(), *m.first_pass_fixations == 1);
+        ASSERT_EQ(m.single_fixation_ms.has_value(), m.first_pass_fixations == 1);
       }
       ASSERT_EQ(m.fixated, m.total_time_ms.has_value());
       ASSERT_EQ(m.fixated, m.total_fixations > 0);
+      ASSERT_EQ(m.fixated, m.regression_in.has_value());
+      ASSERT_EQ(m.fixated, m.second_pass_ms.has_value());
+      if (m.fixated) ASSERT_LE(*m.second_pass_ms, *m.rereading_ms + 1e-9);
     }
   }
 }
@@ -195,6 +288,14 @@ TEST(RegionMapper, LinesMarginsAndLanding) {
   EXPECT_EQ(at(105, 199).line, -1);   // above line 0's box
   // Landing: region 1's first letter 'c' starts at 100 + 7 * 10 = 170; x = 185 is 1.5 characters in.
   EXPECT_DOUBLE_EQ(*at(185, 220).landing_chars, 1.5);
+  // Region 1 wraps: "cccc " (5 characters from its first letter) on line 0, then "dd" on line 1
+  // from x = 100. A fixation at x = 105 on line 1 lands half a character into 'd': 5.5 characters.
+  rs.margin_nearest = true;
+  rs.off_line_nearest = true;
+  EXPECT_EQ(L.regions[1].line, 0);
+  EXPECT_EQ(L.regions[1].last_line, 1);
+  ASSERT_TRUE(at(105, 260).landing_chars);
+  EXPECT_DOUBLE_EQ(*at(105, 260).landing_chars, 5.5);
 }
 
 // A proportional font from an advance table, worked by hand: 'm' 16 px, 'i' 4 px,
