@@ -857,6 +857,7 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
   if (!carry.empty()) handle_line(carry);
   if (!any_line) throw InputError({path, 0, ""}, "the file is empty; expected a header line and sample rows");
   DelimitedReadResult result = parser.finish();
+  if (source.gzip_trailing_bytes() > 0) result.repairs["gzip_trailing_bytes_ignored"] += source.gzip_trailing_bytes();
   const bool wants_samples = options.layout.left || options.layout.right;
   if (wants_samples && result.samples == 0) {
     throw InputError({path, line_no, ""}, "the file has no sample rows; expected at least one row after the header");

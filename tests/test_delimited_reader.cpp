@@ -283,6 +283,31 @@ TEST(DelimitedReaderErrors, TruncatedGzip) {
   }
 }
 
+// gzip (RFC 1952, section 2.2): a file may hold several members one after
+// another, read as the concatenation of their texts; bytes after the last
+// member that are no gzip member are not data: counted and reported as a
+// repair, never read silently.
+TEST(DelimitedReader, GzipMembersConcatenateAndTrailingBytesAreCounted) {
+  TempDir dir;
+  const std::string head = "t\tx\ty\n1\t1.5\t2\n", tail = "2\t2.5\t3\n3\t3.5\t4\n";
+  std::string bytes;
+  for (const auto& part : {head, tail}) {
+    std::ifstream in(dir.write_gz("part.gz", part), std::ios::binary);
+    bytes += std::string((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+  }
+  DelimitedReadOptions o = gaze_options();
+  CollectingSink two;
+  const auto r = read_delimited(dir.write("two.tsv.gz", bytes), o, two);
+  ASSERT_EQ(two.samples.size(), 3u);
+  EXPECT_EQ(two.samples.left.x_px[2], 3.5f);
+  EXPECT_EQ(r.repairs.count("gzip_trailing_bytes_ignored"), 0u);
+  CollectingSink padded;
+  const auto p = read_delimited(dir.write("padded.tsv.gz", bytes + std::string(100, '\0')), o, padded);
+  EXPECT_EQ(padded.samples.size(), 3u);
+  ASSERT_EQ(p.repairs.count("gzip_trailing_bytes_ignored"), 1u);
+  EXPECT_EQ(p.repairs.at("gzip_trailing_bytes_ignored"), 100u);
+}
+
 // The store keeps messages as C strings, so a NUL byte cut a message short
 // without a word ("S 1 a\0b" was stored as "S 1 a"). No text export writes
 // NUL bytes; an interrupted write can leave blocks of zeros (common practice,
