@@ -1,7 +1,9 @@
 #pragma once
-// clean: the protocol's cleaning rules over a detected store, with the audit.
+// The clean stage: the protocol's cleaning rules over every recording's
+// detected events, with the audit. Works on values; the study run writes them.
 
 #include <string>
+#include <vector>
 
 #include "pipeline/cleaning_state.h"
 #include "pipeline/protocol.h"
@@ -11,16 +13,19 @@ namespace gazemill {
 class StudyStoreReader;
 class RegionCatalogue;
 
-/// The cleaning input from a store's recordings, trials and detected events.
-CleaningState cleaning_state_from_store(const StudyStoreReader& store);
+/// The cleaning input from every recording's trials and events (no samples needed).
+CleaningState cleaning_state_from(const std::vector<RecordingEvents>& recordings);
 
 /// Places every fixation on its item's regions, for the region rules.
 /// Throws InputError when an item has no regions.
 void map_regions(CleaningState& state, const RegionCatalogue& regions, const RegionSpec& spec);
 
-/// Runs the rules, replaces the store with a copy holding the cleaned
-/// fixations, the removed ones with their rule and reason, and the audit;
-/// writes audit.tsv, audit_totals.tsv and audit.json into `report_folder`.
-AuditReport clean_study(const Protocol& protocol, const std::string& store_path, const std::string& report_folder);
+/// Runs the rules (none: everything is kept). Throws InputError naming the
+/// protocol and the rule for a bad rule.
+CleaningOutcome clean_events(const Protocol& protocol, const std::vector<RecordingEvents>& recordings);
+
+/// The kept fixations and trial verdicts of each recording, from an outcome or from a store.
+std::vector<CleanedRecording> cleaned_recordings(const CleaningOutcome& outcome, const std::vector<RecordingEvents>& recordings);
+std::vector<CleanedRecording> cleaned_recordings(const StudyStoreReader& store);
 
 }  // namespace gazemill

@@ -1,30 +1,21 @@
 #include "app/commands.h"
 
+#include <nlohmann/json.hpp>
 #include <spdlog/spdlog.h>
 
-#include <charconv>
-#include <chrono>
-#include <cmath>
 #include <filesystem>
 #include <iostream>
 
-#include "app/ingest.h"
+#include "app/audit_report.h"
 #include "app/inspect.h"
 #include "app/protocol_parser.h"
 #include "app/run_stats.h"
-#include "app/clean.h"
-#include "app/audit_report.h"
+#include "app/study_run.h"
 #include "app/verify.h"
-#include "app/measure.h"
+#include "io/atomic_file.h"
 #include "io/cleaning_io.h"
 #include "io/study_store.h"
-#include "app/detect.h"
-#include "app/score.h"
-#include "detectors/detector_registry.h"
 #include "pipeline/input_error.h"
-#include <fstream>
-#include <optional>
-#include <string_view>
 #include "sim/study_export.h"
 #include "sim/study_simulator.h"
 
@@ -33,20 +24,123 @@ namespace fs = std::filesystem;
 
 namespace {
 
-std::string default_store_path(const Protocol& protocol, const std::string& protocol_path) {
+// The folder `run` writes into by default: beside the protocol, named by the study.
+std::string default_run_folder(const Protocol& protocol) {
   const std::string name = protocol.study_name.empty() ? "study" : protocol.study_name;
-  return (fs::path(protocol_path).parent_path() / (name + ".gzm.h5")).string();
+  return (fs::absolute(fs::path(protocol.path)).parent_path() / (name + "-output")).lexically_normal().string();
+}
+
+std::string stage_summary(const StudyRunReport& r) {
+  std::string s;
+  for (const auto& [stage, what] : r.stages) s += (s.empty() ? "" : ", ") + std::string(to_string(stage)) + " " + what;
+  return s;
+}
+
+void log_counts(const StudyRunReport& r) {
+  if (r.recordings_read > 0) {
+    spdlog::info("read {} recordings: {} trials, {} samples, {} messages, {} repairs", r.recordings_read, r.trials, r.samples,
+                 r.messages, r.repairs);
+  }
+  if (r.recordings_detected > 0) {
+    spdlog::info("detected in {} recordings ({} samples): {} fixations, {} saccades, {} blinks", r.recordings_detected,
+                 r.samples_detected, r.fixations, r.saccades, r.blinks);
+  }
+  if (r.audit) {
+    std::array<std::uint64_t, kAuditLevels> input{}, kept{};
+    for (const auto& [g, t] : r.audit->totals) {
+      for (std::size_t l = 0; l < kAuditLevels; ++l) {
+        input[l] += t.input[l];
+        kept[l] += t.kept[l];
+      }
+    }
+    spdlog::info("cleaning kept {}/{} fixations, {}/{} trials, {}/{} participants", kept[1], input[1], kept[2], input[2], kept[3], input[3]);
+  }
+  if (!r.rows.empty()) spdlog::info("measured {} participant x trial x region rows", r.rows.size());
+  if (!r.tables.empty()) spdlog::info("tables in {}", r.tables_folder);
+}
+
+// Runs one stage (or, for `run`, the whole study) and logs what happened.
+int run_stage(const CommandOptions& o, std::optional<Stage> only) {
+  const RunClock clock;
+  const Protocol protocol = parse_protocol_file(o.protocol_path);
+  StudyRunOptions opt;
+  opt.jobs = o.jobs;
+  opt.only = only;
+  opt.deflate_level = o.deflate_level;
+  opt.show_progress = o.show_progress;
+  std::string folder;
+  if (!only) {
+    folder = o.output.empty() ? default_run_folder(protocol) : o.output;
+    std::error_code ec;
+    fs::create_directories(folder, ec);
+    if (ec) throw InputError({folder, 0, ""}, "cannot create the output folder: " + ec.message());
+    const std::string name = protocol.study_name.empty() ? "study" : protocol.study_name;
+    opt.store_path = (fs::path(folder) / (name + ".gzm.h5")).string();
+    opt.tables_folder = (fs::path(folder) / "tables").string();
+  } else {
+    opt.store_path = only == Stage::ingest ? (o.output.empty() ? default_store_path(protocol) : o.output)
+                                           : (o.store_path.empty() ? default_store_path(protocol) : o.store_path);
+    if (only == Stage::clean || only == Stage::measure) opt.tables_folder = o.output.empty() ? default_tables_folder(opt.store_path) : o.output;
+  }
+  const StudyRunReport r = run_study(protocol, opt);
+  log_counts(r);
+  const std::string timing = clock.summary(r.input_bytes);
+  spdlog::info("{}: {}", opt.store_path, stage_summary(r));
+  if (!only) {
+    nlohmann::json summary;
+    summary["store"] = opt.store_path;
+    summary["tables"] = opt.tables_folder;
+    for (const auto& [stage, what] : r.stages) summary["stages"][to_string(stage)] = what;
+    summary["recordings"] = r.recordings;
+    summary["recordings_read"] = r.recordings_read;
+    summary["recordings_detected"] = r.recordings_detected;
+    summary["samples_read"] = r.samples;
+    summary["fixations_detected"] = r.fixations;
+    summary["timing"] = timing;
+    write_file_atomically((fs::path(folder) / "run-summary.json").string(), summary.dump(2) + "\n");
+  }
+  spdlog::info("{}: {}", only ? to_string(*only) : "run", timing);
+  return 0;
+}
+
+void add_run_options(CLI::App* cmd, CommandOptions& o) {
+  cmd->add_option("-j,--jobs", o.jobs, "Recordings processed at once (default: one per core)")->check(CLI::Range(1u, 1024u));
+  cmd->add_option("--deflate-level", o.deflate_level, "Deflate level of the store's sample chunks: 1 (fastest, by ISA-L) to 9 (smallest)")
+      ->check(CLI::Range(1, 9))->capture_default_str();
 }
 
 }  // namespace
 
 void register_commands(CLI::App& app, CommandOptions& o) {
+  auto* run = app.add_subcommand("run", "The whole study: ingest, detect, clean, align and measure, redoing only what changed");
+  run->add_option("protocol", o.protocol_path, "Protocol file (TOML)")->required()->check(CLI::ExistingFile);
+  run->add_option("-o,--output", o.output, "Folder for the store, the tables and the run summary (default: <study>-output beside the protocol)");
+  add_run_options(run, o);
+
   auto* ingest = app.add_subcommand("ingest", "Read the raw exports a protocol names into a new HDF5 study store");
   ingest->add_option("protocol", o.protocol_path, "Protocol file (TOML)")->required()->check(CLI::ExistingFile);
-  ingest->add_option("-o,--output", o.store_path, "Store to write (default: <protocol folder>/<study name or 'study'>.gzm.h5)");
-  ingest->add_option("--deflate-level", o.deflate_level, "Deflate level for sample chunks: 1 (fastest, by ISA-L) to 9 (smallest, by libdeflate)")
-      ->check(CLI::Range(1, 9));
-  ingest->add_option("--threads", o.compression_threads, "Compression threads (default: one per core)");
+  ingest->add_option("-o,--output", o.output, "Store to write (default: <protocol folder>/<study name>.gzm.h5)");
+  add_run_options(ingest, o);
+
+  auto* detect = app.add_subcommand("detect", "Detect fixations, saccades and blinks in every trial of a store");
+  detect->add_option("protocol", o.protocol_path, "Protocol file with a [detection] section (defaults apply without one)")
+      ->required()->check(CLI::ExistingFile);
+  detect->add_option("-s,--store", o.store_path, "Study store (default: the one ingest writes for this protocol)");
+  add_run_options(detect, o);
+
+  auto* clean = app.add_subcommand("clean", "Apply the protocol's [[cleaning]] rules to the detected events, with an audit");
+  clean->add_option("protocol", o.protocol_path, "Protocol file with [[cleaning]] rules")->required()->check(CLI::ExistingFile);
+  clean->add_option("-s,--store", o.store_path, "Study store (default: the one ingest writes for this protocol)");
+  clean->add_option("-o,--output", o.output, "Folder for the tables (default: <store name>-tables beside the store)");
+
+  auto* align = app.add_subcommand("align", "Assign every cleaned fixation to its text line (drift correction)");
+  align->add_option("protocol", o.protocol_path, "Protocol file with a [regions] section")->required()->check(CLI::ExistingFile);
+  align->add_option("-s,--store", o.store_path, "Study store (default: the one ingest writes for this protocol)");
+
+  auto* measure = app.add_subcommand("measure", "Map fixations to regions and compute the reading-time measures");
+  measure->add_option("protocol", o.protocol_path, "Protocol file with a [regions] section")->required()->check(CLI::ExistingFile);
+  measure->add_option("-s,--store", o.store_path, "Study store (default: the one ingest writes for this protocol)");
+  measure->add_option("-o,--output", o.output, "Folder for the tables (default: <store name>-tables beside the store)");
 
   auto* sim = app.add_subcommand("simulate", "Write a simulated reading study with its ground truth (invented data)");
   sim->add_option("-o,--output", o.sim_folder, "Folder to write the study into")->required();
@@ -63,51 +157,23 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   sim->add_option("--drift-slope", o.sim_drift_slope_sd, "SD of the vertical drift slope across the screen (px per px)")->check(CLI::Range(0.0, 1.0));
   sim->add_option("--drift-growth-px", o.sim_drift_growth_px, "Vertical drift added per trial over the session (px)")->check(CLI::Range(0.0, 50.0));
 
-  auto* detect = app.add_subcommand("detect", "Detect fixations, saccades and blinks in every trial of a store");
-  detect->add_option("protocol", o.detect_protocol, "Protocol file with a [detection] section (defaults apply without one)")
-      ->required()->check(CLI::ExistingFile);
-  detect->add_option("-s,--store", o.detect_store, "Study store (default: the one ingest writes for this protocol)");
-
   register_score_command(app, o.score);
 
-  auto* clean = app.add_subcommand("clean", "Apply the protocol's [[cleaning]] rules to the detected events, with an audit");
-  clean->add_option("protocol", o.clean_protocol, "Protocol file with [[cleaning]] rules")->required()->check(CLI::ExistingFile);
-  clean->add_option("-s,--store", o.clean_store, "Study store (default: the one ingest writes for this protocol)");
-  clean->add_option("--reports", o.clean_reports, "Folder for audit.tsv, audit_totals.tsv and audit.json (default: beside the store)");
-
-  auto* measure = app.add_subcommand("measure", "Map fixations to regions and compute the reading-time measures");
-  measure->add_option("protocol", o.measure_protocol, "Protocol file with a [regions] section")->required()->check(CLI::ExistingFile);
-  measure->add_option("-s,--store", o.measure_store, "Study store (default: the one ingest writes for this protocol)");
-  measure->add_option("--out", o.measure_out, "Folder for measures.tsv and the other tables (default: beside the store)");
-
   auto* audit = app.add_subcommand("audit", "Show what each cleaning rule removed, per condition");
-  audit->add_option("store", o.audit_store, "Study store (.gzm.h5)")->required();
+  audit->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
   audit->add_option("--by", o.audit_by, "Break the table down: participant")->check(CLI::IsMember({"participant"}));
 
   auto* verify = app.add_subcommand("verify", "Re-run the stored protocol on the recorded inputs and compare every derived dataset");
-  verify->add_option("store", o.verify_store, "Study store (.gzm.h5)")->required();
+  verify->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
 
-  auto* inspect = app.add_subcommand("inspect", "Show the recordings, trials and data loss in a study store");
-  inspect->add_option("store", o.inspect_store, "Study store (.gzm.h5)")->required();
+  auto* inspect = app.add_subcommand("inspect", "Show the recordings, trials, data loss and each stage's state in a study store");
+  inspect->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
 }
 
 int run_selected_command(const CLI::App& app, const CommandOptions& o) {
-  if (app.got_subcommand("ingest")) {
-    const RunClock clock;
-    const Protocol protocol = parse_protocol_file(o.protocol_path);
-    const std::string store = o.store_path.empty() ? default_store_path(protocol, o.protocol_path) : o.store_path;
-    StoreWriteOptions wopt;
-    wopt.deflate_level = o.deflate_level;
-    wopt.compression_threads = o.compression_threads;
-    ProgressBar bar(o.show_progress);
-    const IngestReport r = ingest_study(protocol, store, wopt, [&](const std::string& f, std::uint64_t d, std::uint64_t t) {
-      bar.update(f, d, t);
-    });
-    bar.finish();
-    spdlog::info("wrote {}: {} recordings, {} trials, {} samples, {} messages, {} repairs", store, r.recordings, r.trials,
-                 r.samples, r.messages, r.repairs);
-    spdlog::info("ingest: {}", clock.summary(r.input_bytes));
-    return 0;
+  if (app.got_subcommand("run")) return run_stage(o, std::nullopt);
+  for (Stage s : kStages) {
+    if (app.got_subcommand(to_string(s))) return run_stage(o, s);
   }
   if (app.got_subcommand("simulate")) {
     const RunClock clock;
@@ -141,56 +207,15 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     spdlog::info("simulate: {}", clock.summary());
     return 0;
   }
-  if (app.got_subcommand("detect")) {
-    const RunClock clock;
-    const Protocol protocol = parse_protocol_file(o.detect_protocol);
-    const std::string store = o.detect_store.empty() ? default_store_path(protocol, o.detect_protocol) : o.detect_store;
-    const DetectReport r = detect_study(protocol, store);
-    spdlog::info("{} ({}): {} recordings, {} samples -> {} fixations, {} saccades, {} blinks", store, protocol.detection.method,
-                 r.recordings, r.samples, r.fixations, r.saccades, r.blinks);
-    spdlog::info("detect: {}", clock.summary());
-    return 0;
-  }
   if (app.got_subcommand("score")) return run_score(o.score);
-  if (app.got_subcommand("clean")) {
-    const RunClock clock;
-    const Protocol protocol = parse_protocol_file(o.clean_protocol);
-    const std::string store = o.clean_store.empty() ? default_store_path(protocol, o.clean_protocol) : o.clean_store;
-    const std::string reports = o.clean_reports.empty() ? fs::path(store).parent_path().string() : o.clean_reports;
-    const AuditReport report = clean_study(protocol, store, reports.empty() ? "." : reports);
-    std::array<std::uint64_t, kAuditLevels> input{}, kept{};
-    for (const auto& [g, t] : report.totals) {
-      for (std::size_t l = 0; l < kAuditLevels; ++l) {
-        input[l] += t.input[l];
-        kept[l] += t.kept[l];
-      }
-    }
-    spdlog::info("{}: kept {}/{} fixations, {}/{} trials, {}/{} participants; audit in {}", store, kept[1], input[1], kept[2], input[2],
-                 kept[3], input[3], reports.empty() ? "." : reports);
-    spdlog::info("clean: {}", clock.summary());
-    return 0;
-  }
-  if (app.got_subcommand("measure")) {
-    const RunClock clock;
-    const Protocol protocol = parse_protocol_file(o.measure_protocol);
-    const std::string store = o.measure_store.empty() ? default_store_path(protocol, o.measure_protocol) : o.measure_store;
-    std::string out = o.measure_out.empty() ? fs::path(store).parent_path().string() : o.measure_out;
-    if (out.empty()) out = ".";
-    const auto rows = measure_study(protocol, store, out);
-    spdlog::info("{}: {} participant x trial x region rows; measures.tsv and the other tables in {}", store, rows.size(), out);
-    spdlog::info("measure: {}", clock.summary());
-    return 0;
-  }
   if (app.got_subcommand("audit")) {
-    StudyStoreReader store(o.audit_store);
+    StudyStoreReader store(o.store_argument);
     print_audit(read_audit(store), o.audit_by == "participant", std::cout);
     return 0;
   }
-  if (app.got_subcommand("verify")) {
-    return verify_store(o.verify_store, std::cout) ? 0 : 1;
-  }
+  if (app.got_subcommand("verify")) return verify_store(o.store_argument, std::cout) ? 0 : 1;
   if (app.got_subcommand("inspect")) {
-    print_store_overview(o.inspect_store, std::cout);
+    print_store_overview(o.store_argument, std::cout);
     return 0;
   }
   return 2;

@@ -13,13 +13,15 @@ namespace gazemill {
 
 struct CommandOptions {
   bool show_progress = false;
-  // ingest
+  // run and the stage commands
   std::string protocol_path;
-  std::string store_path;
+  std::string store_path;          // -s/--store (ingest: -o/--output)
+  std::string output;              // -o/--output: run's folder, the tables folder of clean and measure
+  unsigned jobs = 0;
   int deflate_level = 1;
-  unsigned compression_threads = 0;
-  // inspect
-  std::string inspect_store;
+  // inspect, audit, verify
+  std::string store_argument;
+  std::string audit_by;
   // simulate
   std::string sim_folder;
   int sim_participants = 4;
@@ -34,26 +36,9 @@ struct CommandOptions {
   double sim_drift_offset_sd_px = 6.0;
   double sim_drift_slope_sd = 0.01;
   double sim_drift_growth_px = 0.25;
-  // detect
-  std::string detect_protocol;
-  std::string detect_store;
   // score
   ScoreOptions score;
-  // clean
-  std::string clean_protocol;
-  std::string clean_store;
-  std::string clean_reports;
-  // audit
-  std::string audit_store;
-  std::string audit_by;
-  // verify
-  std::string verify_store;
-  // measure
-  std::string measure_protocol;
-  std::string measure_store;
-  std::string measure_out;
 };
-
 
 void register_commands(CLI::App& app, CommandOptions& opts);
 /// Runs the parsed subcommand; returns the exit code. Throws InputError on bad input.

@@ -4,6 +4,7 @@
 
 #include "app/text_table.h"
 #include "io/study_store.h"
+#include "pipeline/stage.h"
 
 namespace gazemill {
 
@@ -14,13 +15,24 @@ void print_store_overview(const std::string& store_path, std::ostream& out) {
       << "created    " << prov.created_utc << " by gazemill " << prov.tool_version << '\n'
       << "protocol   " << prov.protocol_path << " (sha256 " << prov.protocol_sha256.substr(0, 12) << "…)\n"
       << "inputs     " << prov.inputs.size() << " files\n";
-  std::string stages;
-  for (const char* stage : {"detect", "clean", "measure"}) {
-    if (store.exists(std::string("provenance/stages/") + stage)) {
-      stages += (stages.empty() ? "" : ", ") + std::string(stage) + " (" + store.stage_provenance(stage).created_utc + ")";
+  out << "stages\n";
+  std::optional<StageRecord> before;
+  for (Stage s : kStages) {
+    const auto r = store.stage_record(s);
+    StageState state = StageState::absent;
+    std::string note;
+    if (r) {
+      // Stale when marked so, or when its upstream result is no longer the one it was made from.
+      const bool upstream_moved = s != Stage::ingest && (!before || before->key != r->upstream_key);
+      state = r->state == StageState::stale || upstream_moved ? StageState::stale : StageState::current;
+      note = state == StageState::current ? "made " + r->created_utc
+                                          : (r->stale_reason.empty() ? "made from results that have changed since" : r->stale_reason) +
+                                                "; run gazemill " + to_string(s) + " (or gazemill run)";
     }
+    out << fmt::format("  {:<8} {:<8} {}\n", to_string(s), to_string(state), note);
+    before = r;
   }
-  out << "stages     ingest" << (stages.empty() ? "" : ", " + stages) << "\n\n";
+  out << "\n";
 
   TextTable table({"recording", "participant", "session", "rate_hz", "eyes", "trials", "samples", "span_s",
                    "missing_left", "missing_right"},

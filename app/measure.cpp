@@ -1,59 +1,44 @@
 #include "app/measure.h"
 
-#include <nlohmann/json.hpp>
-#include <spdlog/spdlog.h>
+#include <map>
 
-#include <filesystem>
-
-#include "app/ingest.h"
-#include "gazemill/version.h"
-#include "io/cleaning_io.h"
-#include "io/measures_io.h"
-#include "io/region_files.h"
-#include "io/sha256.h"
-#include "io/study_store.h"
-#include "measures/measure_aggregates.h"
 #include "measures/reading_measures.h"
 #include "measures/region_mapper.h"
 #include "pipeline/input_error.h"
+#include "pipeline/regions.h"
 
 namespace gazemill {
-namespace fs = std::filesystem;
 
-std::vector<MeasureRow> measure_rows(const StudyStoreReader& store, const RegionCatalogue& regions, const RegionSpec& spec) {
+std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& recordings, const std::vector<RecordingAlignment>& alignment,
+                                     const RegionCatalogue& regions, const RegionSpec& spec) {
   std::vector<MeasureRow> rows;
-  bool warned = false;
-  for (const auto& id : store.recording_ids()) {
-    const Recording rec = store.read_recording(id, false);
-    std::vector<CleanFixation> fixations;
-    std::map<std::string, bool> kept;
-    if (store.exists("recordings/" + id + "/clean")) {
-      fixations = read_clean_fixations(store, id);
-      kept = read_clean_trial_verdicts(store, id);
-    } else {
-      if (!store.has_events(id)) throw InputError({store.path(), 0, "recordings/" + id + "/events"}, "no fixations; run gazemill detect first");
-      if (!warned) spdlog::warn("{}: not cleaned; measuring the detected fixations", store.path());
-      warned = true;
-      for (const auto& f : store.read_events(id).fixations) {
-        CleanFixation c;
-        c.fixation = f;
-        c.duration_ms = f.duration_ms();
-        fixations.push_back(c);
-      }
-    }
+  std::map<std::string, const RecordingAlignment*> aligned;
+  for (const auto& a : alignment) aligned[a.recording] = &a;
+  for (const CleanedRecording& cleaned : recordings) {
+    const Recording& rec = cleaned.meta;
+    const std::string& id = rec.id;
+    const std::vector<CleanFixation>& fixations = cleaned.kept;
+    const std::map<std::string, bool>& kept = cleaned.trial_kept;
+    const auto a = aligned.find(id);
+    if (a == aligned.end()) throw InputError({"", 0, "align"}, "recording " + id + " has no line assignments");
     std::size_t k = 0;
     for (const Trial& t : rec.trials) {
       std::vector<const CleanFixation*> trial_fix;
       for (; k < fixations.size() && fixations[k].fixation.trial == t.id; ++k) trial_fix.push_back(&fixations[k]);
-      if (!kept.empty() && !kept[t.id]) continue;
+      if (const auto v = kept.find(t.id); v != kept.end() && !v->second) continue;
       const RegionLayout* layout = regions.find(t.item, t.condition);
       if (!layout) {
-        throw InputError({store.path(), 0, "regions"}, "no regions for item " + t.item + " in condition " + t.condition +
-                                                           " (recording " + id + ", trial " + t.id + ")");
+        throw InputError({"", 0, "regions"}, "no regions for item " + t.item + " in condition " + t.condition +
+                                                 " (recording " + id + ", trial " + t.id + ")");
       }
       std::vector<PlacedFixation> placed;
       for (const CleanFixation* c : trial_fix) {
-        const FixationPlace where = place_fixation(*layout, c->fixation.x_px, c->fixation.y_px, spec);
+        // On the line the align stage chose: placed at its centre, the region is the one under x.
+        const auto line = a->second->fixations.find(c->id);
+        FixationPlace where;
+        if (line != a->second->fixations.end() && line->second.line >= 0) {
+          where = place_fixation(*layout, c->fixation.x_px, line->second.corrected_y_px, spec);
+        }
         placed.push_back({c->duration_ms, c->fixation.x_px, c->fixation.y_px, c->fixation.x_deg, c->fixation.y_deg, where.line,
                           where.region, where.landing_chars});
       }
@@ -106,36 +91,6 @@ std::vector<MeasureRow> measure_rows(const StudyStoreReader& store, const Region
       }
     }
   }
-  return rows;
-}
-
-std::vector<MeasureRow> measure_study(const Protocol& protocol, const std::string& store_path, const std::string& out_folder) {
-  const RegionCatalogue regions = load_regions(protocol);
-  std::vector<MeasureRow> rows;
-  {
-    StudyStoreReader store(store_path);
-    rows = measure_rows(store, regions, protocol.regions);
-  }
-  const auto by_region = aggregate_by_region(rows);
-  const auto by_role = aggregate_by_role(rows);
-  const auto by_participant = aggregate_by_participant(rows);
-  auto out = StudyStoreWriter::derive(store_path, {"/measures"}, "measure");
-  write_measures(*out, rows, by_region, by_role, by_participant);
-  nlohmann::json settings = {{"regions", protocol.regions.present() ? (protocol.regions.boxes_file.empty() ? protocol.regions.items_file
-                                                                                                         : protocol.regions.boxes_file)
-                                                                    : ""},
-                             {"off_line", protocol.regions.off_line_nearest ? "nearest" : "exclude"},
-                             {"margin", protocol.regions.margin_nearest ? "nearest" : "exclude"}};
-  out->write_stage_provenance("measure", {kVersion, protocol.text, sha256_hex(protocol.text), utc_now_iso8601(), settings.dump(),
-                                         std::filesystem::absolute(protocol.path).lexically_normal().string()});
-  out->commit();
-  fs::create_directories(out_folder);
-  const fs::path o(out_folder);
-  write_file_atomically((o / "measures.tsv").string(), measures_long_tsv(rows));
-  write_file_atomically((o / "measures_wide.tsv").string(), measures_wide_tsv(rows));
-  write_file_atomically((o / "measures_by_region.tsv").string(), aggregates_tsv(by_region, "region"));
-  write_file_atomically((o / "measures_by_role.tsv").string(), aggregates_tsv(by_role, "region_role"));
-  write_file_atomically((o / "measures_by_participant.tsv").string(), aggregates_tsv(by_participant, "participant"));
   return rows;
 }
 

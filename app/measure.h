@@ -1,25 +1,21 @@
 #pragma once
-// measure: regions, fixation-to-region mapping and the reading-time measures.
+// The measure stage: fixations onto regions, and the reading-time measures.
 
 #include <string>
 #include <vector>
 
+#include "pipeline/cleaning_state.h"
+#include "pipeline/line_assignment.h"
 #include "pipeline/measure_table.h"
 #include "pipeline/protocol.h"
 
 namespace gazemill {
 
-class StudyStoreReader;
 class RegionCatalogue;
 
-/// One row per kept trial x region of the store's cleaned fixations (the
-/// detected ones when the study was not cleaned).
-std::vector<MeasureRow> measure_rows(const StudyStoreReader& store, const RegionCatalogue& regions, const RegionSpec& spec);
-
-/// Computes the measures and aggregates, replaces the store with a copy that
-/// holds them (/measures), and writes measures.tsv (long), measures_wide.tsv,
-/// measures_by_region.tsv, measures_by_role.tsv and measures_by_participant.tsv
-/// into `out_folder`.
-std::vector<MeasureRow> measure_study(const Protocol& protocol, const std::string& store_path, const std::string& out_folder);
+/// One row per kept trial x region: every kept fixation placed on the line
+/// the align stage gave it and on the region under it.
+std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& recordings, const std::vector<RecordingAlignment>& alignment,
+                                     const RegionCatalogue& regions, const RegionSpec& spec);
 
 }  // namespace gazemill

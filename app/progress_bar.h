@@ -12,7 +12,10 @@ class ProgressBar {
  public:
   explicit ProgressBar(bool enabled);
   ~ProgressBar();
-  void update(const std::string& label, std::uint64_t done, std::uint64_t total);
+  /// A study run: recordings finished of all, input bytes read of all (0 when
+  /// nothing is read from files), samples done, and when the run began.
+  void update_run(std::size_t recordings_done, std::size_t recordings, std::uint64_t bytes_done, std::uint64_t bytes,
+                  std::uint64_t samples_done, std::chrono::steady_clock::time_point started);
   void finish();
 
  private:

@@ -11,8 +11,8 @@
 #include <optional>
 #include <string_view>
 
-#include "app/detect.h"
-#include "app/ingest.h"
+#include "app/stage_settings.h"
+#include "app/study_run.h"
 #include "app/protocol_parser.h"
 #include "app/temp_folder.h"
 #include "app/text_table.h"
@@ -104,7 +104,10 @@ AgreementReport score_simulated_study(const std::string& folder, const Detection
   Protocol protocol = parse_protocol_file((fs::path(folder) / "gazemill.toml").string());
   const TempFolder tmp("gazemill-score-");
   const std::string store_path = (tmp.path() / "scored.gzm.h5").string();
-  ingest_study(protocol, store_path, {});
+  StudyRunOptions ingest;
+  ingest.store_path = store_path;
+  ingest.only = Stage::ingest;
+  run_study(protocol, ingest);
   StudyStoreReader store(store_path);
   AgreementScorer scorer;
   for (const auto& id : store.recording_ids()) {

@@ -2,11 +2,8 @@
 
 #include <filesystem>
 
-#include "app/clean.h"
-#include "app/detect.h"
-#include "app/ingest.h"
-#include "app/measure.h"
 #include "app/protocol_parser.h"
+#include "app/study_run.h"
 #include "app/temp_folder.h"
 #include "io/sha256.h"
 #include "io/store_compare.h"
@@ -34,26 +31,34 @@ bool verify_store(const std::string& store_path, std::ostream& out) {
   }
   if (ok) out << "inputs: " << prov.inputs.size() << " files match their recorded size and SHA-256\n";
 
+  // Each stage again, with the protocol it ran with (its relative file
+  // names resolve from that protocol's folder), into a scratch store.
+  std::vector<StageRecord> stages;
+  for (Stage s : kStages) {
+    const auto r = store.stage_record(s);
+    if (!r || r->state != StageState::current) break;
+    stages.push_back(*r);
+  }
+  if (stages.empty()) {
+    out << "the store has no current stage to re-run\nNOT verified\n";
+    return false;
+  }
   const TempFolder scratch("gazemill-verify-");
-  const fs::path& tmp = scratch.path();
-  const std::string again = (tmp / "again.gzm.h5").string();
+  const std::string again = (scratch.path() / "again.gzm.h5").string();
   try {
-    ingest_study(parse_protocol_text(prov.protocol_text, prov.protocol_path), again, {});
-    // Each stage's own protocol text, read as if from where it was (for its relative file names).
-    auto stage_protocol = [&](const char* stage) {
-      const StageProvenance s = store.stage_provenance(stage);
-      return parse_protocol_text(s.protocol_text, s.protocol_path);
-    };
-    if (store.exists("provenance/stages/detect")) detect_study(stage_protocol("detect"), again);
-    if (store.exists("provenance/stages/clean")) clean_study(stage_protocol("clean"), again, tmp.string());
-    if (store.exists("provenance/stages/measure")) measure_study(stage_protocol("measure"), again, tmp.string());
+    for (const auto& r : stages) {
+      StudyRunOptions opt;
+      opt.store_path = again;
+      opt.only = r.stage;
+      run_study(parse_protocol_text(r.protocol_text, r.protocol_path), opt);
+    }
   } catch (const InputError& e) {
     out << "re-run failed: " << e.what() << "\n";
     return false;
   }
   const auto diffs = compare_store_datasets(store_path, again);
   for (const auto& d : diffs) out << "dataset differs (" << d.what << "): /" << d.path << "\n";
-  if (diffs.empty()) out << "datasets: every dataset matches a fresh run of the stored protocol\n";
+  if (diffs.empty()) out << "datasets: every dataset matches a fresh run of the stored protocols (" << stages.size() << " stages)\n";
   ok = ok && diffs.empty();
   out << (ok ? "verified\n" : "NOT verified\n");
   return ok;

@@ -2,7 +2,9 @@
 
 #include <unistd.h>
 
+#include <cerrno>
 #include <cstdio>
+#include <cstring>
 #include <filesystem>
 #include <fstream>
 
@@ -18,12 +20,15 @@ std::string temporary_path_beside(const std::string& path) {
 void write_file_atomically(const std::string& path, const std::string& text) {
   const std::string tmp = temporary_path_beside(path);
   {
+    errno = 0;
     std::ofstream out(tmp, std::ios::binary);
     out << text;
     out.flush();
     if (!out) {
+      const std::string why = errno ? std::strerror(errno) : "the write failed";
+      out.close();
       std::remove(tmp.c_str());
-      throw InputError({path, 0, ""}, "cannot write");
+      throw InputError({path, 0, ""}, "cannot write: " + why);
     }
   }
   std::error_code ec;

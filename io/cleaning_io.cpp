@@ -319,13 +319,17 @@ std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& st
   return out;
 }
 
-void write_audit_tsv(const AuditReport& r, const std::string& counts_path, const std::string& totals_path) {
+std::string audit_tsv(const AuditReport& r) {
   std::string c = "order\trule\tkind\tlevel\tparticipant\tcondition\tremoved_sequential\tremoved_alone\tmerged_sequential\tmerged_alone\n";
   for (const auto& row : audit_rows(r)) {
     c += fmt::format("{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\n", row.order, row.rule, row.kind, to_string(row.level), row.participant,
                      row.condition.empty() ? "NA" : row.condition, row.removed_sequential, row.removed_alone, row.merged_sequential,
                      row.merged_alone);
   }
+  return c;
+}
+
+std::string audit_totals_tsv(const AuditReport& r) {
   std::string t = "participant\tcondition\tlevel\tinput\tkept\tremoved\n";
   for (const auto& [group, tot] : r.totals) {
     for (std::size_t l = 0; l < kAuditLevels; ++l) {
@@ -334,11 +338,10 @@ void write_audit_tsv(const AuditReport& r, const std::string& counts_path, const
                        to_string(static_cast<AuditLevel>(l)), tot.input[l], tot.kept[l], tot.input[l] - tot.kept[l]);
     }
   }
-  write_file_atomically(counts_path, c);
-  write_file_atomically(totals_path, t);
+  return t;
 }
 
-void write_audit_json(const AuditReport& r, const std::string& path) {
+std::string audit_json(const AuditReport& r) {
   nlohmann::json j;
   for (std::size_t i = 0; i < r.rules.size(); ++i) {
     j["rules"].push_back({{"order", i + 1}, {"name", r.rules[i]}, {"kind", r.rule_kinds[i]}, {"level", to_string(r.rule_levels[i])}});
@@ -367,7 +370,7 @@ void write_audit_json(const AuditReport& r, const std::string& path) {
     }
   }
   for (std::size_t l = 1; l < kAuditLevels; ++l) j["overlap_alone"][to_string(static_cast<AuditLevel>(l))] = r.overlap[l];
-  write_file_atomically(path, j.dump(2) + "\n");
+  return j.dump(2) + "\n";
 }
 
 }  // namespace gazemill

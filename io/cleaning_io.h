@@ -46,9 +46,10 @@ std::vector<CleanFixation> read_clean_fixations(const StudyStoreReader& store, c
 /// Whether each trial of a recording was kept by cleaning, by trial id.
 std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& store, const std::string& recording);
 
-/// audit.tsv (the rows) and audit_totals.tsv, written to temporary files and renamed.
-void write_audit_tsv(const AuditReport& report, const std::string& counts_path, const std::string& totals_path);
-void write_audit_json(const AuditReport& report, const std::string& path);
+/// audit.tsv (the rows), audit_totals.tsv and audit.json as text.
+std::string audit_tsv(const AuditReport& report);
+std::string audit_totals_tsv(const AuditReport& report);
+std::string audit_json(const AuditReport& report);
 
 
 }  // namespace gazemill

@@ -23,7 +23,11 @@ H5::Group create_group(H5::Group& parent, const std::string& name) {
   H5Pset_obj_track_times(gcpl.getId(), 0);
   hid_t id = H5Gcreate2(parent.getId(), name.c_str(), H5P_DEFAULT, gcpl.getId(), H5P_DEFAULT);
   if (id < 0) throw H5::GroupIException("create_group", "cannot create group " + name);
-  return H5::Group(id);
+  // H5::Group(id) takes a reference of its own; without this one's release the
+  // group stays open, and so does the file after it is "closed".
+  H5::Group g(id);
+  H5Idec_ref(id);
+  return g;
 }
 
 bool exists(const H5::Group& parent, const std::string& path) {

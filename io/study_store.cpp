@@ -1,19 +1,21 @@
 #include "io/study_store.h"
 
+#include <fcntl.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
+#include <algorithm>
+#include <cerrno>
 #include <cmath>
 #include <cstdio>
+#include <cstring>
 #include <filesystem>
 #include <limits>
 #include <map>
 #include <optional>
 #include <set>
 #include <stdexcept>
-#include <thread>
-#include <algorithm>
 
-#include "io/chunk_compressor.h"
 #include "io/atomic_file.h"
 #include "io/hdf5_util.h"
 #include "pipeline/input_error.h"
@@ -25,329 +27,153 @@ namespace fs = std::filesystem;
 
 namespace {
 
-class RecordingSampleWriter : public SampleSink {
- public:
-  RecordingSampleWriter(H5::Group group, bool left, bool right, const StoreWriteOptions& opt, CompressionPool& pool)
-      : group_(std::move(group)), queue_(4 * std::max(1u, opt.compression_threads) + 8) {
-    auto add = [&](const std::string& name, const H5::PredType& type, std::size_t size, const char* unit) {
-      columns_.push_back(std::make_unique<ChunkedColumnWriter>(group_, name, type, size, opt.chunk_rows,
-                                                               opt.deflate_level, pool, queue_));
-      if (*unit) h5::set_attr(columns_.back()->dataset(), "unit", std::string(unit));
-    };
-    add("time_us", H5::PredType::NATIVE_INT64, sizeof(Microseconds), "us");
-    for (Eye eye : {Eye::left, Eye::right}) {
-      if ((eye == Eye::left && !left) || (eye == Eye::right && !right)) continue;
-      const std::string p = to_string(eye) + "_";
-      add(p + "x_px", H5::PredType::NATIVE_FLOAT, sizeof(float), "px");
-      add(p + "y_px", H5::PredType::NATIVE_FLOAT, sizeof(float), "px");
-      add(p + "pupil", H5::PredType::NATIVE_FLOAT, sizeof(float), "tracker units");
-      add(p + "valid", H5::PredType::NATIVE_UINT8, 1, "");
-      eyes_.push_back(eye);
+// The file keeps its free-space map between openings, so that results
+// replaced in place (a re-run of a later stage) leave no holes behind.
+H5::FileCreatPropList creation_properties() {
+  H5::FileCreatPropList p;
+  H5Pset_file_space_strategy(p.getId(), H5F_FSPACE_STRATEGY_FSM_AGGR, 1, 1);
+  return p;
+}
+
+H5::FileAccPropList access_properties() {
+  H5::FileAccPropList p;
+  H5Pset_libver_bounds(p.getId(), H5F_LIBVER_V110, H5F_LIBVER_V110);
+  return p;
+}
+
+// Copies a file's bytes in the kernel (copy_file_range), falling back to read/write.
+void copy_file(const std::string& from, const std::string& to) {
+  const int in = ::open(from.c_str(), O_RDONLY | O_CLOEXEC);
+  if (in < 0) throw InputError({from, 0, ""}, std::string("cannot open the store: ") + std::strerror(errno));
+  const int out = ::open(to.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+  if (out < 0) {
+    const int e = errno;
+    ::close(in);
+    throw InputError({to, 0, ""}, std::string("cannot create the store's temporary file: ") + std::strerror(e));
+  }
+  struct stat st {};
+  ::fstat(in, &st);
+  off_t left = st.st_size;
+  std::string failure;
+  while (left > 0) {
+    const ssize_t n = ::copy_file_range(in, nullptr, out, nullptr, static_cast<std::size_t>(left), 0);
+    if (n > 0) {
+      left -= n;
+      continue;
+    }
+    if (n < 0 && (errno == EXDEV || errno == ENOSYS || errno == EINVAL || errno == EOPNOTSUPP)) {
+      std::vector<char> buf(std::size_t{1} << 20);
+      for (;;) {
+        const ssize_t r = ::read(in, buf.data(), buf.size());
+        if (r == 0) break;
+        if (r < 0 || ::write(out, buf.data(), static_cast<std::size_t>(r)) != r) {
+          failure = std::strerror(errno);
+          break;
+        }
+      }
+      left = 0;
+      break;
+    }
+    failure = n == 0 ? "the store ended early" : std::strerror(errno);
+    break;
+  }
+  const bool closed = ::close(out) == 0;
+  ::close(in);
+  if (!closed && failure.empty()) failure = std::strerror(errno);
+  if (!failure.empty()) {
+    std::remove(to.c_str());
+    throw InputError({to, 0, ""}, "cannot copy the store to update it: " + failure);
+  }
+}
+
+// A dataset holding a compressed column's chunks as they are (no re-compression).
+void write_compressed_column(H5::Group& group, const CompressedColumn& c, int deflate_level) {
+  static const std::map<ColumnType, H5::PredType> types = {
+      {ColumnType::int64, H5::PredType::NATIVE_INT64}, {ColumnType::float32, H5::PredType::NATIVE_FLOAT}, {ColumnType::uint8, H5::PredType::NATIVE_UINT8}};
+  const hsize_t rows = c.rows, unlimited = H5S_UNLIMITED;
+  H5::DataSpace space(1, &rows, &unlimited);
+  H5::DataSet ds = group.createDataSet(c.name, types.at(c.type), space, h5::chunked_props(c.chunk_rows, deflate_level));
+  if (!c.unit.empty()) h5::set_attr(ds, "unit", c.unit);
+  for (std::size_t k = 0; k < c.chunks.size(); ++k) {
+    const hsize_t offset = static_cast<hsize_t>(k) * c.chunk_rows;
+    if (H5Dwrite_chunk(ds.getId(), H5P_DEFAULT, 0, &offset, c.chunks[k].size(), c.chunks[k].data()) < 0) {
+      throw std::runtime_error("cannot write a chunk of " + c.name);
     }
   }
-
-  void append(const SampleColumns& chunk) override {
-    std::size_t c = 0;
-    columns_[c++]->append(chunk.time_us.data(), chunk.size());
-    for (Eye eye : eyes_) {
-      const EyeSamples& e = chunk.eye(eye);
-      columns_[c++]->append(e.x_px.data(), e.size());
-      columns_[c++]->append(e.y_px.data(), e.size());
-      columns_[c++]->append(e.pupil.data(), e.size());
-      columns_[c++]->append(e.valid.data(), e.size());
-    }
-  }
-
-  void finish() {
-    for (auto& c : columns_) c->flush();
-    queue_.drain();
-    for (auto& c : columns_) c->set_final_extent();
-  }
-
- private:
-  H5::Group group_;
-  ChunkWriteQueue queue_;
-  std::vector<std::unique_ptr<ChunkedColumnWriter>> columns_;
-  std::vector<Eye> eyes_;
-};
-
-// Owned by the writer; the sink handed out forwards to it so the writer can
-// finish the columns when the recording's metadata arrives.
-class ForwardingSink : public SampleSink {
- public:
-  explicit ForwardingSink(RecordingSampleWriter& target) : target_(target) {}
-  void append(const SampleColumns& chunk) override { target_.append(chunk); }
-
- private:
-  RecordingSampleWriter& target_;
-};
+}
 
 }  // namespace
 
 struct StudyStoreWriter::Impl {
   StoreWriteOptions options;
-  CompressionPool pool;
   H5::H5File file;
   H5::Group recordings;
-  std::map<std::string, std::unique_ptr<RecordingSampleWriter>> open_samples;
-
-  Impl(const std::string& temp, const StoreWriteOptions& opt)
-      : options(opt), pool(opt.compression_threads ? opt.compression_threads : std::max(1u, std::thread::hardware_concurrency())) {
-    if (options.compression_threads == 0) options.compression_threads = std::max(1u, std::thread::hardware_concurrency());
-    file = H5::H5File(temp, H5F_ACC_TRUNC);
-    H5::Group root = file.openGroup("/");
-    h5::set_attr(root, "format", std::string(kStoreFormat));
-    h5::set_attr(root, "format_version", kStoreFormatVersion);
-    recordings = h5::create_group(root, "recordings");
-  }
 };
 
 StudyStoreWriter::StudyStoreWriter(std::string path, StoreWriteOptions options)
     : path_(std::move(path)), temp_path_(temporary_path_beside(path_)) {
+  h5::QuietErrors quiet;
   try {
-    impl_ = std::make_unique<Impl>(temp_path_, options);
+    impl_ = std::make_unique<Impl>();
+    impl_->options = options;
+    impl_->file = H5::H5File(temp_path_, H5F_ACC_TRUNC, creation_properties(), access_properties());
+    H5::Group root = impl_->file.openGroup("/");
+    h5::set_attr(root, "format", std::string(kStoreFormat));
+    h5::set_attr(root, "format_version", kStoreFormatVersion);
+    impl_->recordings = h5::create_group(root, "recordings");
   } catch (const H5::Exception& e) {
+    impl_.reset();
     std::remove(temp_path_.c_str());
     throw InputError({path_, 0, ""}, "cannot create the store's temporary file " + temp_path_ + ": " + e.getDetailMsg());
   }
 }
 
-namespace {
-
-herr_t copy_attribute(hid_t loc, const char* name, const H5A_info_t*, void* destination) {
-  const hid_t dst = *static_cast<hid_t*>(destination);
-  const hid_t a = H5Aopen(loc, name, H5P_DEFAULT);
-  const hid_t type = H5Aget_type(a);
-  const hid_t space = H5Aget_space(a);
-  const hid_t mem = H5Tget_native_type(type, H5T_DIR_DEFAULT);
-  const auto n = static_cast<std::size_t>(std::max<hssize_t>(1, H5Sget_simple_extent_npoints(space)));
-  std::vector<char> buf(n * H5Tget_size(mem));
-  herr_t rc = H5Aread(a, mem, buf.data());
-  if (rc >= 0) {
-    const hid_t b = H5Acreate2(dst, name, type, space, H5P_DEFAULT, H5P_DEFAULT);
-    rc = b < 0 ? -1 : H5Awrite(b, mem, buf.data());
-    if (b >= 0) H5Aclose(b);
-    if (H5Tdetect_class(type, H5T_VLEN) > 0 || H5Tis_variable_str(type) > 0) H5Dvlen_reclaim(mem, space, H5P_DEFAULT, buf.data());
-  }
-  H5Tclose(mem);
-  H5Sclose(space);
-  H5Tclose(type);
-  H5Aclose(a);
-  return rc < 0 ? -1 : 0;
-}
-
-void copy_attributes(const H5::H5Object& from, H5::H5Object& to) {
-  hid_t dst = to.getId();
-  hsize_t idx = 0;
-  if (H5Aiterate2(from.getId(), H5_INDEX_NAME, H5_ITER_INC, &idx, copy_attribute, &dst) < 0) {
-    throw std::runtime_error("cannot copy attributes");
-  }
-}
-
-void copy_object(const H5::Group& from, const std::string& name, H5::Group& to) {
-  if (H5Ocopy(from.getId(), name.c_str(), to.getId(), name.c_str(), H5P_DEFAULT, H5P_DEFAULT) < 0) {
-    throw std::runtime_error("cannot copy " + name);
-  }
-}
-
-}  // namespace
-
-std::unique_ptr<StudyStoreWriter> StudyStoreWriter::derive(const std::string& store_path, const std::vector<std::string>& replaced,
-                                                           const std::string& stage) {
+std::unique_ptr<StudyStoreWriter> StudyStoreWriter::update(const std::string& path, StoreWriteOptions options) {
   h5::QuietErrors quiet;
-  StudyStoreReader check(store_path);  // a readable store of our format, or InputError
-  auto w = std::make_unique<StudyStoreWriter>(store_path);
+  { StudyStoreReader check(path); }  // a readable store of our format, or InputError
+  std::unique_ptr<StudyStoreWriter> w(new StudyStoreWriter());
+  w->path_ = path;
+  w->temp_path_ = temporary_path_beside(path);
+  copy_file(path, w->temp_path_);
   try {
-    H5::H5File src(store_path, H5F_ACC_RDONLY);
-    H5::Group src_root = src.openGroup("/");
-    H5::Group dst_root = w->impl_->file.openGroup("/");
-    for (const auto& top : h5::child_names(src_root)) {
-      if (top == "recordings") continue;
-      if (std::find(replaced.begin(), replaced.end(), "/" + top) != replaced.end()) continue;
-      if (top == "provenance") {
-        H5::Group from = src_root.openGroup(top);
-        H5::Group to = h5::create_group(dst_root, top);
-        copy_attributes(from, to);
-        for (const auto& child : h5::child_names(from)) {
-          if (child != "stages") {
-            copy_object(from, child, to);
-            continue;
-          }
-          H5::Group sfrom = from.openGroup("stages");
-          H5::Group sto = h5::create_group(to, "stages");
-          for (const auto& st : h5::child_names(sfrom)) {
-            if (st != stage) copy_object(sfrom, st, sto);
-          }
-        }
-        continue;
-      }
-      copy_object(src_root, top, dst_root);
-    }
-    H5::Group from_recs = src_root.openGroup("recordings");
-    for (const auto& id : h5::child_names(from_recs)) {
-      H5::Group from = from_recs.openGroup(id);
-      H5::Group to = h5::create_group(w->impl_->recordings, id);
-      copy_attributes(from, to);
-      for (const auto& child : h5::child_names(from)) {
-        if (std::find(replaced.begin(), replaced.end(), child) == replaced.end()) copy_object(from, child, to);
-      }
-    }
+    w->impl_ = std::make_unique<Impl>();
+    w->impl_->options = options;
+    w->impl_->file = H5::H5File(w->temp_path_, H5F_ACC_RDWR, H5::FileCreatPropList::DEFAULT, access_properties());
+    w->impl_->recordings = w->impl_->file.openGroup("/recordings");
   } catch (const H5::Exception& e) {
-    throw InputError({store_path, 0, ""}, "cannot copy the store to update it: " + e.getDetailMsg());
-  } catch (const std::runtime_error& e) {
-    throw InputError({store_path, 0, ""}, std::string("cannot copy the store to update it: ") + e.what());
+    w->impl_.reset();
+    std::remove(w->temp_path_.c_str());
+    throw InputError({path, 0, ""}, "cannot open the copy of the store to update it: " + e.getDetailMsg());
   }
   return w;
 }
 
-namespace {
-
-// "deg/s" for peak_threshold_deg_s: fitted values carry their unit in their name.
-std::string unit_in_name(const std::string& name) {
-  if (name.ends_with("_deg_s")) return "deg/s";
-  if (name.ends_with("_deg")) return "deg";
-  if (name.ends_with("_ms")) return "ms";
-  return "";
-}
-
-template <typename E, typename F>
-std::vector<std::string> trial_column(const std::vector<E>& events, F&& get) {
-  std::vector<std::string> out;
-  for (const auto& e : events) out.push_back(get(e));
-  return out;
-}
-
-template <typename E, typename T, typename F>
-std::vector<T> number_column(const std::vector<E>& events, F&& get) {
-  std::vector<T> out;
-  for (const auto& e : events) out.push_back(static_cast<T>(get(e)));
-  return out;
-}
-
-}  // namespace
-
-void StudyStoreWriter::write_events(const std::string& id, const DetectedEvents& ev, const std::vector<SampleLabel>& labels,
-                                    const std::string& method, const std::string& parameters_json) {
-  H5::Group rec = impl_->recordings.openGroup(id);
-  H5::Group g = h5::create_group(rec, "events");
-  h5::set_attr(g, "method", method);
-  h5::set_attr(g, "parameters", parameters_json);
-  std::vector<std::uint8_t> codes;
-  codes.reserve(labels.size());
-  for (auto l : labels) codes.push_back(static_cast<std::uint8_t>(l));
-  h5::write_column(g, "sample_label", codes);
-
-  auto eye_of = [](const auto& e) { return to_string(e.eye); };
-  auto trial_of = [](const auto& e) { return e.trial; };
-  H5::Group f = h5::create_group(g, "fixations");
-  const auto& fx = ev.fixations;
-  h5::write_strings(f, "trial", trial_column(fx, trial_of));
-  h5::write_strings(f, "eye", trial_column(fx, eye_of));
-  h5::write_column(f, "start_us", number_column<FixationEvent, std::int64_t>(fx, [](auto& e) { return e.start_us; }), "us");
-  h5::write_column(f, "end_us", number_column<FixationEvent, std::int64_t>(fx, [](auto& e) { return e.end_us; }), "us");
-  h5::write_column(f, "duration_ms", number_column<FixationEvent, double>(fx, [](auto& e) { return e.duration_ms(); }), "ms");
-  h5::write_column(f, "x_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_px; }), "px");
-  h5::write_column(f, "y_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_px; }), "px");
-  h5::write_column(f, "x_median_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_median_px; }), "px");
-  h5::write_column(f, "y_median_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_median_px; }), "px");
-  h5::write_column(f, "x_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_deg; }), "deg");
-  h5::write_column(f, "y_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_deg; }), "deg");
-  h5::write_column(f, "dispersion_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.dispersion_deg; }), "deg");
-
-  H5::Group sg = h5::create_group(g, "saccades");
-  const auto& sc = ev.saccades;
-  h5::write_strings(sg, "trial", trial_column(sc, trial_of));
-  h5::write_strings(sg, "eye", trial_column(sc, eye_of));
-  h5::write_column(sg, "start_us", number_column<SaccadeEvent, std::int64_t>(sc, [](auto& e) { return e.start_us; }), "us");
-  h5::write_column(sg, "end_us", number_column<SaccadeEvent, std::int64_t>(sc, [](auto& e) { return e.end_us; }), "us");
-  h5::write_column(sg, "start_x_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.start_x_px; }), "px");
-  h5::write_column(sg, "start_y_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.start_y_px; }), "px");
-  h5::write_column(sg, "end_x_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.end_x_px; }), "px");
-  h5::write_column(sg, "end_y_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.end_y_px; }), "px");
-  h5::write_column(sg, "amplitude_deg", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.amplitude_deg; }), "deg");
-  h5::write_column(sg, "peak_velocity_deg_s", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.peak_velocity_deg_s; }), "deg/s");
-  h5::write_column(sg, "direction_deg", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.direction_deg; }), "deg");
-
-  H5::Group bg = h5::create_group(g, "blinks");
-  const auto& bl = ev.blinks;
-  h5::write_strings(bg, "trial", trial_column(bl, trial_of));
-  h5::write_strings(bg, "eye", trial_column(bl, eye_of));
-  h5::write_column(bg, "start_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.start_us; }), "us");
-  h5::write_column(bg, "end_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.end_us; }), "us");
-
-  // Per trial, the eye used and what the detector set from the trial's own
-  // data: a column per name, NaN for a trial where it set nothing.
-  H5::Group tg = h5::create_group(g, "trials");
-  const auto& tr = ev.trials;
-  h5::write_strings(tg, "trial", trial_column(tr, trial_of));
-  h5::write_strings(tg, "eye", trial_column(tr, eye_of));
-  std::set<std::string> names;
-  for (const auto& t : tr) {
-    for (const auto& [name, value] : t.fitted) names.insert(name);
-  }
-  for (const auto& name : names) {
-    std::vector<double> column;
-    for (const auto& t : tr) {
-      const auto it = t.fitted.find(name);
-      column.push_back(it == t.fitted.end() ? std::numeric_limits<double>::quiet_NaN() : it->second);
-    }
-    h5::write_column(tg, name, column, unit_in_name(name));
-  }
-}
-
-H5::Group StudyStoreWriter::group(const std::string& path) {
-  H5::Group g = impl_->file.openGroup("/");
-  std::size_t start = 0;
-  while (start < path.size()) {
-    const auto slash = path.find('/', start);
-    const std::string part = path.substr(start, slash == std::string::npos ? std::string::npos : slash - start);
-    if (!part.empty()) g = h5::open_or_create_group(g, part);
-    if (slash == std::string::npos) break;
-    start = slash + 1;
-  }
-  return g;
-}
-
-void StudyStoreWriter::write_stage_provenance(const std::string& stage, const StageProvenance& p) {
-  H5::Group root = impl_->file.openGroup("/");
-  H5::Group prov = h5::open_or_create_group(root, "provenance");
-  H5::Group stages = h5::open_or_create_group(prov, "stages");
-  H5::Group g = h5::create_group(stages, stage);
-  h5::set_attr(g, "gazemill_version", p.tool_version);
-  h5::set_attr(g, "protocol_text", p.protocol_text);
-  h5::set_attr(g, "protocol_sha256", p.protocol_sha256);
-  h5::set_attr(g, "created_utc", p.created_utc);
-  h5::set_attr(g, "settings", p.settings_json);
-  h5::set_attr(g, "protocol_path", p.protocol_path);
-}
-
 StudyStoreWriter::~StudyStoreWriter() {
   if (!committed_) {
-    impl_.reset();
+    try {
+      impl_.reset();
+    } catch (...) {
+    }
     std::remove(temp_path_.c_str());
   }
 }
 
-std::unique_ptr<SampleSink> StudyStoreWriter::begin_samples(const std::string& recording_id, bool left, bool right) {
-  if (h5::exists(impl_->recordings, recording_id)) {
-    throw InputError({"", 0, recording_id}, "two input files map to the same recording id '" + recording_id +
-                                                "'; check input.filename_pattern");
-  }
-  H5::Group rec = h5::create_group(impl_->recordings, recording_id);
-  H5::Group samples = h5::create_group(rec, "samples");
-  auto writer = std::make_unique<RecordingSampleWriter>(samples, left, right, impl_->options, impl_->pool);
-  auto sink = std::make_unique<ForwardingSink>(*writer);
-  impl_->open_samples[recording_id] = std::move(writer);
-  return sink;
+bool StudyStoreWriter::exists(const std::string& path) {
+  h5::QuietErrors quiet;
+  return h5::exists(impl_->file.openGroup("/"), path.starts_with('/') ? path.substr(1) : path);
 }
 
-void StudyStoreWriter::write_recording(const Recording& r, const SampleSummary& summary) {
-  auto it = impl_->open_samples.find(r.id);
-  if (it == impl_->open_samples.end()) throw std::logic_error("write_recording before begin_samples for " + r.id);
-  it->second->finish();
-  impl_->open_samples.erase(it);
+void StudyStoreWriter::remove(const std::string& path) {
+  if (!exists(path)) return;
+  if (H5Ldelete(impl_->file.getId(), path.c_str(), H5P_DEFAULT) < 0) throw std::runtime_error("cannot remove " + path + " from the store");
+}
 
-  H5::Group rec = impl_->recordings.openGroup(r.id);
+void StudyStoreWriter::write_recording(const Recording& r, const SampleSummary& summary, const std::vector<CompressedColumn>& samples,
+                                       const std::string& ingest_key) {
+  H5::Group rec = h5::create_group(impl_->recordings, r.id);
+  H5::Group sg = h5::create_group(rec, "samples");
+  for (const auto& c : samples) write_compressed_column(sg, c, impl_->options.deflate_level);
+  h5::set_attr(rec, "ingest_key", ingest_key);
   h5::set_attr(rec, "participant", r.participant);
   h5::set_attr(rec, "session", r.session);
   h5::set_attr(rec, "source_file", r.source_file);
@@ -415,7 +241,9 @@ void StudyStoreWriter::write_recording(const Recording& r, const SampleSummary& 
 
 void StudyStoreWriter::write_provenance(const Provenance& p) {
   H5::Group root = impl_->file.openGroup("/");
-  H5::Group g = h5::create_group(root, "provenance");
+  H5::Group g = h5::open_or_create_group(root, "provenance");
+  remove("/provenance/inputs");
+  remove("/provenance/repairs");
   h5::set_attr(g, "gazemill_version", p.tool_version);
   h5::set_attr(g, "protocol_path", p.protocol_path);
   h5::set_attr(g, "protocol_text", p.protocol_text);
@@ -424,14 +252,17 @@ void StudyStoreWriter::write_provenance(const Provenance& p) {
   H5::Group in = h5::create_group(g, "inputs");
   std::vector<std::string> paths, hashes, recs;
   std::vector<std::uint64_t> sizes;
+  std::vector<std::int64_t> modified;
   for (const auto& f : p.inputs) {
     paths.push_back(f.path);
     sizes.push_back(f.size_bytes);
+    modified.push_back(f.modified_ns);
     hashes.push_back(f.sha256);
     recs.push_back(f.recording_id);
   }
   h5::write_strings(in, "path", paths);
   h5::write_column(in, "size_bytes", sizes, "bytes");
+  h5::write_column(in, "modified_ns", modified, "ns");
   h5::write_strings(in, "sha256", hashes);
   h5::write_strings(in, "recording", recs);
   H5::Group rep = h5::create_group(g, "repairs");
@@ -447,11 +278,151 @@ void StudyStoreWriter::write_provenance(const Provenance& p) {
   h5::write_column(rep, "count", counts);
 }
 
+namespace {
+
+// "deg/s" for peak_threshold_deg_s: fitted values carry their unit in their name.
+std::string unit_in_name(const std::string& name) {
+  if (name.ends_with("_deg_s")) return "deg/s";
+  if (name.ends_with("_deg")) return "deg";
+  if (name.ends_with("_ms")) return "ms";
+  return "";
+}
+
+template <typename E, typename F>
+std::vector<std::string> trial_column(const std::vector<E>& events, F&& get) {
+  std::vector<std::string> out;
+  for (const auto& e : events) out.push_back(get(e));
+  return out;
+}
+
+template <typename E, typename T, typename F>
+std::vector<T> number_column(const std::vector<E>& events, F&& get) {
+  std::vector<T> out;
+  for (const auto& e : events) out.push_back(static_cast<T>(get(e)));
+  return out;
+}
+
+}  // namespace
+
+void StudyStoreWriter::write_events(const std::string& id, const DetectedEvents& ev, const CompressedColumn& labels,
+                                    const std::string& method, const std::string& parameters_json, const std::string& detect_key) {
+  H5::Group rec = impl_->recordings.openGroup(id);
+  H5::Group g = h5::create_group(rec, "events");
+  h5::set_attr(g, "method", method);
+  h5::set_attr(g, "parameters", parameters_json);
+  h5::set_attr(g, "detect_key", detect_key);
+  write_compressed_column(g, labels, impl_->options.deflate_level);
+
+  auto eye_of = [](const auto& e) { return to_string(e.eye); };
+  auto trial_of = [](const auto& e) { return e.trial; };
+  H5::Group f = h5::create_group(g, "fixations");
+  const auto& fx = ev.fixations;
+  h5::write_strings(f, "trial", trial_column(fx, trial_of));
+  h5::write_strings(f, "eye", trial_column(fx, eye_of));
+  h5::write_column(f, "start_us", number_column<FixationEvent, std::int64_t>(fx, [](auto& e) { return e.start_us; }), "us");
+  h5::write_column(f, "end_us", number_column<FixationEvent, std::int64_t>(fx, [](auto& e) { return e.end_us; }), "us");
+  h5::write_column(f, "duration_ms", number_column<FixationEvent, double>(fx, [](auto& e) { return e.duration_ms(); }), "ms");
+  h5::write_column(f, "x_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_px; }), "px");
+  h5::write_column(f, "y_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_px; }), "px");
+  h5::write_column(f, "x_median_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_median_px; }), "px");
+  h5::write_column(f, "y_median_px", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_median_px; }), "px");
+  h5::write_column(f, "x_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_deg; }), "deg");
+  h5::write_column(f, "y_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_deg; }), "deg");
+  h5::write_column(f, "dispersion_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.dispersion_deg; }), "deg");
+
+  H5::Group sg = h5::create_group(g, "saccades");
+  const auto& sc = ev.saccades;
+  h5::write_strings(sg, "trial", trial_column(sc, trial_of));
+  h5::write_strings(sg, "eye", trial_column(sc, eye_of));
+  h5::write_column(sg, "start_us", number_column<SaccadeEvent, std::int64_t>(sc, [](auto& e) { return e.start_us; }), "us");
+  h5::write_column(sg, "end_us", number_column<SaccadeEvent, std::int64_t>(sc, [](auto& e) { return e.end_us; }), "us");
+  h5::write_column(sg, "start_x_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.start_x_px; }), "px");
+  h5::write_column(sg, "start_y_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.start_y_px; }), "px");
+  h5::write_column(sg, "end_x_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.end_x_px; }), "px");
+  h5::write_column(sg, "end_y_px", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.end_y_px; }), "px");
+  h5::write_column(sg, "amplitude_deg", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.amplitude_deg; }), "deg");
+  h5::write_column(sg, "peak_velocity_deg_s", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.peak_velocity_deg_s; }), "deg/s");
+  h5::write_column(sg, "direction_deg", number_column<SaccadeEvent, double>(sc, [](auto& e) { return e.direction_deg; }), "deg");
+
+  H5::Group bg = h5::create_group(g, "blinks");
+  const auto& bl = ev.blinks;
+  h5::write_strings(bg, "trial", trial_column(bl, trial_of));
+  h5::write_strings(bg, "eye", trial_column(bl, eye_of));
+  h5::write_column(bg, "start_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.start_us; }), "us");
+  h5::write_column(bg, "end_us", number_column<BlinkEvent, std::int64_t>(bl, [](auto& e) { return e.end_us; }), "us");
+
+  H5::Group lg = h5::create_group(g, "losses");
+  const auto& ls = ev.losses;
+  h5::write_strings(lg, "trial", trial_column(ls, trial_of));
+  h5::write_column(lg, "start_us", number_column<LossEvent, std::int64_t>(ls, [](auto& e) { return e.start_us; }), "us");
+  h5::write_column(lg, "end_us", number_column<LossEvent, std::int64_t>(ls, [](auto& e) { return e.end_us; }), "us");
+
+  // Per trial, the eye used, its sample counts and what the detector set
+  // from the trial's own data: a column per name, NaN for a trial where it set nothing.
+  H5::Group tg = h5::create_group(g, "trials");
+  const auto& tr = ev.trials;
+  h5::write_strings(tg, "trial", trial_column(tr, trial_of));
+  h5::write_strings(tg, "eye", trial_column(tr, eye_of));
+  h5::write_column(tg, "samples", number_column<TrialDetection, std::uint64_t>(tr, [](auto& t) { return t.samples; }));
+  h5::write_column(tg, "missing_samples", number_column<TrialDetection, std::uint64_t>(tr, [](auto& t) { return t.missing_samples; }));
+  std::set<std::string> names;
+  for (const auto& t : tr) {
+    for (const auto& [name, value] : t.fitted) names.insert(name);
+  }
+  for (const auto& name : names) {
+    std::vector<double> column;
+    for (const auto& t : tr) {
+      const auto it = t.fitted.find(name);
+      column.push_back(it == t.fitted.end() ? std::numeric_limits<double>::quiet_NaN() : it->second);
+    }
+    h5::write_column(tg, name, column, unit_in_name(name));
+  }
+}
+
+H5::Group StudyStoreWriter::group(const std::string& path) {
+  H5::Group g = impl_->file.openGroup("/");
+  std::size_t start = 0;
+  while (start < path.size()) {
+    const auto slash = path.find('/', start);
+    const std::string part = path.substr(start, slash == std::string::npos ? std::string::npos : slash - start);
+    if (!part.empty()) g = h5::open_or_create_group(g, part);
+    if (slash == std::string::npos) break;
+    start = slash + 1;
+  }
+  return g;
+}
+
+void StudyStoreWriter::write_stage_record(const StageRecord& r) {
+  const std::string path = std::string("provenance/stages/") + to_string(r.stage);
+  remove("/" + path);
+  H5::Group g = group(path);
+  h5::set_attr(g, "key", r.key);
+  h5::set_attr(g, "upstream_key", r.upstream_key);
+  h5::set_attr(g, "settings", r.settings_json);
+  h5::set_attr(g, "state", std::string(to_string(r.state)));
+  h5::set_attr(g, "stale_reason", r.stale_reason);
+  h5::set_attr(g, "created_utc", r.created_utc);
+  h5::set_attr(g, "gazemill_version", r.tool_version);
+  h5::set_attr(g, "protocol_text", r.protocol_text);
+  h5::set_attr(g, "protocol_path", r.protocol_path);
+}
+
+void StudyStoreWriter::mark_stage_stale(Stage stage, const std::string& reason) {
+  const std::string path = std::string("provenance/stages/") + to_string(stage);
+  if (!exists(path)) return;
+  H5::Group g = group(path);
+  h5::set_attr(g, "state", std::string(to_string(StageState::stale)));
+  h5::set_attr(g, "stale_reason", reason);
+}
+
 void StudyStoreWriter::commit() {
-  if (!impl_->open_samples.empty()) throw std::logic_error("commit with unfinished recordings");
-  impl_->recordings.close();
-  impl_->file.flush(H5F_SCOPE_GLOBAL);
-  impl_->file.close();
+  try {
+    impl_->recordings.close();
+    impl_->file.flush(H5F_SCOPE_GLOBAL);
+    impl_->file.close();
+  } catch (const H5::Exception& e) {
+    throw InputError({path_, 0, ""}, "cannot finish writing the store's temporary file " + temp_path_ + ": " + e.getDetailMsg());
+  }
   impl_.reset();
   std::error_code ec;
   fs::rename(temp_path_, path_, ec);
@@ -511,9 +482,10 @@ Provenance StudyStoreReader::provenance() const {
   H5::Group in = g.openGroup("inputs");
   const auto paths = h5::read_strings(in, "path");
   const auto sizes = h5::read_column<std::uint64_t>(in, "size_bytes");
+  const auto modified = h5::read_column<std::int64_t>(in, "modified_ns");
   const auto hashes = h5::read_strings(in, "sha256");
   const auto recs = h5::read_strings(in, "recording");
-  for (std::size_t i = 0; i < paths.size(); ++i) p.inputs.push_back({paths[i], sizes[i], hashes[i], recs[i]});
+  for (std::size_t i = 0; i < paths.size(); ++i) p.inputs.push_back({paths[i], sizes[i], hashes[i], recs[i], modified.at(i)});
   H5::Group rep = g.openGroup("repairs");
   const auto rrec = h5::read_strings(rep, "recording");
   const auto kinds = h5::read_strings(rep, "kind");
@@ -592,12 +564,17 @@ DetectedEvents StudyStoreReader::read_events(const std::string& id) const {
     const auto bt = h5::read_strings(b, "trial"), be = h5::read_strings(b, "eye");
     const auto bs = h5::read_column<std::int64_t>(b, "start_us"), bn = h5::read_column<std::int64_t>(b, "end_us");
     for (std::size_t i = 0; i < bt.size(); ++i) ev.blinks.push_back({bt[i], eye(be[i]), bs[i], bn[i]});
-    if (h5::exists(g, "trials")) {  // stores written before it have none
+    H5::Group l = g.openGroup("losses");
+    const auto lt = h5::read_strings(l, "trial");
+    const auto ls = h5::read_column<std::int64_t>(l, "start_us"), ln = h5::read_column<std::int64_t>(l, "end_us");
+    for (std::size_t i = 0; i < lt.size(); ++i) ev.losses.push_back({lt[i], ls[i], ln[i]});
+    {
       H5::Group t = g.openGroup("trials");
       const auto tt = h5::read_strings(t, "trial"), te = h5::read_strings(t, "eye");
-      for (std::size_t i = 0; i < tt.size(); ++i) ev.trials.push_back({tt[i], eye(te[i]), {}});
+      const auto ts = h5::read_column<std::uint64_t>(t, "samples"), tm = h5::read_column<std::uint64_t>(t, "missing_samples");
+      for (std::size_t i = 0; i < tt.size(); ++i) ev.trials.push_back({tt[i], eye(te[i]), {}, ts.at(i), tm.at(i)});
       for (const auto& name : h5::child_names(t)) {
-        if (name == "trial" || name == "eye") continue;
+        if (name == "trial" || name == "eye" || name == "samples" || name == "missing_samples") continue;
         const auto values = h5::read_column<double>(t, name);
         for (std::size_t i = 0; i < values.size() && i < ev.trials.size(); ++i) {
           if (!std::isnan(values[i])) ev.trials[i].fitted[name] = values[i];
@@ -619,12 +596,84 @@ H5::Group StudyStoreReader::group(const std::string& path) const { return impl_-
 
 const std::string& StudyStoreReader::path() const { return impl_->path; }
 
-StageProvenance StudyStoreReader::stage_provenance(const std::string& stage) const {
+std::optional<StageRecord> StudyStoreReader::stage_record(Stage stage) const {
   h5::QuietErrors quiet;
-  H5::Group g = impl_->group("provenance/stages/" + stage);
-  return {h5::get_string_attr(g, "gazemill_version"), h5::get_string_attr(g, "protocol_text"),
-          h5::get_string_attr(g, "protocol_sha256"),  h5::get_string_attr(g, "created_utc"),
-          h5::get_string_attr(g, "settings"),         h5::get_string_attr(g, "protocol_path")};
+  const std::string path = std::string("provenance/stages/") + to_string(stage);
+  if (!exists(path)) return std::nullopt;
+  H5::Group g = impl_->file.openGroup(path);
+  StageRecord r;
+  r.stage = stage;
+  auto text = [&](const char* name) { return h5::has_attr(g, name) ? h5::get_string_attr(g, name) : std::string(); };
+  r.key = text("key");
+  r.upstream_key = text("upstream_key");
+  r.settings_json = text("settings");
+  r.state = text("state") == "stale" ? StageState::stale : StageState::current;
+  r.stale_reason = text("stale_reason");
+  r.created_utc = text("created_utc");
+  r.tool_version = text("gazemill_version");
+  r.protocol_text = text("protocol_text");
+  r.protocol_path = text("protocol_path");
+  return r;
+}
+
+std::string StudyStoreReader::recording_attribute(const std::string& id, const std::string& name) const {
+  h5::QuietErrors quiet;
+  H5::Group rec = impl_->group("recordings/" + id);
+  return h5::has_attr(rec, name) ? h5::get_string_attr(rec, name) : std::string();
+}
+
+std::string StudyStoreReader::events_key(const std::string& id) const {
+  h5::QuietErrors quiet;
+  if (!has_events(id)) return "";
+  H5::Group g = impl_->file.openGroup("recordings/" + id + "/events");
+  return h5::has_attr(g, "detect_key") ? h5::get_string_attr(g, "detect_key") : std::string();
+}
+
+std::vector<CompressedColumn> StudyStoreReader::read_sample_chunks(const std::string& id) const {
+  h5::QuietErrors quiet;
+  const std::string base = "recordings/" + id + "/samples";
+  H5::Group g = impl_->group(base);
+  const std::string eyes = h5::get_string_attr(impl_->group("recordings/" + id), "eyes");
+  std::vector<std::pair<std::string, ColumnType>> names = {{"time_us", ColumnType::int64}};
+  for (const char* eye : {"left", "right"}) {
+    if (eyes.find(eye) == std::string::npos) continue;
+    const std::string p = std::string(eye) + "_";
+    names.insert(names.end(), {{p + "x_px", ColumnType::float32}, {p + "y_px", ColumnType::float32},
+                               {p + "pupil", ColumnType::float32}, {p + "valid", ColumnType::uint8}});
+  }
+  std::vector<CompressedColumn> out;
+  for (const auto& [name, type] : names) {
+    CompressedColumn c;
+    c.name = name;
+    c.type = type;
+    try {
+      H5::DataSet ds = g.openDataSet(name);
+      hsize_t rows = 0;
+      ds.getSpace().getSimpleExtentDims(&rows);
+      H5::DSetCreatPropList plist = ds.getCreatePlist();
+      hsize_t chunk = 0;
+      if (plist.getLayout() != H5D_CHUNKED || plist.getChunk(1, &chunk) != 1 || plist.getNfilters() != 2) {
+        impl_->fail(base + "/" + name, "not stored as gazemill writes samples (shuffled, deflated chunks)");
+      }
+      c.rows = rows;
+      c.chunk_rows = static_cast<std::size_t>(chunk);
+      if (h5::has_attr(ds, "unit")) c.unit = h5::get_string_attr(ds, "unit");
+      for (hsize_t first = 0; first < rows; first += chunk) {
+        hsize_t bytes = 0;
+        if (H5Dget_chunk_storage_size(ds.getId(), &first, &bytes) < 0) impl_->fail(base + "/" + name, "a chunk cannot be found");
+        std::vector<char> buf(bytes);
+        std::uint32_t filters = 0;
+        if (H5Dread_chunk(ds.getId(), H5P_DEFAULT, &first, &filters, buf.data()) < 0 || filters != 0) {
+          impl_->fail(base + "/" + name, "a chunk cannot be read");
+        }
+        c.chunks.push_back(std::move(buf));
+      }
+    } catch (const H5::Exception& e) {
+      impl_->fail(base + "/" + name, "damaged or incomplete samples: " + e.getDetailMsg());
+    }
+    out.push_back(std::move(c));
+  }
+  return out;
 }
 
 Recording StudyStoreReader::read_recording(const std::string& id, bool with_samples) const {

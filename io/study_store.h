@@ -1,15 +1,19 @@
 #pragma once
 // The HDF5 study store: one file per study, a group per recording.
 //
-// Layout (format "gazemill-study-store", version 1):
+// Layout (format "gazemill-study-store", version 2):
 //   /                                  attrs format, format_version
 //   /provenance                        attrs gazemill_version, protocol_path, protocol_text,
-//                                      protocol_sha256, created_utc
-//   /provenance/inputs/{path,size_bytes,sha256,recording}
+//                                      protocol_sha256, created_utc (of the ingest)
+//   /provenance/inputs/{path,size_bytes,modified_ns,sha256,recording}
 //   /provenance/repairs/{recording,kind,count}
+//   /provenance/stages/<stage>         one per study stage that ran (ingest, detect, clean, align,
+//                                      measure): attrs key, upstream_key, settings (JSON), state
+//                                      ("current" or "stale"), stale_reason, created_utc,
+//                                      gazemill_version, protocol_text, protocol_path
 //   /recordings/<id>                   attrs participant, session, source_file, sample_rate_hz,
 //                                      eyes, screen_*, sample_count, missing_left, missing_right,
-//                                      first_time_us, last_time_us
+//                                      first_time_us, last_time_us, ingest_key
 //   /recordings/<id>/samples/time_us   int64, unit "us"
 //   /recordings/<id>/samples/<eye>_x_px, <eye>_y_px (float32, "px"), <eye>_pupil (float32,
 //                                      "tracker units"), <eye>_valid (uint8)   eye = left|right
@@ -17,7 +21,8 @@
 //   /recordings/<id>/trials/{id,start_us,end_us,item,condition}
 //   /recordings/<id>/trials/variables/<name>       strings, one per trial ("" when unset)
 //   /recordings/<id>/trials/markers/<name>_us      int64, one per trial, kMissingTime when unset
-//   /recordings/<id>/events                        written by detect; attrs method, parameters (JSON)
+//   /recordings/<id>/events                        written by detect; attrs method, parameters (JSON),
+//                                                  detect_key
 //   /recordings/<id>/events/sample_label           uint8 per sample: 0 fixation, 1 saccade, 2 pso,
 //                                                  3 blink, 4 loss, 5 other (outside trials, unclassified)
 //   /recordings/<id>/events/fixations/{trial,eye,start_us,end_us,duration_ms,x_px,y_px,x_median_px,
@@ -25,72 +30,78 @@
 //   /recordings/<id>/events/saccades/{trial,eye,start_us,end_us,start_x_px,start_y_px,end_x_px,end_y_px,
 //                                     amplitude_deg,peak_velocity_deg_s,direction_deg}
 //   /recordings/<id>/events/blinks/{trial,eye,start_us,end_us}
-//   /recordings/<id>/events/trials/{trial,eye,<fitted>}  one row per trial: the eye used and each value the
-//                                                  detector set from the trial's own data (float64 with
-//                                                  its unit, NaN where not set), e.g. dispersion_threshold_deg
-//   /provenance/stages/<stage>                     attrs gazemill_version, protocol_path, protocol_text,
-//                                                  protocol_sha256, created_utc, settings (JSON) of each derived stage
-// Every numeric dataset is chunked, shuffled and deflated, with a "unit" attribute.
+//   /recordings/<id>/events/losses/{trial,start_us,end_us}   lost tracking that is no blink (end: last sample)
+//   /recordings/<id>/events/trials/{trial,eye,samples,missing_samples,<fitted>}  one row per trial: the eye
+//                                                  used, its sample counts, and each value the detector
+//                                                  set from the trial's own data (float64 with its unit,
+//                                                  NaN where not set), e.g. dispersion_threshold_deg
+// Sample columns and labels are chunked (65 536 rows), shuffled and deflated; every numeric dataset
+// has a "unit" attribute. The file keeps its free-space map, so a run that replaces results in
+// place reuses their space instead of growing the file.
 
 #include <H5Cpp.h>
 
 #include <memory>
+#include <optional>
 #include <string>
 #include <vector>
 
+#include "io/compressed_samples.h"
 #include "pipeline/events.h"
 #include "pipeline/provenance.h"
 #include "pipeline/recording.h"
-#include "pipeline/sample_sink.h"
+#include "pipeline/stage.h"
 
 namespace gazemill {
 
 inline constexpr const char* kStoreFormat = "gazemill-study-store";
-inline constexpr std::int64_t kStoreFormatVersion = 1;
+inline constexpr std::int64_t kStoreFormatVersion = 2;
 /// Marker times absent from a trial are stored as this value.
 inline constexpr Microseconds kMissingTime = INT64_MIN;
 
 struct StoreWriteOptions {
   int deflate_level = 1;          // 1 = fastest (ISA-L); 2-9 libdeflate; see bench/ingest for the trade-off
-  unsigned long chunk_rows = 1 << 16;
-  unsigned compression_threads = 0;  // 0 = one per core
+  std::size_t chunk_rows = std::size_t{1} << 16;
 };
 
-/// Writes a new store to a temporary file beside `path`; commit() renames it
-/// into place. Destroying the writer without commit() removes the temporary
-/// file, so a failed run never leaves a store that looks complete.
+/// Writes a new version of a store to a temporary file beside `path`;
+/// commit() renames it into place. Destroying the writer without commit()
+/// removes the temporary file, so a failed run never leaves a store that
+/// looks complete, and the previous store stays as it was.
 class StudyStoreWriter {
  public:
+  /// A new, empty store.
   explicit StudyStoreWriter(std::string path, StoreWriteOptions options = {});
+  /// A new version of the store at `path`: its file is copied and then
+  /// changed in place (remove() what is replaced, then write).
+  static std::unique_ptr<StudyStoreWriter> update(const std::string& path, StoreWriteOptions options = {});
   ~StudyStoreWriter();
   StudyStoreWriter(const StudyStoreWriter&) = delete;
   StudyStoreWriter& operator=(const StudyStoreWriter&) = delete;
 
-  /// A sink streaming one recording's samples into the store.
-  std::unique_ptr<SampleSink> begin_samples(const std::string& recording_id, bool left, bool right);
-  /// Finishes the samples of `recording` (begin_samples first) and writes its
-  /// metadata, messages and trials. recording.samples is ignored.
-  void write_recording(const Recording& recording, const SampleSummary& summary);
-  void write_provenance(const Provenance& provenance);
-  void commit();
+  /// Removes an object (group or dataset) by path from the root, if present.
+  void remove(const std::string& path);
+  bool exists(const std::string& path);
 
-  /// A writer for a new version of an existing store: everything is copied
-  /// (compressed chunks as they are) except each recording's `replaced`
-  /// children, top-level groups named "/name" in `replaced`, and
-  /// /provenance/stages/`stage`; commit() replaces the store.
-  static std::unique_ptr<StudyStoreWriter> derive(const std::string& store_path, const std::vector<std::string>& replaced,
-                                                  const std::string& stage);
-  /// Detection results of one recording (replacing nothing; use derive()).
-  void write_events(const std::string& recording_id, const DetectedEvents& events, const std::vector<SampleLabel>& labels,
-                    const std::string& method, const std::string& parameters_json);
-  /// Provenance of a derived stage.
-  void write_stage_provenance(const std::string& stage, const StageProvenance& provenance);
+  /// A recording's metadata, messages, trials and sample columns (chunks as compressed).
+  void write_recording(const Recording& recording, const SampleSummary& summary, const std::vector<CompressedColumn>& samples,
+                       const std::string& ingest_key);
+  void write_provenance(const Provenance& provenance);
+  /// Detection results of one recording (remove() the old ones first).
+  void write_events(const std::string& recording_id, const DetectedEvents& events, const CompressedColumn& labels,
+                    const std::string& method, const std::string& parameters_json, const std::string& detect_key);
+  /// The record of a study stage, replacing any earlier one.
+  void write_stage_record(const StageRecord& record);
+  /// Marks a stage's record stale (its results are removed by the caller).
+  void mark_stage_stale(Stage stage, const std::string& reason);
   /// A group of the new store by path from the root, created (with its parents) if needed.
   H5::Group group(const std::string& path);
+  void commit();
 
   const std::string& temporary_path() const { return temp_path_; }
 
  private:
+  StudyStoreWriter() = default;
   struct Impl;
   std::unique_ptr<Impl> impl_;
   std::string path_;
@@ -112,11 +123,17 @@ class StudyStoreReader {
   /// Metadata, messages and trials; samples too when `with_samples`.
   Recording read_recording(const std::string& id, bool with_samples) const;
   SampleSummary sample_summary(const std::string& id) const;
+  /// The recording's sample columns as stored (compressed chunks), for decoding off this thread.
+  std::vector<CompressedColumn> read_sample_chunks(const std::string& id) const;
+  /// A string attribute of /recordings/<id> ("" when absent), e.g. ingest_key.
+  std::string recording_attribute(const std::string& id, const std::string& name) const;
   bool has_events(const std::string& id) const;
+  /// The detect_key of a recording's events ("" when none).
+  std::string events_key(const std::string& id) const;
   DetectedEvents read_events(const std::string& id) const;
   std::vector<SampleLabel> read_sample_labels(const std::string& id) const;
-  /// Provenance of a derived stage; throws InputError when the stage has not run.
-  StageProvenance stage_provenance(const std::string& stage) const;
+  /// A study stage's record, if it ran.
+  std::optional<StageRecord> stage_record(Stage stage) const;
   bool exists(const std::string& path) const;
   /// A group by path from the root; throws InputError naming it when absent.
   H5::Group group(const std::string& path) const;

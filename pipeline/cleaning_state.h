@@ -57,6 +57,20 @@ struct CleaningState {
   ScreenGeometry screen;  // of the first recording; rules in degrees need it
 };
 
+/// One recording's trials and detected events, as cleaning takes them.
+struct RecordingEvents {
+  Recording meta;  // metadata, messages and trials; no samples
+  DetectedEvents events;
+};
+
+/// One recording after cleaning, as the later stages take it: its kept
+/// fixations in time order and whether each trial was kept.
+struct CleanedRecording {
+  Recording meta;
+  std::vector<CleanFixation> kept;
+  std::map<std::string, bool> trial_kept;  // by trial id
+};
+
 /// The result of cleaning: the state after every rule (removed items stay,
 /// marked kept = false), the audit, and for every removed input fixation and
 /// trial the rule (index) that removed it and why.

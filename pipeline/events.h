@@ -24,6 +24,7 @@ inline const char* to_string(SampleLabel l) {
 
 }  // namespace gazemill
 
+#include <cstdint>
 #include <map>
 #include <string>
 #include <vector>
@@ -63,13 +64,23 @@ struct BlinkEvent {
   Microseconds end_us = 0;
 };
 
-/// One trial's detection: the eye used and the values the detector set from
-/// the trial's own data (adaptive thresholds, by name with the unit in it;
-/// none for a fixed threshold), so that every trial's labels can be redone.
+/// A stretch of lost tracking (not a blink) inside a trial; end inclusive (its last sample).
+struct LossEvent {
+  std::string trial;
+  Microseconds start_us = 0;
+  Microseconds end_us = 0;
+};
+
+/// One trial's detection: the eye used, the values the detector set from the
+/// trial's own data (adaptive thresholds, by name with the unit in it; none
+/// for a fixed threshold), so that every trial's labels can be redone, and
+/// its sample counts, so that cleaning needs no samples.
 struct TrialDetection {
   std::string trial;
   Eye eye = Eye::left;  // left for the average of both eyes
   std::map<std::string, double> fitted;
+  std::uint64_t samples = 0;          // samples inside the trial
+  std::uint64_t missing_samples = 0;  // of those, samples with no valid gaze in any recorded eye
 };
 
 /// Everything detected in one recording, trial by trial.
@@ -77,6 +88,7 @@ struct DetectedEvents {
   std::vector<FixationEvent> fixations;
   std::vector<SaccadeEvent> saccades;
   std::vector<BlinkEvent> blinks;
+  std::vector<LossEvent> losses;
   std::vector<TrialDetection> trials;  // one per trial of the recording, in its order
 };
 

@@ -14,6 +14,9 @@ struct InputFileRecord {
   std::uint64_t size_bytes = 0;
   std::string sha256;
   std::string recording_id;
+  // Nanoseconds since the epoch when last changed: a later run trusts the
+  // recorded SHA-256 of a file whose path, size and time are all unchanged.
+  std::int64_t modified_ns = 0;
 };
 
 struct RepairRecord {
@@ -30,16 +33,6 @@ struct Provenance {
   std::string created_utc;  // ISO 8601
   std::vector<InputFileRecord> inputs;
   std::vector<RepairRecord> repairs;
-};
-
-/// Provenance of a stage that derives datasets from the store (detect, clean, ...).
-struct StageProvenance {
-  std::string tool_version;
-  std::string protocol_text;
-  std::string protocol_sha256;
-  std::string created_utc;
-  std::string settings_json;  // the resolved settings of the stage
-  std::string protocol_path;  // absolute; relative file names in the protocol resolve from its folder
 };
 
 /// Summary figures of a recording's samples, kept beside them in the store.

@@ -13,7 +13,7 @@
 
 #include <filesystem>
 
-#include "app/ingest.h"
+#include "tests/stage_helpers.h"
 #include "app/protocol_parser.h"
 #include "io/bids_reader.h"
 #include "io/study_store.h"
@@ -78,7 +78,7 @@ TEST(BidsReader, MonocularRecordingWithEventsAndScreen) {
   d.write("dataset_description.json", R"({"Name": "t", "BIDSVersion": "1.11.0"})");
   const auto proto_path = d.write("gazemill.toml", protocol());
   const Protocol p = parse_protocol_file(proto_path);
-  const auto report = ingest_study(p, d.file("s.gzm.h5"), {});
+  const auto report = ingest_study(p, d.file("s.gzm.h5"));
   EXPECT_EQ(report.samples, 5u);
 
   StudyStoreReader store(d.file("s.gzm.h5"));
@@ -112,7 +112,7 @@ TEST(BidsReader, TwoEyesInTwoFilesMakeOneBinocularRecording) {
   write_eye(d, "eye2", "right");
   auto text = protocol() + "[screen]\nwidth_px = 1024\nheight_px = 768\nwidth_mm = 386\nheight_mm = 290\nviewing_distance_mm = 600\n";
   const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
-  ingest_study(p, d.file("s.gzm.h5"), {});
+  ingest_study(p, d.file("s.gzm.h5"));
   StudyStoreReader store(d.file("s.gzm.h5"));
   const Recording r = store.read_recording("07_2", true);
   EXPECT_TRUE(r.samples.has_left);
@@ -156,7 +156,7 @@ TEST(BidsReader, ScreenOutOfRangeNamesTheField) {
   d.write("dataset_description.json", R"({"Name": "t", "BIDSVersion": "1.11.0"})");
   const Protocol p = parse_protocol_file(d.write("gazemill.toml", protocol()));
   try {
-    ingest_study(p, d.file("s.gzm.h5"), {});
+    ingest_study(p, d.file("s.gzm.h5"));
     FAIL() << "expected an InputError";
   } catch (const InputError& e) {
     EXPECT_EQ(e.where().file, d.file("task-read_events.json"));
@@ -165,5 +165,5 @@ TEST(BidsReader, ScreenOutOfRangeNamesTheField) {
   EXPECT_FALSE(std::filesystem::exists(d.file("s.gzm.h5")));
   task = kTaskEvents;
   d.write("task-read_events.json", task.replace(task.find("1024"), 4, "1024.5"));
-  EXPECT_THROW(ingest_study(p, d.file("s.gzm.h5"), {}), InputError);
+  EXPECT_THROW(ingest_study(p, d.file("s.gzm.h5")), InputError);
 }

@@ -12,8 +12,7 @@
 
 #include "app/audit_report.h"
 #include "app/clean.h"
-#include "app/detect.h"
-#include "app/ingest.h"
+#include "tests/stage_helpers.h"
 #include "app/protocol_parser.h"
 #include "app/verify.h"
 #include "io/cleaning_io.h"
@@ -80,7 +79,7 @@ std::string study(const TempDir& d, const std::string& extra = kRules) {
 
 void run_all(const std::string& proto, const std::string& store, const std::string& reports) {
   const Protocol p = parse_protocol_file(proto);
-  ingest_study(p, store, {});
+  ingest_study(p, store);
   detect_study(p, store);
   clean_study(p, store, reports);
 }
@@ -115,7 +114,7 @@ TEST(CleanCommand, AuditBalancesAndDerivedDatasetsAreIdenticalBetweenRuns) {
   EXPECT_EQ(events, input);  // raw events are kept beside the cleaned ones
   for (const char* f : {"audit.tsv", "audit_totals.tsv", "audit.json"}) EXPECT_TRUE(fs::exists(fs::path(d.file("ra")) / f)) << f;
   EXPECT_TRUE(fs::exists(d.file("ra/audit.tsv")));
-  const auto s = store.stage_provenance("clean");
+  const auto s = *store.stage_record(Stage::clean);
   EXPECT_NE(s.protocol_text.find("merge under 80 ms"), std::string::npos);
 }
 
@@ -123,7 +122,7 @@ TEST(CleanCommand, VerifyPassesThenFailsNamingDatasetsWhenAnInputChanges) {
   TempDir d;
   const std::string proto = study(d);
   const std::string store = d.file("s.gzm.h5");
-  run_all(proto, store, d.path().string());
+  run_all(proto, store, d.file("tables"));
   std::ostringstream ok;
   EXPECT_TRUE(verify_store(store, ok)) << ok.str();
   EXPECT_NE(ok.str().find("verified"), std::string::npos);
@@ -191,7 +190,7 @@ TEST(CleanCommand, BadRulesNameTheRuleAndLineAndWriteNothing) {
 TEST(CleanCommand, PrintedAuditMatchesTheLedger) {
   TempDir d;
   const std::string proto = study(d);
-  run_all(proto, d.file("a.gzm.h5"), d.path().string());
+  run_all(proto, d.file("a.gzm.h5"), d.file("tables"));
   const AuditReport r = read_audit(StudyStoreReader(d.file("a.gzm.h5")));
   std::ostringstream out;
   print_audit(r, false, out);

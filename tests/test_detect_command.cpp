@@ -10,8 +10,7 @@
 #include <string>
 #include <vector>
 
-#include "app/detect.h"
-#include "app/ingest.h"
+#include "tests/stage_helpers.h"
 #include "app/protocol_parser.h"
 #include "app/score.h"
 #include "detectors/detector_registry.h"
@@ -43,16 +42,16 @@ TEST(DetectCommand, WritesEventsAndKeepsTheRest) {
   EXPECT_EQ(p.detection.parameters.at("velocity_threshold_deg_s"), 20.0);
   EXPECT_EQ(p.detection.blink_padding_before_ms, 40.0);
   const std::string store = d.file("s.gzm.h5");
-  ingest_study(p, store, {});
+  ingest_study(p, store);
   const Provenance before = StudyStoreReader(store).provenance();
   const auto report = detect_study(p, store);
-  EXPECT_EQ(report.recordings, 4u);
+  EXPECT_EQ(report.recordings_detected, 4u);
   EXPECT_GT(report.fixations, 500u);  // 48 trials of about 16 fixations
 
   StudyStoreReader r(store);
   EXPECT_EQ(r.provenance().inputs.size(), before.inputs.size());
   EXPECT_EQ(r.provenance().protocol_sha256, before.protocol_sha256);
-  const auto stage = r.stage_provenance("detect");
+  const auto stage = *r.stage_record(Stage::detect);
   EXPECT_NE(stage.settings_json.find("\"velocity_threshold_deg_s\":20"), std::string::npos) << stage.settings_json;
   const Recording rec = r.read_recording("p02_1", true);
   const auto detector = make_detector(p.detection);
@@ -93,7 +92,7 @@ TEST(DetectCommand, ThresholdsSetFromTheDataAreStoredPerTrial) {
     std::ofstream(proto_path, std::ios::app) << "\n[detection]\nmethod = \"" << method << "\"\n";
     const Protocol p = parse_protocol_file(proto_path);
     const std::string store = d.file("s.gzm.h5");
-    ingest_study(p, store, {});
+    ingest_study(p, store);
     detect_study(p, store);
     StudyStoreReader r(store);
     const Recording rec = r.read_recording("p02_1", true);

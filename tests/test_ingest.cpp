@@ -7,7 +7,7 @@
 #include <cstring>
 #include <filesystem>
 
-#include "app/ingest.h"
+#include "tests/stage_helpers.h"
 #include "app/protocol_parser.h"
 #include "io/sha256.h"
 #include "io/study_store.h"
@@ -69,10 +69,11 @@ Protocol write_study(const TempDir& d, const std::string& protocol_text = kProto
   return parse_protocol_text(protocol_text, d.write("gazemill.toml", protocol_text));
 }
 
+// Nothing but the inputs and the writer's (empty-looking, hidden) lock file.
 void expect_no_store(const TempDir& d) {
   for (const auto& e : fs::directory_iterator(d.path())) {
     const std::string name = e.path().filename().string();
-    EXPECT_TRUE(name == "raw" || name == "gazemill.toml") << "left behind: " << name;
+    EXPECT_TRUE(name == "raw" || name == "gazemill.toml" || name.ends_with(".lock")) << "left behind: " << name;
   }
 }
 
@@ -81,7 +82,7 @@ void expect_no_store(const TempDir& d) {
 TEST(Ingest, RoundTripFromProtocol) {
   TempDir d;
   const Protocol p = write_study(d);
-  const auto report = ingest_study(p, d.file("tiny.gzm.h5"), {});
+  const auto report = ingest_study(p, d.file("tiny.gzm.h5"));
   EXPECT_EQ(report.recordings, 2u);
   EXPECT_EQ(report.samples, 3u * 200 + 2u * 150);
   EXPECT_EQ(report.trials, 5u);
@@ -118,7 +119,7 @@ TEST(Ingest, MessagesFromASeparateFile) {
   d.write("raw/r01-a.tsv", "time\tx\ty\tpupil\n0\t1\t2\t3\n1\t1\t2\t3\n2\t1\t2\t3\n");
   d.write("raw/r01-a.msg", "t\twhat\n0\tstart trial 1\n0\titem 5 rare\n2\tstop trial 1\n");
   const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
-  ingest_study(p, d.file("s.gzm.h5"), {});
+  ingest_study(p, d.file("s.gzm.h5"));
   StudyStoreReader store(d.file("s.gzm.h5"));
   const Recording r = store.read_recording("r01_a", false);
   ASSERT_EQ(r.trials.size(), 1u);
@@ -129,10 +130,12 @@ TEST(Ingest, MessagesFromASeparateFile) {
 TEST(Ingest, DeterministicDatasets) {
   TempDir d;
   const Protocol p = write_study(d);
-  ingest_study(p, d.file("a.gzm.h5"), {});
-  StoreWriteOptions one_thread;
-  one_thread.compression_threads = 1;
-  ingest_study(p, d.file("b.gzm.h5"), one_thread);
+  ingest_study(p, d.file("a.gzm.h5"));
+  StudyRunOptions one_thread;
+  one_thread.store_path = d.file("b.gzm.h5");
+  one_thread.only = Stage::ingest;
+  one_thread.jobs = 1;
+  run_study(p, one_thread);
   StudyStoreReader a(d.file("a.gzm.h5")), b(d.file("b.gzm.h5"));
   ASSERT_EQ(a.recording_ids(), b.recording_ids());
   for (const auto& id : a.recording_ids()) {
@@ -153,7 +156,7 @@ TEST(IngestErrors, BadFieldLeavesNoStore) {
   const Protocol p = write_study(d);
   d.write("raw/r02-a.tsv", "time\tx\ty\tpupil\tevent\n0\t1\t2\t3\t\n1\tabc\t2\t3\t\n");
   try {
-    ingest_study(p, d.file("tiny.gzm.h5"), {});
+    ingest_study(p, d.file("tiny.gzm.h5"));
     FAIL();
   } catch (const InputError& e) {
     EXPECT_EQ(e.where().file, d.file("raw/r02-a.tsv"));
@@ -174,7 +177,7 @@ TEST(IngestErrors, TimestampsInTheWrongUnit) {
     text.replace(text.find("time_unit = \"ms\""), 16, std::string("time_unit = \"") + unit + "\"");
     const Protocol p = write_study(d, text);
     try {
-      ingest_study(p, d.file("tiny.gzm.h5"), {});
+      ingest_study(p, d.file("tiny.gzm.h5"));
       FAIL() << unit;
     } catch (const InputError& e) {
       EXPECT_EQ(e.where().field, "input.table.time_unit") << e.what();
@@ -193,7 +196,7 @@ TEST(IngestErrors, TwoFilesGiveOneRecording) {
   d.write("raw/r01-b.tsv", samples(1, 100));
   const Protocol p = write_study(d, text);
   try {
-    ingest_study(p, d.file("tiny.gzm.h5"), {});
+    ingest_study(p, d.file("tiny.gzm.h5"));
     FAIL();
   } catch (const InputError& e) {
     EXPECT_EQ(e.where().field, "input.filename_pattern");
@@ -209,7 +212,7 @@ TEST(IngestErrors, ProtocolNamesAColumnTheFileLacks) {
   text.replace(text.find("pupil_column = \"pupil\""), 22, "pupil_column = \"pupil_size\"");
   const Protocol p = write_study(d, text);
   try {
-    ingest_study(p, d.file("tiny.gzm.h5"), {});
+    ingest_study(p, d.file("tiny.gzm.h5"));
     FAIL();
   } catch (const InputError& e) {
     EXPECT_EQ(e.where().line, 1u);
@@ -223,11 +226,11 @@ TEST(IngestErrors, TrialStartWithoutEndFailsOrIsRepairedAndCounted) {
   TempDir d;
   Protocol p = write_study(d);
   d.write("raw/r02-a.tsv", samples(2, 150, /*close_last=*/false));
-  EXPECT_THROW(ingest_study(p, d.file("tiny.gzm.h5"), {}), InputError);
+  EXPECT_THROW(ingest_study(p, d.file("tiny.gzm.h5")), InputError);
   expect_no_store(d);
 
   p.input.repairs.unterminated_trials = UnterminatedTrialPolicy::drop;
-  ingest_study(p, d.file("tiny.gzm.h5"), {});
+  ingest_study(p, d.file("tiny.gzm.h5"));
   StudyStoreReader store(d.file("tiny.gzm.h5"));
   EXPECT_EQ(store.read_recording("r02_a", false).trials.size(), 1u);
   const auto prov = store.provenance();
@@ -242,12 +245,12 @@ TEST(IngestErrors, PatternsThatMatchNothing) {
   const Protocol p = write_study(d);
   Protocol q = p;
   q.input.files = {"raw/*.csv"};
-  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5"), {}), InputError);
+  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5")), InputError);
   q = p;
   q.input.filename_pattern = "^nomatch$";
-  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5"), {}), InputError);
+  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5")), InputError);
   q = p;
   q.trials.start_pattern = "^never$";
-  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5"), {}), InputError);
+  EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5")), InputError);
   expect_no_store(d);
 }

@@ -9,8 +9,9 @@
 #include <fstream>
 
 #include "app/clean.h"
-#include "app/detect.h"
-#include "app/ingest.h"
+#include "tests/stage_helpers.h"
+#include "app/align.h"
+#include "app/clean.h"
 #include "app/measure.h"
 #include "app/protocol_parser.h"
 #include "app/verify.h"
@@ -63,9 +64,9 @@ TEST(MeasureCommand, RawExportToMeasuresWithTheConditionEffect) {
   const std::string proto = simulated(d, 16);
   const Protocol p = parse_protocol_file(proto);
   const std::string store = d.file("s.gzm.h5");
-  ingest_study(p, store, {});
+  ingest_study(p, store);
   detect_study(p, store);
-  clean_study(p, store, d.path().string());
+  clean_study(p, store, d.file("out"));
   const auto rows = measure_study(p, store, d.file("out"));
   for (const char* f : {"measures.tsv", "measures_wide.tsv", "measures_by_region.tsv", "measures_by_role.tsv", "measures_by_participant.tsv"}) {
     EXPECT_TRUE(fs::exists(fs::path(d.file("out")) / f)) << f;
@@ -109,17 +110,18 @@ TEST(MeasureCommand, BoxesFileAndItemsFileGiveTheSameMeasures) {
   const std::string proto = simulated(d, 2);
   Protocol p = parse_protocol_file(proto);
   const std::string store = d.file("s.gzm.h5");
-  ingest_study(p, store, {});
+  ingest_study(p, store);
   detect_study(p, store);
-  clean_study(p, store, d.path().string());
+  clean_study(p, store, d.file("out"));
   StudyStoreReader s(store);
-  const auto from_text = measure_rows(s, load_regions(p), p.regions);
+  const auto cleaned = cleaned_recordings(s);
+  const auto from_text = measure_rows(cleaned, align_study(p, load_regions(p), cleaned), load_regions(p), p.regions);
   RegionSpec boxes = p.regions;
   boxes.items_file.clear();
   boxes.boxes_file = "regions.tsv";
   Protocol q = p;
   q.regions = boxes;
-  const auto from_boxes = measure_rows(s, load_regions(q), q.regions);
+  const auto from_boxes = measure_rows(cleaned, align_study(q, load_regions(q), cleaned), load_regions(q), q.regions);
   ASSERT_EQ(from_text.size(), from_boxes.size());
   for (std::size_t i = 0; i < from_text.size(); ++i) {
     EXPECT_EQ(from_text[i].gaze_duration_ms, from_boxes[i].gaze_duration_ms) << i;
@@ -164,7 +166,7 @@ TEST(MeasureCommand, VerifyResolvesEachStagesFilesFromItsOwnFolder) {
   const std::string proto = simulated(d, 2);
   const Protocol p = parse_protocol_file(proto);
   const std::string store = d.file("s.gzm.h5");
-  ingest_study(p, store, {});
+  ingest_study(p, store);
   std::string text = p.text;
   const std::string from = "items_file = \"items.tsv\"";
   ASSERT_NE(text.find(from), std::string::npos);
@@ -172,8 +174,8 @@ TEST(MeasureCommand, VerifyResolvesEachStagesFilesFromItsOwnFolder) {
   const std::string later = d.write("analysis/gazemill.toml", text);
   const Protocol q = parse_protocol_file(later);
   detect_study(q, store);
-  clean_study(q, store, d.file("analysis"));
-  measure_study(q, store, d.file("analysis"));
+  clean_study(q, store, d.file("analysis/tables"));
+  measure_study(q, store, d.file("analysis/tables"));
   std::ostringstream out;
   EXPECT_TRUE(verify_store(store, out)) << out.str();
 }

@@ -7,7 +7,7 @@
 #include <map>
 #include <set>
 
-#include "app/ingest.h"
+#include "tests/stage_helpers.h"
 #include "app/protocol_parser.h"
 #include "detectors/visual_angle.h"
 #include "io/study_store.h"
@@ -235,8 +235,8 @@ TEST(Simulator, IngestReadsTheExportWithoutRepairsAndBidsMatches) {
   cfg.signal.binocular = true;
   const auto st = simulate_study(cfg);
   const std::string proto = export_study(st, d.path().string());
-  const auto r1 = ingest_study(parse_protocol_file(proto), d.file("a.gzm.h5"), {});
-  const auto r2 = ingest_study(parse_protocol_file(d.file("gazemill-bids.toml")), d.file("b.gzm.h5"), {});
+  const auto r1 = ingest_study(parse_protocol_file(proto), d.file("a.gzm.h5"));
+  const auto r2 = ingest_study(parse_protocol_file(d.file("gazemill-bids.toml")), d.file("b.gzm.h5"));
   EXPECT_EQ(r1.repairs, 0u);
   EXPECT_EQ(r2.repairs, 0u);
   EXPECT_EQ(r1.trials, 24u);
@@ -267,7 +267,7 @@ TEST(Simulator, IngestReadsTheExportWithoutRepairsAndBidsMatches) {
 TEST(Simulator, CheckedInFixtureIngestsCleanly) {
   TempDir d;
   const Protocol p = parse_protocol_file(std::string(GAZEMILL_FIXTURES) + "/demo-study/gazemill.toml");
-  const auto r = ingest_study(p, d.file("f.gzm.h5"), {});
+  const auto r = ingest_study(p, d.file("f.gzm.h5"));
   EXPECT_EQ(r.recordings, 4u);
   EXPECT_EQ(r.trials, 48u);
   EXPECT_EQ(r.repairs, 0u);

@@ -32,19 +32,20 @@ with tempfile.TemporaryDirectory() as tmp:
     with open(proto, "a") as f:
         f.write('\n[[cleaning]]\nname = "short"\nkind = "delete_short_fixations"\nmin_duration_ms = 80\n')
     store = os.path.join(tmp, "s.gzm.h5")
-    for cmd in (["ingest", proto, "-o", store], ["detect", proto, "-s", store], ["clean", proto, "-s", store, "--reports", tmp],
-                ["measure", proto, "-s", store, "--out", tmp]):
+    tables = os.path.join(tmp, "tables")
+    for cmd in (["ingest", proto, "-o", store], ["detect", proto, "-s", store], ["clean", proto, "-s", store],
+                ["align", proto, "-s", store], ["measure", proto, "-s", store, "-o", tables]):
         subprocess.run([gazemill, "-q", *cmd], check=True)
 
     # --- the README example ---
-    m = pd.read_csv(os.path.join(tmp, "measures.tsv"), sep="\t", na_values="NA", keep_default_na=False)
+    m = pd.read_csv(os.path.join(tables, "measures.tsv"), sep="\t", na_values="NA", keep_default_na=False)
     gd = m[m.measure == "gaze_duration_ms"].dropna(subset=["value"])
     means = gd.groupby(["region_role", "condition"])["value"].mean()
     # --- end of the example ---
     check(set(m.columns[:5]) == {"participant", "session", "trial", "item", "condition"}, "long table key columns")
     check(m.measure.nunique() == 17, "17 measures")
     check(("target", "rare") in means.index and ("target", "frequent") in means.index, "target gaze duration by condition")
-    wide = pd.read_csv(os.path.join(tmp, "measures_wide.tsv"), sep="\t", na_values="NA", keep_default_na=False)
+    wide = pd.read_csv(os.path.join(tables, "measures_wide.tsv"), sep="\t", na_values="NA", keep_default_na=False)
     check(len(m) == 17 * len(wide), "long = 17 x wide rows")
     skipped = wide[wide.skipped == 1]
     check(skipped.gaze_duration_ms.isna().all() and skipped.first_fixation_ms.isna().all(), "skipped regions: NA first-pass values")

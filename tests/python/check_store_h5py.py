@@ -170,7 +170,7 @@ kind = "exclude_trials_with_data_loss"
 max_missing_percent = 3
 """)
     subprocess.run([gazemill, "-q", "detect", proto, "-s", store], check=True)
-    subprocess.run([gazemill, "-q", "clean", proto, "-s", store, "--reports", tmp], check=True)
+    subprocess.run([gazemill, "-q", "clean", proto, "-s", store, "-o", os.path.join(tmp, "tables")], check=True)
     with h5py.File(store, "r") as h:
         for rid, rec in h["recordings"].items():
             ev = rec["events"]
@@ -197,7 +197,11 @@ max_missing_percent = 3
             tr = ev["trials"]
             check([x.decode() for x in tr["trial"][:]] == [x.decode() for x in rec["trials/id"][:]], f"{rid}: a detection row per trial")
             check({x.decode() for x in tr["eye"][:]} <= {"left", "right"}, f"{rid}: eye per trial")
-            check(set(tr.keys()) == {"trial", "eye"}, f"{rid}: nothing fitted by I-VT")
+            check(set(tr.keys()) == {"trial", "eye", "samples", "missing_samples"}, f"{rid}: nothing fitted by I-VT")
+            # Each trial's sample count is the samples between its start and end, both included.
+            starts, ends = rec["trials/start_us"][:], rec["trials/end_us"][:]
+            counted = [int(((t >= a) & (t <= b)).sum()) for a, b in zip(starts, ends)]
+            check(list(tr["samples"][:]) == counted, f"{rid}: samples per trial")
         check("detect" in h["provenance/stages"], "detect stage provenance")
         # The ledger read back: per level, input = kept + removed in protocol order.
         a = h["audit"]
@@ -214,7 +218,7 @@ max_missing_percent = 3
         removed_rows = sum(rec["clean/removed_fixations/rule"].shape[0] for rec in h["recordings"].values())
         check(removed_rows > 0, "removed fixations stay in the store with their rule")
     # The TSV agrees with the store (pandas reads it as a tidy table).
-    tsv = pd.read_csv(os.path.join(tmp, "audit.tsv"), sep="\t")
+    tsv = pd.read_csv(os.path.join(tmp, "tables", "audit.tsv"), sep="\t")
     check(set(tsv.columns) >= {"rule", "level", "participant", "condition", "removed_sequential", "removed_alone"}, "audit.tsv columns")
     check(len(tsv) == len(cnt_level), "audit.tsv has one row per ledger row")
     # I-DT with its defaults sets its threshold per trial from the data; the

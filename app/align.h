@@ -1,0 +1,19 @@
+#pragma once
+// The align stage: the text line of every kept fixation (drift correction),
+// between cleaning and measuring.
+
+#include <vector>
+
+#include "pipeline/cleaning_state.h"
+#include "pipeline/line_assignment.h"
+#include "pipeline/protocol.h"
+#include "pipeline/regions.h"
+
+namespace gazemill {
+
+/// Assigns lines to every kept fixation of every kept trial. Throws
+/// InputError when a trial's item has no regions.
+std::vector<RecordingAlignment> align_study(const Protocol& protocol, const RegionCatalogue& regions,
+                                            const std::vector<CleanedRecording>& recordings);
+
+}  // namespace gazemill

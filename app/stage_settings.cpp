@@ -1,0 +1,119 @@
+#include "app/stage_settings.h"
+
+#include <nlohmann/json.hpp>
+
+#include <filesystem>
+
+#include "detectors/detector_registry.h"
+#include "io/sha256.h"
+
+namespace gazemill {
+namespace fs = std::filesystem;
+
+namespace {
+
+std::string delimiter_text(char c) { return std::string(1, c); }
+
+nlohmann::json eye_json(const std::optional<EyeColumnNames>& e) {
+  if (!e) return nullptr;
+  return {{"x_column", e->x}, {"y_column", e->y}, {"pupil_column", e->pupil}};
+}
+
+std::string resolve(const Protocol& p, const std::string& f) {
+  const fs::path base = fs::absolute(fs::path(p.path)).parent_path();
+  return fs::path(f).is_absolute() ? f : (base / f).string();
+}
+
+}  // namespace
+
+std::string make_key(const std::string& kind, const std::vector<std::string>& parts) {
+  Sha256 h;
+  h.update(kind);
+  for (const auto& p : parts) {
+    h.update("\n" + std::to_string(p.size()) + ":");
+    h.update(p);
+  }
+  return h.hex_digest();
+}
+
+std::string ingest_settings_json(const Protocol& p) {
+  const InputSpec& in = p.input;
+  const TableLayout& t = in.table;
+  nlohmann::json j;
+  j["format"] = in.format == InputFormat::bids ? "bids" : "delimited";
+  j["filename_pattern"] = in.filename_pattern;
+  j["table"] = {{"delimiter", delimiter_text(t.delimiter)}, {"comment_prefix", t.comment_prefix}, {"time_column", t.time_column},
+                {"time_unit", to_string(t.time_unit)},     {"left", eye_json(t.left)},          {"right", eye_json(t.right)},
+                {"message_column", t.message_column},     {"missing_values", t.missing_values}, {"zero_gaze_is_missing", t.zero_gaze_is_missing}};
+  if (in.message_file) {
+    j["messages"] = {{"file", in.message_file->path_template}, {"delimiter", delimiter_text(in.message_file->delimiter)},
+                     {"time_column", in.message_file->time_column}, {"text_column", in.message_file->text_column}};
+  }
+  j["repairs"] = {{"duplicate_timestamps", in.repairs.duplicate_timestamps == DuplicateTimestampPolicy::error ? "error" : "keep_first"},
+                  {"unterminated_trials", in.repairs.unterminated_trials == UnterminatedTrialPolicy::error ? "error" : "drop"}};
+  j["sample_rate_hz"] = in.sample_rate_hz;
+  if (p.screen) {
+    j["screen"] = {{"width_px", p.screen->width_px}, {"height_px", p.screen->height_px}, {"width_mm", p.screen->width_mm},
+                   {"height_mm", p.screen->height_mm}, {"viewing_distance_mm", p.screen->viewing_distance_mm}};
+  }
+  j["trials"] = {{"start", p.trials.start_pattern}, {"end", p.trials.end_pattern}, {"variables", p.trials.variable_patterns},
+                 {"markers", p.trials.marker_patterns}};
+  return j.dump();
+}
+
+std::string detection_settings_json(const DetectionSpec& spec) {
+  const auto detector = make_detector(spec);
+  nlohmann::json j;
+  j["method"] = spec.method;
+  j["parameters"] = detector->parameters();
+  j["velocity"] = spec.velocity;
+  const char* eyes[] = {"left", "right", "best", "average"};
+  j["eye"] = eyes[static_cast<int>(spec.eye)];
+  j["interpolate_max_ms"] = spec.interpolate_max_ms;
+  j["blinks"] = {{"min_ms", spec.blink_min_ms}, {"max_ms", spec.blink_max_ms},
+                 {"padding_before_ms", spec.blink_padding_before_ms}, {"padding_after_ms", spec.blink_padding_after_ms}};
+  j["events"] = {{"min_fixation_ms", spec.min_fixation_ms}, {"min_saccade_ms", spec.min_saccade_ms},
+                 {"max_velocity_deg_s", spec.max_velocity_deg_s}, {"max_fixation_gap_ms", spec.max_fixation_gap_ms},
+                 {"max_fixation_gap_shift_deg", spec.max_fixation_gap_shift_deg}, {"spike_deg", spec.spike_deg}};
+  return j.dump();
+}
+
+std::string cleaning_settings_json(const Protocol& p) {
+  nlohmann::json rules = nlohmann::json::array();
+  for (const auto& r : p.cleaning) rules.push_back({{"name", r.name}, {"kind", r.kind}, {"numbers", r.numbers}, {"texts", r.texts}});
+  return rules.dump();
+}
+
+std::string regions_settings_json(const Protocol& p) {
+  const RegionSpec& r = p.regions;
+  if (!r.present()) return "";
+  nlohmann::json j;
+  const std::string file = r.boxes_file.empty() ? r.items_file : r.boxes_file;
+  j[r.boxes_file.empty() ? "items_file" : "boxes_file"] = file;
+  std::error_code ec;
+  const std::string path = resolve(p, file);
+  j["file_sha256"] = fs::exists(path, ec) ? sha256_file(path) : "";
+  const TextLayoutSpec& l = r.layout;
+  nlohmann::json advances = nlohmann::json::object();
+  for (const auto& [c, a] : l.advance_px) advances[std::string(1, c)] = a;
+  j["layout"] = {{"char_width_px", l.char_width_px}, {"line_height_px", l.line_height_px}, {"left_margin_px", l.left_margin_px},
+                 {"first_line_top_px", l.first_line_top_px}, {"wrap_width_chars", l.wrap_width_chars}, {"advances", advances}};
+  j["off_line"] = r.off_line_nearest ? "nearest" : "exclude";
+  j["max_line_distance_px"] = r.max_line_distance_px;
+  j["margin"] = r.margin_nearest ? "nearest" : "exclude";
+  j["margin_px"] = r.margin_px;
+  return j.dump();
+}
+
+std::string align_settings_json(const Protocol&) {
+  nlohmann::json j;
+  j["method"] = "attach";  // nearest line; the drift-correction methods join here
+  return j.dump();
+}
+
+std::string measure_settings_json(const Protocol&) {
+  nlohmann::json j = nlohmann::json::object();
+  return j.dump();
+}
+
+}  // namespace gazemill

@@ -1,0 +1,742 @@
+#include "app/study_run.h"
+
+#include <nlohmann/json.hpp>
+#include <spdlog/spdlog.h>
+
+#include <algorithm>
+#include <atomic>
+#include <chrono>
+#include <condition_variable>
+#include <ctime>
+#include <exception>
+#include <filesystem>
+#include <memory>
+#include <mutex>
+#include <set>
+#include <thread>
+
+#include "app/align.h"
+#include "app/clean.h"
+#include "app/measure.h"
+#include "app/progress_bar.h"
+#include "app/recording_work.h"
+#include "app/stage_settings.h"
+#include "app/study_inputs.h"
+#include "detectors/detector_registry.h"
+#include "gazemill/version.h"
+#include "io/alignment_io.h"
+#include "io/cleaning_io.h"
+#include "io/measures_io.h"
+#include "io/region_files.h"
+#include "io/sha256.h"
+#include "io/study_store.h"
+#include "io/table_set.h"
+#include "io/write_lock.h"
+#include "measures/measure_aggregates.h"
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+namespace fs = std::filesystem;
+
+std::string default_store_path(const Protocol& protocol) {
+  const std::string name = protocol.study_name.empty() ? "study" : protocol.study_name;
+  return (fs::absolute(fs::path(protocol.path)).parent_path() / (name + ".gzm.h5")).lexically_normal().string();
+}
+
+std::string default_tables_folder(const std::string& store_path) {
+  fs::path p(store_path);
+  std::string stem = p.filename().string();
+  for (const char* ext : {".h5", ".gzm"}) {
+    if (stem.size() > std::strlen(ext) && stem.ends_with(ext)) stem.resize(stem.size() - std::strlen(ext));
+  }
+  return (p.parent_path() / (stem + "-tables")).string();
+}
+
+namespace {
+
+std::string utc_now() {
+  const std::time_t t = std::chrono::system_clock::to_time_t(std::chrono::system_clock::now());
+  std::tm tm{};
+  gmtime_r(&t, &tm);
+  char buf[32];
+  std::strftime(buf, sizeof buf, "%Y-%m-%dT%H:%M:%SZ", &tm);
+  return buf;
+}
+
+// What happens to one recording in this run.
+enum class RecordingWork { reuse, detect, ingest };
+
+struct RecordingPlan {
+  std::string id;
+  RecordingWork work = RecordingWork::ingest;
+  std::optional<RecordingInputs> inputs;  // when the run reads input files
+  std::vector<InputFileRecord> known;     // inputs as recorded by the previous run
+  std::string ingest_key, detect_key;     // known before the work, or set by it
+};
+
+const char* stage_command(Stage s) { return to_string(s); }
+
+// The groups a stage's results occupy, per recording and at the top.
+std::vector<std::string> recording_groups_of(Stage s) {
+  switch (s) {
+    case Stage::detect: return {"events"};
+    case Stage::clean: return {"clean"};
+    case Stage::align: return {"align"};
+    default: return {};
+  }
+}
+std::vector<std::string> top_groups_of(Stage s) {
+  switch (s) {
+    case Stage::clean: return {"/audit"};
+    case Stage::measure: return {"/measures"};
+    default: return {};
+  }
+}
+
+class StudyRun {
+ public:
+  StudyRun(const Protocol& protocol, const StudyRunOptions& options) : p_(protocol), o_(options) {
+    ingest_settings_ = ingest_settings_json(p_);
+    try {
+      detector_ = make_detector(p_.detection);
+    } catch (const std::invalid_argument& e) {
+      throw InputError({p_.path, 0, "detection"}, e.what());
+    }
+    detect_settings_ = detection_settings_json(p_.detection);
+    regions_settings_ = regions_settings_json(p_);
+    clean_settings_ = cleaning_settings_json(p_);
+    align_settings_ = align_settings_json(p_);
+    measure_settings_ = measure_settings_json(p_);
+    work_.deflate_level = o_.deflate_level;
+    work_.raw_budget_bytes = o_.raw_budget_bytes;
+  }
+
+  StudyRunReport execute();
+
+ private:
+  // Planning.
+  void open_previous();
+  void plan_recordings();
+  void check_current_up_to(Stage stage);
+  std::string study_key(Stage stage) const;
+  [[noreturn]] void stale_upstream(Stage needed, const std::string& why) const;
+
+  // Work.
+  void run_recordings(StudyStoreWriter& out);
+  void write_recording(StudyStoreWriter& out, RecordingOutput& r);
+  std::vector<RecordingEvents> recording_events() const;
+  void run_study_stages(StudyStoreWriter& out);
+  void remove_results(StudyStoreWriter& out, Stage stage);
+  StageRecord record_for(Stage stage, const std::string& key, const std::string& upstream, const std::string& settings) const;
+  void write_tables();
+  bool stage_wanted(Stage s) const { return !o_.only || *o_.only == s; }
+  bool regions_present() const { return p_.regions.present(); }
+
+  const Protocol& p_;
+  const StudyRunOptions& o_;
+  std::unique_ptr<EventDetector> detector_;
+  std::string ingest_settings_, detect_settings_, regions_settings_, clean_settings_, align_settings_, measure_settings_;
+  RecordingWorkOptions work_;
+
+  std::unique_ptr<StudyStoreReader> old_;  // the store as the previous run left it
+  std::map<Stage, StageRecord> old_records_;
+  std::vector<RecordingPlan> plans_;
+  std::vector<std::string> removed_recordings_;
+  std::map<std::string, RecordingOutput> fresh_;  // recordings read or detected this run (light parts)
+  std::vector<InputFileRecord> inputs_;
+  std::vector<RepairRecord> repairs_;
+  std::map<Stage, std::string> keys_;       // each stage's key after this run
+  std::map<Stage, bool> ran_;
+  std::optional<CleaningOutcome> cleaned_;
+  std::vector<RecordingEvents> events_;     // kept for cleaning
+  std::optional<std::vector<CleanedRecording>> cleaned_recordings_;
+  std::optional<std::vector<RecordingAlignment>> alignment_;
+  std::optional<RegionCatalogue> regions_;
+  StudyRunReport report_;
+  std::string now_ = utc_now();
+};
+
+void StudyRun::open_previous() {
+  std::error_code ec;
+  if (!fs::exists(o_.store_path, ec)) return;
+  if (fs::is_directory(o_.store_path, ec)) {
+    throw InputError({o_.store_path, 0, ""}, "is a folder; the store is a file (give its file name, e.g. study.gzm.h5)");
+  }
+  try {
+    old_ = std::make_unique<StudyStoreReader>(o_.store_path);
+  } catch (const InputError& e) {
+    if (o_.only == Stage::ingest) {
+      throw InputError({o_.store_path, 0, ""}, std::string("exists and is not a store this gazemill can update (") + e.what() +
+                                                   "); move it away or name another store");
+    }
+    throw;
+  }
+  for (Stage s : kStages) {
+    if (auto r = old_->stage_record(s)) old_records_[s] = *r;
+  }
+}
+
+[[noreturn]] void StudyRun::stale_upstream(Stage needed, const std::string& why) const {
+  throw InputError({o_.store_path, 0, ""}, why + "; run `gazemill " + stage_command(needed) + " " + p_.path +
+                                               "` first (or `gazemill run " + p_.path + "`, which redoes what changed)");
+}
+
+// Decides, recording by recording, what must be read or detected again.
+void StudyRun::plan_recordings() {
+  // Stage commands after ingest take the store's recordings as they are: the
+  // raw files may be archived by then (a run checks them, and verify).
+  const bool reads_inputs = !o_.only || *o_.only == Stage::ingest;
+  std::map<std::string, RecordingInputs> inputs;
+  if (reads_inputs) {
+    for (auto& r : find_recordings(p_)) inputs.emplace(r.id, std::move(r));
+  }
+  std::set<std::string> stored;
+  std::map<std::string, std::vector<InputFileRecord>> known;
+  if (old_) {
+    for (const auto& id : old_->recording_ids()) stored.insert(id);
+    for (const auto& f : old_->provenance().inputs) known[f.recording_id].push_back(f);
+  }
+  if (!reads_inputs) {
+    if (!old_) stale_upstream(Stage::ingest, "the store " + o_.store_path + " does not exist");
+    for (const auto& id : stored) {
+      RecordingPlan plan;
+      plan.id = id;
+      plan.work = o_.only == Stage::detect ? RecordingWork::detect : RecordingWork::reuse;
+      plan.ingest_key = old_->recording_attribute(id, "ingest_key");
+      plan.detect_key = old_->events_key(id);
+      plans_.push_back(plan);
+    }
+    return;
+  }
+  for (auto& [id, in] : inputs) {
+    RecordingPlan plan;
+    plan.id = id;
+    plan.known = known[id];
+    plan.inputs = in;
+    if (stored.count(id) && o_.only != Stage::ingest) {
+      std::vector<std::string> parts = {ingest_settings_};
+      for (const auto& f : in.files) parts.push_back(describe_input(f, id, plan.known).sha256);
+      plan.ingest_key = make_key("ingest", parts);
+      if (plan.ingest_key == old_->recording_attribute(id, "ingest_key")) {
+        plan.detect_key = make_key("detect", {plan.ingest_key, detect_settings_});
+        plan.work = plan.detect_key == old_->events_key(id) ? RecordingWork::reuse : RecordingWork::detect;
+      }
+    }
+    plans_.push_back(std::move(plan));
+  }
+  for (const auto& id : stored) {
+    if (!inputs.count(id)) removed_recordings_.push_back(id);
+  }
+}
+
+// Study-level key of a stage from the recordings' keys and the stages before it.
+std::string StudyRun::study_key(Stage stage) const {
+  switch (stage) {
+    case Stage::ingest: {
+      std::vector<std::string> parts;
+      for (const auto& r : plans_) parts.push_back(r.id + "=" + r.ingest_key);
+      return make_key("ingest-study", parts);
+    }
+    case Stage::detect: {
+      std::vector<std::string> parts = {keys_.at(Stage::ingest)};
+      for (const auto& r : plans_) parts.push_back(r.id + "=" + r.detect_key);
+      return make_key("detect-study", parts);
+    }
+    case Stage::clean: return make_key("clean", {keys_.at(Stage::detect), clean_settings_, regions_settings_});
+    case Stage::align: return make_key("align", {keys_.at(Stage::clean), align_settings_, regions_settings_});
+    case Stage::measure: return make_key("measure", {keys_.at(Stage::align), measure_settings_, regions_settings_});
+  }
+  return "";
+}
+
+// For a stage command after ingest: every stage before `stage` must be
+// current for this protocol: made with its sections, from each other.
+void StudyRun::check_current_up_to(Stage stage) {
+  if (!old_) stale_upstream(Stage::ingest, "the store " + o_.store_path + " does not exist");
+  auto record = [&](Stage s) -> const StageRecord& {
+    const auto r = old_records_.find(s);
+    if (r == old_records_.end()) stale_upstream(s, std::string("the store has no ") + to_string(s) + " results");
+    if (r->second.state != StageState::current) {
+      stale_upstream(s, std::string("the store's ") + to_string(s) + " results are stale (" + r->second.stale_reason + ")");
+    }
+    return r->second;
+  };
+  const StageRecord& ingest = record(Stage::ingest);
+  if (ingest.settings_json != ingest_settings_) {
+    stale_upstream(Stage::ingest, "the store was ingested with other [input], [screen] or [trials] settings than " + p_.path + " now gives");
+  }
+  keys_[Stage::ingest] = study_key(Stage::ingest);
+  if (keys_[Stage::ingest] != ingest.key) stale_upstream(Stage::ingest, "the store's recordings are not those its ingest made");
+  if (stage == Stage::detect) return;
+  for (const auto& plan : plans_) {
+    if (make_key("detect", {plan.ingest_key, detect_settings_}) != plan.detect_key) {
+      stale_upstream(Stage::detect, plan.detect_key.empty() ? "recording " + plan.id + " has no detected events"
+                                                            : "the events of recording " + plan.id + " were detected with other "
+                                                              "[detection] settings than " + p_.path + " now gives");
+    }
+  }
+  keys_[Stage::detect] = study_key(Stage::detect);
+  if (record(Stage::detect).key != keys_[Stage::detect]) stale_upstream(Stage::detect, "the store's events are not those its detect made");
+  for (Stage s : {Stage::clean, Stage::align}) {
+    if (static_cast<int>(s) >= static_cast<int>(stage)) break;
+    keys_[s] = study_key(s);
+    if (record(s).key != keys_[s]) {
+      stale_upstream(s, std::string("the store's ") + to_string(s) + " results were made with other settings or from other results than " +
+                            p_.path + " now gives");
+    }
+  }
+}
+
+void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
+  const std::string& id = r.recording.id;
+  if (r.samples && !r.inputs.empty()) {  // read from its files this run
+    out.remove("/recordings/" + id);
+    out.write_recording(r.recording, r.summary, r.samples->columns(), r.ingest_key);
+    ++report_.recordings_read;
+    report_.samples += r.summary.sample_count;
+    report_.messages += r.recording.messages.size();
+    report_.trials += r.recording.trials.size();
+    for (const auto& f : r.inputs) report_.input_bytes += f.size_bytes;
+    for (const auto& [kind, n] : r.repairs) {
+      report_.repairs += n;
+      spdlog::warn("{}: repaired {} x {}", id, n, kind);
+    }
+  }
+  if (r.detected) {
+    for (const auto& g : {"events", "clean", "align"}) out.remove("/recordings/" + id + "/" + g);
+    out.write_events(id, r.events, r.labels, p_.detection.method, nlohmann::json(detector_->parameters()).dump(), r.detect_key);
+    ++report_.recordings_detected;
+    report_.samples_detected += r.samples ? r.samples->size() : 0;
+    report_.fixations += r.events.fixations.size();
+    report_.saccades += r.events.saccades.size();
+    report_.blinks += r.events.blinks.size();
+  }
+  // The samples and labels are in the store now; what cleaning needs stays.
+  r.samples.reset();
+  r.labels.chunks = {};
+}
+
+// Reads and detects the recordings that need it on a pool of threads, and
+// writes each one's results in recording order as soon as it is its turn.
+void StudyRun::run_recordings(StudyStoreWriter& out) {
+  std::vector<std::size_t> todo;
+  std::uint64_t total_bytes = 0;
+  for (std::size_t i = 0; i < plans_.size(); ++i) {
+    if (plans_[i].work == RecordingWork::reuse) continue;
+    todo.push_back(i);
+    if (plans_[i].work == RecordingWork::ingest) {
+      for (const auto& f : plans_[i].inputs->files) {
+        std::error_code ec;
+        total_bytes += fs::file_size(f, ec);
+      }
+    }
+  }
+  if (todo.empty()) return;
+  const bool detect_too = o_.only ? *o_.only != Stage::ingest : o_.until != Stage::ingest;
+  const unsigned jobs = std::max(1u, o_.jobs ? o_.jobs : std::thread::hardware_concurrency());
+  const std::size_t window = 2 * static_cast<std::size_t>(jobs);  // results waiting to be written, at most
+
+  struct Slot {
+    std::optional<RecordingOutput> output;
+    std::exception_ptr error;
+    bool done = false;
+    std::vector<CompressedColumn> stored_samples;  // detect only: the chunks, read on this thread
+    Recording meta;
+  };
+  std::vector<Slot> slots(todo.size());
+  std::mutex mutex;
+  std::condition_variable changed;
+  std::size_t next = 0, written = 0;
+  std::atomic<bool> stop{false};
+  std::atomic<std::uint64_t> bytes_done{0};
+  RecordingWorkOptions work = work_;
+  work.progress = [&](std::uint64_t bytes) { bytes_done += bytes; };
+
+  // HDF5 is not thread-safe: the samples a detect-only recording needs are
+  // read here, on this thread, a window ahead of the workers.
+  std::size_t prepared = 0;
+  auto prepare = [&](std::size_t upto) {
+    for (; prepared < std::min(upto, todo.size()); ++prepared) {
+      const RecordingPlan& plan = plans_[todo[prepared]];
+      if (plan.work != RecordingWork::detect) continue;
+      Slot& s = slots[prepared];
+      s.meta = old_->read_recording(plan.id, false);
+      s.stored_samples = old_->read_sample_chunks(plan.id);
+    }
+  };
+  prepare(window);
+
+  auto worker = [&] {
+    for (;;) {
+      std::size_t k;
+      {
+        std::unique_lock lock(mutex);
+        changed.wait(lock, [&] { return stop || next >= todo.size() || (next < written + window && next < prepared); });
+        if (stop || next >= todo.size()) return;
+        k = next++;
+      }
+      const RecordingPlan& plan = plans_[todo[k]];
+      Slot& slot = slots[k];
+      try {
+        RecordingOutput r;
+        if (plan.work == RecordingWork::ingest) {
+          r = ingest_recording(*plan.inputs, p_, plan.known, work);
+          std::vector<std::string> parts = {ingest_settings_};
+          for (const auto& f : r.inputs) parts.push_back(f.sha256);
+          r.ingest_key = make_key("ingest", parts);
+        } else {
+          r.recording = std::move(slot.meta);
+          r.ingest_key = plan.ingest_key;
+          r.samples = std::make_shared<CompressedSamples>(r.recording.samples.has_left, r.recording.samples.has_right,
+                                                          std::move(slot.stored_samples), work.raw_budget_bytes);
+        }
+        if (detect_too) {
+          r.detect_key = make_key("detect", {r.ingest_key, detect_settings_});
+          detect_events(r, *detector_, p_.detection, work);
+        }
+        std::lock_guard lock(mutex);
+        slot.output = std::move(r);
+        slot.done = true;
+      } catch (...) {
+        std::lock_guard lock(mutex);
+        slot.error = std::current_exception();
+        slot.done = true;
+      }
+      changed.notify_all();
+    }
+  };
+  std::vector<std::thread> threads;
+  for (unsigned t = 0; t < std::min<std::size_t>(jobs, todo.size()); ++t) threads.emplace_back(worker);
+  auto finish_threads = [&] {
+    {
+      std::lock_guard lock(mutex);
+      stop = true;
+    }
+    changed.notify_all();
+    for (auto& t : threads) {
+      if (t.joinable()) t.join();
+    }
+  };
+
+  ProgressBar bar(o_.show_progress);
+  const auto started = std::chrono::steady_clock::now();
+  try {
+    for (std::size_t k = 0; k < todo.size(); ++k) {
+      std::unique_lock lock(mutex);
+      while (!changed.wait_for(lock, std::chrono::milliseconds(200), [&] { return slots[k].done; })) {
+        lock.unlock();
+        bar.update_run(written, todo.size(), bytes_done, total_bytes, report_.samples, started);
+        lock.lock();
+      }
+      if (slots[k].error) {
+        lock.unlock();
+        finish_threads();
+        bar.finish();
+        std::rethrow_exception(slots[k].error);
+      }
+      RecordingOutput r = std::move(*slots[k].output);
+      slots[k].output.reset();
+      lock.unlock();
+      RecordingPlan& plan = plans_[todo[k]];
+      plan.ingest_key = r.ingest_key;
+      if (detect_too) plan.detect_key = r.detect_key;
+      write_recording(out, r);
+      prepare(k + 1 + window);
+      {
+        std::lock_guard relock(mutex);
+        ++written;
+      }
+      changed.notify_all();
+      for (auto& f : r.inputs) inputs_.push_back(f);
+      for (const auto& [kind, n] : r.repairs) repairs_.push_back({r.recording.id, kind, n});
+      fresh_.emplace(r.recording.id, std::move(r));
+      bar.update_run(written, todo.size(), bytes_done, total_bytes, report_.samples, started);
+    }
+  } catch (...) {
+    finish_threads();
+    bar.finish();
+    throw;
+  }
+  finish_threads();
+  bar.finish();
+}
+
+std::vector<RecordingEvents> StudyRun::recording_events() const {
+  std::vector<RecordingEvents> out;
+  for (const auto& plan : plans_) {
+    const auto f = fresh_.find(plan.id);
+    if (f != fresh_.end() && f->second.detected) {
+      out.push_back({f->second.recording, f->second.events});
+    } else {
+      if (!old_->has_events(plan.id)) stale_upstream(Stage::detect, "recording " + plan.id + " has no detected events");
+      out.push_back({old_->read_recording(plan.id, false), old_->read_events(plan.id)});
+    }
+  }
+  return out;
+}
+
+void StudyRun::remove_results(StudyStoreWriter& out, Stage stage) {
+  for (const auto& plan : plans_) {
+    for (const auto& g : recording_groups_of(stage)) out.remove("/recordings/" + plan.id + "/" + g);
+  }
+  for (const auto& g : top_groups_of(stage)) out.remove(g);
+}
+
+StageRecord StudyRun::record_for(Stage stage, const std::string& key, const std::string& upstream, const std::string& settings) const {
+  StageRecord r;
+  r.stage = stage;
+  r.key = key;
+  r.upstream_key = upstream;
+  r.settings_json = settings;
+  r.created_utc = now_;
+  r.tool_version = kVersion;
+  r.protocol_text = p_.text;
+  r.protocol_path = fs::absolute(p_.path).lexically_normal().string();
+  return r;
+}
+
+// Clean, align and measure: each runs when its key differs from the stored
+// one (or when it is the stage asked for), and is reused otherwise.
+void StudyRun::run_study_stages(StudyStoreWriter& out) {
+  auto reusable = [&](Stage s) {
+    const auto r = old_records_.find(s);
+    return !o_.only && r != old_records_.end() && r->second.state == StageState::current && r->second.key == keys_.at(s) &&
+           !ran_[*upstream_of(s)];
+  };
+  auto settings_of = [&](Stage s) {
+    switch (s) {
+      case Stage::clean: return clean_settings_;
+      case Stage::align: return align_settings_;
+      case Stage::measure: return measure_settings_;
+      default: return std::string();
+    }
+  };
+  for (Stage s : {Stage::clean, Stage::align, Stage::measure}) {
+    if (o_.only && *o_.only != s) continue;
+    if (!o_.only && static_cast<int>(s) > static_cast<int>(o_.until)) continue;
+    keys_[s] = study_key(s);
+    if ((s == Stage::align || s == Stage::measure) && !regions_present()) {
+      report_.stages[s] = "not run: the protocol has no [regions]";
+      if (o_.only) throw InputError({p_.path, 0, "regions"}, std::string(to_string(s)) + " needs a [regions] section (items_file or boxes_file)");
+      continue;
+    }
+    if (reusable(s)) {
+      report_.stages[s] = "reused";
+      continue;
+    }
+    remove_results(out, s);
+    if ((s == Stage::align || s == Stage::measure) && !regions_) regions_ = load_regions(p_);
+    if (s == Stage::clean) {
+      events_ = recording_events();
+      cleaned_ = clean_events(p_, events_);
+      write_cleaning(out, *cleaned_);
+      write_audit(out, cleaned_->report);
+      cleaned_recordings_ = cleaned_recordings(*cleaned_, events_);
+      report_.audit = cleaned_->report;
+    } else if (s == Stage::align) {
+      if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
+      alignment_ = align_study(p_, *regions_, *cleaned_recordings_);
+      write_alignment(out, *alignment_);
+    } else {
+      if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
+      if (!alignment_) alignment_ = read_alignment(*old_);
+      report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions);
+      write_measures(out, report_.rows, aggregate_by_region(report_.rows), aggregate_by_role(report_.rows),
+                     aggregate_by_participant(report_.rows));
+    }
+    out.write_stage_record(record_for(s, keys_.at(s), keys_.at(*upstream_of(s)), settings_of(s)));
+    ran_[s] = true;
+    report_.stages[s] = "ran";
+  }
+}
+
+StudyRunReport StudyRun::execute() {
+  fs::path store(o_.store_path);
+  if (store.has_parent_path() && !fs::is_directory(store.parent_path())) {
+    throw InputError({o_.store_path, 0, ""}, "the folder " + store.parent_path().string() + " does not exist");
+  }
+  WriteLock lock(o_.store_path);
+  if (const int n = remove_leftover_temporaries(o_.store_path); n > 0) {
+    spdlog::info("removed {} temporary file(s) that an interrupted run left beside {}", n, o_.store_path);
+  }
+  open_previous();
+  plan_recordings();
+  if (o_.only && *o_.only != Stage::ingest) check_current_up_to(*o_.only);
+  report_.recordings = plans_.size();
+
+  // The store is rewritten only when something in it changes.
+  const bool recordings_change =
+      !removed_recordings_.empty() || std::any_of(plans_.begin(), plans_.end(), [](const RecordingPlan& r) { return r.work != RecordingWork::reuse; });
+  std::unique_ptr<StudyStoreWriter> out;
+  auto writer = [&]() -> StudyStoreWriter& {
+    if (!out) {
+      out = (old_ && o_.only != Stage::ingest) ? StudyStoreWriter::update(o_.store_path, {o_.deflate_level})
+                                               : std::make_unique<StudyStoreWriter>(o_.store_path, StoreWriteOptions{o_.deflate_level});
+    }
+    return *out;
+  };
+  const auto t0 = std::chrono::steady_clock::now();
+  auto since = [&t0] { return std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count(); };
+  spdlog::debug("planned {} recordings", plans_.size());
+  if (recordings_change || !old_ || o_.only) {
+    StudyStoreWriter& w = writer();
+    for (const auto& id : removed_recordings_) w.remove("/recordings/" + id);
+    run_recordings(w);
+    spdlog::debug("recordings done after {:.2f} s", since());
+  }
+  keys_[Stage::ingest] = study_key(Stage::ingest);
+  const bool ingest_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work == RecordingWork::ingest; }) ||
+                          !removed_recordings_.empty() || o_.only == Stage::ingest;
+  ran_[Stage::ingest] = ingest_ran;
+  report_.stages[Stage::ingest] = ingest_ran ? "ran" : "reused";
+  if (o_.only != Stage::ingest && (o_.only || o_.until != Stage::ingest)) {
+    keys_[Stage::detect] = study_key(Stage::detect);
+    const bool detect_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work != RecordingWork::reuse; }) ||
+                            !removed_recordings_.empty() || o_.only == Stage::detect;
+    ran_[Stage::detect] = detect_ran;
+    report_.stages[Stage::detect] = detect_ran ? "ran" : "reused";
+  }
+
+  // Study-level stages: only where something would change.
+  const bool study_stages = o_.only ? (*o_.only != Stage::ingest && *o_.only != Stage::detect)
+                                    : static_cast<int>(o_.until) >= static_cast<int>(Stage::clean);
+  if (study_stages) {
+    bool any_change = o_.only.has_value() || ran_[Stage::detect];
+    for (Stage s : {Stage::clean, Stage::align, Stage::measure}) {
+      if ((s == Stage::align || s == Stage::measure) && !regions_present()) continue;
+      if (!o_.only && static_cast<int>(s) > static_cast<int>(o_.until)) continue;
+      const auto r = old_records_.find(s);
+      keys_[s] = study_key(s);
+      any_change = any_change || r == old_records_.end() || r->second.state != StageState::current || r->second.key != keys_[s];
+    }
+    if (any_change) {
+      run_study_stages(writer());
+      spdlog::debug("study stages done after {:.2f} s", since());
+    } else {
+      for (Stage s : {Stage::clean, Stage::align, Stage::measure}) {
+        report_.stages[s] = (s != Stage::clean && !regions_present()) ? "not run: the protocol has no [regions]" : "reused";
+      }
+    }
+  }
+
+  if (out) {
+    // Records of the recording stages, and what is stale now.
+    if (ran_[Stage::ingest]) {
+      Provenance prov;
+      prov.tool_version = kVersion;
+      prov.protocol_path = fs::absolute(p_.path).lexically_normal().string();
+      prov.protocol_text = p_.text;
+      prov.protocol_sha256 = sha256_hex(p_.text);
+      prov.created_utc = now_;
+      std::set<std::string> fresh_ids;
+      for (const auto& f : inputs_) fresh_ids.insert(f.recording_id);
+      if (old_ && o_.only != Stage::ingest) {  // recordings kept from the previous run keep their records
+        const Provenance before = old_->provenance();
+        for (const auto& f : before.inputs) {
+          if (!fresh_ids.count(f.recording_id) && std::any_of(plans_.begin(), plans_.end(), [&](auto& r) { return r.id == f.recording_id; })) {
+            prov.inputs.push_back(f);
+          }
+        }
+        for (const auto& r : before.repairs) {
+          if (!fresh_ids.count(r.recording_id) && std::any_of(plans_.begin(), plans_.end(), [&](auto& x) { return x.id == r.recording_id; })) {
+            prov.repairs.push_back(r);
+          }
+        }
+      }
+      prov.inputs.insert(prov.inputs.end(), inputs_.begin(), inputs_.end());
+      prov.repairs.insert(prov.repairs.end(), repairs_.begin(), repairs_.end());
+      std::sort(prov.inputs.begin(), prov.inputs.end(), [](auto& a, auto& b) { return std::tie(a.recording_id, a.path) < std::tie(b.recording_id, b.path); });
+      std::sort(prov.repairs.begin(), prov.repairs.end(), [](auto& a, auto& b) { return std::tie(a.recording_id, a.kind) < std::tie(b.recording_id, b.kind); });
+      out->write_provenance(prov);
+      out->write_stage_record(record_for(Stage::ingest, keys_[Stage::ingest], "", ingest_settings_));
+    }
+    if (ran_[Stage::detect]) out->write_stage_record(record_for(Stage::detect, keys_[Stage::detect], keys_[Stage::ingest], detect_settings_));
+    // Downstream of anything that ran and did not run itself: stale, results removed.
+    std::optional<Stage> first_ran;
+    for (Stage s : kStages) {
+      if (ran_[s]) {
+        first_ran = s;
+        break;
+      }
+    }
+    if (first_ran) {
+      for (Stage s : kStages) {
+        if (static_cast<int>(s) <= static_cast<int>(*first_ran) || ran_[s]) continue;
+        const bool had = old_records_.count(s) && o_.only != Stage::ingest;
+        const auto said = report_.stages.find(s);
+        const bool reused = said != report_.stages.end() && said->second == "reused";
+        if (reused) continue;
+        remove_results(*out, s);
+        if (had) {
+          out->mark_stage_stale(s, std::string(to_string(*first_ran)) + " ran again on " + now_);
+          report_.stages[s] = "stale";
+        } else if (o_.only == Stage::ingest && old_records_.count(s)) {
+          StageRecord r = old_records_[s];
+          r.state = StageState::stale;
+          r.stale_reason = std::string("ingest ran again on ") + now_ + " (the store was replaced)";
+          out->write_stage_record(r);
+          report_.stages[s] = "stale";
+        }
+      }
+    }
+    out->commit();
+    report_.store_written = true;
+    spdlog::debug("store written after {:.2f} s", since());
+  }
+  if (!o_.tables_folder.empty()) write_tables();
+  spdlog::debug("tables done after {:.2f} s", since());
+  return report_;
+}
+
+// The tables of the store as it now is: the audit once cleaned, the
+// measures once measured; written as one set with a manifest, and skipped
+// when the folder already holds this very set.
+void StudyRun::write_tables() {
+  report_.tables_folder = o_.tables_folder;
+  StudyStoreReader store(o_.store_path);
+  nlohmann::json manifest;
+  manifest["store"] = fs::absolute(o_.store_path).lexically_normal().string();
+  manifest["gazemill_version"] = kVersion;
+  for (Stage s : kStages) {
+    const auto r = store.stage_record(s);
+    if (r && r->state == StageState::current) manifest["stages"][to_string(s)] = r->key;
+  }
+  WriteLock lock(o_.tables_folder);
+  remove_leftover_temporaries(o_.tables_folder);
+  if (read_manifest(o_.tables_folder) == manifest.dump(2)) return;
+  TableSet set(o_.tables_folder);
+  const auto current = [&](Stage s) {
+    const auto r = store.stage_record(s);
+    return r && r->state == StageState::current;
+  };
+  if (current(Stage::clean)) {
+    const AuditReport audit = report_.audit ? *report_.audit : read_audit(store);
+    set.add("audit.tsv", audit_tsv(audit));
+    set.add("audit_totals.tsv", audit_totals_tsv(audit));
+    set.add("audit.json", audit_json(audit));
+  }
+  if (current(Stage::measure) && regions_present()) {
+    if (report_.rows.empty()) {
+      // Measured before: the same rows again from the store's cleaned fixations and lines.
+      if (!regions_) regions_ = load_regions(p_);
+      report_.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions_, p_.regions);
+    }
+    const auto& rows = report_.rows;
+    set.add("measures.tsv", measures_long_tsv(rows));
+    set.add("measures_wide.tsv", measures_wide_tsv(rows));
+    set.add("measures_by_region.tsv", aggregates_tsv(aggregate_by_region(rows), "region"));
+    set.add("measures_by_role.tsv", aggregates_tsv(aggregate_by_role(rows), "region_role"));
+    set.add("measures_by_participant.tsv", aggregates_tsv(aggregate_by_participant(rows), "participant"));
+  }
+  set.commit(manifest.dump(2));
+  report_.tables = set.names();
+}
+
+}  // namespace
+
+StudyRunReport run_study(const Protocol& protocol, const StudyRunOptions& options) {
+  StudyRun run(protocol, options);
+  return run.execute();
+}
+
+}  // namespace gazemill

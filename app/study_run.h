@@ -1,0 +1,61 @@
+#pragma once
+// The whole study in one run: ingest -> detect -> clean -> align -> measure,
+// each stage's result recording what it was made from. Recordings stream
+// through reading and detection in memory, on a pool of threads, and are
+// written to the store in recording order (so the store is the same for any
+// number of threads); the store is written once per run. A result whose
+// inputs and protocol section are unchanged is reused, so a second run with
+// nothing changed does no work.
+//
+// The stage commands (gazemill ingest, detect, clean, align, measure) are
+// runs of one stage: its upstream results must be current for the protocol
+// given (else the error names the stage to run), and everything downstream
+// of it becomes stale and is removed.
+
+#include <cstdint>
+#include <map>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "pipeline/audit.h"
+#include "pipeline/measure_table.h"
+#include "pipeline/protocol.h"
+#include "pipeline/stage.h"
+
+namespace gazemill {
+
+struct StudyRunOptions {
+  std::string store_path;
+  std::string tables_folder;          // "" = write no tables
+  unsigned jobs = 0;                  // worker threads; 0 = one per core
+  std::optional<Stage> only;          // run this stage alone (a stage command)
+  Stage until = Stage::measure;       // a whole run stops after this stage
+  int deflate_level = 1;
+  bool show_progress = false;
+  std::uint64_t raw_budget_bytes = std::uint64_t{192} << 20;  // per recording, see RecordingWorkOptions
+};
+
+/// What a run did, stage by stage, with the counts of what it read and made.
+struct StudyRunReport {
+  std::map<Stage, std::string> stages;  // "ran", "reused", "stale", or why it did not run
+  std::size_t recordings = 0, recordings_read = 0, recordings_detected = 0;
+  std::uint64_t samples = 0, messages = 0, trials = 0, input_bytes = 0, repairs = 0;  // of the recordings read
+  std::uint64_t samples_detected = 0, fixations = 0, saccades = 0, blinks = 0;       // of the recordings detected
+  std::optional<AuditReport> audit;  // when clean ran
+  std::vector<MeasureRow> rows;      // when measure ran
+  bool store_written = false;
+  std::vector<std::string> tables;   // written this run
+  std::string tables_folder;
+};
+
+/// Runs the study (or one stage of it). Throws InputError on bad input;
+/// nothing half-written is left in place.
+StudyRunReport run_study(const Protocol& protocol, const StudyRunOptions& options);
+
+/// The store a protocol writes by default: <protocol folder>/<study name or "study">.gzm.h5.
+std::string default_store_path(const Protocol& protocol);
+/// The tables folder of a store by default: beside it, "<store name>-tables".
+std::string default_tables_folder(const std::string& store_path);
+
+}  // namespace gazemill

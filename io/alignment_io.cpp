@@ -1,0 +1,67 @@
+#include "io/alignment_io.h"
+
+#include "io/hdf5_util.h"
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+
+void write_alignment(StudyStoreWriter& store, const std::vector<RecordingAlignment>& alignment) {
+  for (const auto& a : alignment) {
+    H5::Group g = store.group("recordings/" + a.recording + "/align");
+    std::vector<std::uint32_t> ids;
+    std::vector<std::int32_t> lines;
+    std::vector<double> ys;
+    for (const auto& [id, l] : a.fixations) {
+      ids.push_back(id);
+      lines.push_back(l.line + 1);
+      ys.push_back(l.corrected_y_px);
+    }
+    H5::Group f = h5::create_group(g, "fixations");
+    h5::write_column(f, "input_id", ids);
+    h5::write_column(f, "line", lines);
+    h5::write_column(f, "corrected_y_px", ys, "px");
+    std::vector<std::string> trial, method;
+    std::vector<double> confidence;
+    std::vector<std::uint8_t> flagged;
+    for (const auto& t : a.trials) {
+      trial.push_back(t.trial);
+      method.push_back(t.method);
+      confidence.push_back(t.confidence);
+      flagged.push_back(t.flagged);
+    }
+    H5::Group tr = h5::create_group(g, "trials");
+    h5::write_strings(tr, "trial", trial);
+    h5::write_strings(tr, "method", method);
+    h5::write_column(tr, "confidence", confidence);
+    h5::write_column(tr, "flagged", flagged);
+  }
+}
+
+std::vector<RecordingAlignment> read_alignment(const StudyStoreReader& store) {
+  h5::QuietErrors quiet;
+  std::vector<RecordingAlignment> out;
+  for (const auto& id : store.recording_ids()) {
+    const std::string base = "recordings/" + id + "/align";
+    if (!store.exists(base)) throw InputError({store.path(), 0, base}, "no line assignments; run gazemill align first");
+    RecordingAlignment a;
+    a.recording = id;
+    try {
+      H5::Group f = store.group(base + "/fixations");
+      const auto ids = h5::read_column<std::uint32_t>(f, "input_id");
+      const auto lines = h5::read_column<std::int32_t>(f, "line");
+      const auto ys = h5::read_column<double>(f, "corrected_y_px");
+      for (std::size_t i = 0; i < ids.size(); ++i) a.fixations[ids[i]] = {lines.at(i) - 1, ys.at(i)};
+      H5::Group t = store.group(base + "/trials");
+      const auto trial = h5::read_strings(t, "trial"), method = h5::read_strings(t, "method");
+      const auto confidence = h5::read_column<double>(t, "confidence");
+      const auto flagged = h5::read_column<std::uint8_t>(t, "flagged");
+      for (std::size_t i = 0; i < trial.size(); ++i) a.trials.push_back({trial[i], method.at(i), confidence.at(i), flagged.at(i) != 0});
+    } catch (const H5::Exception& e) {
+      throw InputError({store.path(), 0, base}, "damaged line assignments: " + e.getDetailMsg());
+    }
+    out.push_back(std::move(a));
+  }
+  return out;
+}
+
+}  // namespace gazemill

@@ -1,0 +1,99 @@
+#include "io/table_set.h"
+
+#include <fcntl.h>
+#include <stdio.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+
+#include "io/atomic_file.h"
+#include "pipeline/input_error.h"
+
+namespace gazemill {
+namespace fs = std::filesystem;
+
+namespace {
+
+void write_file(const std::string& path, const std::string& text) {
+  errno = 0;
+  std::ofstream out(path, std::ios::binary);
+  out << text;
+  out.flush();
+  if (!out) throw InputError({path, 0, ""}, std::string("cannot write: ") + (errno ? std::strerror(errno) : "the write failed"));
+}
+
+}  // namespace
+
+TableSet::TableSet(std::string folder) : folder_(std::move(folder)) {
+  while (folder_.size() > 1 && folder_.back() == '/') folder_.pop_back();
+  // The set replaces the whole folder: it must be one of ours, or new, or empty.
+  std::error_code ec;
+  if (fs::exists(folder_, ec)) {
+    if (!fs::is_directory(folder_, ec)) throw InputError({folder_, 0, ""}, "is a file; the tables go into a folder of their own");
+    if (!fs::is_empty(folder_, ec) && !fs::exists(fs::path(folder_) / kManifestName, ec)) {
+      throw InputError({folder_, 0, ""}, "holds files that are not gazemill tables (it has no " + std::string(kManifestName) +
+                                             "); the tables replace their whole folder, so name a new or empty one");
+    }
+  }
+  temp_ = temporary_path_beside(folder_);
+  fs::remove_all(temp_, ec);
+  fs::create_directories(temp_, ec);
+  if (ec) throw InputError({folder_, 0, ""}, "cannot create the folder " + temp_ + ": " + ec.message());
+}
+
+TableSet::~TableSet() {
+  if (committed_) return;
+  std::error_code ec;
+  fs::remove_all(temp_, ec);
+}
+
+void TableSet::add(const std::string& name, const std::string& text) {
+  write_file((fs::path(temp_) / name).string(), text);
+  names_.push_back(name);
+}
+
+void TableSet::commit(const std::string& manifest_json) {
+  write_file((fs::path(temp_) / kManifestName).string(), manifest_json + "\n");
+  std::error_code ec;
+  if (fs::exists(folder_, ec)) {
+    // Swap the two folders in one step where the system can (Linux 3.15+),
+    // then remove the old set; otherwise move the old one aside first.
+    if (::renameat2(AT_FDCWD, temp_.c_str(), AT_FDCWD, folder_.c_str(), RENAME_EXCHANGE) == 0) {
+      committed_ = true;
+      fs::remove_all(temp_, ec);
+      return;
+    }
+    const std::string aside = temp_ + "-old";
+    fs::rename(folder_, aside, ec);
+    if (ec) throw InputError({folder_, 0, ""}, "cannot replace the tables folder: " + ec.message());
+    fs::rename(temp_, folder_, ec);
+    if (ec) {
+      std::error_code back;
+      fs::rename(aside, folder_, back);
+      throw InputError({folder_, 0, ""}, "cannot move the new tables into place: " + ec.message());
+    }
+    committed_ = true;
+    fs::remove_all(aside, ec);
+    return;
+  }
+  fs::create_directories(fs::path(folder_).parent_path(), ec);
+  fs::rename(temp_, folder_, ec);
+  if (ec) throw InputError({folder_, 0, ""}, "cannot move the new tables into place: " + ec.message());
+  committed_ = true;
+}
+
+std::string read_manifest(const std::string& folder) {
+  std::ifstream in(fs::path(folder) / kManifestName);
+  if (!in) return "";
+  std::stringstream s;
+  s << in.rdbuf();
+  std::string text = s.str();
+  while (!text.empty() && text.back() == '\n') text.pop_back();
+  return text;
+}
+
+}  // namespace gazemill

@@ -1,0 +1,39 @@
+#pragma once
+// A folder of output tables written as one set: every file goes into a
+// temporary folder beside the target, with a manifest naming the store and
+// the stage keys the tables came from, and the folder then takes the place
+// of the old one in one rename. A half-written set is never in place, and
+// tables that no longer match their store can be told by their manifest.
+
+#include <string>
+#include <vector>
+
+namespace gazemill {
+
+inline constexpr const char* kManifestName = "manifest.json";
+
+class TableSet {
+ public:
+  /// Starts a set for `folder` (created or replaced on commit).
+  explicit TableSet(std::string folder);
+  ~TableSet();  // removes the temporary folder unless committed
+  TableSet(const TableSet&) = delete;
+  TableSet& operator=(const TableSet&) = delete;
+
+  /// Writes one file of the set. Throws InputError naming it when it cannot be written.
+  void add(const std::string& name, const std::string& text);
+  /// Writes the manifest and puts the set in place of the folder.
+  void commit(const std::string& manifest_json);
+  const std::vector<std::string>& names() const { return names_; }
+
+ private:
+  std::string folder_;
+  std::string temp_;
+  std::vector<std::string> names_;
+  bool committed_ = false;
+};
+
+/// The manifest text of a table folder ("" when absent).
+std::string read_manifest(const std::string& folder);
+
+}  // namespace gazemill
