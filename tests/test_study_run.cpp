@@ -1,0 +1,208 @@
+// The whole-study run and the stage model: results that know what they were
+// made from, stale results never used, work redone only where something
+// changed, and the same store for any number of threads. Expected outcomes
+// follow from the stage model written in app/study_run.h (our design; common
+// practice of build tools such as make, no source).
+
+#include <gtest/gtest.h>
+#include <unistd.h>
+
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+
+#include "app/protocol_parser.h"
+#include "io/store_compare.h"
+#include "io/study_store.h"
+#include "io/table_set.h"
+#include "io/write_lock.h"
+#include "pipeline/input_error.h"
+#include "tests/stage_helpers.h"
+#include "test_support.h"
+
+using namespace gazemill;
+using namespace gazemill::test_support;
+namespace fs = std::filesystem;
+
+namespace {
+
+const char* kRules = R"(
+[[cleaning]]
+name = "short"
+kind = "delete_short_fixations"
+min_duration_ms = 80
+)";
+
+std::string study(const TempDir& d, const std::string& extra = kRules) {
+  fs::copy(std::string(GAZEMILL_FIXTURES) + "/demo-study", d.path() / "study", fs::copy_options::recursive);
+  const std::string proto = (d.path() / "study" / "gazemill.toml").string();
+  std::ofstream(proto, std::ios::app) << extra;
+  return proto;
+}
+
+StudyRunReport run(const std::string& proto, const std::string& folder, unsigned jobs = 0) {
+  StudyRunOptions o;
+  fs::create_directories(folder);
+  o.store_path = (fs::path(folder) / "s.gzm.h5").string();
+  o.tables_folder = (fs::path(folder) / "tables").string();
+  o.jobs = jobs;
+  return run_study(parse_protocol_file(proto), o);
+}
+
+std::string read_text(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::stringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+}  // namespace
+
+// The defect this model exists for: after detect ran again with another
+// method, measuring must not use the cleaning made from the old events.
+TEST(StudyRun, MeasureCannotUseCleaningMadeFromOlderEvents) {
+  TempDir d;
+  const std::string proto = study(d);
+  const std::string folder = d.file("out"), store = d.file("out/s.gzm.h5");
+  run(proto, folder);
+  const std::string idt = d.write("study/idt.toml", read_text(proto) + "\n[detection]\nmethod = \"idt\"\n");
+  const Protocol p = parse_protocol_file(idt);
+  detect_study(p, store);
+  {
+    StudyStoreReader s(store);
+    EXPECT_EQ(s.stage_record(Stage::clean)->state, StageState::stale);
+    EXPECT_EQ(s.stage_record(Stage::measure)->state, StageState::stale);
+    EXPECT_FALSE(s.exists("measures"));  // the old measures are gone, not left beside new events
+    EXPECT_FALSE(s.exists("recordings/p01_1/clean"));
+  }
+  try {
+    run_stage(p, store, Stage::measure);
+    FAIL() << "measure ran on cleaning made from the previous events";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("gazemill clean"), std::string::npos) << e.what();
+  }
+  // The first protocol's [detection] is no longer what the events were made with either.
+  EXPECT_THROW(run_stage(parse_protocol_file(proto), store, Stage::clean), InputError);
+  // Cleaning again makes align and measure stale in turn.
+  run_stage(p, store, Stage::clean);
+  StudyStoreReader s(store);
+  EXPECT_EQ(s.stage_record(Stage::clean)->state, StageState::current);
+  EXPECT_EQ(s.stage_record(Stage::align)->state, StageState::stale);
+}
+
+TEST(StudyRun, ASecondRunWithNothingChangedDoesNoWork) {
+  TempDir d;
+  const std::string proto = study(d);
+  const auto first = run(proto, d.file("out"));
+  EXPECT_EQ(first.recordings_read, 4u);
+  const auto before = fs::last_write_time(d.file("out/s.gzm.h5"));
+  const auto tables_before = fs::last_write_time(d.file("out/tables/measures.tsv"));
+  const auto again = run(proto, d.file("out"));
+  EXPECT_EQ(again.recordings_read, 0u);
+  EXPECT_EQ(again.recordings_detected, 0u);
+  EXPECT_FALSE(again.store_written);
+  EXPECT_TRUE(again.tables.empty());
+  for (Stage s : kStages) EXPECT_EQ(again.stages.at(s), "reused") << to_string(s);
+  EXPECT_EQ(fs::last_write_time(d.file("out/s.gzm.h5")), before);
+  EXPECT_EQ(fs::last_write_time(d.file("out/tables/measures.tsv")), tables_before);
+}
+
+TEST(StudyRun, ChangingOneCleaningRuleRedoesCleaningOnward) {
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("out"));
+  std::string text = read_text(proto);
+  text.replace(text.find("min_duration_ms = 80"), 20, "min_duration_ms = 95");
+  std::ofstream(proto) << text;
+  const auto r = run(proto, d.file("out"));
+  EXPECT_EQ(r.stages.at(Stage::ingest), "reused");
+  EXPECT_EQ(r.stages.at(Stage::detect), "reused");
+  EXPECT_EQ(r.stages.at(Stage::clean), "ran");
+  EXPECT_EQ(r.stages.at(Stage::align), "ran");
+  EXPECT_EQ(r.stages.at(Stage::measure), "ran");
+  EXPECT_EQ(r.recordings_read, 0u);
+  // The result equals a fresh run of the changed protocol.
+  TempDir e;
+  const std::string fresh = study(e, "");
+  std::ofstream(fresh, std::ios::app) << text.substr(text.find("[[cleaning]]") - 1);
+  run(fresh, e.file("out"));
+  for (const auto& x : compare_store_datasets(d.file("out/s.gzm.h5"), e.file("out/s.gzm.h5"))) {
+    if (x.path.rfind("provenance/inputs/", 0) == 0) continue;  // the two studies' files have their own paths and times
+    ADD_FAILURE() << x.path << ": " << x.what;
+  }
+  EXPECT_EQ(read_text(d.file("out/tables/measures_wide.tsv")), read_text(e.file("out/tables/measures_wide.tsv")));
+}
+
+TEST(StudyRun, OneChangedInputIsReadAgainAndANewOneAdded) {
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("out"));
+  // Same bytes, newer time: hashed again, found unchanged, not read again.
+  fs::last_write_time(d.file("study/raw/p02_s1.tsv.gz"), fs::file_time_type::clock::now());
+  EXPECT_EQ(run(proto, d.file("out")).recordings_read, 0u);
+  // A new participant: only that recording is read.
+  fs::copy_file(d.file("study/raw/p02_s1.tsv.gz"), d.file("study/raw/p05_s1.tsv.gz"));
+  const auto r = run(proto, d.file("out"));
+  EXPECT_EQ(r.recordings_read, 1u);
+  EXPECT_EQ(r.recordings_detected, 1u);
+  EXPECT_EQ(r.stages.at(Stage::clean), "ran");
+  StudyStoreReader s(d.file("out/s.gzm.h5"));
+  EXPECT_EQ(s.recording_ids().size(), 5u);
+  EXPECT_EQ(s.provenance().inputs.size(), 5u);
+  // And removed again.
+  fs::remove(d.file("study/raw/p05_s1.tsv.gz"));
+  run(proto, d.file("out"));
+  EXPECT_EQ(StudyStoreReader(d.file("out/s.gzm.h5")).recording_ids().size(), 4u);
+}
+
+// Recordings are processed in parallel but written in recording order: the
+// store's datasets and the tables are the same for any number of threads.
+TEST(StudyRun, TheSameStoreAndTablesForAnyNumberOfThreads) {
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("one"), 1);
+  run(proto, d.file("three"), 3);
+  for (const auto& x : compare_store_datasets(d.file("one/s.gzm.h5"), d.file("three/s.gzm.h5"))) ADD_FAILURE() << x.path << ": " << x.what;
+  for (const char* t : {"measures.tsv", "measures_wide.tsv", "measures_by_role.tsv", "audit.tsv", "audit.json"}) {
+    EXPECT_EQ(read_text(d.file(std::string("one/tables/") + t)), read_text(d.file(std::string("three/tables/") + t))) << t;
+  }
+}
+
+TEST(StudyRun, TablesNeverReplaceAFolderOfOtherFiles) {
+  TempDir d;
+  const std::string proto = study(d);
+  d.write("mine/notes.txt", "a lab's own notes");
+  StudyRunOptions o;
+  o.store_path = d.file("s.gzm.h5");
+  o.tables_folder = d.file("mine");
+  EXPECT_THROW(run_study(parse_protocol_file(proto), o), InputError);
+  EXPECT_EQ(read_text(d.file("mine/notes.txt")), "a lab's own notes");
+}
+
+TEST(StudyRun, ASecondWriterFailsNamingTheFirst) {
+  TempDir d;
+  const std::string proto = study(d);
+  const WriteLock held(d.file("s.gzm.h5"));
+  StudyRunOptions o;
+  o.store_path = d.file("s.gzm.h5");
+  try {
+    run_study(parse_protocol_file(proto), o);
+    FAIL() << "two writers at once";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("process " + std::to_string(::getpid())), std::string::npos) << e.what();
+  }
+  EXPECT_FALSE(fs::exists(d.file("s.gzm.h5")));
+}
+
+TEST(StudyRun, TemporaryFilesOfDeadWritersAreRemoved) {
+  TempDir d;
+  const std::string proto = study(d);
+  // No process has this id (above the kernel's pid_max limit of 2^22).
+  const std::string dead = d.write(".s.gzm.h5.partial-99999999", "half a store");
+  StudyRunOptions o;
+  o.store_path = d.file("s.gzm.h5");
+  o.until = Stage::ingest;
+  run_study(parse_protocol_file(proto), o);
+  EXPECT_FALSE(fs::exists(dead));
+  EXPECT_TRUE(fs::exists(d.file("s.gzm.h5")));
+}
