@@ -20,10 +20,11 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
       while (k < rec.kept.size() && rec.kept[k].fixation.trial == t.id) ++k;
       const auto verdict = rec.trial_kept.find(t.id);
       if (verdict != rec.trial_kept.end() && !verdict->second) continue;
-      const RegionLayout* layout = regions.find(t.item, t.condition);
+      const std::string& item = t.variable(protocol.design.item_variable);
+      const RegionLayout* layout = regions.find(item, t.variables);
       if (!layout) {
-        throw InputError({protocol.path, 0, "regions"}, "no regions for item " + t.item + " in condition " + t.condition +
-                                                             " (recording " + rec.meta.id + ", trial " + t.id + ")");
+        throw InputError({protocol.path, 0, "regions"}, "no regions for " + regions.describe(item, t.variables) + " (recording " +
+                                                             rec.meta.id + ", trial " + t.id + ")");
       }
       // Attach: the nearest line within the protocol's reach (Carr et al. 2022's baseline).
       std::size_t near = 0, assigned = 0;

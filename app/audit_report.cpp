@@ -6,15 +6,24 @@
 
 #include "app/text_table.h"
 #include "io/cleaning_io.h"
+#include "pipeline/design.h"
 
 namespace gazemill {
 namespace {
+
+// A cell's column heading: its levels joined by '/', in the factors' order.
+std::string heading(const std::string& key) {
+  std::string out;
+  for (const auto& l : cell_levels(key)) out += (out.empty() ? "" : "/") + (l.empty() ? std::string("NA") : l);
+  return out.empty() ? "all" : out;
+}
 
 void print_block(const AuditReport& r, const std::vector<AuditRow>& rows, const std::string& only_participant, std::ostream& out) {
   std::set<std::string> conditions;
   for (const auto& [g, t] : r.totals) {
     if (!g.second.empty()) conditions.insert(g.second);
   }
+  if (conditions.size() < 2) conditions.clear();  // one cell: its column would repeat "removed"
   std::array<std::uint64_t, kAuditLevels> input{}, kept{};
   for (const auto& [g, t] : r.totals) {
     if (!only_participant.empty() && g.first != only_participant) continue;
@@ -24,7 +33,7 @@ void print_block(const AuditReport& r, const std::vector<AuditRow>& rows, const 
     }
   }
   std::vector<std::string> head = {"#", "rule", "kind", "level", "removed", "alone", "% of input"};
-  for (const auto& c : conditions) head.push_back(c);
+  for (const auto& c : conditions) head.push_back(heading(c));
   std::vector<bool> right(head.size(), true);
   right[1] = right[2] = right[3] = false;
   TextTable t(head, right);
@@ -35,7 +44,7 @@ void print_block(const AuditReport& r, const std::vector<AuditRow>& rows, const 
     auto& s = sums[{row.order, row.level}];
     s[""][0] += row.removed_sequential;
     s[""][1] += row.removed_alone;
-    if (!row.condition.empty()) s[row.condition][0] += row.removed_sequential;
+    if (!row.cell.empty()) s[row.cell][0] += row.removed_sequential;
   }
   for (const auto& [key, s] : sums) {
     const auto& [order, level] = key;
@@ -63,6 +72,11 @@ void print_block(const AuditReport& r, const std::vector<AuditRow>& rows, const 
 
 void print_audit(const AuditReport& r, bool by_participant, std::ostream& out) {
   const auto rows = audit_rows(r);
+  if (!r.factors.empty()) {
+    std::string f;
+    for (const auto& x : r.factors) f += (f.empty() ? "" : "/") + x;
+    out << "design cells (" << f << ") as columns: removed by the rule in protocol order, per cell.\n";
+  }
   out << "removed: by the rule in protocol order (the first rule to remove an item has it); "
          "alone: by the rule applied alone to the input; merged fixations count as removed.\n\n";
   if (!by_participant) {

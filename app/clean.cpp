@@ -7,12 +7,14 @@
 #include "io/region_files.h"
 #include "io/study_store.h"
 #include "measures/region_mapper.h"
+#include "pipeline/design.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
 
-CleaningState cleaning_state_from(const std::vector<RecordingEvents>& recordings) {
+CleaningState cleaning_state_from(const std::vector<RecordingEvents>& recordings, const DesignSpec& design) {
   CleaningState state;
+  state.factors = design.factors;
   std::map<std::string, std::size_t> participant_index;
   std::uint32_t next_fixation = 0, next_trial = 0;
   bool first = true;
@@ -38,8 +40,8 @@ CleaningState cleaning_state_from(const std::vector<RecordingEvents>& recordings
       ct.recording = rec.id;
       ct.participant = rec.participant;
       ct.trial = t.id;
-      ct.item = t.item;
-      ct.condition = t.condition;
+      ct.item = t.variable(design.item_variable);
+      ct.cell = cell_key(design_levels(design, t.variables));
       ct.variables = t.variables;
       ct.markers = t.markers;
       ct.start_us = t.start_us;
@@ -67,10 +69,10 @@ CleaningState cleaning_state_from(const std::vector<RecordingEvents>& recordings
 void map_regions(CleaningState& state, const RegionCatalogue& regions, const RegionSpec& spec) {
   for (auto& p : state.participants) {
     for (auto& t : p.trials) {
-      const RegionLayout* layout = regions.find(t.item, t.condition);
+      const RegionLayout* layout = regions.find(t.item, t.variables);
       if (!layout) {
-        throw InputError({"", 0, "regions"}, "no regions for item " + t.item + " in condition " + t.condition + " (participant " +
-                                                 t.participant + ", trial " + t.trial + ")");
+        throw InputError({"", 0, "regions"}, "no regions for " + regions.describe(t.item, t.variables) + " (participant " + t.participant +
+                                                 ", trial " + t.trial + ")");
       }
       for (auto& f : t.fixations) f.region = place_fixation(*layout, f.fixation.x_px, f.fixation.y_px, spec).region;
       for (const auto& r : layout->regions) {
@@ -82,7 +84,7 @@ void map_regions(CleaningState& state, const RegionCatalogue& regions, const Reg
 }
 
 CleaningOutcome clean_events(const Protocol& protocol, const std::vector<RecordingEvents>& recordings) {
-  CleaningState input = cleaning_state_from(recordings);
+  CleaningState input = cleaning_state_from(recordings, protocol.design);
   if (protocol.regions.present()) map_regions(input, load_regions(protocol), protocol.regions);
   try {
     return run_cleaning(input, protocol.cleaning);

@@ -14,7 +14,7 @@ class StudyStoreReader;
 class RegionCatalogue;
 
 /// The cleaning input from every recording's trials and events (no samples needed).
-CleaningState cleaning_state_from(const std::vector<RecordingEvents>& recordings);
+CleaningState cleaning_state_from(const std::vector<RecordingEvents>& recordings, const DesignSpec& design);
 
 /// Places every fixation on its item's regions, for the region rules.
 /// Throws InputError when an item has no regions.

@@ -4,13 +4,14 @@
 
 #include "measures/reading_measures.h"
 #include "measures/region_mapper.h"
+#include "pipeline/design.h"
 #include "pipeline/input_error.h"
 #include "pipeline/regions.h"
 
 namespace gazemill {
 
 std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& recordings, const std::vector<RecordingAlignment>& alignment,
-                                     const RegionCatalogue& regions, const RegionSpec& spec) {
+                                     const RegionCatalogue& regions, const RegionSpec& spec, const DesignSpec& design) {
   std::vector<MeasureRow> rows;
   std::map<std::string, const RecordingAlignment*> aligned;
   for (const auto& a : alignment) aligned[a.recording] = &a;
@@ -26,10 +27,12 @@ std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& record
       std::vector<const CleanFixation*> trial_fix;
       for (; k < fixations.size() && fixations[k].fixation.trial == t.id; ++k) trial_fix.push_back(&fixations[k]);
       if (const auto v = kept.find(t.id); v != kept.end() && !v->second) continue;
-      const RegionLayout* layout = regions.find(t.item, t.condition);
+      const std::string& item = t.variable(design.item_variable);
+      const std::string cell = cell_key(design_levels(design, t.variables));
+      const RegionLayout* layout = regions.find(item, t.variables);
       if (!layout) {
-        throw InputError({"", 0, "regions"}, "no regions for item " + t.item + " in condition " + t.condition +
-                                                 " (recording " + id + ", trial " + t.id + ")");
+        throw InputError({"", 0, "regions"}, "no regions for " + regions.describe(item, t.variables) + " (recording " + id + ", trial " +
+                                                 t.id + ")");
       }
       std::vector<PlacedFixation> placed;
       for (const CleanFixation* c : trial_fix) {
@@ -58,8 +61,8 @@ std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& record
         row.session = rec.session;
         row.recording = id;
         row.trial = t.id;
-        row.item = t.item;
-        row.condition = t.condition;
+        row.item = item;
+        row.cell = cell;
         row.variables = t.variables;
         row.region = r + 1;
         row.region_label = info.label;
@@ -85,8 +88,8 @@ std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& record
         row.landing_chars = x.landing_chars;
         row.incoming_saccade_chars = x.incoming_saccade_chars;
         row.incoming_saccade_deg = x.incoming_saccade_deg;
-        row.previous = neighbour(r - 1);
-        row.next = neighbour(r + 1);
+        row.before = neighbour(r - 1);
+        row.after = neighbour(r + 1);
         rows.push_back(std::move(row));
       }
     }

@@ -163,6 +163,53 @@ void parse_trials(TomlSection& t, Protocol& p) {
   t.finish();
 }
 
+// Every name the trial patterns capture, except the trial id.
+std::set<std::string> trial_variable_names(const TrialSegmentationSpec& t) {
+  std::set<std::string> names;
+  std::vector<std::string> patterns = t.variable_patterns;
+  patterns.push_back(t.start_pattern);
+  patterns.push_back(t.end_pattern);
+  for (const auto& pattern : patterns) {
+    const NamedRegex re(pattern);  // a local: names() refers into it
+    for (const auto& n : re.names()) {
+      if (n != "trial") names.insert(n);
+    }
+  }
+  return names;
+}
+
+std::string listing(const std::set<std::string>& names) {
+  if (names.empty()) return "none";
+  std::string out;
+  for (const auto& n : names) out += (out.empty() ? "" : ", ") + n;
+  return out;
+}
+
+void parse_design(std::optional<TomlSection> d, Protocol& p) {
+  if (!d) return;
+  const auto names = trial_variable_names(p.trials);
+  auto known = [&](const std::string& key, const std::string& name) {
+    if (!names.count(name)) {
+      d->fail(key, "'" + name + "' is not a trial variable; the [trials] patterns capture " + listing(names) +
+                       " (name a capture (?<" + name + ">...) in a pattern, or use one of those)");
+    }
+  };
+  if (auto item = d->string("item")) {
+    known("item", *item);
+    p.design.item_variable = *item;
+  }
+  if (auto factors = d->strings("factors")) {
+    std::set<std::string> seen;
+    for (const auto& f : *factors) {
+      known("factors", f);
+      if (!seen.insert(f).second) d->fail("factors", "'" + f + "' is listed twice");
+      if (f == p.design.item_variable) d->fail("factors", "'" + f + "' is the item variable; items are not a factor of the design");
+    }
+    p.design.factors = *factors;
+  }
+  d->finish();
+}
+
 void parse_detection(TomlSection& d, Protocol& p) {
   DetectionSpec& spec = p.detection;
   if (auto m = d.string("method")) spec.method = *m;
@@ -278,6 +325,21 @@ void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
       else b.fail(key, "rule '" + spec.name + "': a parameter is a number or a text");
     }
     b.keys();  // the rule checks its own parameters below
+    // Names that refer to other parts of the protocol are checked here, before any work.
+    if (const auto m = spec.texts.find("marker"); m != spec.texts.end() && m->second != "trial_start" &&
+                                                  !p.trials.marker_patterns.count(m->second)) {
+      std::set<std::string> markers = {"trial_start"};
+      for (const auto& [name, pattern] : p.trials.marker_patterns) markers.insert(name);
+      b.fail("marker", "rule '" + spec.name + "': no marker '" + m->second + "'; the markers are " + listing(markers) +
+                           " (named in [trials.markers])");
+    }
+    if (const auto v = spec.texts.find("variable"); v != spec.texts.end()) {
+      const auto names = trial_variable_names(p.trials);
+      if (!names.count(v->second)) {
+        b.fail("variable", "rule '" + spec.name + "': '" + v->second + "' is not a trial variable; the [trials] patterns capture " +
+                               listing(names));
+      }
+    }
     try {
       make_cleaning_rule(spec);
     } catch (const RuleParameterError& e) {
@@ -324,8 +386,18 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   auto trials = top.table("trials");
   if (!trials) throw InputError({path, 0, "trials"}, "required section [trials] is missing (start and end message patterns)");
   parse_trials(*trials, p);
+  parse_design(top.table("design"), p);
   if (auto detection = top.table("detection")) parse_detection(*detection, p);
-  if (auto regions = top.table("regions")) parse_regions(*regions, p);
+  if (auto regions = top.table("regions")) {
+    parse_regions(*regions, p);
+    // Regions are looked up by the item each trial names.
+    const auto names = trial_variable_names(p.trials);
+    if (!names.count(p.design.item_variable)) {
+      throw InputError({path, top.has("design") ? top.line_of("design") : regions->line(), top.has("design") ? "design.item" : "regions"},
+                       "the regions are looked up by each trial's item, but no [trials] pattern captures '" + p.design.item_variable +
+                           "' (captured: " + listing(names) + "); capture it, or name the item variable in [design] item = ...");
+    }
+  }
   auto cleaning = top.table_array("cleaning");
   parse_cleaning(cleaning, p);
   top.finish();

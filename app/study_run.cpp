@@ -540,9 +540,10 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     } else {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
       if (!alignment_) alignment_ = read_alignment(*old_);
-      report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions);
-      write_measures(out, report_.rows, aggregate_by_region(report_.rows), aggregate_by_role(report_.rows),
-                     aggregate_by_participant(report_.rows));
+      report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design);
+      const AggregateTable a = aggregate_by_item_region(report_.rows), b = aggregate_by_role(report_.rows),
+                           c = aggregate_by_participant(report_.rows);
+      write_measures(out, report_.rows, p_.design, {&a, &b, &c}, {"by_item_region", "by_role", "by_participant"});
     }
     out.write_stage_record(record_for(s, keys_.at(s), keys_.at(*upstream_of(s)), settings_of(s)));
     ran_[s] = true;
@@ -719,14 +720,14 @@ void StudyRun::write_tables() {
     if (report_.rows.empty()) {
       // Measured before: the same rows again from the store's cleaned fixations and lines.
       if (!regions_) regions_ = load_regions(p_);
-      report_.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions_, p_.regions);
+      report_.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions_, p_.regions, p_.design);
     }
     const auto& rows = report_.rows;
-    set.add("measures.tsv", measures_long_tsv(rows));
-    set.add("measures_wide.tsv", measures_wide_tsv(rows));
-    set.add("measures_by_region.tsv", aggregates_tsv(aggregate_by_region(rows), "region"));
-    set.add("measures_by_role.tsv", aggregates_tsv(aggregate_by_role(rows), "region_role"));
-    set.add("measures_by_participant.tsv", aggregates_tsv(aggregate_by_participant(rows), "participant"));
+    set.add("measures.tsv", measures_long_tsv(rows, p_.design));
+    set.add("measures_wide.tsv", measures_wide_tsv(rows, p_.design));
+    set.add("measures_by_item_region.tsv", aggregates_tsv(aggregate_by_item_region(rows), p_.design.factors));
+    set.add("measures_by_role.tsv", aggregates_tsv(aggregate_by_role(rows), p_.design.factors));
+    set.add("measures_by_participant.tsv", aggregates_tsv(aggregate_by_participant(rows), p_.design.factors));
   }
   set.commit(manifest.dump(2));
   report_.tables = set.names();

@@ -25,7 +25,7 @@ int main() {
       t.id = tid++;
       t.participant = cp.participant;
       t.trial = std::to_string(k + 1);
-      t.condition = k % 2 ? "rare" : "frequent";
+      t.cell = k % 2 ? "rare" : "frequent";
       t.samples = 6000;
       t.missing_samples = static_cast<std::uint64_t>(u(rng) * 600);
       t.markers["text_shown"] = 300000;

@@ -18,7 +18,7 @@ int main() {
   spec.wrap_width_chars = 60;
   const RegionLayout layout = region_layout_from_text(
       lay_out_item("1", "The harbour master / announced that the / boat / would leave / the quay / before noon / on Friday / at last.", spec),
-      spec, "");
+      spec, {});
   RegionSpec rs;
   rs.layout = spec;
   std::mt19937 rng(6);
@@ -47,16 +47,17 @@ int main() {
       for (const auto& m : reading_measures(placed, static_cast<int>(layout.regions.size()), spec.char_width_px)) {
         MeasureRow row;
         row.region = m.region + 1;
-        row.condition = "c";
+        row.item = "1";
+        row.cell = "c";
         row.gaze_duration_ms = m.gaze_duration_ms;
         row.first_fixation_ms = m.first_fixation_ms;
         row.skipped = m.skipped;
         out.push_back(row);
       }
     }
-    const auto agg = aggregate_by_region(out);
+    const auto agg = aggregate_by_item_region(out);
     rows = out.size();
-    if (agg.empty()) return 1;
+    if (agg.rows.empty()) return 1;
     best = std::min(best, std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count());
   }
   std::printf("measures for 40 participants x 120 trials (%zu trial x region rows, mapping + measures + aggregates): %.3f s (best of 3)\n",

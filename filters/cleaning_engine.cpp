@@ -5,13 +5,13 @@
 namespace gazemill {
 namespace {
 
-// Input or kept items per (participant, condition); participants under condition "".
+// Input or kept items per (participant, design cell); whole participants under cell "".
 std::map<std::pair<std::string, std::string>, std::array<std::uint64_t, kAuditLevels>> count(const CleaningState& s, bool kept_only) {
   std::map<std::pair<std::string, std::string>, std::array<std::uint64_t, kAuditLevels>> out;
   for (const auto& p : s.participants) {
     out[{p.participant, ""}][static_cast<std::size_t>(AuditLevel::participant)] += !kept_only || p.kept;
     for (const auto& t : p.trials) {
-      auto& c = out[{p.participant, t.condition}];
+      auto& c = out[{p.participant, t.cell}];
       const bool trial_kept = !kept_only || t.kept;
       c[static_cast<std::size_t>(AuditLevel::trial)] += trial_kept;
       c[static_cast<std::size_t>(AuditLevel::sample)] += trial_kept ? t.samples : 0;
@@ -26,6 +26,7 @@ std::map<std::pair<std::string, std::string>, std::array<std::uint64_t, kAuditLe
 CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<CleaningRuleSpec>& specs) {
   std::vector<std::unique_ptr<CleaningRule>> rules;
   CleaningOutcome out;
+  out.report.factors = input.factors;
   std::vector<std::string> names;
   for (const auto& s : specs) {
     rules.push_back(make_cleaning_rule(s));
@@ -80,7 +81,7 @@ CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<Clean
   }
   out.report.overlap[0].assign(rules.size(), std::vector<std::uint64_t>(rules.size(), 0));
 
-  // Every rule x participant x condition row exists, zero when nothing happened.
+  // Every rule x participant x cell row exists, zero when nothing happened.
   const auto in = count(input, false), kept = count(out.state, true);
   for (const auto& [group, c] : in) {
     AuditTotals& t = out.report.totals[group];

@@ -16,7 +16,7 @@ void remove_fixation(CleanTrial& trial, CleanFixation& f, std::size_t rule, cons
   n.rule = rule;
   n.level = AuditLevel::fixation;
   n.participant = trial.participant;
-  n.condition = trial.condition;
+  n.cell = trial.cell;
   n.trial = trial.trial;
   n.count = 1;
   n.ids = {f.id};
@@ -30,7 +30,7 @@ void remove_trial(CleanTrial& trial, std::size_t rule, const std::string& reason
   AuditNotice n;
   n.rule = rule;
   n.participant = trial.participant;
-  n.condition = trial.condition;
+  n.cell = trial.cell;
   n.trial = trial.trial;
   n.reason = reason;
   // Its remaining fixations and its samples go with it.

@@ -10,6 +10,7 @@
 #include <nlohmann/json.hpp>
 
 #include "io/hdf5_util.h"
+#include "pipeline/design.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
@@ -47,7 +48,7 @@ std::vector<AuditRow> audit_rows(const AuditReport& r) {
         row.kind = r.rule_kinds[rule];
         row.level = level;
         row.participant = group.first;
-        row.condition = group.second;
+        row.cell = group.second;
         const auto s = r.sequential.find({rule, group.first, group.second});
         const auto a = r.alone.find({rule, group.first, group.second});
         const std::size_t l = static_cast<std::size_t>(level);
@@ -149,8 +150,59 @@ void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& out) {
   }
 }
 
+namespace {
+
+// One column of levels per factor, under <group>/cell/.
+void write_cells(H5::Group& group, const std::vector<std::string>& factors, const std::vector<std::string>& keys) {
+  H5::Group cell = h5::create_group(group, "cell");
+  for (std::size_t f = 0; f < factors.size(); ++f) {
+    std::vector<std::string> levels;
+    for (const auto& k : keys) {
+      const auto l = cell_levels(k);
+      levels.push_back(f < l.size() ? l[f] : std::string());
+    }
+    h5::write_strings(cell, factors[f], levels);
+  }
+}
+
+std::vector<std::string> read_cells(const H5::Group& group, const std::vector<std::string>& factors, std::size_t rows,
+                                    const std::vector<std::string>& participant_level) {
+  std::vector<std::vector<std::string>> columns;
+  for (const auto& f : factors) columns.push_back(h5::read_strings(group.openGroup("cell"), f));
+  std::vector<std::string> keys;
+  for (std::size_t i = 0; i < rows; ++i) {
+    if (participant_level[i] == "participant") {
+      keys.emplace_back();
+      continue;
+    }
+    std::vector<std::string> levels;
+    for (const auto& c : columns) levels.push_back(c.at(i));
+    keys.push_back(cell_key(levels));
+  }
+  return keys;
+}
+
+std::string na_or(const std::string& s) { return s.empty() ? "NA" : s; }
+
+// The factor columns of a TSV row for a cell ("NA" for whole participants and unset levels).
+std::string factor_fields(const AuditReport& r, const std::string& key) {
+  const auto levels = cell_levels(key);
+  std::string out;
+  for (std::size_t f = 0; f < r.factors.size(); ++f) out += "\t" + na_or(f < levels.size() ? levels[f] : std::string());
+  return out;
+}
+
+std::string factor_header(const AuditReport& r) {
+  std::string out;
+  for (const auto& f : r.factors) out += "\t" + f;
+  return out;
+}
+
+}  // namespace
+
 void write_audit(StudyStoreWriter& store, const AuditReport& r) {
   H5::Group a = store.group("audit");
+  h5::set_attr(a, "factors", nlohmann::json(r.factors).dump());
   H5::Group rules = h5::create_group(a, "rules");
   std::vector<std::uint32_t> order;
   std::vector<std::string> levels;
@@ -165,13 +217,13 @@ void write_audit(StudyStoreWriter& store, const AuditReport& r) {
 
   H5::Group counts = h5::create_group(a, "counts");
   std::vector<std::uint32_t> c_rule;
-  std::vector<std::string> c_level, c_part, c_cond;
+  std::vector<std::string> c_level, c_part, c_cell;
   std::vector<std::uint64_t> c_seq, c_alone, c_mseq, c_malone;
   for (const auto& row : audit_rows(r)) {
     c_rule.push_back(static_cast<std::uint32_t>(row.order));
     c_level.emplace_back(to_string(row.level));
     c_part.push_back(row.participant);
-    c_cond.push_back(row.condition);
+    c_cell.push_back(row.cell);
     c_seq.push_back(row.removed_sequential);
     c_alone.push_back(row.removed_alone);
     c_mseq.push_back(row.merged_sequential);
@@ -180,27 +232,27 @@ void write_audit(StudyStoreWriter& store, const AuditReport& r) {
   h5::write_column(counts, "rule", c_rule);
   h5::write_strings(counts, "level", c_level);
   h5::write_strings(counts, "participant", c_part);
-  h5::write_strings(counts, "condition", c_cond);
+  write_cells(counts, r.factors, c_cell);
   h5::write_column(counts, "removed_sequential", c_seq);
   h5::write_column(counts, "removed_alone", c_alone);
   h5::write_column(counts, "merged_sequential", c_mseq);
   h5::write_column(counts, "merged_alone", c_malone);
 
   H5::Group totals = h5::create_group(a, "totals");
-  std::vector<std::string> t_part, t_cond, t_level;
+  std::vector<std::string> t_part, t_cell, t_level;
   std::vector<std::uint64_t> t_in, t_kept;
   for (const auto& [group, t] : r.totals) {
     for (std::size_t l = 0; l < kAuditLevels; ++l) {
       if (group.second.empty() != (l == static_cast<std::size_t>(AuditLevel::participant))) continue;
       t_part.push_back(group.first);
-      t_cond.push_back(group.second);
+      t_cell.push_back(group.second);
       t_level.emplace_back(to_string(static_cast<AuditLevel>(l)));
       t_in.push_back(t.input[l]);
       t_kept.push_back(t.kept[l]);
     }
   }
   h5::write_strings(totals, "participant", t_part);
-  h5::write_strings(totals, "condition", t_cond);
+  write_cells(totals, r.factors, t_cell);
   h5::write_strings(totals, "level", t_level);
   h5::write_column(totals, "input", t_in);
   h5::write_column(totals, "kept", t_kept);
@@ -231,6 +283,7 @@ AuditReport read_audit(const StudyStoreReader& store) {
   AuditReport r;
   try {
     H5::Group a = store.group("audit");
+    r.factors = nlohmann::json::parse(h5::get_string_attr(a, "factors")).get<std::vector<std::string>>();
     H5::Group rules = a.openGroup("rules");
     r.rules = h5::read_strings(rules, "name");
     r.rule_kinds = h5::read_strings(rules, "kind");
@@ -238,7 +291,8 @@ AuditReport read_audit(const StudyStoreReader& store) {
     H5::Group counts = a.openGroup("counts");
     const auto rule = h5::read_column<std::uint32_t>(counts, "rule");
     const auto level = h5::read_strings(counts, "level");
-    const auto part = h5::read_strings(counts, "participant"), cond = h5::read_strings(counts, "condition");
+    const auto part = h5::read_strings(counts, "participant");
+    const auto cond = read_cells(counts, r.factors, part.size(), level);
     const auto seq = h5::read_column<std::uint64_t>(counts, "removed_sequential");
     const auto alone = h5::read_column<std::uint64_t>(counts, "removed_alone");
     const auto mseq = h5::read_column<std::uint64_t>(counts, "merged_sequential");
@@ -256,8 +310,9 @@ AuditReport read_audit(const StudyStoreReader& store) {
       }
     }
     H5::Group totals = a.openGroup("totals");
-    const auto tp = h5::read_strings(totals, "participant"), tc = h5::read_strings(totals, "condition");
+    const auto tp = h5::read_strings(totals, "participant");
     const auto tl = h5::read_strings(totals, "level");
+    const auto tc = read_cells(totals, r.factors, tp.size(), tl);
     const auto ti = h5::read_column<std::uint64_t>(totals, "input"), tk = h5::read_column<std::uint64_t>(totals, "kept");
     for (std::size_t i = 0; i < tp.size(); ++i) {
       auto& t = r.totals[{tp[i], tc[i]}];
@@ -320,22 +375,21 @@ std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& st
 }
 
 std::string audit_tsv(const AuditReport& r) {
-  std::string c = "order\trule\tkind\tlevel\tparticipant\tcondition\tremoved_sequential\tremoved_alone\tmerged_sequential\tmerged_alone\n";
+  std::string c = "order\trule\tkind\tlevel\tparticipant" + factor_header(r) + "\tremoved_sequential\tremoved_alone\tmerged_sequential\tmerged_alone\n";
   for (const auto& row : audit_rows(r)) {
-    c += fmt::format("{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\t{}\n", row.order, row.rule, row.kind, to_string(row.level), row.participant,
-                     row.condition.empty() ? "NA" : row.condition, row.removed_sequential, row.removed_alone, row.merged_sequential,
-                     row.merged_alone);
+    c += fmt::format("{}\t{}\t{}\t{}\t{}{}\t{}\t{}\t{}\t{}\n", row.order, row.rule, row.kind, to_string(row.level), row.participant,
+                     factor_fields(r, row.cell), row.removed_sequential, row.removed_alone, row.merged_sequential, row.merged_alone);
   }
   return c;
 }
 
 std::string audit_totals_tsv(const AuditReport& r) {
-  std::string t = "participant\tcondition\tlevel\tinput\tkept\tremoved\n";
+  std::string t = "participant" + factor_header(r) + "\tlevel\tinput\tkept\tremoved\n";
   for (const auto& [group, tot] : r.totals) {
     for (std::size_t l = 0; l < kAuditLevels; ++l) {
       if (group.second.empty() != (l == static_cast<std::size_t>(AuditLevel::participant))) continue;
-      t += fmt::format("{}\t{}\t{}\t{}\t{}\t{}\n", group.first, group.second.empty() ? "NA" : group.second,
-                       to_string(static_cast<AuditLevel>(l)), tot.input[l], tot.kept[l], tot.input[l] - tot.kept[l]);
+      t += fmt::format("{}{}\t{}\t{}\t{}\t{}\n", group.first, factor_fields(r, group.second), to_string(static_cast<AuditLevel>(l)),
+                       tot.input[l], tot.kept[l], tot.input[l] - tot.kept[l]);
     }
   }
   return t;
@@ -343,6 +397,17 @@ std::string audit_totals_tsv(const AuditReport& r) {
 
 std::string audit_json(const AuditReport& r) {
   nlohmann::json j;
+  j["factors"] = r.factors;
+  auto cell_json = [&](const std::string& key) {
+    if (key.empty()) return nlohmann::json(nullptr);
+    nlohmann::json c = nlohmann::json::object();
+    const auto levels = cell_levels(key);
+    for (std::size_t f = 0; f < r.factors.size(); ++f) {
+      const std::string level = f < levels.size() ? levels[f] : std::string();
+      c[r.factors[f]] = level.empty() ? nlohmann::json(nullptr) : nlohmann::json(level);
+    }
+    return c;
+  };
   for (std::size_t i = 0; i < r.rules.size(); ++i) {
     j["rules"].push_back({{"order", i + 1}, {"name", r.rules[i]}, {"kind", r.rule_kinds[i]}, {"level", to_string(r.rule_levels[i])}});
   }
@@ -352,7 +417,7 @@ std::string audit_json(const AuditReport& r) {
                            {"rule", row.rule},
                            {"level", to_string(row.level)},
                            {"participant", row.participant},
-                           {"condition", row.condition.empty() ? nlohmann::json(nullptr) : nlohmann::json(row.condition)},
+                           {"cell", cell_json(row.cell)},
                            {"removed_sequential", row.removed_sequential},
                            {"removed_alone", row.removed_alone},
                            {"merged_sequential", row.merged_sequential},
@@ -363,7 +428,7 @@ std::string audit_json(const AuditReport& r) {
     for (std::size_t l = 0; l < kAuditLevels; ++l) {
       if (group.second.empty() != (l == static_cast<std::size_t>(AuditLevel::participant))) continue;
       j["totals"].push_back({{"participant", group.first},
-                             {"condition", group.second.empty() ? nlohmann::json(nullptr) : nlohmann::json(group.second)},
+                             {"cell", cell_json(group.second)},
                              {"level", to_string(static_cast<AuditLevel>(l))},
                              {"input", tot.input[l]},
                              {"kept", tot.kept[l]}});

@@ -8,10 +8,13 @@
 //                                            (merged_into = -1 when deleted rather than merged)
 //   /recordings/<id>/clean/trials/{trial,kept,rule,reason}   (rule "" for kept trials)
 //   /audit/rules/{order,name,kind,level}
-//   /audit/counts/{rule,level,participant,condition,removed_sequential,removed_alone}
-//   /audit/totals/{participant,condition,level,input,kept}
+//   /audit                                   attrs factors (JSON list: the design's factors)
+//   /audit/counts/{rule,level,participant,removed_sequential,removed_alone,merged_sequential,merged_alone}
+//   /audit/counts/cell/<factor>              the design cell's level of each row
+//   /audit/totals/{participant,level,input,kept}, /audit/totals/cell/<factor>
 //   /audit/overlap/{level,rule_a,rule_b,both}
-// Participants appear under condition "" in totals and in participant-level counts.
+// Whole-participant rows (participant-level counts and totals) have "" for every factor; so do
+// trials that lack a factor's variable, which the tables write as NA.
 
 #include <map>
 #include <string>
@@ -24,18 +27,18 @@
 namespace gazemill {
 
 /// One tidy row of the audit: a rule at one level for one participant and
-/// condition. Merged fixations count as removed at the fixation level;
+/// design cell (cell "" at the participant level). Merged fixations count as removed at the fixation level;
 /// `merged_*` says how many of them were merges.
 struct AuditRow {
   std::size_t order = 0;
   std::string rule, kind;
   AuditLevel level = AuditLevel::fixation;
-  std::string participant, condition;
+  std::string participant, cell;
   std::uint64_t removed_sequential = 0, removed_alone = 0;
   std::uint64_t merged_sequential = 0, merged_alone = 0;
 };
 
-/// Every rule x level x participant x condition, zero rows included.
+/// Every rule x level x participant x cell, zero rows included.
 std::vector<AuditRow> audit_rows(const AuditReport& report);
 
 void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& outcome);

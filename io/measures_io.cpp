@@ -2,12 +2,14 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 #include <functional>
 #include <limits>
 #include <set>
 
 #include "io/hdf5_util.h"
+#include "pipeline/design.h"
 
 namespace gazemill {
 namespace {
@@ -17,55 +19,74 @@ std::string na(const std::optional<double>& v) {
   return fmt::format("{:.6g}", *v);
 }
 
-std::set<std::string> variable_names(const std::vector<MeasureRow>& rows) {
+std::string text_or_na(const std::string& s) { return s.empty() ? "NA" : s; }
+
+// The trial variables that are neither the item nor a factor, by name.
+std::vector<std::string> other_variables(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
   std::set<std::string> names;
   for (const auto& r : rows) {
     for (const auto& [k, v] : r.variables) names.insert(k);
   }
-  return names;
+  std::vector<std::string> out;
+  for (const auto& n : names) {
+    if (n == design.item_variable || std::find(design.factors.begin(), design.factors.end(), n) != design.factors.end()) continue;
+    out.push_back(n);
+  }
+  return out;
 }
 
-std::string text_or_na(const std::string& s) { return s.empty() ? "NA" : s; }
-
-// Column name -> value getter, shared by the wide TSV and the store.
+// Column name -> value getter, shared by the TSV files and the store.
 struct Column {
   std::string name;
   std::function<std::optional<double>(const MeasureRow&)> number;  // empty for text columns
-  std::function<std::string(const MeasureRow&)> text;
+  std::function<std::string(const MeasureRow&)> text;             // "" when absent
 };
 
-std::vector<Column> wide_columns(const std::vector<MeasureRow>& rows) {
+std::vector<Column> trial_columns(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
+  const auto& factors = design.factors;
   std::vector<Column> c;
   auto text = [&](std::string n, std::function<std::string(const MeasureRow&)> f) { c.push_back({std::move(n), {}, std::move(f)}); };
-  auto num = [&](std::string n, std::function<std::optional<double>(const MeasureRow&)> f) { c.push_back({std::move(n), std::move(f), {}}); };
   text("participant", [](const MeasureRow& r) { return r.participant; });
-  text("session", [](const MeasureRow& r) { return text_or_na(r.session); });
+  text("session", [](const MeasureRow& r) { return r.session; });
   text("trial", [](const MeasureRow& r) { return r.trial; });
   text("item", [](const MeasureRow& r) { return r.item; });
-  text("condition", [](const MeasureRow& r) { return r.condition; });
-  for (const auto& v : variable_names(rows)) {
-    text(v, [v](const MeasureRow& r) {
-      auto it = r.variables.find(v);
-      return it == r.variables.end() ? std::string("NA") : it->second;
+  for (std::size_t f = 0; f < factors.size(); ++f) {
+    text(factors[f], [f](const MeasureRow& r) {
+      const auto levels = cell_levels(r.cell);
+      return f < levels.size() ? levels[f] : std::string();
     });
   }
+  for (const auto& v : other_variables(rows, design)) {
+    text(v, [v](const MeasureRow& r) {
+      auto it = r.variables.find(v);
+      return it == r.variables.end() ? std::string() : it->second;
+    });
+  }
+  return c;
+}
+
+std::vector<Column> wide_columns(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
+  std::vector<Column> c = trial_columns(rows, design);
+  auto text = [&](std::string n, std::function<std::string(const MeasureRow&)> f) { c.push_back({std::move(n), {}, std::move(f)}); };
+  auto num = [&](std::string n, std::function<std::optional<double>(const MeasureRow&)> f) { c.push_back({std::move(n), std::move(f), {}}); };
   num("region", [](const MeasureRow& r) { return r.region; });
   text("region_label", [](const MeasureRow& r) { return r.region_label; });
-  text("region_role", [](const MeasureRow& r) { return text_or_na(r.region_role); });
+  text("region_role", [](const MeasureRow& r) { return r.region_role; });
   num("region_letters", [](const MeasureRow& r) { return r.region_letters ? std::optional<double>(r.region_letters) : std::nullopt; });
+  num("region_words", [](const MeasureRow& r) { return r.region_words ? std::optional<double>(r.region_words) : std::nullopt; });
   num("region_line", [](const MeasureRow& r) { return r.region_line; });
   num("region_last_line", [](const MeasureRow& r) { return r.region_last_line; });
   for (const auto& m : measure_names()) num(m, [m](const MeasureRow& r) { return measure_value(r, m); });
-  for (const char* side : {"previous", "next"}) {
-    const bool prev = std::string(side) == "previous";
-    auto nb = [prev](const MeasureRow& r) -> const std::optional<NeighbourMeasures>& { return prev ? r.previous : r.next; };
+  for (const char* side : {"preceding", "following"}) {
+    const bool before = std::string(side) == "preceding";
+    auto nb = [before](const MeasureRow& r) -> const std::optional<NeighbourMeasures>& { return before ? r.before : r.after; };
     const std::string p = std::string(side) + "_";
     num(p + "region", [nb](const MeasureRow& r) { return nb(r) ? std::optional<double>(nb(r)->region) : std::nullopt; });
-    text(p + "region_label", [nb](const MeasureRow& r) { return nb(r) ? nb(r)->label : std::string("NA"); });
+    text(p + "region_label", [nb](const MeasureRow& r) { return nb(r) ? nb(r)->label : std::string(); });
     num(p + "region_letters", [nb](const MeasureRow& r) {
       return nb(r) && nb(r)->letters ? std::optional<double>(nb(r)->letters) : std::nullopt;
     });
-    num(p + "skipped", [nb](const MeasureRow& r) { return nb(r) ? std::optional<double>(nb(r)->skipped ? 1 : 0) : std::nullopt; });
+    num(p + "skipped_first_pass", [nb](const MeasureRow& r) { return nb(r) ? std::optional<double>(nb(r)->skipped ? 1 : 0) : std::nullopt; });
     num(p + "first_fixation_ms", [nb](const MeasureRow& r) { return nb(r) ? nb(r)->first_fixation_ms : std::nullopt; });
     num(p + "gaze_duration_ms", [nb](const MeasureRow& r) { return nb(r) ? nb(r)->gaze_duration_ms : std::nullopt; });
     num(p + "total_time_ms", [nb](const MeasureRow& r) { return nb(r) ? nb(r)->total_time_ms : std::nullopt; });
@@ -73,100 +94,110 @@ std::vector<Column> wide_columns(const std::vector<MeasureRow>& rows) {
   return c;
 }
 
-std::vector<std::pair<std::string, std::function<std::optional<double>(const MeasureAggregate&)>>> aggregate_columns() {
-  return {{"rows", [](const MeasureAggregate& a) { return std::optional<double>(static_cast<double>(a.rows)); }},
-          {"fixation_probability", [](const MeasureAggregate& a) { return a.fixation_probability; }},
-          {"skipping_probability", [](const MeasureAggregate& a) { return a.skipping_probability; }},
-          {"regression_out_probability", [](const MeasureAggregate& a) { return a.regression_out_probability; }},
-          {"mean_first_fixation_ms", [](const MeasureAggregate& a) { return a.mean_first_fixation_ms; }},
-          {"mean_single_fixation_ms", [](const MeasureAggregate& a) { return a.mean_single_fixation_ms; }},
-          {"mean_gaze_duration_ms", [](const MeasureAggregate& a) { return a.mean_gaze_duration_ms; }},
-          {"mean_go_past_ms", [](const MeasureAggregate& a) { return a.mean_go_past_ms; }},
-          {"mean_total_time_ms", [](const MeasureAggregate& a) { return a.mean_total_time_ms; }},
-          {"mean_rereading_ms", [](const MeasureAggregate& a) { return a.mean_rereading_ms; }}};
-}
+// An aggregate table's columns: key, factors, counts, probabilities, statistics.
+struct AggregateColumn {
+  std::string name;
+  std::function<std::optional<double>(const MeasureAggregate&)> number;
+  std::function<std::string(const MeasureAggregate&)> text;
+};
 
-}  // namespace
-
-std::string measures_long_tsv(const std::vector<MeasureRow>& rows) {
-  const auto vars = variable_names(rows);
-  std::string out = "participant\tsession\ttrial\titem\tcondition";
-  for (const auto& v : vars) out += "\t" + v;
-  out += "\tregion\tregion_label\tregion_role\tmeasure\tvalue\n";
-  for (const auto& r : rows) {
-    std::string head = r.participant + "\t" + text_or_na(r.session) + "\t" + r.trial + "\t" + r.item + "\t" + r.condition;
-    for (const auto& v : vars) {
-      auto it = r.variables.find(v);
-      head += "\t" + (it == r.variables.end() ? std::string("NA") : it->second);
-    }
-    head += "\t" + std::to_string(r.region) + "\t" + r.region_label + "\t" + text_or_na(r.region_role) + "\t";
-    for (const auto& m : measure_names()) out += head + m + "\t" + na(measure_value(r, m)) + "\n";
+std::vector<AggregateColumn> aggregate_columns(const AggregateTable& t, const std::vector<std::string>& factors) {
+  std::vector<AggregateColumn> c;
+  for (std::size_t k = 0; k < t.key_columns.size(); ++k) {
+    c.push_back({t.key_columns[k], {}, [k](const MeasureAggregate& a) { return a.key.at(k); }});
   }
-  return out;
+  for (std::size_t f = 0; f < factors.size(); ++f) {
+    c.push_back({factors[f], {}, [f](const MeasureAggregate& a) {
+                   const auto levels = cell_levels(a.cell);
+                   return f < levels.size() ? levels[f] : std::string();
+                 }});
+  }
+  auto count = [](std::size_t MeasureAggregate::*m) {
+    return [m](const MeasureAggregate& a) { return std::optional<double>(static_cast<double>(a.*m)); };
+  };
+  c.push_back({"region_readings", count(&MeasureAggregate::region_readings), {}});
+  c.push_back({"first_pass_readings", count(&MeasureAggregate::first_pass_readings), {}});
+  c.push_back({"fixated_readings", count(&MeasureAggregate::fixated_readings), {}});
+  c.push_back({"skipping_probability", [](const MeasureAggregate& a) { return a.skipping_probability; }, {}});
+  c.push_back({"ever_fixated_probability", [](const MeasureAggregate& a) { return a.ever_fixated_probability; }, {}});
+  c.push_back({"regression_out_probability", [](const MeasureAggregate& a) { return a.regression_out_probability; }, {}});
+  c.push_back({"regression_in_probability", [](const MeasureAggregate& a) { return a.regression_in_probability; }, {}});
+  for (const auto& m : duration_measure_names()) {
+    c.push_back({"mean_" + m, [m](const MeasureAggregate& a) { return a.durations.at(m).mean; }, {}});
+    c.push_back({"sd_" + m, [m](const MeasureAggregate& a) { return a.durations.at(m).sd; }, {}});
+    c.push_back({"n_" + m, [m](const MeasureAggregate& a) { return std::optional<double>(static_cast<double>(a.durations.at(m).n)); }, {}});
+  }
+  return c;
 }
 
-std::string measures_wide_tsv(const std::vector<MeasureRow>& rows) {
-  const auto cols = wide_columns(rows);
+template <typename Row, typename Col>
+std::string tsv(const std::vector<Row>& rows, const std::vector<Col>& cols) {
   std::string out;
   for (std::size_t i = 0; i < cols.size(); ++i) out += (i ? "\t" : "") + cols[i].name;
   out += "\n";
   for (const auto& r : rows) {
     for (std::size_t i = 0; i < cols.size(); ++i) {
       if (i) out += "\t";
-      out += cols[i].number ? na(cols[i].number(r)) : cols[i].text(r);
+      out += cols[i].number ? na(cols[i].number(r)) : text_or_na(cols[i].text(r));
     }
     out += "\n";
   }
   return out;
 }
 
-std::string aggregates_tsv(const std::vector<MeasureAggregate>& rows, const std::string& group_column) {
-  const auto cols = aggregate_columns();
-  std::string out = group_column + "\tcondition";
-  for (const auto& [n, f] : cols) out += "\t" + n;
-  out += "\n";
-  for (const auto& a : rows) {
-    out += a.group + "\t" + a.condition;
-    for (const auto& [n, f] : cols) out += "\t" + na(f(a));
-    out += "\n";
-  }
-  return out;
-}
-
-void write_measures(StudyStoreWriter& store, const std::vector<MeasureRow>& rows, const std::vector<MeasureAggregate>& by_region,
-                    const std::vector<MeasureAggregate>& by_role, const std::vector<MeasureAggregate>& by_participant) {
+template <typename Row, typename Col>
+void write_columns(H5::Group& g, const std::vector<Row>& rows, const std::vector<Col>& cols) {
   constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
-  H5::Group m = store.group("measures");
-  H5::Group wide = h5::create_group(m, "wide");
-  for (const auto& c : wide_columns(rows)) {
+  for (const auto& c : cols) {
     if (c.number) {
       std::vector<double> v;
       for (const auto& r : rows) v.push_back(c.number(r).value_or(kNaN));
-      h5::write_column(wide, c.name, v, c.name.size() > 3 && c.name.substr(c.name.size() - 3) == "_ms" ? "ms" : "");
+      h5::write_column(g, c.name, v, c.name.ends_with("_ms") ? "ms" : c.name.ends_with("_deg") ? "deg" : "");
+      H5::DataSet ds = g.openDataSet(c.name);
+      h5::set_attr(ds, "missing", std::string("NaN"));
     } else {
       std::vector<std::string> v;
       for (const auto& r : rows) v.push_back(c.text(r));
-      h5::write_strings(wide, c.name, v);
+      h5::write_strings(g, c.name, v);
+      H5::DataSet ds = g.openDataSet(c.name);
+      h5::set_attr(ds, "missing", std::string(""));
     }
   }
-  auto write_aggregates = [&](const std::string& name, const std::vector<MeasureAggregate>& a) {
-    H5::Group g = h5::create_group(m, name);
-    std::vector<std::string> group, cond;
-    for (const auto& x : a) {
-      group.push_back(x.group);
-      cond.push_back(x.condition);
-    }
-    h5::write_strings(g, "group", group);
-    h5::write_strings(g, "condition", cond);
-    for (const auto& [n, f] : aggregate_columns()) {
-      std::vector<double> v;
-      for (const auto& x : a) v.push_back(f(x).value_or(kNaN));
-      h5::write_column(g, n, v);
-    }
-  };
-  write_aggregates("by_region", by_region);
-  write_aggregates("by_role", by_role);
-  write_aggregates("by_participant", by_participant);
+}
+
+}  // namespace
+
+std::string measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
+  const auto head_cols = trial_columns(rows, design);
+  std::string out;
+  for (const auto& c : head_cols) out += c.name + "\t";
+  out += "region\tregion_label\tregion_role\tmeasure\tvalue\n";
+  for (const auto& r : rows) {
+    std::string head;
+    for (const auto& c : head_cols) head += text_or_na(c.text(r)) + "\t";
+    head += std::to_string(r.region) + "\t" + text_or_na(r.region_label) + "\t" + text_or_na(r.region_role) + "\t";
+    for (const auto& m : measure_names()) out += head + m + "\t" + na(measure_value(r, m)) + "\n";
+  }
+  return out;
+}
+
+std::string measures_wide_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
+  return tsv(rows, wide_columns(rows, design));
+}
+
+std::string aggregates_tsv(const AggregateTable& table, const std::vector<std::string>& factors) {
+  return tsv(table.rows, aggregate_columns(table, factors));
+}
+
+void write_measures(StudyStoreWriter& store, const std::vector<MeasureRow>& rows, const DesignSpec& design,
+                    const std::vector<const AggregateTable*>& aggregates, const std::vector<std::string>& aggregate_names) {
+  H5::Group m = store.group("measures");
+  H5::Group wide = h5::create_group(m, "wide");
+  write_columns(wide, rows, wide_columns(rows, design));
+  for (std::size_t i = 0; i < aggregates.size(); ++i) {
+    H5::Group g = h5::create_group(m, aggregate_names[i]);
+    write_columns(g, aggregates[i]->rows, aggregate_columns(*aggregates[i], design.factors));
+  }
 }
 
 }  // namespace gazemill

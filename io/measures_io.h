@@ -1,26 +1,33 @@
 #pragma once
 // The measure tables in files: tidy TSV (long and wide), the aggregates, and
-// the store (/measures). NA is written as "NA" in TSV and as NaN in the store.
+// the store (/measures). In TSV a missing value is written NA; in the store
+// numbers are float64 with NaN for NA and texts are "" when absent (each
+// dataset says so in its "missing" attribute).
+//
+// Column order: participant, session, trial, item, the design's factors, the
+// other trial variables (by name), then the region's columns.
 
 #include <string>
 #include <vector>
 
 #include "io/study_store.h"
 #include "pipeline/measure_table.h"
+#include "pipeline/protocol.h"
 
 namespace gazemill {
 
-/// Long: participant, session, trial, item, condition, <trial variables>, region,
-/// region_label, region_role, measure, value.
-std::string measures_long_tsv(const std::vector<MeasureRow>& rows);
+/// Long: the columns above, region, region_label, region_role, measure, value.
+std::string measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design);
 /// Wide: one row per participant x trial x region, every measure a column,
-/// plus previous_* and next_* region columns for spillover.
-std::string measures_wide_tsv(const std::vector<MeasureRow>& rows);
-std::string aggregates_tsv(const std::vector<MeasureAggregate>& rows, const std::string& group_column);
+/// and the preceding_* and following_* columns of the regions either side.
+std::string measures_wide_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design);
+/// An aggregate table: its key columns, the factors, the denominators, the
+/// probabilities, and mean_*, sd_*, n_* of every duration measure.
+std::string aggregates_tsv(const AggregateTable& table, const std::vector<std::string>& factors);
 
-/// /measures/wide/<column> (strings or float64 with NaN for NA) and
-/// /measures/by_region, /measures/by_role, /measures/by_participant.
-void write_measures(StudyStoreWriter& store, const std::vector<MeasureRow>& rows, const std::vector<MeasureAggregate>& by_region,
-                    const std::vector<MeasureAggregate>& by_role, const std::vector<MeasureAggregate>& by_participant);
+/// /measures/wide/<column>, and /measures/by_item_region, /measures/by_role,
+/// /measures/by_participant (their columns as in the TSV).
+void write_measures(StudyStoreWriter& store, const std::vector<MeasureRow>& rows, const DesignSpec& design,
+                    const std::vector<const AggregateTable*>& aggregates, const std::vector<std::string>& aggregate_names);
 
 }  // namespace gazemill

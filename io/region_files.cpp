@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <filesystem>
 #include <map>
+#include <set>
 #include <sstream>
 
 #include "io/tsv_table.h"
@@ -15,17 +16,44 @@ namespace {
 constexpr int kMaxRegionsPerItem = 10000;
 constexpr int kMaxLinesPerItem = 1000;
 constexpr int kMaxCount = 1000000;  // letters or words of one region
+// The design factors among a file's columns (in the design's order); any
+// column that is neither one of `known` nor a factor is an error.
+std::vector<std::string> factor_columns(const TsvTable& t, const std::set<std::string>& known, const std::vector<std::string>& factors) {
+  std::vector<std::string> present;
+  for (const auto& c : t.columns()) {
+    if (known.count(c)) continue;
+    if (std::find(factors.begin(), factors.end(), c) == factors.end()) {
+      std::string listed;
+      for (const auto& f : factors) listed += (listed.empty() ? "" : ", ") + f;
+      throw InputError({t.path(), 1, c}, "the column '" + c + "' is neither a column of this file nor a factor of the design ([design] factors: " +
+                                             (listed.empty() ? std::string("none") : listed) + ")");
+    }
+  }
+  for (const auto& f : factors) {
+    if (t.has(f)) present.push_back(f);
+  }
+  return present;
+}
+
+std::vector<std::string> levels_of(const TsvTable& t, std::size_t row, const std::vector<std::string>& factors) {
+  std::vector<std::string> levels;
+  for (const auto& f : factors) levels.push_back(t.text(row, f));
+  return levels;
+}
+
 }  // namespace
 
-RegionCatalogue read_region_boxes(const std::string& path, double char_width_px) {
+RegionCatalogue read_region_boxes(const std::string& path, double char_width_px, const std::vector<std::string>& design_factors) {
   TsvTable t(path);
-  std::map<std::pair<std::string, std::string>, RegionLayout> layouts;
+  const auto factors = factor_columns(
+      t, {"item", "region", "label", "left_px", "top_px", "right_px", "bottom_px", "line", "role", "letters", "words"}, design_factors);
+  std::map<std::pair<std::string, std::vector<std::string>>, RegionLayout> layouts;
   for (std::size_t r = 0; r < t.rows(); ++r) {
     const std::string item = t.text(r, "item");
-    const std::string condition = t.text_or(r, "condition", "");
-    RegionLayout& L = layouts[{item, condition}];
+    const std::vector<std::string> levels = levels_of(t, r, factors);
+    RegionLayout& L = layouts[{item, levels}];
     L.item = item;
-    L.condition = condition;
+    L.levels = levels;
     L.char_width_px = char_width_px;
     // Numbered from 1; the bounds keep a stray number from sizing a vector of billions.
     const int region = t.whole(r, "region", 1, kMaxRegionsPerItem) - 1;
@@ -60,7 +88,7 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px)
     li.top_px = std::min(li.top_px, box.top_px);
     li.bottom_px = std::max(li.bottom_px, box.bottom_px);
   }
-  RegionCatalogue cat;
+  RegionCatalogue cat(factors);
   for (auto& [key, L] : layouts) {
     for (std::size_t i = 0; i < L.regions.size(); ++i) {
       if (L.regions[i].boxes.empty()) {
@@ -72,9 +100,10 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px)
   return cat;
 }
 
-RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& layout) {
+RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& layout, const std::vector<std::string>& design_factors) {
   TsvTable t(path);
-  RegionCatalogue cat;
+  const auto factors = factor_columns(t, {"item", "text", "roles"}, design_factors);
+  RegionCatalogue cat(factors);
   for (std::size_t r = 0; r < t.rows(); ++r) {
     std::map<int, std::string> roles;
     std::istringstream in(t.text_or(r, "roles", ""));
@@ -88,12 +117,19 @@ RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& l
         throw InputError({path, t.line_of(r), "roles"}, "expected REGION=ROLE pairs separated by spaces, e.g. \"3=target 4=spillover\"");
       }
     }
+    LaidOutItem item;
     try {
-      const LaidOutItem item = lay_out_item(t.text(r, "item"), t.text(r, "text"), layout);
-      cat.add(region_layout_from_text(item, layout, t.text_or(r, "condition", ""), roles));
+      item = lay_out_item(t.text(r, "item"), t.text(r, "text"), layout);
     } catch (const std::invalid_argument& e) {
       throw InputError({path, t.line_of(r), "text"}, e.what());
     }
+    for (const auto& [region, role] : roles) {
+      if (region < 0 || region >= static_cast<int>(item.regions.size())) {
+        throw InputError({path, t.line_of(r), "roles"}, "role '" + role + "' is given to region " + std::to_string(region + 1) + ", but item " +
+                                                            item.item + " has " + std::to_string(item.regions.size()) + " regions");
+      }
+    }
+    cat.add(region_layout_from_text(item, layout, levels_of(t, r, factors), roles));
   }
   return cat;
 }
@@ -101,8 +137,8 @@ RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& l
 RegionCatalogue load_regions(const Protocol& p) {
   const fs::path base = fs::absolute(fs::path(p.path)).parent_path();
   auto resolve = [&](const std::string& f) { return fs::path(f).is_absolute() ? f : (base / f).string(); };
-  if (!p.regions.boxes_file.empty()) return read_region_boxes(resolve(p.regions.boxes_file), p.regions.layout.char_width_px);
-  if (!p.regions.items_file.empty()) return read_items_file(resolve(p.regions.items_file), p.regions.layout);
+  if (!p.regions.boxes_file.empty()) return read_region_boxes(resolve(p.regions.boxes_file), p.regions.layout.char_width_px, p.design.factors);
+  if (!p.regions.items_file.empty()) return read_items_file(resolve(p.regions.items_file), p.regions.layout, p.design.factors);
   throw InputError({p.path, 0, "regions"}, "the protocol has no [regions] section (boxes_file or items_file)");
 }
 

@@ -11,11 +11,15 @@
 namespace gazemill {
 
 /// Columns: item, region (1-based, reading order), label, left_px, top_px,
-/// right_px, bottom_px, line (1-based); optional condition, role, letters, words.
-RegionCatalogue read_region_boxes(const std::string& path, double char_width_px);
+/// right_px, bottom_px, line (1-based); optional role, letters, words; and
+/// a column for each design factor the layouts differ by (any of `factors`).
+/// Any other column is an error naming it.
+RegionCatalogue read_region_boxes(const std::string& path, double char_width_px, const std::vector<std::string>& factors);
 
-/// Columns: item, text; optional condition, roles ("3=target 4=spillover", 1-based regions).
-RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& layout);
+/// Columns: item, text; optional roles ("3=target 4=spillover", 1-based
+/// regions, each of which must exist); and a column for each design factor
+/// the texts differ by. Any other column is an error naming it.
+RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& layout, const std::vector<std::string>& factors);
 
 /// The protocol's regions, with file names relative to the protocol's folder.
 RegionCatalogue load_regions(const Protocol& protocol);

@@ -202,13 +202,11 @@ void StudyStoreWriter::write_recording(const Recording& r, const SampleSummary& 
   h5::write_strings(msg, "text", texts);
 
   H5::Group tr = h5::create_group(rec, "trials");
-  std::vector<std::string> ids, items, conditions;
+  std::vector<std::string> ids;
   std::vector<Microseconds> starts, ends;
   std::set<std::string> variable_names, marker_names;
   for (const auto& t : r.trials) {
     ids.push_back(t.id);
-    items.push_back(t.item);
-    conditions.push_back(t.condition);
     starts.push_back(t.start_us);
     ends.push_back(t.end_us);
     for (const auto& [k, v] : t.variables) variable_names.insert(k);
@@ -217,8 +215,6 @@ void StudyStoreWriter::write_recording(const Recording& r, const SampleSummary& 
   h5::write_strings(tr, "id", ids);
   h5::write_column(tr, "start_us", starts, "us");
   h5::write_column(tr, "end_us", ends, "us");
-  h5::write_strings(tr, "item", items);
-  h5::write_strings(tr, "condition", conditions);
   H5::Group vars = h5::create_group(tr, "variables");
   for (const auto& name : variable_names) {
     std::vector<std::string> col;
@@ -705,15 +701,11 @@ Recording StudyStoreReader::read_recording(const std::string& id, bool with_samp
     const auto ids = h5::read_strings(tr, "id");
     const auto starts = h5::read_column<Microseconds>(tr, "start_us");
     const auto ends = h5::read_column<Microseconds>(tr, "end_us");
-    const auto items = h5::read_strings(tr, "item");
-    const auto conds = h5::read_strings(tr, "condition");
     r.trials.resize(ids.size());
     for (std::size_t i = 0; i < ids.size(); ++i) {
       r.trials[i].id = ids[i];
       r.trials[i].start_us = starts[i];
       r.trials[i].end_us = ends[i];
-      r.trials[i].item = items[i];
-      r.trials[i].condition = conds[i];
     }
     H5::Group vars = tr.openGroup("variables");
     for (const auto& name : h5::child_names(vars)) {

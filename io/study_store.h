@@ -18,8 +18,9 @@
 //   /recordings/<id>/samples/<eye>_x_px, <eye>_y_px (float32, "px"), <eye>_pupil (float32,
 //                                      "tracker units"), <eye>_valid (uint8)   eye = left|right
 //   /recordings/<id>/messages/{time_us,text}
-//   /recordings/<id>/trials/{id,start_us,end_us,item,condition}
-//   /recordings/<id>/trials/variables/<name>       strings, one per trial ("" when unset)
+//   /recordings/<id>/trials/{id,start_us,end_us}
+//   /recordings/<id>/trials/variables/<name>       strings, one per trial ("" when unset): every name the
+//                                                  trial patterns capture (item, design factors, ...)
 //   /recordings/<id>/trials/markers/<name>_us      int64, one per trial, kMissingTime when unset
 //   /recordings/<id>/events                        written by detect; attrs method, parameters (JSON),
 //                                                  detect_key

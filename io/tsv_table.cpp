@@ -72,4 +72,10 @@ int TsvTable::whole(std::size_t row, const std::string& column, int least, int m
   return static_cast<int>(v);
 }
 
+std::vector<std::string> TsvTable::columns() const {
+  std::vector<std::string> out(index_.size());
+  for (const auto& [name, i] : index_) out[i] = name;
+  return out;
+}
+
 }  // namespace gazemill

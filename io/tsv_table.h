@@ -16,6 +16,8 @@ class TsvTable {
   explicit TsvTable(const std::string& path);
   std::size_t rows() const { return cells_.size(); }
   bool has(const std::string& column) const { return index_.count(column) > 0; }
+  /// The header's column names, in file order.
+  std::vector<std::string> columns() const;
   /// Throws InputError naming the file and the missing column.
   const std::string& text(std::size_t row, const std::string& column) const;
   std::string text_or(std::size_t row, const std::string& column, const std::string& fallback) const;

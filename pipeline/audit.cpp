@@ -2,6 +2,8 @@
 
 #include <stdexcept>
 
+#include "pipeline/design.h"
+
 namespace gazemill {
 
 const char* to_string(AuditLevel level) {
@@ -15,7 +17,7 @@ const char* to_string(AuditLevel level) {
 }
 
 void AuditLedger::record(const AuditNotice& n) {
-  AuditCounts& c = counts_[{n.rule, n.participant, n.condition}];
+  AuditCounts& c = counts_[{n.rule, n.participant, n.cell}];
   if (n.merge) {
     c.merged += n.count;
     for (auto id : n.ids) merges_[n.rule].emplace_back(id, n.into_id);
@@ -47,13 +49,13 @@ void AuditReport::check_conservation() const {
     for (std::size_t level = 0; level < kAuditLevels; ++level) {
       std::uint64_t removed = 0;
       for (const auto& [key, c] : sequential) {
-        if (key.participant != group.first || key.condition != group.second) continue;
+        if (key.participant != group.first || key.cell != group.second) continue;
         removed += c.removed[level];
         if (level == static_cast<std::size_t>(AuditLevel::fixation)) removed += c.merged;
       }
       if (t.input[level] != t.kept[level] + removed) {
         throw std::logic_error(std::string("audit does not balance at the ") + to_string(static_cast<AuditLevel>(level)) +
-                               " level for participant " + group.first + ", condition " + group.second + ": input " +
+                               " level for participant " + group.first + ", " + (group.second.empty() ? std::string("as a whole") : cell_text(factors, group.second)) + ": input " +
                                std::to_string(t.input[level]) + " != kept " + std::to_string(t.kept[level]) + " + removed " +
                                std::to_string(removed));
       }

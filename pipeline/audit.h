@@ -24,7 +24,7 @@ struct AuditNotice {
   std::size_t rule = 0;          // index in the protocol's rule list
   AuditLevel level = AuditLevel::fixation;
   std::string participant;
-  std::string condition;
+  std::string cell;  // the trial's design cell (cell_key); "" for a whole participant
   std::string trial;
   std::uint64_t count = 0;
   std::vector<std::uint32_t> ids;  // removed fixations, trials or participants
@@ -38,13 +38,13 @@ struct AuditChannel {
   boost::signals2::signal<void(const AuditNotice&)> notice;
 };
 
-/// Counts by rule, participant and condition.
+/// Counts by rule, participant and design cell.
 struct AuditKey {
   std::size_t rule;
   std::string participant;
-  std::string condition;
+  std::string cell;
   bool operator<(const AuditKey& o) const {
-    return std::tie(rule, participant, condition) < std::tie(o.rule, o.participant, o.condition);
+    return std::tie(rule, participant, cell) < std::tie(o.rule, o.participant, o.cell);
   }
 };
 
@@ -53,7 +53,7 @@ struct AuditCounts {
   std::uint64_t merged = 0;
 };
 
-/// The input and what is left, per level, per participant and condition.
+/// The input and what is left, per level, per participant and design cell.
 struct AuditTotals {
   std::array<std::uint64_t, kAuditLevels> input{};
   std::array<std::uint64_t, kAuditLevels> kept{};
@@ -84,7 +84,8 @@ struct AuditReport {
   std::vector<std::string> rules;
   std::vector<std::string> rule_kinds;
   std::vector<AuditLevel> rule_levels;
-  // Per (participant, condition): input and kept per level.
+  std::vector<std::string> factors;  // the design's factors, naming the levels of each cell key
+  // Per (participant, cell): input and kept per level; whole participants under cell "".
   std::map<std::pair<std::string, std::string>, AuditTotals> totals;
   // Sequential attribution: the rule that removed an item first, in protocol order.
   std::map<AuditKey, AuditCounts> sequential;

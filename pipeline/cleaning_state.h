@@ -31,7 +31,7 @@ struct CleanTrial {
   std::string participant;
   std::string trial;
   std::string item;
-  std::string condition;
+  std::string cell;  // its design cell (cell_key of the design's levels)
   std::map<std::string, std::string> variables;
   std::map<std::string, Microseconds> markers;
   Microseconds start_us = 0, end_us = 0;
@@ -54,6 +54,7 @@ struct CleanParticipant {
 
 struct CleaningState {
   std::vector<CleanParticipant> participants;
+  std::vector<std::string> factors;  // the design's factors, naming the levels in each trial's cell
   ScreenGeometry screen;  // of the first recording; rules in degrees need it
 };
 

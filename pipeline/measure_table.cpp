@@ -5,9 +5,15 @@ namespace gazemill {
 const std::vector<std::string>& measure_names() {
   static const std::vector<std::string> names = {
       "first_fixation_ms", "single_fixation_ms", "gaze_duration_ms", "go_past_ms",      "selective_go_past_ms",
-      "total_time_ms",     "rereading_ms",       "second_pass_ms",   "skipped",         "fixated",
+      "total_time_ms",     "rereading_ms",       "second_pass_ms",   "skipped_first_pass", "fixated",
       "first_pass_fixations", "total_fixations", "regression_out",   "regression_in",   "landing_chars",
       "incoming_saccade_chars", "incoming_saccade_deg"};
+  return names;
+}
+
+const std::vector<std::string>& duration_measure_names() {
+  static const std::vector<std::string> names = {"first_fixation_ms", "single_fixation_ms", "gaze_duration_ms", "go_past_ms",
+                                                 "selective_go_past_ms", "total_time_ms", "rereading_ms", "second_pass_ms"};
   return names;
 }
 
@@ -21,7 +27,7 @@ std::optional<double> measure_value(const MeasureRow& r, const std::string& n) {
   if (n == "total_time_ms") return opt(r.total_time_ms);
   if (n == "rereading_ms") return opt(r.rereading_ms);
   if (n == "second_pass_ms") return opt(r.second_pass_ms);
-  if (n == "skipped") return r.skipped ? 1.0 : 0.0;
+  if (n == "skipped_first_pass") return r.skipped ? 1.0 : 0.0;
   if (n == "fixated") return r.fixated ? 1.0 : 0.0;
   if (n == "first_pass_fixations") return static_cast<double>(r.first_pass_fixations);
   if (n == "total_fixations") return static_cast<double>(r.total_fixations);

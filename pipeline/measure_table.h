@@ -20,8 +20,9 @@ struct NeighbourMeasures {
 };
 
 struct MeasureRow {
-  std::string participant, session, recording, trial, item, condition;
-  std::map<std::string, std::string> variables;
+  std::string participant, session, recording, trial, item;
+  std::string cell;                              // design cell (cell_key of the factors' levels)
+  std::map<std::string, std::string> variables;  // every trial variable (item and factors included)
   int region = 0;  // 1-based, reading order
   std::string region_label, region_role;
   int region_letters = 0, region_words = 0, region_line = 0, region_last_line = 0;  // lines 1-based
@@ -31,21 +32,40 @@ struct MeasureRow {
   std::optional<double> total_time_ms, rereading_ms, second_pass_ms;
   int first_pass_fixations = 0, total_fixations = 0;
   std::optional<double> landing_chars, incoming_saccade_chars, incoming_saccade_deg;
-  std::optional<NeighbourMeasures> previous, next;
+  std::optional<NeighbourMeasures> before, after;  // the regions before and after it in reading order
 };
 
-/// Means and proportions over the rows of one group (NA values left out).
+/// N, mean and sample SD (n - 1) of one measure over a group, NA values left out.
+struct MeasureStats {
+  std::size_t n = 0;
+  std::optional<double> mean, sd;  // mean when n >= 1, sd when n >= 2
+};
+
+/// One group of rows: its key (e.g. item and region), its design cell, how
+/// many rows it has of each kind (the probabilities' denominators), and the
+/// probabilities and duration statistics over them.
 struct MeasureAggregate {
-  std::string group;      // e.g. the region number, or the role
-  std::string condition;
-  std::size_t rows = 0;
-  std::optional<double> fixation_probability, skipping_probability, regression_out_probability;
-  std::optional<double> mean_first_fixation_ms, mean_single_fixation_ms, mean_gaze_duration_ms, mean_go_past_ms,
-      mean_total_time_ms, mean_rereading_ms;
+  std::vector<std::string> key;
+  std::string cell;
+  std::size_t region_readings = 0;      // participant x trial x region rows
+  std::size_t first_pass_readings = 0;  // of those, entered in first pass
+  std::size_t fixated_readings = 0;     // of those, fixated at all
+  std::optional<double> skipping_probability;        // skipped in first pass / region_readings
+  std::optional<double> ever_fixated_probability;    // fixated in any pass / region_readings
+  std::optional<double> regression_out_probability;  // / first_pass_readings
+  std::optional<double> regression_in_probability;   // / fixated_readings
+  std::map<std::string, MeasureStats> durations;     // by measure name, see duration_measure_names()
+};
+
+struct AggregateTable {
+  std::vector<std::string> key_columns;  // e.g. {"item", "region"}
+  std::vector<MeasureAggregate> rows;
 };
 
 /// The measure names of the long table, in column order.
 const std::vector<std::string>& measure_names();
+/// The duration measures the aggregates summarise.
+const std::vector<std::string>& duration_measure_names();
 /// A row's value of a named measure (booleans as 0/1), or nullopt for NA.
 std::optional<double> measure_value(const MeasureRow& row, const std::string& name);
 

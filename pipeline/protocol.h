@@ -73,8 +73,9 @@ struct InputSpec {
 struct TrialSegmentationSpec {
   std::string start_pattern;  // must match the trial's first message; capture (?<trial>...) optional
   std::string end_pattern;    // must match its last message
-  // Patterns matched against every message of a trial; each named capture sets
-  // the variable of that name (item and condition go to their own fields).
+  // Patterns matched against every message of a trial. Every named capture of
+  // these and of the start and end patterns sets the trial variable of that
+  // name, except (?<trial>...), the trial's id.
   std::vector<std::string> variable_patterns;
   // Named time points: the first message of a trial matching the pattern sets it.
   std::map<std::string, std::string> marker_patterns;
@@ -105,8 +106,8 @@ struct DetectionSpec {
 
 /// Where the regions of every item are, and how fixations are assigned to them.
 struct RegionSpec {
-  std::string boxes_file;  // item, [condition], region, label, left_px, top_px, right_px, bottom_px, line, [role], [letters], [words]
-  std::string items_file;  // item, [condition], text with '/' between regions, [roles] e.g. "3=target 4=spillover"
+  std::string boxes_file;  // item, [a column per design factor], region, label, left_px, top_px, right_px, bottom_px, line, [role], [letters], [words]
+  std::string items_file;  // item, [a column per design factor], text with '/' between regions, [roles] e.g. "3=target 4=spillover"
   TextLayoutSpec layout;   // for items_file; char_width_px also gives landing positions for boxes
   bool off_line_nearest = true;       // a fixation between lines goes to the nearest line ...
   double max_line_distance_px = 0;    // ... within this distance of its centre (0 = one line height)
@@ -125,6 +126,14 @@ struct CleaningRuleSpec {
   std::size_t line = 0;  // where the rule starts in the protocol file
 };
 
+/// The experimental design: which trial variable names the item, and which
+/// are the design's factors (any number: 2 x 2 and beyond). Regions may vary
+/// by any of the factors; audits and aggregates break down by all of them.
+struct DesignSpec {
+  std::string item_variable = "item";
+  std::vector<std::string> factors;
+};
+
 struct Protocol {
   std::string path;        // where it was read from
   std::string text;        // the exact file text, stored in provenance
@@ -132,6 +141,7 @@ struct Protocol {
   InputSpec input;
   std::optional<ScreenGeometry> screen;  // required for delimited input
   TrialSegmentationSpec trials;
+  DesignSpec design;
   DetectionSpec detection;
   std::vector<CleaningRuleSpec> cleaning;  // applied in this order
   RegionSpec regions;

@@ -24,6 +24,12 @@ void SampleColumns::reserve(std::size_t n) {
   if (has_right) right.reserve(n);
 }
 
+const std::string& Trial::variable(const std::string& name) const {
+  static const std::string none;
+  const auto it = variables.find(name);
+  return it == variables.end() ? none : it->second;
+}
+
 void SampleColumns::clear() {
   time_us.clear();
   left.clear();

@@ -61,10 +61,10 @@ struct Trial {
   std::string id;
   Microseconds start_us = 0;
   Microseconds end_us = 0;
-  std::string item;
-  std::string condition;
-  std::map<std::string, std::string> variables;  // any other captured variables
+  std::map<std::string, std::string> variables;  // every captured name: item, design factors, list, ...
   std::map<std::string, Microseconds> markers;   // named time points, e.g. display onset
+  /// A variable's value, "" when the trial has none.
+  const std::string& variable(const std::string& name) const;
 };
 
 /// Everything known about one participant session.

@@ -4,11 +4,11 @@
 
 namespace gazemill {
 
-RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSpec& spec, const std::string& condition,
+RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSpec& spec, const std::vector<std::string>& levels,
                                      const std::map<int, std::string>& roles) {
   RegionLayout out;
   out.item = item.item;
-  out.condition = condition;
+  out.levels = levels;
   out.char_width_px = spec.char_width_px;
   for (int l = 0; l < item.line_count; ++l) {
     const double top = spec.first_line_top_px + l * spec.line_height_px;
@@ -59,14 +59,27 @@ RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSp
 }
 
 void RegionCatalogue::add(RegionLayout layout) {
-  auto key = std::make_pair(layout.item, layout.condition);
+  auto key = std::make_pair(layout.item, layout.levels);
   layouts_[key] = std::move(layout);
 }
 
-const RegionLayout* RegionCatalogue::find(const std::string& item, const std::string& condition) const {
-  if (auto it = layouts_.find({item, condition}); it != layouts_.end()) return &it->second;
-  if (auto it = layouts_.find({item, ""}); it != layouts_.end()) return &it->second;
-  return nullptr;
+const RegionLayout* RegionCatalogue::find(const std::string& item, const std::map<std::string, std::string>& variables) const {
+  std::vector<std::string> levels;
+  for (const auto& f : factors_) {
+    const auto it = variables.find(f);
+    levels.push_back(it == variables.end() ? std::string() : it->second);
+  }
+  const auto it = layouts_.find({item, levels});
+  return it == layouts_.end() ? nullptr : &it->second;
+}
+
+std::string RegionCatalogue::describe(const std::string& item, const std::map<std::string, std::string>& variables) const {
+  std::string out = "item " + item;
+  for (std::size_t i = 0; i < factors_.size(); ++i) {
+    const auto it = variables.find(factors_[i]);
+    out += (i == 0 ? " with " : ", ") + factors_[i] + "=" + (it == variables.end() ? std::string("(none)") : it->second);
+  }
+  return out;
 }
 
 }  // namespace gazemill

@@ -1,5 +1,5 @@
 #pragma once
-// The regions of one item as displayed in one condition: lines, regions
+// The regions of one item as displayed in one design cell: lines, regions
 // (one box per line they cover), and where known the characters, for
 // fixation-to-region mapping and landing positions. Built from item text and
 // a text layout, or read from a boxes file.
@@ -42,27 +42,35 @@ struct LineInfo {
 
 struct RegionLayout {
   std::string item;
-  std::string condition;    // empty: the same layout in every condition
+  std::vector<std::string> levels;  // of the catalogue's factors: the design cell it is shown in
   std::vector<LineInfo> lines;
   std::vector<RegionInfo> regions;
   double char_width_px = 0; // for landing positions in characters; 0 when unknown
 };
 
 /// A layout from laid-out text; `roles` gives a role per region id (optional).
-RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSpec& spec, const std::string& condition,
+RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSpec& spec, const std::vector<std::string>& levels,
                                      const std::map<int, std::string>& roles = {});
 
-/// All layouts of a study, found by item and condition (falling back to the
-/// condition-free layout of the item).
+/// All layouts of a study, found by item and by the levels of the design
+/// factors the region file names (a layout may differ by any of them, or by none).
 class RegionCatalogue {
  public:
+  explicit RegionCatalogue(std::vector<std::string> factors = {}) : factors_(std::move(factors)) {}
+  /// The design factors the layouts differ by (the region file's factor columns).
+  const std::vector<std::string>& factors() const { return factors_; }
   void add(RegionLayout layout);
-  const RegionLayout* find(const std::string& item, const std::string& condition) const;
+  /// The layout of `item` for a trial with these variables, or nullptr.
+  const RegionLayout* find(const std::string& item, const std::map<std::string, std::string>& variables) const;
+  /// "item 3" or "item 3 with frequency=rare, preview=valid", for messages.
+  std::string describe(const std::string& item, const std::map<std::string, std::string>& variables) const;
   bool empty() const { return layouts_.empty(); }
   std::size_t size() const { return layouts_.size(); }
+  const std::map<std::pair<std::string, std::vector<std::string>>, RegionLayout>& layouts() const { return layouts_; }
 
  private:
-  std::map<std::pair<std::string, std::string>, RegionLayout> layouts_;
+  std::vector<std::string> factors_;
+  std::map<std::pair<std::string, std::vector<std::string>>, RegionLayout> layouts_;
 };
 
 }  // namespace gazemill

@@ -40,15 +40,14 @@ std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
   std::optional<Trial> open;
   std::size_t open_index = 0;
 
+  auto set_captures = [](Trial& t, const std::map<std::string, std::string>& caps) {
+    for (const auto& [name, value] : caps) {
+      if (name != "trial") t.variables[name] = value;
+    }
+  };
   auto absorb = [&](Trial& t, const Message& m) {
     for (const auto& re : variables_) {
-      if (auto caps = re.search(m.text)) {
-        for (const auto& [name, value] : *caps) {
-          if (name == "item") t.item = value;
-          else if (name == "condition") t.condition = value;
-          else if (name != "trial") t.variables[name] = value;
-        }
-      }
+      if (auto caps = re.search(m.text)) set_captures(t, *caps);
     }
     for (const auto& [name, re] : markers_) {
       if (!t.markers.count(name) && re.search(m.text)) t.markers[name] = m.time_us;
@@ -74,6 +73,7 @@ std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
         auto id = caps->find("trial");
         open->id = id != caps->end() ? id->second : std::to_string(trials.size() + 1);
         open->start_us = m.time_us;
+        set_captures(*open, *caps);
         absorb(*open, m);
         continue;
       }
@@ -89,6 +89,7 @@ std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
         if (id != caps->end() && id->second != open->id) {
           fail(i, "trial end names trial '" + id->second + "' but the open trial is '" + open->id + "'");
         }
+        set_captures(*open, *caps);
         absorb(*open, m);
         open->end_us = m.time_us;
         if (!seen_ids.insert(open->id).second) {

@@ -112,6 +112,10 @@ variables = ['^item (?<item>\S+) condition (?<condition>\S+)$']
 
 [trials.markers]
 text_shown = '^text shown$'
+
+[design]
+item = "item"
+factors = ["condition"]
 )";
 
 std::string delimited_protocol(const SimulatedStudy& st) {
@@ -269,9 +273,9 @@ std::string export_study(const SimulatedStudy& st, const std::string& folder, co
     for (const auto& d : sr.truth.drift) drift += fmt::format("{}\t{}\t{:.3f}\t{:.5f}\t{:.3f}\n", p, d.trial, d.offset_px, d.slope, d.session_px);
     for (const auto& t : sr.recording.trials) {
       std::size_t item = 0, cond = 0;
-      for (std::size_t i = 0; i < st.config.design.items.size(); ++i) if (st.config.design.items[i].id == t.item) item = i;
-      for (std::size_t c = 0; c < st.config.design.conditions.size(); ++c) if (st.config.design.conditions[c] == t.condition) cond = c;
-      trials += fmt::format("{}\t{}\t{}\t{}\t{}\n", p, t.id, t.item, t.condition, st.target_regions[item][cond]);
+      for (std::size_t i = 0; i < st.config.design.items.size(); ++i) if (st.config.design.items[i].id == t.variable("item")) item = i;
+      for (std::size_t c = 0; c < st.config.design.conditions.size(); ++c) if (st.config.design.conditions[c] == t.variable("condition")) cond = c;
+      trials += fmt::format("{}\t{}\t{}\t{}\t{}\n", p, t.id, t.variable("item"), t.variable("condition"), st.target_regions[item][cond]);
     }
   }
   write_text(root / "truth" / "fixations.tsv", fix);
@@ -294,7 +298,7 @@ std::string export_study(const SimulatedStudy& st, const std::string& folder, co
       std::string role_text;
       for (const auto& [r, name] : roles) role_text += (role_text.empty() ? "" : " ") + std::to_string(r + 1) + "=" + name;
       items += fmt::format("{}\t{}\t{}\t{}\n", st.items[i][c].item, cond, resolved.marked_text, role_text);
-      const RegionLayout layout = region_layout_from_text(st.items[i][c], st.config.layout, cond, roles);
+      const RegionLayout layout = region_layout_from_text(st.items[i][c], st.config.layout, {cond}, roles);
       for (const auto& r : layout.regions) {
         for (const auto& b : r.boxes) {
           regions += fmt::format("{}\t{}\t{}\t{}\t{}\t{:.1f}\t{:.1f}\t{:.1f}\t{:.1f}\t{}\t{}\t{}\n", layout.item, cond, r.id + 1, r.label,

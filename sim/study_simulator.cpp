@@ -268,8 +268,8 @@ SimulatedStudy simulate_study(const SimulationConfig& cfg) {
       trial.id = trial_id;
       trial.start_us = t;
       trial.end_us = last_sample;
-      trial.item = cfg.design.items[i].id;
-      trial.condition = cfg.design.conditions[cond];
+      trial.variables["item"] = cfg.design.items[i].id;
+      trial.variables["condition"] = cfg.design.conditions[cond];
       trial.markers["text_shown"] = display_on;
       rec.trials.push_back(trial);
       t = after + ms_to_us(cfg.signal.inter_trial_gap_ms);

@@ -22,7 +22,7 @@ CleanTrial trial_of(const std::vector<F>& fixations, std::uint32_t& next_id, con
   t.participant = "p1";
   t.recording = "p1_1";
   t.trial = "1";
-  t.condition = condition;
+  t.cell = condition;
   t.start_us = 0;
   t.end_us = 5'000'000;
   t.samples = 5000;

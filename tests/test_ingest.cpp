@@ -94,8 +94,8 @@ TEST(Ingest, RoundTripFromProtocol) {
   EXPECT_EQ(r.session, "a");
   EXPECT_EQ(r.sample_rate_hz, 1000.0);  // from the median interval of 1 ms
   ASSERT_EQ(r.trials.size(), 3u);
-  EXPECT_EQ(r.trials[1].item, "12");
-  EXPECT_EQ(r.trials[1].condition, "frequent");
+  EXPECT_EQ(r.trials[1].variable("item"), "12");
+  EXPECT_EQ(r.trials[1].variable("condition"), "frequent");
   EXPECT_EQ(r.trials[1].start_us, 200000);
   EXPECT_EQ(r.trials[1].end_us, 399000);
   EXPECT_EQ(r.trials[1].markers.at("text_on"), 201000);
@@ -123,7 +123,7 @@ TEST(Ingest, MessagesFromASeparateFile) {
   StudyStoreReader store(d.file("s.gzm.h5"));
   const Recording r = store.read_recording("r01_a", false);
   ASSERT_EQ(r.trials.size(), 1u);
-  EXPECT_EQ(r.trials[0].item, "5");
+  EXPECT_EQ(r.trials[0].variable("item"), "5");
   EXPECT_EQ(store.provenance().inputs.size(), 2u);  // samples and messages are both recorded
 }
 

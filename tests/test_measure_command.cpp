@@ -13,6 +13,7 @@
 #include "app/align.h"
 #include "app/clean.h"
 #include "app/measure.h"
+#include "pipeline/design.h"
 #include "app/protocol_parser.h"
 #include "app/verify.h"
 #include <sstream>
@@ -68,19 +69,19 @@ TEST(MeasureCommand, RawExportToMeasuresWithTheConditionEffect) {
   detect_study(p, store);
   clean_study(p, store, d.file("out"));
   const auto rows = measure_study(p, store, d.file("out"));
-  for (const char* f : {"measures.tsv", "measures_wide.tsv", "measures_by_region.tsv", "measures_by_role.tsv", "measures_by_participant.tsv"}) {
+  for (const char* f : {"measures.tsv", "measures_wide.tsv", "measures_by_item_region.tsv", "measures_by_role.tsv", "measures_by_participant.tsv"}) {
     EXPECT_TRUE(fs::exists(fs::path(d.file("out")) / f)) << f;
   }
   // The simulated reader dwells longer on a rare target word and on the region after it
   // (sim/reader_model.h): the measures must show it in that direction.
   double ffd[2] = {0, 0}, gd[2] = {0, 0}, spill[2] = {0, 0};
-  for (const auto& a : aggregate_by_role(rows)) {
-    const int c = a.condition == "rare" ? 1 : 0;
-    if (a.group == "target") {
-      ffd[c] = *a.mean_first_fixation_ms;
-      gd[c] = *a.mean_gaze_duration_ms;
-    } else if (a.group == "spillover") {
-      spill[c] = *a.mean_first_fixation_ms;
+  for (const auto& a : aggregate_by_role(rows).rows) {
+    const int c = cell_levels(a.cell).at(0) == "rare" ? 1 : 0;
+    if (a.key.at(0) == "target") {
+      ffd[c] = *a.durations.at("first_fixation_ms").mean;
+      gd[c] = *a.durations.at("gaze_duration_ms").mean;
+    } else if (a.key.at(0) == "spillover") {
+      spill[c] = *a.durations.at("first_fixation_ms").mean;
     }
   }
   EXPECT_GT(ffd[1], ffd[0] + 15) << "first fixation on the target";
@@ -92,11 +93,11 @@ TEST(MeasureCommand, RawExportToMeasuresWithTheConditionEffect) {
   EXPECT_EQ(longt.rows(), rows.size() * measure_names().size());
   TsvTable wide(d.file("out/measures_wide.tsv"));
   EXPECT_EQ(wide.rows(), rows.size());
-  EXPECT_TRUE(wide.has("previous_gaze_duration_ms"));
-  EXPECT_TRUE(wide.has("next_region_letters"));
+  EXPECT_TRUE(wide.has("preceding_gaze_duration_ms"));
+  EXPECT_TRUE(wide.has("following_region_letters"));
   // Skipped regions have NA first-pass values, never 0.
   for (std::size_t r = 0; r < wide.rows(); ++r) {
-    if (wide.text(r, "skipped") == "1") {
+    if (wide.text(r, "skipped_first_pass") == "1") {
       EXPECT_EQ(wide.text(r, "gaze_duration_ms"), "NA");
     }
   }
@@ -115,13 +116,13 @@ TEST(MeasureCommand, BoxesFileAndItemsFileGiveTheSameMeasures) {
   clean_study(p, store, d.file("out"));
   StudyStoreReader s(store);
   const auto cleaned = cleaned_recordings(s);
-  const auto from_text = measure_rows(cleaned, align_study(p, load_regions(p), cleaned), load_regions(p), p.regions);
+  const auto from_text = measure_rows(cleaned, align_study(p, load_regions(p), cleaned), load_regions(p), p.regions, p.design);
   RegionSpec boxes = p.regions;
   boxes.items_file.clear();
   boxes.boxes_file = "regions.tsv";
   Protocol q = p;
   q.regions = boxes;
-  const auto from_boxes = measure_rows(cleaned, align_study(q, load_regions(q), cleaned), load_regions(q), q.regions);
+  const auto from_boxes = measure_rows(cleaned, align_study(q, load_regions(q), cleaned), load_regions(q), q.regions, q.design);
   ASSERT_EQ(from_text.size(), from_boxes.size());
   for (std::size_t i = 0; i < from_text.size(); ++i) {
     EXPECT_EQ(from_text[i].gaze_duration_ms, from_boxes[i].gaze_duration_ms) << i;
@@ -135,7 +136,7 @@ TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
   auto expect = [&](const std::string& text, std::size_t line, const std::string& field) {
     const auto path = d.write("r.tsv", text);
     try {
-      read_region_boxes(path, 12);
+      read_region_boxes(path, 12, {"frequency"});
       FAIL() << text;
     } catch (const InputError& e) {
       EXPECT_EQ(e.where().file, path);
@@ -156,7 +157,27 @@ TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
   expect(head + "1\t1.5\tThe\t100\t200\t150\t240\t1\n", 2, "region");
   expect(head + "1\t1\tThe\tnan\t200\t150\t240\t1\n", 2, "left_px");
   // A byte-order mark before the header is no part of the first column's name.
-  EXPECT_EQ(read_region_boxes(d.write("bom.tsv", "\xEF\xBB\xBF" + head + "1\t1\tThe\t100\t200\t150\t240\t1\n"), 12).size(), 1u);
+  EXPECT_EQ(read_region_boxes(d.write("bom.tsv", "\xEF\xBB\xBF" + head + "1\t1\tThe\t100\t200\t150\t240\t1\n"), 12, {}).size(), 1u);
+  // A column that is neither the file's nor a design factor is named, with the factors there are
+  // (a misspelt factor would otherwise give every trial the same regions).
+  expect("item\tfrequncy\tregion\tlabel\tleft_px\ttop_px\tright_px\tbottom_px\tline\n1\trare\t1\tThe\t100\t200\t150\t240\t1\n", 1,
+         "frequncy");
+}
+
+// Items-file roles must name regions the item has: "9=target" on a
+// seven-region item would make the target disappear from every table.
+TEST(MeasureCommand, ARoleOnARegionTheItemLacksIsAnError) {
+  TempDir d;
+  TextLayoutSpec layout;
+  const auto path = d.write("items.tsv", "item\ttext\troles\n1\tThe / quick / fox\t2=target\n2\tThe / lazy / dog\t9=target\n");
+  try {
+    read_items_file(path, layout, {});
+    FAIL() << "accepted a role on region 9 of a three-region item";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().line, 3u);
+    EXPECT_EQ(e.where().field, "roles");
+    EXPECT_NE(std::string(e.what()).find("has 3 regions"), std::string::npos) << e.what();
+  }
 }
 
 // A later stage may run from a protocol file in another folder; verify reads

@@ -268,7 +268,7 @@ TEST(RegionMapper, LinesMarginsAndLanding) {
   spec.first_line_top_px = 200;
   spec.wrap_width_chars = 12;
   // "aa bbb / cccc dd / e": line 0 "aa bbb cccc" (columns 0-10), line 1 "dd e".
-  const RegionLayout L = region_layout_from_text(lay_out_item("x", "aa bbb / cccc dd / e", spec), spec, "");
+  const RegionLayout L = region_layout_from_text(lay_out_item("x", "aa bbb / cccc dd / e", spec), spec, {});
   ASSERT_EQ(L.regions[1].boxes.size(), 2u);  // "cccc" on line 0, "dd" on line 1
   RegionSpec rs;
   rs.layout = spec;
@@ -313,7 +313,7 @@ TEST(RegionMapper, ProportionalFontFromAnAdvanceTable) {
   EXPECT_DOUBLE_EQ(item.chars[2].left_px, 20);
   EXPECT_EQ(item.chars[4].line, 1);
   EXPECT_DOUBLE_EQ(item.chars[6].left_px, 8);
-  const RegionLayout L = region_layout_from_text(item, spec, "");
+  const RegionLayout L = region_layout_from_text(item, spec, {});
   ASSERT_EQ(L.regions[0].boxes.size(), 1u);
   EXPECT_DOUBLE_EQ(L.regions[0].boxes[0].right_px, 36);
   ASSERT_EQ(L.regions[1].boxes.size(), 1u);  // the space left on line 1 is not part of the box

@@ -46,8 +46,8 @@ ReadingSummary summarise(const SimulatedStudy& st) {
   std::map<std::string, std::pair<double, int>> target;
   for (const auto& sr : st.recordings) {
     for (const auto& trial : sr.recording.trials) {
-      const std::size_t item = std::stoul(trial.item) - 1;
-      const std::size_t cond = trial.condition == "rare" ? 1 : 0;
+      const std::size_t item = std::stoul(trial.variable("item")) - 1;
+      const std::size_t cond = trial.variable("condition") == "rare" ? 1 : 0;
       const LaidOutItem& li = st.items[item][cond];
       std::vector<const TrueFixation*> fx;
       for (const auto& f : sr.truth.fixations) {
@@ -86,8 +86,8 @@ ReadingSummary summarise(const SimulatedStudy& st) {
       const int t = st.target_regions[item][cond];
       for (const auto* f : fx) {
         if (f->region == t) {
-          target[trial.condition].first += static_cast<double>(f->end_us - f->start_us) / 1000.0;
-          ++target[trial.condition].second;
+          target[trial.variable("condition")].first += static_cast<double>(f->end_us - f->start_us) / 1000.0;
+          ++target[trial.variable("condition")].second;
           break;
         }
         if (f->region > t) break;
@@ -151,7 +151,7 @@ TEST(Simulator, LatinSquareGivesEveryItemEveryConditionAcrossParticipants) {
   std::map<std::string, std::set<std::string>> seen;
   for (const auto& sr : st.recordings) {
     EXPECT_EQ(sr.recording.trials.size(), 12u);
-    for (const auto& t : sr.recording.trials) seen[t.item].insert(t.condition);
+    for (const auto& t : sr.recording.trials) seen[t.variable("item")].insert(t.variable("condition"));
   }
   for (const auto& [item, conds] : seen) EXPECT_EQ(conds.size(), 2u) << item;
 }
@@ -257,8 +257,8 @@ TEST(Simulator, IngestReadsTheExportWithoutRepairsAndBidsMatches) {
   for (std::size_t k = 0; k < ra.trials.size(); ++k) {
     EXPECT_EQ(ra.trials[k].start_us, truth.trials[k].start_us);
     EXPECT_EQ(ra.trials[k].end_us, truth.trials[k].end_us);
-    EXPECT_EQ(ra.trials[k].item, truth.trials[k].item);
-    EXPECT_EQ(ra.trials[k].condition, truth.trials[k].condition);
+    EXPECT_EQ(ra.trials[k].variable("item"), truth.trials[k].variable("item"));
+    EXPECT_EQ(ra.trials[k].variable("condition"), truth.trials[k].variable("condition"));
     EXPECT_EQ(ra.trials[k].markers.at("text_shown"), truth.trials[k].markers.at("text_shown"));
     EXPECT_EQ(rb.trials[k].markers.at("text_shown"), truth.trials[k].markers.at("text_shown"));
   }

@@ -41,8 +41,8 @@ Recording sample_recording(std::size_t n) {
   t.id = "1";
   t.start_us = 1000000;
   t.end_us = 2000000;
-  t.item = "12";
-  t.condition = "rare";
+  t.variables["item"] = "12";
+  t.variables["condition"] = "rare";
   t.variables["correct"] = "1";
   t.markers["display_onset"] = 1500000;
   Trial u = t;
@@ -123,7 +123,7 @@ TEST(StudyStore, RoundTripsEveryRecordType) {
   ASSERT_EQ(back.messages.size(), 3u);
   EXPECT_EQ(back.messages[1].text, "SHOW");
   ASSERT_EQ(back.trials.size(), 2u);
-  EXPECT_EQ(back.trials[0].condition, "rare");
+  EXPECT_EQ(back.trials[0].variable("condition"), "rare");
   EXPECT_EQ(back.trials[0].variables.at("correct"), "1");
   EXPECT_EQ(back.trials[0].markers.at("display_onset"), 1500000);
   EXPECT_TRUE(back.trials[1].variables.empty());

@@ -42,11 +42,11 @@ TEST(TrialSegmenter, SplitsTrialsAndSetsVariablesAndMarkers) {
   EXPECT_EQ(trials[0].id, "1");
   EXPECT_EQ(trials[0].start_us, 1000);
   EXPECT_EQ(trials[0].end_us, 4100);
-  EXPECT_EQ(trials[0].item, "12");
-  EXPECT_EQ(trials[0].condition, "rare");
+  EXPECT_EQ(trials[0].variable("item"), "12");
+  EXPECT_EQ(trials[0].variable("condition"), "rare");
   EXPECT_EQ(trials[0].variables.at("correct"), "1");
   EXPECT_EQ(trials[0].markers.at("display_onset"), 1500);  // the first match wins
-  EXPECT_EQ(trials[1].condition, "frequent");
+  EXPECT_EQ(trials[1].variable("condition"), "frequent");
   EXPECT_EQ(trials[1].variables.count("correct"), 0u);
   EXPECT_EQ(trials[1].markers.count("display_onset"), 0u);
   EXPECT_TRUE(repairs.empty());

@@ -12,7 +12,8 @@ import tempfile
 
 gazemill = sys.argv[1]
 failures = []
-COMMANDS = ["simulate", "ingest", "inspect", "detect", "score", "clean", "audit", "verify", "measure"]
+passes = 0
+COMMANDS = ["run", "simulate", "ingest", "inspect", "detect", "score", "clean", "align", "audit", "verify", "measure"]
 
 
 def run(*args, cwd=None):
@@ -20,6 +21,8 @@ def run(*args, cwd=None):
 
 
 def check(cond, what, proc=None):
+    global passes
+    passes += bool(cond)
     if not cond:
         failures.append(what)
         print("FAIL:", what)
@@ -94,5 +97,5 @@ end = '^E$'
     r = run("inspect", data)
     check(r.returncode == 1 and "not an HDF5 file" in r.stderr, "inspect of a text file exits 1", r)
 
-print(f"{0 if failures else 1} passed, {len(failures)} failed")
+print(f"{passes} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)

@@ -17,9 +17,12 @@ import pandas as pd
 
 gazemill, fixtures = sys.argv[1], sys.argv[2]
 failures = []
+passes = 0
 
 
 def check(cond, what):
+    global passes
+    passes += bool(cond)
     if not cond:
         failures.append(what)
         print("FAIL:", what)
@@ -47,22 +50,22 @@ with tempfile.TemporaryDirectory() as tmp:
     check(("target", "rare") in means.index and ("target", "frequent") in means.index, "target gaze duration by condition")
     wide = pd.read_csv(os.path.join(tables, "measures_wide.tsv"), sep="\t", na_values="NA", keep_default_na=False)
     check(len(m) == 17 * len(wide), "long = 17 x wide rows")
-    skipped = wide[wide.skipped == 1]
+    skipped = wide[wide.skipped_first_pass == 1]
     check(skipped.gaze_duration_ms.isna().all() and skipped.first_fixation_ms.isna().all(), "skipped regions: NA first-pass values")
-    fixated = wide[wide.skipped == 0]
+    fixated = wide[wide.skipped_first_pass == 0]
     check((fixated.total_time_ms >= fixated.gaze_duration_ms).all(), "total time >= gaze duration")
     check((fixated.go_past_ms >= fixated.gaze_duration_ms).all(), "go-past >= gaze duration")
     check(np.allclose(fixated.rereading_ms, fixated.total_time_ms - fixated.gaze_duration_ms), "rereading = total - gaze")
-    # Spillover columns: each row's previous_* equals the previous region's own values.
+    # Spillover columns: each row's preceding_* equals the preceding region's own values.
     w = wide.sort_values(["participant", "trial", "region"]).reset_index(drop=True)
     same = (w.participant == w.participant.shift()) & (w.trial == w.trial.shift())
     prev = w.gaze_duration_ms.shift()
-    check(np.allclose(w.previous_gaze_duration_ms[same].fillna(-1), prev[same].fillna(-1)), "previous_* columns match")
+    check(np.allclose(w.preceding_gaze_duration_ms[same].fillna(-1), prev[same].fillna(-1)), "preceding_* columns match")
     with h5py.File(store, "r") as h:
         g = h["measures/wide/gaze_duration_ms"][:]
         check(len(g) == len(wide), "store holds the wide table")
         check(np.array_equal(np.isnan(g), wide.gaze_duration_ms.isna().to_numpy()), "NA stored as NaN")
         check(h["measures/wide/gaze_duration_ms"].attrs["unit"] == "ms", "units in the store")
 
-print(f"{0 if failures else 1} passed, {len(failures)} failed")
+print(f"{passes} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)

@@ -17,9 +17,12 @@ import pandas as pd
 
 gazemill = sys.argv[1]
 failures = []
+passes = 0
 
 
 def check(cond, what):
+    global passes
+    passes += bool(cond)
     if not cond:
         failures.append(what)
         print("FAIL:", what)
@@ -54,6 +57,8 @@ viewing_distance_mm = 700
 start = '^BEGIN (?<trial>\\d+)$'
 end = '^END (?<trial>\\d+)$'
 variables = ['^ITEM (?<item>\\d+) (?<condition>[a-z]+)$']
+[design]
+factors = ["condition"]
 """
 
 
@@ -119,8 +124,8 @@ with tempfile.TemporaryDirectory() as tmp:
             check(int(g.attrs["sample_count"]) == len(samples_ref), f"subj{i} sample_count")
             check(abs(g.attrs["sample_rate_hz"] - 2000.0) < 1e-9, f"subj{i} sample rate")
             tr = g["trials"]
-            check([x.decode() for x in tr["item"][:]] == ["21", "22"], f"subj{i} trial items")
-            check([x.decode() for x in tr["condition"][:]] == ["rare", "frequent"], f"subj{i} conditions")
+            check([x.decode() for x in tr["variables/item"][:]] == ["21", "22"], f"subj{i} trial items")
+            check([x.decode() for x in tr["variables/condition"][:]] == ["rare", "frequent"], f"subj{i} conditions")
             check(s["time_us"].compression == "gzip" and s["time_us"].shuffle, "samples are shuffled + deflated")
         prov = h["provenance"]
         with open(proto) as f:
@@ -233,5 +238,5 @@ max_missing_percent = 3
             check(d.shape[0] == rec["trials/id"].shape[0] and np.all(np.isfinite(d[:])) and np.all(d[:] > 0),
                   f"{rid}: a positive I-DT threshold for every trial")
 
-print(f"{0 if failures else 1} passed, {len(failures)} failed")
+print(f"{passes} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)
