@@ -144,18 +144,18 @@ void register_commands(CLI::App& app, CommandOptions& o) {
 
   auto* sim = app.add_subcommand("simulate", "Write a simulated reading study with its ground truth (invented data)");
   sim->add_option("-o,--output", o.sim_folder, "Folder to write the study into")->required();
-  sim->add_option("--participants", o.sim_participants, "Number of simulated readers")->check(CLI::Range(1, 1000));
-  sim->add_option("--items", o.sim_items, "Number of items (the 12 bundled texts are reused beyond 12)")->check(CLI::Range(2, 10000));
-  sim->add_option("--rate", o.sim_rate_hz, "Sampling rate in Hz")->check(CLI::IsMember({250.0, 500.0, 1000.0, 2000.0}));
-  sim->add_option("--seed", o.sim_seed, "Random seed; the same seed gives the same study");
-  sim->add_option("--noise-deg", o.sim_noise_deg, "Precision as RMS sample-to-sample distance (deg)")->check(CLI::Range(0.0, 2.0));
+  sim->add_option("--participants", o.sim_participants, "Number of simulated readers")->check(CLI::Range(1, 1000))->capture_default_str();
+  sim->add_option("--items", o.sim_items, "Number of items (the 12 bundled texts are reused beyond 12)")->check(CLI::Range(2, 10000))->capture_default_str();
+  sim->add_option("--rate", o.sim_rate_hz, "Sampling rate in Hz")->check(CLI::IsMember({250.0, 500.0, 1000.0, 2000.0}))->capture_default_str();
+  sim->add_option("--seed", o.sim_seed, "Random seed; the same seed gives the same study")->capture_default_str();
+  sim->add_option("--noise-deg", o.sim_noise_deg, "Precision as RMS sample-to-sample distance (deg)")->check(CLI::Range(0.0, 2.0))->capture_default_str();
   sim->add_flag("--binocular", o.sim_binocular, "Record both eyes");
   sim->add_flag("--no-pso", o.sim_no_pso, "No post-saccadic oscillation");
   sim->add_flag("--no-bids", o.sim_no_bids, "Skip the BIDS copy");
-  sim->add_option("--gzip-level", o.sim_gzip_level, "zlib level of the written .gz files, 1 (fast) to 9 (small)")->check(CLI::Range(1, 9));
-  sim->add_option("--drift-offset-px", o.sim_drift_offset_sd_px, "SD of the per-trial vertical offset (px)")->check(CLI::Range(0.0, 500.0));
-  sim->add_option("--drift-slope", o.sim_drift_slope_sd, "SD of the vertical drift slope across the screen (px per px)")->check(CLI::Range(0.0, 1.0));
-  sim->add_option("--drift-growth-px", o.sim_drift_growth_px, "Vertical drift added per trial over the session (px)")->check(CLI::Range(0.0, 50.0));
+  sim->add_option("--gzip-level", o.sim_gzip_level, "zlib level of the written .gz files, 1 (fast) to 9 (small)")->check(CLI::Range(1, 9))->capture_default_str();
+  sim->add_option("--drift-offset-px", o.sim_drift_offset_sd_px, "SD of the per-trial vertical offset (px)")->check(CLI::Range(0.0, 500.0))->capture_default_str();
+  sim->add_option("--drift-slope", o.sim_drift_slope_sd, "SD of the vertical drift slope across the screen (px per px)")->check(CLI::Range(0.0, 1.0))->capture_default_str();
+  sim->add_option("--drift-growth-px", o.sim_drift_growth_px, "Vertical drift added per trial over the session (px)")->check(CLI::Range(0.0, 50.0))->capture_default_str();
 
   register_score_command(app, o.score);
 

@@ -6,19 +6,48 @@
 #include <spdlog/sinks/stdout_color_sinks.h>
 #include <spdlog/spdlog.h>
 
-#include <chrono>
-#include <filesystem>
+#include <algorithm>
 #include <iostream>
 
 #include "app/commands.h"
 #include "gazemill/version.h"
 #include "pipeline/input_error.h"
 
+namespace {
+
+// Levenshtein distance, for "did you mean" on a misspelt command.
+std::size_t edit_distance(const std::string& a, const std::string& b) {
+  std::vector<std::size_t> row(b.size() + 1);
+  for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;
+  for (std::size_t i = 1; i <= a.size(); ++i) {
+    std::size_t diagonal = row[0];
+    row[0] = i;
+    for (std::size_t j = 1; j <= b.size(); ++j) {
+      const std::size_t up = row[j];
+      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diagonal + (a[i - 1] == b[j - 1] ? 0 : 1)});
+      diagonal = up;
+    }
+  }
+  return row[b.size()];
+}
+
+// The first word that is no option: the command the user meant to give.
+std::string first_word(int argc, char** argv) {
+  for (int i = 1; i < argc; ++i) {
+    if (argv[i][0] != '-') return argv[i];
+  }
+  return "";
+}
+
+}  // namespace
+
 int main(int argc, char** argv) {
   using namespace gazemill;
   CLI::App app{"gazemill: from raw eye-tracking sample exports to reading-time measures"};
   app.set_version_flag("--version", std::string("gazemill ") + kVersion);
   app.require_subcommand(1);
+  // -v and -q may also come after the command (gazemill run study.toml -q).
+  app.fallthrough();
   bool verbose = false, quiet = false;
   app.add_flag("-v,--verbose", verbose, "Log more detail to stderr");
   app.add_flag("-q,--quiet", quiet, "Log only errors");
@@ -29,7 +58,27 @@ int main(int argc, char** argv) {
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
-    return app.exit(e) == 0 ? 0 : 2;
+    if (e.get_exit_code() == 0) return app.exit(e);  // --help, --version
+    const std::string word = first_word(argc, argv);
+    const auto commands = app.get_subcommands([](const CLI::App*) { return true; });
+    const bool known = std::any_of(commands.begin(), commands.end(), [&](const CLI::App* c) { return c->get_name() == word; });
+    if (!word.empty() && !known) {
+      std::string nearest;
+      std::size_t best = 3;  // at most two edits away
+      for (const auto* c : commands) {
+        const std::size_t d = edit_distance(word, c->get_name());
+        if (d < best) {
+          best = d;
+          nearest = c->get_name();
+        }
+      }
+      std::cerr << "error: there is no command '" << word << "'"
+                << (nearest.empty() ? "" : "; did you mean '" + nearest + "'?") << " (gazemill --help lists the commands)\n";
+      return 2;
+    }
+    std::cerr << "error: " << e.what() << (word.empty() ? " (gazemill --help lists the commands)\n"
+                                                        : " (gazemill " + word + " --help lists its options)\n");
+    return 2;
   }
 
   auto logger = spdlog::stderr_color_mt("gazemill");

@@ -409,7 +409,13 @@ Protocol parse_protocol_file(const std::string& path) {
   if (!in) throw InputError({path, 0, ""}, "cannot open the protocol file");
   std::ostringstream ss;
   ss << in.rdbuf();
-  return parse_protocol_text(ss.str(), path);
+  const std::string text = ss.str();
+  // The HDF5 signature (HDF5 File Format Specification, "Format Signature").
+  if (text.rfind("\x89HDF\r\n\x1a\n", 0) == 0) {
+    throw InputError({path, 0, ""}, "is an HDF5 file (a study store?), not a protocol: this command takes the protocol file (TOML) "
+                                    "first, and a store after -s/--store");
+  }
+  return parse_protocol_text(text, path);
 }
 
 }  // namespace gazemill

@@ -10,6 +10,7 @@
 #include <cstdio>
 #include <cstring>
 #include <filesystem>
+#include <fstream>
 #include <limits>
 #include <map>
 #include <optional>
@@ -451,7 +452,17 @@ StudyStoreReader::StudyStoreReader(const std::string& path) : impl_(std::make_un
   try {
     impl_->file = H5::H5File(path, H5F_ACC_RDONLY);
   } catch (const H5::Exception&) {
-    throw InputError({path, 0, ""}, "not an HDF5 file; expected a gazemill study store");
+    // A protocol handed where the store belongs is the likeliest mix-up: say so.
+    std::ifstream in(path, std::ios::binary);
+    char head[256] = {};
+    in.read(head, sizeof head);
+    const std::string start(head, static_cast<std::size_t>(in.gcount()));
+    const bool text = !start.empty() && std::all_of(start.begin(), start.end(), [](char c) {
+      return c == '\n' || c == '\r' || c == '\t' || static_cast<unsigned char>(c) >= 32;
+    });
+    throw InputError({path, 0, ""}, text ? "is a text file (a protocol?), not a study store: this command takes the store (.gzm.h5) "
+                                           "that gazemill run or ingest wrote"
+                                         : "not an HDF5 file; expected a gazemill study store");
   }
   H5::Group root = impl_->file.openGroup("/");
   if (!h5::has_attr(root, "format") || h5::get_string_attr(root, "format") != kStoreFormat) {
@@ -459,8 +470,9 @@ StudyStoreReader::StudyStoreReader(const std::string& path) : impl_(std::make_un
   }
   const auto version = h5::get_int_attr(root, "format_version");
   if (version != kStoreFormatVersion) {
-    throw InputError({path, 0, "/"}, "store format version " + std::to_string(version) + " is not supported (expected " +
-                                         std::to_string(kStoreFormatVersion) + ")");
+    throw InputError({path, 0, "/"}, "store format version " + std::to_string(version) + " is not the version " +
+                                         std::to_string(kStoreFormatVersion) + " this gazemill reads; run the study again (gazemill run) "
+                                         "to make a store of this version");
   }
 }
 

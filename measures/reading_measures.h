@@ -33,17 +33,18 @@
 //   fixated                true when fixated at all
 //   first_pass_fixations   fixations in the first-pass run (0 when skipped); total_fixations: all on it
 //   regression_out         true when the first fixation on a region after the first-pass run lies on an
-//                          earlier one; false when a later region or nothing follows; missing when
+//                          earlier one; false when it lies on a later region or on the region itself
+//                          (back after a fixation off the regions), or nothing follows; missing when
 //                          skipped in first pass
 //   regression_in          true when some run on the region began right after a fixation on a region
 //                          further on (fixations off the regions between them left out); missing when
 //                          never fixated
 //   landing_chars          landing position of the first first-pass fixation (characters from the
 //                          left edge of the region's first letter, in reading order)
-//   incoming_saccade_chars signed horizontal distance from the previous fixation to the first
-//                          first-pass fixation, in characters, when both are on one line (negative:
-//                          leftwards); missing for the trial's first fixation
-//   incoming_saccade_deg   the same saccade's amplitude in degrees (unsigned)
+//   incoming_saccade_chars signed horizontal distance from the fixation just before (on a region or
+//                          not) to the first first-pass fixation, in characters, when both are on one
+//                          line (negative: leftwards); missing for the trial's first fixation
+//   incoming_saccade_deg   the same saccade's amplitude in degrees (Euclidean, unsigned, across lines too)
 
 #include <optional>
 #include <vector>
