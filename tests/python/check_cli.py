@@ -95,7 +95,11 @@ end = '^E$'
     r = run("inspect", os.path.join(tmp, "nothing.h5"))
     check(r.returncode == 1 and "no such file" in r.stderr, "inspect of a missing store exits 1", r)
     r = run("inspect", data)
-    check(r.returncode == 1 and "not an HDF5 file" in r.stderr, "inspect of a text file exits 1", r)
+    check(r.returncode == 1 and "not a study store" in r.stderr, "inspect of a text file exits 1, naming what it is", r)
+    r = run("detc", data)
+    check(r.returncode == 2 and "did you mean 'detect'" in r.stderr and r.stderr.startswith("error:"), "a misspelt command gets the nearest", r)
+    r = run("run", "--no-such-option")
+    check(r.returncode == 2 and r.stderr.startswith("error:"), "usage errors start with error:", r)
 
 print(f"{passes} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)
