@@ -55,7 +55,17 @@ void log_counts(const StudyRunReport& r) {
     }
     spdlog::info("cleaning kept {}/{} fixations, {}/{} trials, {}/{} participants", kept[1], input[1], kept[2], input[2], kept[3], input[3]);
   }
-  if (!r.rows.empty()) spdlog::info("measured {} participant x trial x region rows", r.rows.size());
+  if (!r.rows.empty()) {
+    FixationPlacement total;
+    for (const auto& [k, c] : r.placement) {
+      total.on_region += c.on_region;
+      total.beside_text += c.beside_text;
+      total.off_lines += c.off_lines;
+    }
+    spdlog::info("measured {} participant x trial x region rows; of {} kept fixations, {} on the regions, {} beside the text, "
+                 "{} off the lines (fixation_placement.tsv)",
+                 r.rows.size(), total.on_region + total.beside_text + total.off_lines, total.on_region, total.beside_text, total.off_lines);
+  }
   if (!r.tables.empty()) spdlog::info("tables in {}", r.tables_folder);
 }
 

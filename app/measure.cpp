@@ -11,7 +11,8 @@
 namespace gazemill {
 
 std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& recordings, const std::vector<RecordingAlignment>& alignment,
-                                     const RegionCatalogue& regions, const RegionSpec& spec, const DesignSpec& design) {
+                                     const RegionCatalogue& regions, const RegionSpec& spec, const DesignSpec& design,
+                                     PlacementCounts* placement) {
   std::vector<MeasureRow> rows;
   std::map<std::string, const RecordingAlignment*> aligned;
   for (const auto& a : alignment) aligned[a.recording] = &a;
@@ -44,6 +45,12 @@ std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& record
         }
         placed.push_back({c->duration_ms, c->fixation.x_px, c->fixation.y_px, c->fixation.x_deg, c->fixation.y_deg, where.line,
                           where.region, where.landing_chars});
+        if (placement) {
+          FixationPlacement& p = (*placement)[{rec.participant, cell}];
+          if (where.region >= 0) ++p.on_region;
+          else if (where.line >= 0) ++p.beside_text;
+          else ++p.off_lines;
+        }
       }
       const int region_count = static_cast<int>(layout->regions.size());
       const auto m = reading_measures(placed, region_count, layout->char_width_px);

@@ -16,6 +16,7 @@ class RegionCatalogue;
 /// One row per kept trial x region: every kept fixation placed on the line
 /// the align stage gave it and on the region under it.
 std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& recordings, const std::vector<RecordingAlignment>& alignment,
-                                     const RegionCatalogue& regions, const RegionSpec& spec, const DesignSpec& design);
+                                     const RegionCatalogue& regions, const RegionSpec& spec, const DesignSpec& design,
+                                     PlacementCounts* placement = nullptr);
 
 }  // namespace gazemill

@@ -540,10 +540,11 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     } else {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
       if (!alignment_) alignment_ = read_alignment(*old_);
-      report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design);
+      report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design, &report_.placement);
       const AggregateTable a = aggregate_by_item_region(report_.rows), b = aggregate_by_role(report_.rows),
                            c = aggregate_by_participant(report_.rows);
       write_measures(out, report_.rows, p_.design, {&a, &b, &c}, {"by_item_region", "by_role", "by_participant"});
+      write_placement(out, report_.placement, p_.design.factors);
     }
     out.write_stage_record(record_for(s, keys_.at(s), keys_.at(*upstream_of(s)), settings_of(s)));
     ran_[s] = true;
@@ -720,7 +721,7 @@ void StudyRun::write_tables() {
     if (report_.rows.empty()) {
       // Measured before: the same rows again from the store's cleaned fixations and lines.
       if (!regions_) regions_ = load_regions(p_);
-      report_.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions_, p_.regions, p_.design);
+      report_.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions_, p_.regions, p_.design, &report_.placement);
     }
     const auto& rows = report_.rows;
     set.add("measures.tsv", measures_long_tsv(rows, p_.design));
@@ -728,6 +729,7 @@ void StudyRun::write_tables() {
     set.add("measures_by_item_region.tsv", aggregates_tsv(aggregate_by_item_region(rows), p_.design.factors));
     set.add("measures_by_role.tsv", aggregates_tsv(aggregate_by_role(rows), p_.design.factors));
     set.add("measures_by_participant.tsv", aggregates_tsv(aggregate_by_participant(rows), p_.design.factors));
+    set.add("fixation_placement.tsv", placement_tsv(report_.placement, p_.design.factors));
   }
   set.commit(manifest.dump(2));
   report_.tables = set.names();

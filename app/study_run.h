@@ -44,6 +44,7 @@ struct StudyRunReport {
   std::uint64_t samples_detected = 0, fixations = 0, saccades = 0, blinks = 0;       // of the recordings detected
   std::optional<AuditReport> audit;  // when clean ran
   std::vector<MeasureRow> rows;      // when measure ran
+  PlacementCounts placement;         // where measure placed the kept fixations
   bool store_written = false;
   std::vector<std::string> tables;   // written this run
   std::string tables_folder;

@@ -165,7 +165,46 @@ void write_columns(H5::Group& g, const std::vector<Row>& rows, const std::vector
   }
 }
 
+std::vector<std::string> level_fields(const std::string& cell, std::size_t factors) {
+  auto levels = cell_levels(cell);
+  levels.resize(factors);
+  return levels;
+}
+
 }  // namespace
+
+std::string placement_tsv(const PlacementCounts& counts, const std::vector<std::string>& factors) {
+  std::string out = "participant";
+  for (const auto& f : factors) out += "\t" + f;
+  out += "\ton_region\tbeside_text\toff_lines\n";
+  for (const auto& [key, c] : counts) {
+    out += key.first;
+    for (const auto& l : level_fields(key.second, factors.size())) out += "\t" + text_or_na(l);
+    out += fmt::format("\t{}\t{}\t{}\n", c.on_region, c.beside_text, c.off_lines);
+  }
+  return out;
+}
+
+void write_placement(StudyStoreWriter& store, const PlacementCounts& counts, const std::vector<std::string>& factors) {
+  H5::Group g = store.group("measures/placement");
+  std::vector<std::string> participant;
+  std::vector<std::vector<std::string>> levels(factors.size());
+  std::vector<std::uint64_t> on, beside, off;
+  for (const auto& [key, c] : counts) {
+    participant.push_back(key.first);
+    const auto l = level_fields(key.second, factors.size());
+    for (std::size_t f = 0; f < factors.size(); ++f) levels[f].push_back(l[f]);
+    on.push_back(c.on_region);
+    beside.push_back(c.beside_text);
+    off.push_back(c.off_lines);
+  }
+  h5::write_strings(g, "participant", participant);
+  H5::Group cell = h5::create_group(g, "cell");
+  for (std::size_t f = 0; f < factors.size(); ++f) h5::write_strings(cell, factors[f], levels[f]);
+  h5::write_column(g, "on_region", on);
+  h5::write_column(g, "beside_text", beside);
+  h5::write_column(g, "off_lines", off);
+}
 
 std::string measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
   const auto head_cols = trial_columns(rows, design);

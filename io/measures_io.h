@@ -30,4 +30,10 @@ std::string aggregates_tsv(const AggregateTable& table, const std::vector<std::s
 void write_measures(StudyStoreWriter& store, const std::vector<MeasureRow>& rows, const DesignSpec& design,
                     const std::vector<const AggregateTable*>& aggregates, const std::vector<std::string>& aggregate_names);
 
+/// Where the kept fixations were placed, per participant and design cell:
+/// participant, <factors>, on_region, beside_text, off_lines.
+std::string placement_tsv(const PlacementCounts& counts, const std::vector<std::string>& factors);
+/// /measures/placement/{participant,cell/<factor>,on_region,beside_text,off_lines}.
+void write_placement(StudyStoreWriter& store, const PlacementCounts& counts, const std::vector<std::string>& factors);
+
 }  // namespace gazemill

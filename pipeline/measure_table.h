@@ -3,6 +3,7 @@
 // its reading-time measures and its neighbours' (for spillover), and the
 // aggregates over them.
 
+#include <cstdint>
 #include <map>
 #include <optional>
 #include <string>
@@ -61,6 +62,17 @@ struct AggregateTable {
   std::vector<std::string> key_columns;  // e.g. {"item", "region"}
   std::vector<MeasureAggregate> rows;
 };
+
+/// Where the kept fixations of one participant's trials in one design cell
+/// were placed: every fixation the measures do not credit to a region is
+/// counted here, by reason.
+struct FixationPlacement {
+  std::uint64_t on_region = 0;    // on a line and on a region of it
+  std::uint64_t beside_text = 0;  // on a line, but left or right of its regions (beyond the margin allowance)
+  std::uint64_t off_lines = 0;    // on no line (between or beyond the lines, past the allowance)
+};
+/// By (participant, design cell key).
+using PlacementCounts = std::map<std::pair<std::string, std::string>, FixationPlacement>;
 
 /// The measure names of the long table, in column order.
 const std::vector<std::string>& measure_names();

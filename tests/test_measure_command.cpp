@@ -180,6 +180,45 @@ TEST(MeasureCommand, ARoleOnARegionTheItemLacksIsAnError) {
   }
 }
 
+// Every kept fixation the measures do not credit to a region is counted by
+// reason: with off_line = "exclude", fixations between the line boxes are on
+// no line (our convention, README "Regions and reading-time measures").
+TEST(MeasureCommand, FixationsLeftOffTheRegionsAreCountedByReason) {
+  TempDir d;
+  const std::string proto = simulated(d, 2);
+  std::string text;
+  {
+    std::ifstream in(proto);
+    std::stringstream ss;
+    ss << in.rdbuf();
+    text = ss.str();
+  }
+  text.replace(text.find("[regions]"), 9, "[regions]\noff_line = \"exclude\"\nmargin = \"exclude\"");
+  std::ofstream(proto) << text;
+  const Protocol p = parse_protocol_file(proto);
+  const std::string store = d.file("s.gzm.h5");
+  ingest_study(p, store);
+  detect_study(p, store);
+  clean_study(p, store, d.file("out"));
+  run_stage(p, store, Stage::align);
+  const auto r = run_stage(p, store, Stage::measure, d.file("out"));
+  std::uint64_t on = 0, beside = 0, off = 0, kept = 0;
+  for (const auto& [k, c] : r.placement) {
+    on += c.on_region;
+    beside += c.beside_text;
+    off += c.off_lines;
+  }
+  StudyStoreReader s(store);
+  for (const auto& c : cleaned_recordings(s)) {
+    for (const auto& f : c.kept) kept += c.trial_kept.at(f.fixation.trial);
+  }
+  EXPECT_EQ(on + beside + off, kept);  // every kept fixation of a kept trial is counted once
+  EXPECT_GT(off, 0u);                  // the simulated drift puts some between the line boxes
+  EXPECT_GT(beside, 0u);               // and the start marker left of the text
+  TsvTable t(d.file("out/fixation_placement.tsv"));
+  EXPECT_EQ(t.rows(), r.placement.size());
+}
+
 // A later stage may run from a protocol file in another folder; verify reads
 // each stage's relative file names from that stage's own folder.
 TEST(MeasureCommand, VerifyResolvesEachStagesFilesFromItsOwnFolder) {
