@@ -16,8 +16,6 @@
 #include "io/cleaning_io.h"
 #include "io/study_store.h"
 #include "pipeline/input_error.h"
-#include "sim/study_export.h"
-#include "sim/study_simulator.h"
 
 namespace gazemill {
 namespace fs = std::filesystem;
@@ -152,20 +150,7 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   measure->add_option("-s,--store", o.store_path, "Study store (default: the one ingest writes for this protocol)");
   measure->add_option("-o,--output", o.output, "Folder for the tables (default: <store name>-tables beside the store)");
 
-  auto* sim = app.add_subcommand("simulate", "Write a simulated reading study with its ground truth (invented data)");
-  sim->add_option("-o,--output", o.sim_folder, "Folder to write the study into")->required();
-  sim->add_option("--participants", o.sim_participants, "Number of simulated readers")->check(CLI::Range(1, 1000))->capture_default_str();
-  sim->add_option("--items", o.sim_items, "Number of items (the 12 bundled texts are reused beyond 12)")->check(CLI::Range(2, 10000))->capture_default_str();
-  sim->add_option("--rate", o.sim_rate_hz, "Sampling rate in Hz")->check(CLI::IsMember({250.0, 500.0, 1000.0, 2000.0}))->capture_default_str();
-  sim->add_option("--seed", o.sim_seed, "Random seed; the same seed gives the same study")->capture_default_str();
-  sim->add_option("--noise-deg", o.sim_noise_deg, "Precision as RMS sample-to-sample distance (deg)")->check(CLI::Range(0.0, 2.0))->capture_default_str();
-  sim->add_flag("--binocular", o.sim_binocular, "Record both eyes");
-  sim->add_flag("--no-pso", o.sim_no_pso, "No post-saccadic oscillation");
-  sim->add_flag("--no-bids", o.sim_no_bids, "Skip the BIDS copy");
-  sim->add_option("--gzip-level", o.sim_gzip_level, "zlib level of the written .gz files, 1 (fast) to 9 (small)")->check(CLI::Range(1, 9))->capture_default_str();
-  sim->add_option("--drift-offset-px", o.sim_drift_offset_sd_px, "SD of the per-trial vertical offset (px)")->check(CLI::Range(0.0, 500.0))->capture_default_str();
-  sim->add_option("--drift-slope", o.sim_drift_slope_sd, "SD of the vertical drift slope across the screen (px per px)")->check(CLI::Range(0.0, 1.0))->capture_default_str();
-  sim->add_option("--drift-growth-px", o.sim_drift_growth_px, "Vertical drift added per trial over the session (px)")->check(CLI::Range(0.0, 50.0))->capture_default_str();
+  register_simulate_command(app, o.simulate);
 
   register_score_command(app, o.score);
 
@@ -185,38 +170,7 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
   for (Stage s : kStages) {
     if (app.got_subcommand(to_string(s))) return run_stage(o, s);
   }
-  if (app.got_subcommand("simulate")) {
-    const RunClock clock;
-    sim::SimulationConfig cfg;
-    cfg.design = sim::demo_design();
-    cfg.design.participants = o.sim_participants;
-    const auto bundled = cfg.design.items;
-    cfg.design.items.clear();
-    for (int i = 0; i < o.sim_items; ++i) {
-      sim::ItemTemplate t = bundled[static_cast<std::size_t>(i) % bundled.size()];
-      t.id = std::to_string(i + 1);
-      cfg.design.items.push_back(t);
-    }
-    cfg.seed = o.sim_seed;
-    cfg.signal.sample_rate_hz = o.sim_rate_hz;
-    cfg.signal.noise_rms_s2s_deg = o.sim_noise_deg;
-    cfg.signal.binocular = o.sim_binocular;
-    cfg.signal.post_saccadic_oscillation = !o.sim_no_pso;
-    cfg.signal.drift_offset_sd_px = o.sim_drift_offset_sd_px;
-    cfg.signal.drift_slope_sd = o.sim_drift_slope_sd;
-    cfg.signal.drift_growth_px_per_trial = o.sim_drift_growth_px;
-    const sim::SimulatedStudy study = sim::simulate_study(cfg);
-    sim::ExportOptions eopt;
-    eopt.bids = !o.sim_no_bids;
-    eopt.gzip_level = o.sim_gzip_level;
-    const std::string protocol = sim::export_study(study, o.sim_folder, eopt);
-    std::uint64_t samples = 0;
-    for (const auto& r : study.recordings) samples += r.recording.samples.size();
-    spdlog::info("simulated {} participants x {} items at {} Hz: {} samples", o.sim_participants, o.sim_items, o.sim_rate_hz, samples);
-    spdlog::info("protocol: {}", protocol);
-    spdlog::info("simulate: {}", clock.summary());
-    return 0;
-  }
+  if (app.got_subcommand("simulate")) return run_simulate(o.simulate);
   if (app.got_subcommand("score")) return run_score(o.score);
   if (app.got_subcommand("audit")) {
     StudyStoreReader store(o.store_argument);

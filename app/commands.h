@@ -8,6 +8,7 @@
 
 #include "app/progress_bar.h"
 #include "app/score.h"
+#include "app/simulate_command.h"
 
 namespace gazemill {
 
@@ -23,19 +24,7 @@ struct CommandOptions {
   std::string store_argument;
   std::string audit_by;
   // simulate
-  std::string sim_folder;
-  int sim_participants = 4;
-  int sim_items = 12;
-  double sim_rate_hz = 1000;
-  std::uint64_t sim_seed = 1;
-  double sim_noise_deg = 0.03;
-  bool sim_binocular = false;
-  bool sim_no_pso = false;
-  bool sim_no_bids = false;
-  int sim_gzip_level = 1;
-  double sim_drift_offset_sd_px = 6.0;
-  double sim_drift_slope_sd = 0.01;
-  double sim_drift_growth_px = 0.25;
+  SimulateOptions simulate;
   // score
   ScoreOptions score;
 };
