@@ -14,23 +14,43 @@ namespace gazemill {
 struct DriftOutput {
   std::vector<int> line;               // 0-based line per fixation, in input order
   std::vector<double> corrected_y_px;  // the centre y of that line
-  // Always present, for every method:
-  //   slope                    least-squares slope of (y - assigned line centre) on x (px per px)
-  //   offset_px                that fit's value at the leftmost word centre (x = 0 without words)
-  //   residual_rms_px          root mean square of (y - assigned line centre)
-  //   moved_off_nearest_share  share of fixations given a line other than their nearest
-  //   confidence               in [0, 1]; see assignment_confidence and majority_vote
+  // Always present, for every method (see fit_drift_model):
+  //   offset_px, slope, shift      the systematic drift the assignment implies
+  //   residual_rms_px              root mean square of (y - assigned line centre)
+  //   unexplained_rms_px           root mean square of what that drift leaves unexplained
+  //   moved_off_nearest_share      share of fixations given a line other than their nearest
+  //   confidence                   in [0, 1]; see assignment_confidence and MajorityCorrector
   // and the method's own values (e.g. regress's model_sd_px).
   std::map<std::string, double> fit;
 };
 
-/// Confidence of one method's assignment (our definition, no source): the
-/// mean over fixations of clamp(1 - r / line_height_px, 0, 1), where r is the
-/// distance from the fixation to the centre of the line it was given. 1 when
-/// every fixation sits on its line's centre; a fixation left on its nearest
-/// line scores at least 0.5, one moved to another line less than 0.5, so the
-/// share moved off the nearest line and the residual distance both lower it.
-/// 1 for a trial without fixations (nothing was assigned).
+/// The systematic drift an assignment implies: y - (assigned line centre)
+/// fitted by least squares as offset_px + slope * (x - x0) + shift * (line
+/// centre - first line centre), x0 the leftmost word centre (0 without
+/// words). Offset, slope and shift are the three systematic distortions
+/// Carr et al. (2022) simulate; what the fit leaves is noise or fixations on
+/// the wrong line. A term the data cannot determine (all fixations in one
+/// column, or on one line) is left at 0.
+struct DriftModelFit {
+  double offset_px = 0;               // drift at x0 on the first line
+  double slope = 0;                   // px of drift per px to the right
+  double shift = 0;                   // px of drift per px further down the page
+  std::vector<double> unexplained_px; // per fixation, y minus line centre minus the fitted drift
+};
+DriftModelFit fit_drift_model(const DriftInput& input, const std::vector<int>& line);
+
+/// Confidence per fixation (our definition, no source): clamp(1 - |e| /
+/// line_height_px, 0, 1), e the part of its displacement from its line that
+/// the fitted drift leaves unexplained. 1 when a smooth drift accounts for
+/// the fixation exactly; 0.5 when it sits half a line from where that drift
+/// puts its line; 0 a whole line off (a fixation given the wrong line among
+/// right ones usually is).
+std::vector<double> fixation_confidence(const DriftInput& input, const std::vector<int>& line);
+
+/// The mean of fixation_confidence: a single method's confidence for the
+/// trial. Drift that the model explains (offset, slope, shift) does not lower
+/// it; noise, and fixations put on a line that does not fit the others' drift,
+/// do. 1 for a trial without fixations (nothing was assigned).
 double assignment_confidence(const DriftInput& input, const std::vector<int>& line);
 
 /// The output for `line` (one entry per fixation, each a valid line index):

@@ -60,7 +60,11 @@ DriftCorrector::Assignment MajorityCorrector::assign(const DriftInput& input) co
   MajorityVote vote = majority_vote(lines);
   Assignment a;
   a.method_values["member_count"] = static_cast<double>(members_.size());
-  a.method_values["confidence"] = vote.confidence;
+  a.method_values["agreement_share"] = vote.confidence;
+  const std::vector<double> fit = fixation_confidence(input, vote.line);
+  double confidence = 0;
+  for (std::size_t i = 0; i < fit.size(); ++i) confidence += vote.agreement_share[i] * fit[i];
+  a.method_values["confidence"] = confidence / static_cast<double>(fit.size());
   for (std::size_t k = 0; k < members_.size(); ++k) {
     double same = 0;
     for (std::size_t i = 0; i < vote.line.size(); ++i) same += lines[k][i] == vote.line[i] ? 1 : 0;

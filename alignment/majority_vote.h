@@ -25,10 +25,14 @@ struct MajorityVote {
 MajorityVote majority_vote(const std::vector<std::vector<int>>& member_lines);
 
 /// A method that runs its members and takes the majority per fixation. Its
-/// fit holds the shared values for the combined lines, `confidence` from
-/// majority_vote (not from distances), `member_count`, and per member
-/// `<member>_agreement_share`: the share of fixations where that member gave
-/// the combined line.
+/// fit holds the shared values for the combined lines, `member_count`,
+/// `agreement_share` (majority_vote's confidence), per member
+/// `<member>_agreement_share` (the share of fixations where that member gave
+/// the combined line), and `confidence`: the mean over fixations of the
+/// fixation's agreement share times its fixation_confidence (our definition,
+/// no source), so that a trial scores low when the members disagree or when
+/// the combined lines leave much unexplained by a smooth drift (noise, or
+/// lines that do not fit the others' drift).
 class MajorityCorrector : public DriftCorrector {
  public:
   /// At least one member (std::invalid_argument otherwise); the order is the tie order.

@@ -16,6 +16,7 @@
 #include <cstdlib>
 #include <cstring>
 #include <functional>
+#include <iterator>
 #include <memory>
 #include <random>
 #include <string>
@@ -216,10 +217,35 @@ int main(int argc, char** argv) {
   std::printf("\n");
   print_header("combined", methods);
   print_row("moderate", methods, make_trials(passages, 5 * trials_per_level, moderate, trial_seed++));
-  print_row("mixed", methods, make_trials(passages, 5 * trials_per_level, mixed, trial_seed++));
+  const auto mixed_trials = make_trials(passages, 5 * trials_per_level, mixed, trial_seed++);
+  print_row("mixed", methods, mixed_trials);
   std::printf("moderate: each trial noise SD 0.075-0.15 line spacings, |slope| <= 0.03, |shift| <= 0.05,\n"
               "          |offset| <= 0.3 line spacings, within-line regressions 0.1, between-line 0.01.\n"
               "mixed:    each trial one distortion, drawn uniformly over its whole range (either sign).\n");
+
+  // Does the default's confidence find the trials it gets wrong? Mixed trials by confidence band.
+  {
+    const auto def = make_drift_corrector(kDefaultDriftMethod);
+    const double bands[] = {0.0, 0.7, 0.75, 0.8, 0.9, 1.0001};
+    std::printf("\n%s's confidence on the mixed trials:\n  confidence   trials  under 99%% right  fixations right\n", kDefaultDriftMethod);
+    for (std::size_t b = 0; b + 1 < std::size(bands); ++b) {
+      double right = 0, all = 0;
+      int trials = 0, poor = 0;
+      for (const auto& t : mixed_trials) {
+        const DriftOutput out = def->correct(t.input);
+        const double c = out.fit.at("confidence");
+        if (c < bands[b] || c >= bands[b + 1]) continue;
+        ++trials;
+        double trial_right = 0;
+        for (std::size_t i = 0; i < out.line.size(); ++i) trial_right += out.line[i] == t.true_line[i] ? 1 : 0;
+        poor += trial_right < 0.99 * static_cast<double>(out.line.size()) ? 1 : 0;
+        right += trial_right;
+        all += static_cast<double>(out.line.size());
+      }
+      std::printf("  %.2f-%.2f  %7d  %15d  %14.1f%%\n", bands[b], std::min(1.0, bands[b + 1]), trials, poor,
+                  all > 0 ? 100.0 * right / all : 0.0);
+    }
+  }
 
   if (combined_only) return 0;
   // Speed: every trial of a 40-participant x 30-passage study, moderate drift.

@@ -5,6 +5,8 @@
 
 #include <gtest/gtest.h>
 
+#include <cmath>
+
 #include "alignment/drift_registry.h"
 #include "alignment/majority_vote.h"
 #include "alignment_fixtures.h"
@@ -43,18 +45,56 @@ TEST(MajorityVote, BadMemberListsAreRejected) {
   EXPECT_DOUBLE_EQ(majority_vote({{}, {}}).confidence, 1.0);
 }
 
-// A single method's confidence: mean of clamp(1 - r / line height, 0, 1).
-// Lines at 100 and 150 (height 50); fixations at y 100 on line 0 (r 0 ->
-// 1), 110 on line 0 (r 10 -> 0.8), 130 on line 0 (r 30 -> 0.4, moved off
-// its nearest line), 220 on line 1 (r 70 -> 0). Mean (1 + 0.8 + 0.4 + 0) / 4 = 0.55.
+// A single method's confidence: the mean of clamp(1 - |e| / line height, 0, 1),
+// e what the fitted drift (offset + slope x + shift y) leaves unexplained.
+// Lines at 100 and 150 (height 50); four fixations in one column (x = 100),
+// all given line 0, at y = 100, 110, 120, 150. One column on one line
+// determines neither slope nor shift, so the drift is the mean displacement,
+// offset 20 px, and e = -20, -10, 0, 30: confidences 0.6, 0.8, 1, 0.4, mean
+// 0.7. The fixation at 150 is nearest line 1: 1 of 4 moved off its nearest
+// line. Root mean squares: of the displacements 0, 10, 20, 50, sqrt(750); of
+// e, sqrt(350). By hand.
 TEST(DriftConfidence, HandWorkedSingleMethodConfidence) {
   DriftInput in;
   in.text = page({100, 150}, {100});
-  for (double y : {100.0, 110.0, 130.0, 220.0}) in.fixations.push_back({100, y, 200});
-  EXPECT_DOUBLE_EQ(assignment_confidence(in, {0, 0, 0, 1}), 0.55);
-  const DriftOutput out = make_drift_output(in, {0, 0, 0, 1});
-  EXPECT_DOUBLE_EQ(out.fit.at("confidence"), 0.55);
+  for (double y : {100.0, 110.0, 120.0, 150.0}) in.fixations.push_back({100, y, 200});
+  EXPECT_DOUBLE_EQ(assignment_confidence(in, {0, 0, 0, 0}), 0.7);
+  const DriftOutput out = make_drift_output(in, {0, 0, 0, 0});
+  EXPECT_DOUBLE_EQ(out.fit.at("confidence"), 0.7);
+  EXPECT_DOUBLE_EQ(out.fit.at("offset_px"), 20.0);
+  EXPECT_DOUBLE_EQ(out.fit.at("slope"), 0.0);
+  EXPECT_DOUBLE_EQ(out.fit.at("shift"), 0.0);
   EXPECT_DOUBLE_EQ(out.fit.at("moved_off_nearest_share"), 0.25);
+  EXPECT_DOUBLE_EQ(out.fit.at("residual_rms_px"), std::sqrt(750.0));
+  EXPECT_DOUBLE_EQ(out.fit.at("unexplained_rms_px"), std::sqrt(350.0));
+}
+
+// Drift that the model explains does not lower the confidence. Slope
+// fixture (methods.md section 9) with its true lines: the displacement is
+// 0.1 (x - 100) exactly, so slope 0.1, offset 0, shift 0 and nothing is left
+// unexplained: confidence 1 although 6 of 15 fixations left their nearest
+// line. Shift fixture (eight lines, y + 0.11 (y - 100), see
+// test_alignment_methods.cpp) with its true lines: shift 0.11, confidence 1.
+// attach's lines on the slope fixture (hand-derived in
+// test_alignment_methods.cpp) put fixations a line away from where the
+// others' drift puts them, so its confidence is below 1.
+TEST(DriftConfidence, ExplainedDriftKeepsFullConfidence) {
+  const DriftText text = page({100, 150, 200}, {100, 300, 500, 700, 900});
+  const Scanpath slope = read(text, in_order(text), [](double x, double) { return 0.1 * (x - 100); });
+  const DriftOutput right = make_drift_output(slope.input, slope.true_line);
+  EXPECT_NEAR(right.fit.at("slope"), 0.1, 1e-12);
+  EXPECT_NEAR(right.fit.at("offset_px"), 0.0, 1e-9);
+  EXPECT_NEAR(right.fit.at("shift"), 0.0, 1e-12);
+  EXPECT_NEAR(right.fit.at("confidence"), 1.0, 1e-12);
+  EXPECT_DOUBLE_EQ(right.fit.at("moved_off_nearest_share"), 6.0 / 15.0);
+  EXPECT_LT(make_drift_corrector("attach")->correct(slope.input).fit.at("confidence"), 0.9);
+
+  const DriftText eight = page({100, 150, 200, 250, 300, 350, 400, 450}, {100, 500, 900});
+  const Scanpath shift = read(eight, in_order(eight), [](double, double y) { return 0.11 * (y - 100); });
+  const DriftOutput shifted = make_drift_output(shift.input, shift.true_line);
+  EXPECT_NEAR(shifted.fit.at("shift"), 0.11, 1e-12);
+  EXPECT_NEAR(shifted.fit.at("slope"), 0.0, 1e-12);
+  EXPECT_NEAR(shifted.fit.at("confidence"), 1.0, 1e-12);
 }
 
 // A majority method reports the vote's confidence, not the distance-based
@@ -64,14 +104,17 @@ TEST(DriftConfidence, HandWorkedSingleMethodConfidence) {
 // [0 0 0 0 0 | 1 1 1 1 1 | 2 2 2 2 2] (both hand-derived there). A majority
 // of attach, warp, segment: the true lines, with 3 of 3 votes on the 9
 // fixations where attach is right and 2 of 3 on the other 6:
-// confidence = (9 + 6 x 2/3) / 15 = 13/15; attach agrees on 9/15.
+// agreement = (9 + 6 x 2/3) / 15 = 13/15; attach agrees on 9/15. The true
+// lines leave nothing unexplained (previous test), so every fixation's
+// confidence is 1 and the majority's confidence is the agreement, 13/15.
 TEST(MajorityCorrector, VotesOfItsMembersAndTheirAgreement) {
   const DriftText text = page({100, 150, 200}, {100, 300, 500, 700, 900});
   const Scanpath s = read(text, in_order(text), [](double x, double) { return 0.1 * (x - 100); });
   const auto majority = make_majority_corrector({"attach", "warp", "segment"});
   const DriftOutput out = majority->correct(s.input);
   EXPECT_EQ(out.line, s.true_line);
-  EXPECT_DOUBLE_EQ(out.fit.at("confidence"), 13.0 / 15.0);
+  EXPECT_NEAR(out.fit.at("confidence"), 13.0 / 15.0, 1e-12);
+  EXPECT_DOUBLE_EQ(out.fit.at("agreement_share"), 13.0 / 15.0);
   EXPECT_DOUBLE_EQ(out.fit.at("attach_agreement_share"), 9.0 / 15.0);
   EXPECT_DOUBLE_EQ(out.fit.at("warp_agreement_share"), 1.0);
   EXPECT_DOUBLE_EQ(out.fit.at("member_count"), 3.0);
@@ -79,7 +122,8 @@ TEST(MajorityCorrector, VotesOfItsMembersAndTheirAgreement) {
   // votes is a tie, and the tie goes to attach.
   const DriftOutput tied = make_majority_corrector({"attach", "warp"})->correct(s.input);
   EXPECT_EQ(tied.line, make_drift_corrector("attach")->correct(s.input).line);
-  EXPECT_DOUBLE_EQ(tied.fit.at("confidence"), (9.0 + 6.0 * 0.5) / 15.0);
+  EXPECT_DOUBLE_EQ(tied.fit.at("agreement_share"), (9.0 + 6.0 * 0.5) / 15.0);
+  EXPECT_LT(tied.fit.at("confidence"), tied.fit.at("agreement_share"));
 }
 
 // The pipeline's default must be safe on single-line sentences (our

@@ -289,27 +289,27 @@ TEST(DriftMethods, AttachIsTheNearestLine) {
 }
 
 // The output's corrected y is the assigned line's centre, and the shared fit
-// values are always there (our output contract). On the slope fixture with
-// attach, the residuals (y - assigned centre) are, by hand, line 0: 0 20 -10
-// 10 -20; line 1: 0 20 -10 10 30; line 2: 0 20 40 60 80. Their least-squares
-// slope on x is (sum of dx * r) / (sum of dx^2) with dx = x - 500 over the
-// 15 fixations: sum dx^2 = 3 x 400 000 = 1 200 000; sum dx * r =
-// (-400)(0) + (-200)(60) + 0 + 200(80) + 400(90) = 40 000, so slope = 1/30.
+// values are always there (our output contract). warp, right on the slope
+// fixture (above), moves the 6 fixations attach got wrong off their nearest
+// line (6/15), and the drift its lines imply is the fixture's own: slope
+// 0.1, 0 px at x = 100 on the first line, no shift.
 TEST(DriftMethods, OutputCarriesLineCentresAndTheFitSummary) {
   const Scanpath s = slope_fixture();
-  const DriftOutput out = make_drift_corrector("attach")->correct(s.input);
-  for (std::size_t i = 0; i < out.line.size(); ++i) EXPECT_EQ(out.corrected_y_px[i], s.input.text.line_y_px[out.line[i]]);
-  for (const char* key : {"slope", "offset_px", "residual_rms_px", "moved_off_nearest_share", "confidence"}) {
-    EXPECT_TRUE(out.fit.count(key)) << key;
+  for (const auto& method : drift_method_names()) {
+    const DriftOutput out = make_drift_corrector(method)->correct(s.input);
+    for (std::size_t i = 0; i < out.line.size(); ++i) EXPECT_EQ(out.corrected_y_px[i], s.input.text.line_y_px[out.line[i]]) << method;
+    for (const char* key : {"offset_px", "slope", "shift", "residual_rms_px", "unexplained_rms_px", "moved_off_nearest_share", "confidence"}) {
+      EXPECT_TRUE(out.fit.count(key)) << method << " " << key;
+    }
+    EXPECT_GE(out.fit.at("confidence"), 0.0) << method;
+    EXPECT_LE(out.fit.at("confidence"), 1.0) << method;
   }
-  EXPECT_NEAR(out.fit.at("slope"), 1.0 / 30.0, 1e-12);
-  EXPECT_DOUBLE_EQ(out.fit.at("moved_off_nearest_share"), 0.0);
-  // warp moves the 6 fixations attach got wrong off their nearest line: 6/15.
+  EXPECT_DOUBLE_EQ(make_drift_corrector("attach")->correct(s.input).fit.at("moved_off_nearest_share"), 0.0);
   const DriftOutput warped = make_drift_corrector("warp")->correct(s.input);
   EXPECT_DOUBLE_EQ(warped.fit.at("moved_off_nearest_share"), 6.0 / 15.0);
-  // ...and its residuals are the drift itself, slope 0.1 and 0 at x = 100.
   EXPECT_NEAR(warped.fit.at("slope"), 0.1, 1e-12);
   EXPECT_NEAR(warped.fit.at("offset_px"), 0.0, 1e-9);
+  EXPECT_NEAR(warped.fit.at("shift"), 0.0, 1e-12);
 }
 
 TEST(DriftMethods, ATrialWithoutFixationsGivesAnEmptyAssignment) {
