@@ -79,7 +79,7 @@ struct ScanpathDistortion {
   double slope = 0;              // px of drift per px right of the left edge; -0.1 .. 0.1
   double shift = 0;              // px of drift per px below the first line; -0.2 .. 0.2
   double offset_px = 0;          // the same for every fixation; -1 .. 1 line spacings
-  // After each first-pass fixation, from a line's second line on: a jump back
+  // After each first-pass fixation, from the passage's second line on: a jump back
   // to an earlier line, reading 1-3 words there, then back to where reading
   // left off (0 .. 1)...
   double between_line_regression_probability = 0;
