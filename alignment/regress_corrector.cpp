@@ -1,0 +1,43 @@
+#include "alignment/regress_corrector.h"
+
+#include <algorithm>
+#include <cmath>
+
+#include "alignment/grid_search.h"
+
+namespace gazemill {
+
+DriftParameters RegressCorrector::parameters() const {
+  return {{"max_slope", p_.max_slope},
+          {"max_offset_line_heights", p_.max_offset_line_heights},
+          {"min_sd_px", p_.min_sd_px},
+          {"max_sd_px", p_.max_sd_px}};
+}
+
+DriftCorrector::Assignment RegressCorrector::assign(const DriftInput& input) const {
+  const auto& fx = input.fixations;
+  const auto& ly = input.text.line_y_px;
+  const double x0 = word_span(input.text).left_px;
+  // The most likely line for a fixation is the nearest fitted line whatever the
+  // shared SD, and the log-likelihood with the best SD (clamped to its bounds)
+  // falls as the sum of squared distances to those lines rises. So maximising
+  // the likelihood over slope and offset is minimising that sum.
+  auto squared_distance = [&](double slope, double offset) {
+    double sum = 0;
+    for (const auto& f : fx) {
+      const double y = f.y_px - slope * (f.x_px - x0) - offset;
+      const double d = y - ly[static_cast<std::size_t>(nearest_line(ly, y))];
+      sum += d * d;
+    }
+    return sum;
+  };
+  const double max_offset = p_.max_offset_line_heights * input.text.line_height_px;
+  const SearchResult best = minimise_on_grid(squared_distance, {-p_.max_slope, p_.max_slope, 20}, {-max_offset, max_offset, 20});
+  std::vector<int> line;
+  line.reserve(fx.size());
+  for (const auto& f : fx) line.push_back(nearest_line(ly, f.y_px - best.a * (f.x_px - x0) - best.b));
+  const double sd = std::clamp(std::sqrt(best.value / static_cast<double>(fx.size())), p_.min_sd_px, p_.max_sd_px);
+  return {std::move(line), {{"model_slope", best.a}, {"model_offset_px", best.b}, {"model_sd_px", sd}}};
+}
+
+}  // namespace gazemill
