@@ -138,6 +138,7 @@ EventParams event_params(const DetectionSpec& s) {
   p.max_velocity_deg_s = s.max_velocity_deg_s;
   p.max_fixation_gap_ms = s.max_fixation_gap_ms;
   p.max_fixation_gap_shift_deg = s.max_fixation_gap_shift_deg;
+  p.pso = s.pso;
   return p;
 }
 

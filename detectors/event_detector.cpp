@@ -69,6 +69,22 @@ std::vector<SampleLabel> label_missing(const GazeTrace& g, const BlinkParams& p)
 
 void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLabel>& labels) {
   auto is_gap = [&](std::size_t i) { return labels[i] == SampleLabel::blink || labels[i] == SampleLabel::loss; };
+  // A post-saccadic oscillation only follows a saccade.
+  const auto orphan_pso = [&] {
+    for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+      if (l == SampleLabel::pso && (a == 0 || labels[a - 1] != SampleLabel::saccade)) {
+        std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
+      }
+    });
+  };
+  orphan_pso();
+  // Folded into the saccade before it, the oscillation counts towards the
+  // saccade's noise and duration checks; into the fixation after it, towards
+  // the minimum fixation.
+  if (p.pso != PsoHandling::separate) {
+    const SampleLabel into = p.pso == PsoHandling::fixation ? SampleLabel::fixation : SampleLabel::saccade;
+    std::replace(labels.begin(), labels.end(), SampleLabel::pso, into);
+  }
   // Saccades: too fast (noise), glued to missing data (lid or loss artefacts), or too short.
   std::vector<std::pair<std::size_t, std::size_t>> runs;
   for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
@@ -90,12 +106,7 @@ void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLab
                 inside ? SampleLabel::fixation : SampleLabel::other);
     }
   }
-  // A post-saccadic oscillation only follows a saccade.
-  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
-    if (l == SampleLabel::pso && (a == 0 || labels[a - 1] != SampleLabel::saccade)) {
-      std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
-    }
-  });
+  orphan_pso();
   // A fixation goes on across a short gap of lost or unusable samples.
   for (std::size_t a = 1; a < labels.size(); ++a) {
     const auto gap_label = [&](std::size_t k) { return labels[k] == SampleLabel::loss || labels[k] == SampleLabel::other; };

@@ -10,6 +10,7 @@
 
 #include "detectors/gaze_trace.h"
 #include "pipeline/events.h"
+#include "pipeline/protocol.h"
 
 namespace gazemill {
 
@@ -47,6 +48,10 @@ struct EventParams {
   // (not a blink) continues when the gaze on both sides is this close.
   double max_fixation_gap_ms = 20.0;
   double max_fixation_gap_shift_deg = 0.5;
+  // Post-saccadic oscillation samples kept as such, or folded into the
+  // fixation after them or the saccade before them (before any other
+  // clean-up, so the saccade and fixation rules see the folded runs).
+  PsoHandling pso = PsoHandling::separate;
 };
 
 /// Single-sample spikes (a sample far from both neighbours while they agree)

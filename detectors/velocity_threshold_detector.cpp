@@ -6,7 +6,6 @@ namespace gazemill {
 
 ParameterList VelocityThresholdDetector::parameters() const {
   return {{"velocity_threshold_deg_s", p_.velocity_threshold_deg_s},
-          {"velocity_method", static_cast<double>(p_.velocity.method)},
           {"sg_window_ms", p_.velocity.sg_window_ms},
           {"sg_order", static_cast<double>(p_.velocity.sg_order)}};
 }

@@ -83,6 +83,10 @@ struct TrialSegmentationSpec {
 /// Which eye's data the events come from when both were recorded.
 enum class EyeChoice { left, right, best, average };
 
+/// Where post-saccadic oscillation (glissade) samples go: a class of their
+/// own, or folded into the fixation after them or the saccade before them.
+enum class PsoHandling { separate, fixation, saccade };
+
 /// Event detection: the method by name with its parameters (units in the
 /// names), what counts as a blink, and the shared minimum durations.
 struct DetectionSpec {
@@ -101,6 +105,7 @@ struct DetectionSpec {
   double max_fixation_gap_ms = 20.0;           // a fixation continues across a shorter loss
   double max_fixation_gap_shift_deg = 0.5;     // ... when the gaze on both sides is this close
   double spike_deg = 1.0;                      // single-sample spikes larger than this are removed; 0 = off
+  PsoHandling pso = PsoHandling::separate;     // kept apart, as hand coders and Nystrom & Holmqvist (2010) do
 };
 
 /// Where the regions of every item are, and how fixations are assigned to them.

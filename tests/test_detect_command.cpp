@@ -188,8 +188,11 @@ TEST(ScoreCommand, LabelledFileAgreesWithDirectScoring) {
     EXPECT_EQ(e.where().line, 3u);
     EXPECT_EQ(e.where().field, "codes.2");
   }
+  // A label with no class counts as "other" and is listed, not rejected.
   f.codes.erase("5");
-  EXPECT_THROW(score_labelled_file(f, spec), InputError);
+  const auto unmapped = score_labelled(f, spec);
+  EXPECT_EQ(unmapped.unmapped_codes.count("5"), 1u);
+  EXPECT_EQ(unmapped.report.classes[4].reference_samples, 0u);
 }
 
 TEST(ScoreCommand, SimulatedStudyFolder) {
