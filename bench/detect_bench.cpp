@@ -199,7 +199,7 @@ void degradation(const char* title, const char* parameters, const std::vector<st
                  DetectionSpec (*spec_of)(const std::string&)) {
   const std::vector<double> noises = {0.01, 0.03, 0.05, 0.1, 0.2};
   const std::vector<double> rates = {250, 500, 1000, 2000};
-  std::printf("## %s: kappa fixation / saccade\n\n", title);
+  std::printf("## %s: kappa fixation / saccade%s\n\n", title, with_pso ? " / post-saccadic oscillation" : "");
   std::printf("2 simulated readers x 12 items per cell, %s; %s\n\n",
               with_pso ? "with post-saccadic oscillation" : "no post-saccadic oscillation", parameters);
   std::printf("| noise (deg RMS-S2S) | rate (Hz) |");
@@ -218,6 +218,7 @@ void degradation(const char* title, const char* parameters, const std::vector<st
         for (const auto& sr : st.recordings) scorer.add(sr.truth.labels, detect_recording(sr.recording, *d, spec).labels, sr.recording.samples.time_us);
         const auto r = scorer.report();
         std::printf(" %.2f / %.2f", r.classes[0].kappa, r.classes[1].kappa);
+        if (with_pso) std::printf(" / %.2f", r.classes[2].kappa);
         if (with_timing) {
           std::printf(" (%+.1f, %+.1f ms)", r.classes[0].mean_onset_difference_ms, r.classes[0].mean_offset_difference_ms);
         }
