@@ -5,6 +5,7 @@
 #include <numbers>
 
 #include "detectors/median.h"
+#include "detectors/nystrom_holmqvist_detector.h"
 #include "detectors/timestamp_gaps.h"
 #include "detectors/velocity.h"
 
@@ -30,30 +31,69 @@ double run_ms(const GazeTrace& g, std::size_t a, std::size_t b) {
 
 }  // namespace
 
+double fixation_speed_level(const GazeTrace& g, std::vector<double>* speed_out) {
+  VelocityParams vp;
+  vp.sg_window_ms = kBlinkVelocityWindowMs;
+  vp.with_components = false;
+  Velocity v = compute_velocity(g, vp);
+  std::vector<bool> usable(g.size());
+  for (std::size_t i = 0; i < g.size(); ++i) usable[i] = std::isfinite(v.speed[i]);
+  const PeakThreshold pt = find_peak_threshold(v.speed, usable, NystromHolmqvistParams{});
+  if (speed_out) *speed_out = std::move(v.speed);
+  return pt.mean_deg_s + NystromHolmqvistParams{}.onset_sd_factor * pt.sd_deg_s;
+}
+
 std::vector<SampleLabel> label_missing(const GazeTrace& g, const BlinkParams& p) {
-  std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
-  for (std::size_t i = 0; i < g.size(); ++i) {
-    if (!g.valid[i]) labels[i] = SampleLabel::loss;
+  const std::size_t n = g.size();
+  std::vector<SampleLabel> labels(n, SampleLabel::other);
+  bool any_loss = false, any_pupil = false;
+  for (std::size_t i = 0; i < n; ++i) {
+    if (!g.valid[i]) labels[i] = SampleLabel::loss, any_loss = true;
+    any_pupil = any_pupil || std::isfinite(g.pupil[i]);
   }
-  std::vector<std::pair<std::size_t, std::size_t>> blinks;
-  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
-    if (l != SampleLabel::loss) return;
-    // Gap length counts from the last sample before to the first sample after.
-    const Microseconds before = a > 0 ? g.time_us[a - 1] : g.time_us[a];
-    const Microseconds after = b < g.size() ? g.time_us[b] : g.time_us[b - 1];
-    const double gap_ms = static_cast<double>(after - before) / 1000.0;
-    bool pupil_lost = true;
-    for (std::size_t k = a; k < b && pupil_lost; ++k) pupil_lost = std::isnan(g.pupil[k]);
-    if (pupil_lost && gap_ms >= p.blink_min_ms && gap_ms <= p.blink_max_ms) blinks.emplace_back(a, b);
-  });
-  for (const auto& [a, b] : blinks) {
-    const Microseconds from = g.time_us[a] - static_cast<Microseconds>(p.padding_before_ms * 1000.0);
-    const Microseconds to = g.time_us[b - 1] + static_cast<Microseconds>(p.padding_after_ms * 1000.0);
-    std::size_t lo = a;
-    while (lo > 0 && g.time_us[lo - 1] >= from) --lo;
-    std::size_t hi = b;
-    while (hi < g.size() && g.time_us[hi] <= to) ++hi;
-    for (std::size_t k = lo; k < hi; ++k) labels[k] = SampleLabel::blink;
+  if (any_loss) {
+    // The lid artefacts around a blink: samples on either side of the lost
+    // ones that move faster than the eye does in a fixation (the onset
+    // threshold of Nystrom & Holmqvist 2010, mean + 3 SD of the velocities
+    // below their peak threshold, from memory), lost samples among them and
+    // samples whose velocity window is broken, up to the paddings.
+    std::vector<double> speed;
+    const double level = fixation_speed_level(g, &speed);
+    const auto moving = [&](std::size_t k) { return !g.valid[k] || !(speed[k] <= level); };
+    const auto grow = [&](std::size_t a, std::size_t b) {
+      const Microseconds from = g.time_us[a] - static_cast<Microseconds>(p.padding_before_ms * 1000.0);
+      const Microseconds to = g.time_us[b - 1] + static_cast<Microseconds>(p.padding_after_ms * 1000.0);
+      std::size_t lo = a, hi = b;
+      while (lo > 0 && g.time_us[lo - 1] >= from && moving(lo - 1)) --lo;
+      while (hi < n && g.time_us[hi] <= to && moving(hi)) ++hi;
+      return std::pair<std::size_t, std::size_t>{lo, hi};
+    };
+    std::size_t next = 0;  // samples before this already belong to a blink
+    for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+      if (l != SampleLabel::loss || a < next) return;
+      bool blink = false;
+      std::pair<std::size_t, std::size_t> span{a, b};
+      if (any_pupil) {
+        // With a pupil signal, a blink hides the pupil: the gap, counted from
+        // the last sample before to the first sample after, is the blink.
+        const Microseconds before = a > 0 ? g.time_us[a - 1] : g.time_us[a];
+        const Microseconds after = b < n ? g.time_us[b] : g.time_us[b - 1];
+        const double gap_ms = static_cast<double>(after - before) / 1000.0;
+        bool pupil_lost = true;
+        for (std::size_t k = a; k < b && pupil_lost; ++k) pupil_lost = std::isnan(g.pupil[k]);
+        blink = pupil_lost && gap_ms >= p.blink_min_ms && gap_ms <= p.blink_max_ms;
+        if (blink) span = grow(a, b);
+      } else {
+        // Without one, the lost samples and the lid artefacts around them
+        // (often lost in pieces) are the blink, and their span is measured.
+        span = grow(a, b);
+        const double span_ms = (static_cast<double>(g.time_us[span.second - 1] - g.time_us[span.first]) + g.interval_us) / 1000.0;
+        blink = span_ms >= p.blink_min_ms && span_ms <= p.blink_max_ms;
+      }
+      if (!blink) return;
+      for (std::size_t k = span.first; k < span.second; ++k) labels[k] = SampleLabel::blink;
+      next = span.second;
+    });
   }
   // Samples dropped without a mark leave only a gap in the timestamps. The
   // sample after such a gap stands for the samples lost in it, so the rules
