@@ -90,7 +90,10 @@ enum class PsoHandling { separate, fixation, saccade };
 /// Event detection: the method by name with its parameters (units in the
 /// names), what counts as a blink, and the shared minimum durations.
 struct DetectionSpec {
-  std::string method = "ivt";                  // ivt, idt, engbert_kliegl, nystrom_holmqvist
+  // ivt, idt, engbert_kliegl, nystrom_holmqvist. The adaptive method of
+  // Nystrom & Holmqvist agreed best with an expert coder and labels glissades
+  // (bench/realdata; README, "Event detection").
+  std::string method = "nystrom_holmqvist";
   std::map<std::string, double> parameters;    // method parameters; unset ones keep their defaults
   std::string velocity = "savitzky_golay";     // ivt only: savitzky_golay, moving_average_5, two_point
   EyeChoice eye = EyeChoice::best;

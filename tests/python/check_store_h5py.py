@@ -192,12 +192,13 @@ max_missing_percent = 3
             for a, b in zip(start, end):
                 inside |= (t >= a) & (t < b)
             check(np.array_equal(inside, lab == 0), f"{rid}: fixation labels match fixation events")
-            # One row per trial, in the trials' order, with the eye used; I-VT's
-            # fixed threshold sets nothing from the data.
+            # One row per trial, in the trials' order, with the eye used and the
+            # thresholds the default method (Nystrom & Holmqvist) set from it.
             tr = ev["trials"]
             check([x.decode() for x in tr["trial"][:]] == [x.decode() for x in rec["trials/id"][:]], f"{rid}: a detection row per trial")
             check({x.decode() for x in tr["eye"][:]} <= {"left", "right"}, f"{rid}: eye per trial")
-            check(set(tr.keys()) == {"trial", "eye"}, f"{rid}: nothing fitted by I-VT")
+            check(set(tr.keys()) == {"trial", "eye", "peak_threshold_deg_s", "onset_threshold_deg_s"},
+                  f"{rid}: the default method's thresholds per trial")
         check("detect" in h["provenance/stages"], "detect stage provenance")
         # The ledger read back: per level, input = kept + removed in protocol order.
         a = h["audit"]
