@@ -16,6 +16,7 @@
 #include "detectors/recording_detection.h"
 #include "detectors/scoring.h"
 #include "detectors/velocity.h"
+#include "detectors/visual_angle.h"
 #include "sim/study_simulator.h"
 
 using namespace gazemill;
@@ -142,6 +143,37 @@ void speed(std::size_t n) {
       }
     });
     row((std::string(m) + " labels").c_str(), t);
+  }
+  // As gazemill detect works: a recording in pixels, 5 s trials; per trial
+  // the trace in degrees (visual angle per sample), spike removal, labels,
+  // blinks, clean-up and events.
+  Recording rec;
+  rec.screen = {1920, 1080, 531.0, 299.0, 700.0};
+  rec.samples.has_left = true;
+  {
+    const GazeTrace deg = long_trace(n);
+    const VisualAngle angle(rec.screen);
+    rec.samples.time_us = deg.time_us;
+    for (std::size_t i = 0; i < n; ++i) {
+      rec.samples.left.x_px.push_back(static_cast<float>(angle.x_px(deg.x_deg[i] - 10.0)));
+      rec.samples.left.y_px.push_back(static_cast<float>(angle.y_px(deg.y_deg[i])));
+      rec.samples.left.pupil.push_back(1000.f);
+      rec.samples.left.valid.push_back(1);
+    }
+    for (std::size_t a = 0; a < n; a += 5000) {
+      Trial t;
+      t.id = std::to_string(a / 5000 + 1);
+      t.start_us = rec.samples.time_us[a];
+      t.end_us = rec.samples.time_us[std::min(n, a + 5000) - 1];
+      rec.trials.push_back(t);
+    }
+  }
+  for (const char* m : {"ivt", "nystrom_holmqvist"}) {
+    DetectionSpec spec;  // the method's defaults
+    spec.method = m;
+    const auto d = make_detector(spec);
+    const double t = best_seconds(3, [&] { sink = sink + detect_recording(rec, *d, spec).events.fixations.size(); });
+    row((std::string(m) + " defaults: detect_recording from pixels").c_str(), t);
   }
   for (const char* m : {"ivt", "nystrom_holmqvist"}) {
     const DetectionSpec spec = sensible(m);

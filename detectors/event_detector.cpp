@@ -24,6 +24,20 @@ void for_each_run(const std::vector<SampleLabel>& labels, F&& f) {
   }
 }
 
+// Whether hypot(dx, dy) > limit, with hypot's own answer to the last bit:
+// the squares decide when they are clearly apart (computed dx^2 + dy^2 is
+// within a few units in the last place, far inside the 1e-9 margin), and
+// hypot itself decides near the limit. Most samples are far from any
+// limit, and hypot costs several times a multiply-add.
+bool longer_than(double dx, double dy, double limit) {
+  const double d2 = dx * dx + dy * dy, l2 = limit * limit;
+  if (l2 > 1e-280 && l2 < 1e280) {  // squares far from underflow and overflow
+    if (d2 < l2 * (1.0 - 1e-9)) return false;
+    if (d2 > l2 * (1.0 + 1e-9)) return true;
+  }
+  return std::hypot(dx, dy) > limit;
+}
+
 double run_ms(const GazeTrace& g, std::size_t a, std::size_t b) {
   // A run covers its samples: from the first sample to one interval after the last.
   return (static_cast<double>(g.time_us[b - 1] - g.time_us[a]) + g.interval_us) / 1000.0;
@@ -135,7 +149,7 @@ void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLab
     bool noise = false;
     for (std::size_t k = a + 1; k < b && !noise && p.max_velocity_deg_s > 0; ++k) {
       const double dt = static_cast<double>(g.time_us[k] - g.time_us[k - 1]) * 1e-6;
-      noise = std::hypot(g.x_deg[k] - g.x_deg[k - 1], g.y_deg[k] - g.y_deg[k - 1]) > p.max_velocity_deg_s * dt;
+      noise = longer_than(g.x_deg[k] - g.x_deg[k - 1], g.y_deg[k] - g.y_deg[k - 1], p.max_velocity_deg_s * dt);
     }
     const bool glued = (a > 0 && is_gap(a - 1)) || (b < labels.size() && is_gap(b));
     if (noise || glued) {
@@ -174,9 +188,10 @@ std::size_t remove_spikes(GazeTrace& g, double spike_deg) {
   for (std::size_t i = 1; i + 1 < g.size(); ++i) {
     if (!g.valid[i - 1] || !g.valid[i] || !g.valid[i + 1]) continue;
     const double mx = 0.5 * (g.x_deg[i - 1] + g.x_deg[i + 1]), my = 0.5 * (g.y_deg[i - 1] + g.y_deg[i + 1]);
+    if (!longer_than(g.x_deg[i] - mx, g.y_deg[i] - my, spike_deg)) continue;  // most samples
     const double off = std::hypot(g.x_deg[i] - mx, g.y_deg[i] - my);
     const double span = std::hypot(g.x_deg[i + 1] - g.x_deg[i - 1], g.y_deg[i + 1] - g.y_deg[i - 1]);
-    if (off > spike_deg && span < 0.5 * off) spikes.push_back(i);
+    if (span < 0.5 * off) spikes.push_back(i);
   }
   for (std::size_t i : spikes) {
     g.valid[i] = 0;

@@ -1,7 +1,9 @@
 #include "detectors/savitzky_golay.h"
 
 #include <Eigen/Dense>
+#include <array>
 #include <cmath>
+#include <map>
 #include <stdexcept>
 #include <string>
 
@@ -39,14 +41,24 @@ std::vector<double> savitzky_golay_coefficients_at(int window, int order, int de
   return c;
 }
 
+const std::vector<double>& savitzky_golay_coefficients_cached(int window, int order, int derivative, int position) {
+  // One small map per thread: no locks, and a few dozen entries at most
+  // (the windows of the rates in use x edge positions).
+  thread_local std::map<std::array<int, 4>, std::vector<double>> cache;
+  const std::array<int, 4> key{window, order, derivative, position};
+  auto it = cache.find(key);
+  if (it == cache.end()) it = cache.emplace(key, savitzky_golay_coefficients_at(window, order, derivative, position)).first;
+  return it->second;
+}
+
 std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, const std::vector<bool>& usable,
                                           const std::vector<bool>& gap_before, int window, int order) {
   const std::size_t n = values.size(), w = static_cast<std::size_t>(window), h = w / 2;
-  const std::vector<double> centre = savitzky_golay_coefficients(window, order, 0);
+  const std::vector<double>& centre = savitzky_golay_coefficients_cached(window, order, 0, 0);
   // Off-centre fits for the first and last h samples of a stretch.
-  std::vector<std::vector<double>> edge(w);
+  std::vector<const std::vector<double>*> edge(w);
   for (std::size_t pos = 0; pos < w; ++pos) {
-    if (pos != h) edge[pos] = savitzky_golay_coefficients_at(window, order, 0, static_cast<int>(pos) - static_cast<int>(h));
+    edge[pos] = &savitzky_golay_coefficients_cached(window, order, 0, static_cast<int>(pos) - static_cast<int>(h));
   }
   std::vector<double> out = values;
   const auto fit = [&](const std::vector<double>& c, std::size_t first) {
@@ -64,8 +76,8 @@ std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, con
     while (end < n && usable[end] && !(end < gap_before.size() && gap_before[end])) ++end;
     if (end - start >= w) {  // a shorter stretch keeps its own values
       for (std::size_t i = start; i < end; ++i) {
-        if (i < start + h) out[i] = fit(edge[i - start], start);
-        else if (i + h >= end) out[i] = fit(edge[w - (end - i)], end - w);
+        if (i < start + h) out[i] = fit(*edge[i - start], start);
+        else if (i + h >= end) out[i] = fit(*edge[w - (end - i)], end - w);
         else out[i] = fit(centre, i - h);
       }
     }
