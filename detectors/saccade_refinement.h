@@ -4,12 +4,14 @@
 // by the rules of Nystrom & Holmqvist (2010, Behavior Research Methods
 // 42(1), 188-204; the rules as recalled in methods.md section 3, from
 // memory): from each run of samples the method found fast enough, walk
-// back to the first local velocity minimum below a noise-based onset
-// threshold, and forward to the first local minimum below an offset
-// threshold that mixes the onset threshold with the noise just before the
-// saccade; a velocity bump above the offset threshold soon after the offset
-// is a glissade. Nystrom & Holmqvist's detector is built on it, and I-VT
-// and Engbert & Kliegl use it to refine their saccades and label glissades.
+// back while the velocity stays at or above a noise-based onset threshold
+// (the paper walks on to the local minimum below it; see the .cpp for why
+// we stop at the crossing), and forward to the first local minimum below an
+// offset threshold that mixes the onset threshold with the noise just
+// before the saccade; a velocity bump above the offset threshold soon after
+// the offset is a glissade. Nystrom & Holmqvist's detector is built on it,
+// and I-VT and Engbert & Kliegl can use it to refine their saccades and
+// label glissades.
 
 #include <cstddef>
 #include <vector>
@@ -40,9 +42,10 @@ std::vector<SaccadeCore> cores_above(const std::vector<double>& speed, const std
 
 /// Labels saccade and pso samples in `out` (sized like `speed`, other
 /// elsewhere) from `cores` in time order. A core that falls inside the
-/// saccade or glissade of the one before it belongs to that saccade. A
-/// local minimum is the slowest sample, still at rest, so it stays out of
-/// the saccade and of the glissade. Walks stop at unusable samples.
+/// saccade or glissade of the one before it belongs to that saccade. The
+/// sample before the onset (the first below the onset threshold) and the
+/// local minima that end a saccade or a glissade are at rest and stay out
+/// of them. Walks stop at unusable samples and at the previous saccade.
 void refine_saccades(const GazeTrace& trace, const std::vector<double>& speed, const std::vector<bool>& usable,
                      const std::vector<SaccadeCore>& cores, const SaccadeRefinementParams& params,
                      std::vector<SampleLabel>& out);

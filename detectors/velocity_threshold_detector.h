@@ -25,7 +25,7 @@ struct VelocityThresholdParams {
   // x SD of the speeds below the threshold (theirs is mean + 3 SD, from
   // memory), never above the threshold itself. Off by default: with the
   // 20 ms filter the walks overshoot, and on the simulator grid without
-  // glissades fixation kappa fell from 0.90-0.91 to 0.80-0.87 (README).
+  // glissades fixation kappa fell from 0.90-0.91 to 0.80-0.87 (bench/detect).
   double onset_sd_factor = 0.0;
   double offset_onset_weight = 0.7;   // as in Nystrom & Holmqvist (from memory)
   double local_noise_window_ms = 40.0;
