@@ -221,6 +221,12 @@ void parse_detection(TomlSection& d, Protocol& p) {
     else if (*e == "average") spec.eye = EyeChoice::average;
     else d.fail("eye", "expected \"left\", \"right\", \"best\" or \"average\", found \"" + *e + "\"");
   }
+  if (auto pso = d.string("pso")) {
+    if (*pso == "separate") spec.pso = PsoHandling::separate;
+    else if (*pso == "fixation") spec.pso = PsoHandling::fixation;
+    else if (*pso == "saccade") spec.pso = PsoHandling::saccade;
+    else d.fail("pso", "expected \"separate\", \"fixation\" or \"saccade\", found \"" + *pso + "\"");
+  }
   // Durations (ms), speeds (deg/s) and distances (deg): finite (TOML has
   // inf) and bounded, so that a duration's microseconds fit any integer.
   auto non_negative = [&](TomlSection& s, const std::string& key, double& field) {

@@ -3,12 +3,15 @@
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
+#include <glob.h>
+
 #include <charconv>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <iostream>
 #include <optional>
+#include <set>
 #include <string_view>
 
 #include "app/stage_settings.h"
@@ -127,35 +130,60 @@ AgreementReport score_simulated_study(const std::string& folder, const Detection
   return scorer.report();
 }
 
-AgreementReport score_labelled_file(const LabelledFileSpec& f, const DetectionSpec& detection) {
-  const auto detector = make_detector(detection);
+std::vector<std::string> expand_labelled_files(const std::vector<std::string>& patterns) {
+  std::set<std::string> found;
+  for (const auto& pattern : patterns) {
+    glob_t g{};
+    const int rc = ::glob(pattern.c_str(), 0, nullptr, &g);
+    if (rc == 0) {
+      for (std::size_t i = 0; i < g.gl_pathc; ++i) found.insert(fs::path(g.gl_pathv[i]).lexically_normal().string());
+    }
+    globfree(&g);
+    if (rc == GLOB_NOMATCH) throw InputError({"", 0, "--labelled"}, "\"" + pattern + "\" matches no file");
+    if (rc != 0) throw InputError({"", 0, "--labelled"}, "cannot expand the pattern \"" + pattern + "\"");
+  }
+  return {found.begin(), found.end()};
+}
+
+namespace {
+
+// One labelled file read, detected and scored, its scorer kept for pooling.
+struct ScoredFile {
+  AgreementScorer scorer;
+  std::map<std::string, std::uint64_t> unmapped_codes;
+};
+
+ScoredFile score_one(const LabelledFileSpec& f, const EventDetector& detector, const DetectionSpec& detection) {
   DelimitedReadOptions opt;
   opt.layout.delimiter = f.delimiter;
+  opt.layout.comment_prefix = f.comment_prefix;
   opt.layout.time_column = f.time_column;
   opt.layout.time_unit = f.time_unit;
   opt.layout.left = EyeColumnNames{f.x_column, f.y_column, ""};
   opt.layout.message_column = f.label_column;  // the label of each row travels as its message
-  opt.layout.missing_values = {"", "NaN", "nan", "NA", "."};
+  opt.layout.missing_values = f.missing_values;
+  opt.layout.zero_gaze_is_missing = f.zero_gaze_is_missing;
   opt.layout_key = "score";
   opt.gazeless_message_rows_are_samples = true;
   CollectingSink sink;
   const auto r = read_delimited(f.path, opt, sink);
+  if (sink.samples.size() == 0) throw InputError({f.path, 0, f.time_column}, "no samples in the file");
   Recording rec;
   rec.id = "labelled";
   rec.screen = f.screen;
   rec.samples = std::move(sink.samples);
   rec.sample_rate_hz = f.sample_rate_hz > 0 ? f.sample_rate_hz : 1e6 / r.median_interval_us;
-  // Without gaze the label column says what the reference saw: a blink or loss row has no sample here.
+  // Without gaze the label column says what the reference saw: a blink or
+  // loss row has no gaze here. A label text with no class is "other", counted.
+  ScoredFile out;
   std::vector<SampleLabel> reference(rec.samples.size(), SampleLabel::other);
   std::size_t m = 0;
   for (std::size_t i = 0; i < rec.samples.size(); ++i) {
     while (m < r.messages.size() && r.messages[m].time_us < rec.samples.time_us[i]) ++m;
     if (m < r.messages.size() && r.messages[m].time_us == rec.samples.time_us[i]) {
-      auto it = f.codes.find(r.messages[m].text);
-      if (it == f.codes.end()) {
-        throw InputError({f.path, r.message_lines[m], f.label_column}, "label \"" + r.messages[m].text + "\" has no class in --codes");
-      }
-      reference[i] = it->second;
+      const auto it = f.codes.find(r.messages[m].text);
+      if (it != f.codes.end()) reference[i] = it->second;
+      else ++out.unmapped_codes[r.messages[m].text];
     }
   }
   Trial whole;
@@ -163,22 +191,58 @@ AgreementReport score_labelled_file(const LabelledFileSpec& f, const DetectionSp
   whole.start_us = rec.samples.time_us.front();
   whole.end_us = rec.samples.time_us.back();
   rec.trials.push_back(whole);
-  const RecordingDetection d = detect_recording(rec, *detector, detection);
-  AgreementScorer scorer;
-  scorer.add(reference, d.labels, rec.samples.time_us);
-  return scorer.report();
+  const RecordingDetection d = detect_recording(rec, detector, detection);
+  out.scorer.add(reference, d.labels, rec.samples.time_us);
+  return out;
 }
+
+}  // namespace
+
+LabelledFileScore score_labelled(const LabelledFileSpec& f, const DetectionSpec& detection) {
+  const auto detector = make_detector(detection);
+  ScoredFile s = score_one(f, *detector, detection);
+  return {f.path, s.scorer.report(), std::move(s.unmapped_codes)};
+}
+
+AgreementReport score_labelled_file(const LabelledFileSpec& f, const DetectionSpec& detection) {
+  return score_labelled(f, detection).report;
+}
+
+LabelledCorpusScore score_labelled_corpus(const std::vector<std::string>& paths, const LabelledFileSpec& settings,
+                                          const DetectionSpec& detection) {
+  const auto detector = make_detector(detection);
+  LabelledCorpusScore corpus;
+  AgreementScorer pooled;
+  for (const auto& path : paths) {
+    LabelledFileSpec f = settings;
+    f.path = path;
+    ScoredFile s = score_one(f, *detector, detection);
+    pooled.merge(s.scorer);
+    for (const auto& [code, n] : s.unmapped_codes) corpus.unmapped_codes[code] += n;
+    corpus.files.push_back({path, s.scorer.report(), std::move(s.unmapped_codes)});
+  }
+  corpus.pooled = pooled.report();
+  return corpus;
+}
+
+namespace {
+
+std::string fixed(double v, const char* format) { return std::isnan(v) ? std::string("-") : fmt::format(fmt::runtime(format), v); }
+
+}  // namespace
 
 void print_agreement(const AgreementReport& r, std::ostream& out) {
   TextTable t({"class", "kappa", "ref_samples", "det_samples", "ref_events", "det_events", "matched", "precision", "recall", "f1",
-               "onset_ms", "|onset|_ms", "offset_ms", "|offset|_ms"},
-              {false, true, true, true, true, true, true, true, true, true, true, true, true, true});
+               "onset_ms", "|onset|_ms", "offset_ms", "|offset|_ms", "ref_mean_ms", "det_mean_ms", "duration_diff_ms"},
+              {false, true, true, true, true, true, true, true, true, true, true, true, true, true, true, true, true});
   for (const auto& c : r.classes) {
-    t.add_row({to_string(c.label), std::isnan(c.kappa) ? std::string("-") : fmt::format("{:.3f}", c.kappa), std::to_string(c.reference_samples), std::to_string(c.detected_samples),
+    t.add_row({to_string(c.label), fixed(c.kappa, "{:.3f}"), std::to_string(c.reference_samples), std::to_string(c.detected_samples),
                std::to_string(c.reference_events), std::to_string(c.detected_events), std::to_string(c.matched_events),
-               fmt::format("{:.3f}", c.precision), fmt::format("{:.3f}", c.recall), fmt::format("{:.3f}", c.f1),
-               fmt::format("{:+.1f}", c.mean_onset_difference_ms), fmt::format("{:.1f}", c.mean_abs_onset_difference_ms),
-               fmt::format("{:+.1f}", c.mean_offset_difference_ms), fmt::format("{:.1f}", c.mean_abs_offset_difference_ms)});
+               fixed(c.precision, "{:.3f}"), fixed(c.recall, "{:.3f}"), fixed(c.f1, "{:.3f}"),
+               fixed(c.mean_onset_difference_ms, "{:+.1f}"), fixed(c.mean_abs_onset_difference_ms, "{:.1f}"),
+               fixed(c.mean_offset_difference_ms, "{:+.1f}"), fixed(c.mean_abs_offset_difference_ms, "{:.1f}"),
+               fixed(c.reference_mean_duration_ms, "{:.1f}"), fixed(c.detected_mean_duration_ms, "{:.1f}"),
+               fixed(c.mean_duration_difference_ms, "{:+.1f}")});
   }
   t.print(out);
   out << "\nconfusion (rows: reference, columns: detected), " << r.samples << " samples\n";
@@ -193,29 +257,79 @@ void print_agreement(const AgreementReport& r, std::ostream& out) {
   m.print(out);
 }
 
-std::string agreement_json(const AgreementReport& r, const DetectionSpec& detection) {
+void print_corpus(const LabelledCorpusScore& corpus, std::ostream& out) {
+  TextTable t({"file", "samples", "kappa_fix", "kappa_sac", "kappa_pso", "f1_fix", "f1_sac", "f1_pso", "fix_duration_diff_ms"},
+              {false, true, true, true, true, true, true, true, true});
+  for (const auto& f : corpus.files) {
+    const AgreementReport& r = f.report;
+    t.add_row({f.path, std::to_string(r.samples), fixed(r.of(SampleLabel::fixation).kappa, "{:.3f}"),
+               fixed(r.of(SampleLabel::saccade).kappa, "{:.3f}"), fixed(r.of(SampleLabel::pso).kappa, "{:.3f}"),
+               fixed(r.of(SampleLabel::fixation).f1, "{:.3f}"), fixed(r.of(SampleLabel::saccade).f1, "{:.3f}"),
+               fixed(r.of(SampleLabel::pso).f1, "{:.3f}"), fixed(r.of(SampleLabel::fixation).mean_duration_difference_ms, "{:+.1f}")});
+  }
+  t.print(out);
+  out << "\npooled over " << corpus.files.size() << (corpus.files.size() == 1 ? " file\n" : " files\n");
+  print_agreement(corpus.pooled, out);
+  if (!corpus.unmapped_codes.empty()) {
+    out << "\nlabels with no class in the codes, counted as other:";
+    for (const auto& [code, n] : corpus.unmapped_codes) out << " \"" << code << "\" (" << n << " samples)";
+    out << "\n";
+  }
+}
+
+namespace {
+
+nlohmann::json number_or_null(double v) { return std::isnan(v) ? nlohmann::json(nullptr) : nlohmann::json(v); }
+
+nlohmann::json report_json(const AgreementReport& r) {
   nlohmann::json j;
-  j["detection"] = nlohmann::json::parse(detection_settings_json(detection));
   j["samples"] = r.samples;
+  j["classes"] = nlohmann::json::object();
   for (const auto& c : r.classes) {
-    j["classes"][to_string(c.label)] = {{"kappa", std::isnan(c.kappa) ? nlohmann::json(nullptr) : nlohmann::json(c.kappa)},
+    j["classes"][to_string(c.label)] = {{"kappa", number_or_null(c.kappa)},
                                         {"reference_samples", c.reference_samples},
                                         {"detected_samples", c.detected_samples},
                                         {"reference_events", c.reference_events},
                                         {"detected_events", c.detected_events},
                                         {"matched_events", c.matched_events},
-                                        {"precision", c.precision},
-                                        {"recall", c.recall},
-                                        {"f1", c.f1},
-                                        {"mean_onset_difference_ms", c.mean_onset_difference_ms},
-                                        {"mean_abs_onset_difference_ms", c.mean_abs_onset_difference_ms},
-                                        {"mean_offset_difference_ms", c.mean_offset_difference_ms},
-                                        {"mean_abs_offset_difference_ms", c.mean_abs_offset_difference_ms}};
+                                        {"precision", number_or_null(c.precision)},
+                                        {"recall", number_or_null(c.recall)},
+                                        {"f1", number_or_null(c.f1)},
+                                        {"mean_onset_difference_ms", number_or_null(c.mean_onset_difference_ms)},
+                                        {"mean_abs_onset_difference_ms", number_or_null(c.mean_abs_onset_difference_ms)},
+                                        {"mean_offset_difference_ms", number_or_null(c.mean_offset_difference_ms)},
+                                        {"mean_abs_offset_difference_ms", number_or_null(c.mean_abs_offset_difference_ms)},
+                                        {"reference_mean_duration_ms", number_or_null(c.reference_mean_duration_ms)},
+                                        {"detected_mean_duration_ms", number_or_null(c.detected_mean_duration_ms)},
+                                        {"mean_duration_difference_ms", number_or_null(c.mean_duration_difference_ms)},
+                                        {"matched_duration_difference_ms", number_or_null(c.matched_duration_difference_ms)}};
   }
   for (std::size_t a = 0; a < kLabelCount; ++a) {
     for (std::size_t b = 0; b < kLabelCount; ++b) {
       j["confusion"][to_string(static_cast<SampleLabel>(a))][to_string(static_cast<SampleLabel>(b))] = r.confusion[a][b];
     }
+  }
+  return j;
+}
+
+}  // namespace
+
+std::string agreement_json(const AgreementReport& pooled, const DetectionSpec& detection, const LabelledCorpusScore* corpus) {
+  nlohmann::json j;
+  j["detection"] = nlohmann::json::parse(detection_settings_json(detection));
+  const char* pso[] = {"separate", "fixation", "saccade"};
+  j["detection"]["pso"] = pso[static_cast<int>(detection.pso)];
+  j["pooled"] = report_json(pooled);
+  j["files"] = nlohmann::json::array();
+  j["unmapped_codes"] = nlohmann::json::object();
+  if (corpus) {
+    for (const auto& f : corpus->files) {
+      nlohmann::json one = report_json(f.report);
+      one["path"] = f.path;
+      one["unmapped_codes"] = f.unmapped_codes;
+      j["files"].push_back(std::move(one));
+    }
+    j["unmapped_codes"] = corpus->unmapped_codes;
   }
   return j.dump(2);
 }
@@ -240,8 +354,8 @@ std::pair<double, double> parse_pair(const std::string& text, const std::string&
 }  // namespace
 
 int run_score(const ScoreOptions& so) {
-  if (so.simulated_folder.empty() == so.labelled_file.empty()) {
-    throw InputError({"", 0, "score"}, "give either --simulated FOLDER or --labelled FILE");
+  if (so.simulated_folder.empty() == so.labelled.empty()) {
+    throw InputError({"", 0, "score"}, "give either --simulated FOLDER or --labelled FILE...");
   }
   DetectionSpec detection;
   std::optional<Protocol> protocol;
@@ -259,17 +373,24 @@ int run_score(const ScoreOptions& so) {
       throw InputError({"", 0, "--param"}, "expected NAME=VALUE with a number, found \"" + p + "\"");
     }
   }
+  if (!so.pso.empty()) {
+    if (so.pso == "separate") detection.pso = PsoHandling::separate;
+    else if (so.pso == "fixation") detection.pso = PsoHandling::fixation;
+    else if (so.pso == "saccade") detection.pso = PsoHandling::saccade;
+    else throw InputError({"", 0, "--pso"}, "expected separate, fixation or saccade, found \"" + so.pso + "\"");
+  }
   try {
     make_detector(detection);
   } catch (const std::invalid_argument& e) {
     throw InputError({"", 0, "--method/--param"}, e.what());
   }
-  AgreementReport report;
+  std::string json;
   if (!so.simulated_folder.empty()) {
-    report = score_simulated_study(so.simulated_folder, detection);
+    const AgreementReport report = score_simulated_study(so.simulated_folder, detection);
+    print_agreement(report, std::cout);
+    json = agreement_json(report, detection);
   } else {
     LabelledFileSpec f;
-    f.path = so.labelled_file;
     std::vector<std::string> cols;
     std::string c;
     for (char ch : so.columns + ",") {
@@ -285,12 +406,27 @@ int run_score(const ScoreOptions& so) {
     f.x_column = cols[1];
     f.y_column = cols[2];
     f.label_column = cols[3];
-    const auto delimiter = delimiter_named(so.delimiter);
-    if (!delimiter) throw InputError({"", 0, "--delimiter"}, "expected tab, comma, semicolon, space or one character");
-    f.delimiter = *delimiter;
-    const auto tu = parse_time_unit(so.time_unit);
-    if (!tu) throw InputError({"", 0, "--time-unit"}, "expected s, ms, us or ns");
-    f.time_unit = *tu;
+    // Reading settings: the protocol's [input.table], then the flags.
+    if (protocol && protocol->input.format == InputFormat::delimited) {
+      const TableLayout& table = protocol->input.table;
+      f.delimiter = table.delimiter;
+      f.comment_prefix = table.comment_prefix;
+      f.time_unit = table.time_unit;
+      f.missing_values = table.missing_values;
+      f.zero_gaze_is_missing = table.zero_gaze_is_missing;
+    }
+    if (!so.delimiter.empty()) {
+      const auto delimiter = delimiter_named(so.delimiter);
+      if (!delimiter) throw InputError({"", 0, "--delimiter"}, "expected tab, comma, semicolon, space or one character");
+      f.delimiter = *delimiter;
+    }
+    if (!so.time_unit.empty()) {
+      const auto tu = parse_time_unit(so.time_unit);
+      if (!tu) throw InputError({"", 0, "--time-unit"}, "expected s, ms, us or ns");
+      f.time_unit = *tu;
+    }
+    if (!so.missing_values.empty()) f.missing_values = so.missing_values;
+    if (so.zero_gaze_is_missing) f.zero_gaze_is_missing = true;
     if (so.codes.empty() && so.codes_file.empty()) {
       throw InputError({"", 0, "--codes"}, "a labelled file needs its label codes, e.g. --codes 1=fixation,2=saccade (or --codes-file)");
     }
@@ -314,14 +450,15 @@ int run_score(const ScoreOptions& so) {
                        "the screen geometry is needed to work in degrees: give it, or a --protocol with [screen]");
     }
     f.sample_rate_hz = so.rate_hz;
-    report = score_labelled_file(f, detection);
+    const LabelledCorpusScore corpus = score_labelled_corpus(expand_labelled_files(so.labelled), f, detection);
+    print_corpus(corpus, std::cout);
+    json = agreement_json(corpus.pooled, detection, &corpus);
   }
-  print_agreement(report, std::cout);
   if (!so.json_out.empty()) {
     const std::string tmp = so.json_out + ".partial";
     {
       std::ofstream out(tmp);
-      out << agreement_json(report, detection) << "\n";
+      out << json << "\n";
       if (!out) throw InputError({so.json_out, 0, ""}, "cannot write");
     }
     fs::rename(tmp, so.json_out);
@@ -329,27 +466,34 @@ int run_score(const ScoreOptions& so) {
   return 0;
 }
 
-
 void register_score_command(CLI::App& app, ScoreOptions& so) {
   auto* score = app.add_subcommand("score", "Compare a detector's labels with a reference labelling");
   auto* sim_opt = score->add_option("--simulated", so.simulated_folder, "Folder written by gazemill simulate (uses its truth/)");
-  auto* lab_opt = score->add_option("--labelled", so.labelled_file, "Delimited file with time, x, y and a label column");
+  auto* lab_opt = score->add_option("--labelled", so.labelled,
+                                    "Delimited files with time, x, y and a label column (paths or quoted glob patterns); "
+                                    "scored per file and pooled");
   sim_opt->excludes(lab_opt);
-  score->add_option("--protocol", so.protocol, "Take the detection settings (and screen) from this protocol");
+  score->add_option("--protocol", so.protocol,
+                    "Take the detection settings, the [input.table] reading settings and the screen from this protocol");
   score->add_option("--method", so.method, "Detection method: ivt, idt, engbert_kliegl, nystrom_holmqvist");
   score->add_option("--param", so.params, "Method parameter NAME=VALUE (repeatable)");
-  auto* codes_opt = score->add_option("--codes", so.codes, "Label codes of the labelled file, e.g. 1=fixation,2=saccade,3=pso,4=blink");
+  score->add_option("--pso", so.pso, "Post-saccadic oscillation: separate, fixation or saccade (default: the protocol's, else separate)");
+  auto* codes_opt = score->add_option("--codes", so.codes,
+                                      "Label codes of the labelled files, e.g. 1=fixation,2=saccade,3=pso,4=blink; "
+                                      "labels without a class count as other and are listed");
   score->add_option("--codes-file", so.codes_file, "The label codes in a TOML file: [codes] \"1\" = \"fixation\" ...")
       ->excludes(codes_opt)->check(CLI::ExistingFile);
-  score->add_option("--columns", so.columns, "Time, x, y and label column names of the labelled file")->capture_default_str();
-  score->add_option("--delimiter", so.delimiter, "tab, comma, semicolon or one character")->capture_default_str();
-  score->add_option("--time-unit", so.time_unit, "s, ms, us or ns")->capture_default_str();
+  score->add_option("--columns", so.columns, "Time, x, y and label column names of the labelled files")->capture_default_str();
+  score->add_option("--delimiter", so.delimiter, "tab, comma, semicolon, space or one character (default: the protocol's, else tab)");
+  score->add_option("--time-unit", so.time_unit, "s, ms, us or ns (default: the protocol's, else ms)");
+  score->add_option("--missing-value", so.missing_values,
+                    "A field text that means no value (repeatable; default: the protocol's, else \"\", NaN, nan, NA, .)");
+  score->add_flag("--zero-gaze-is-missing", so.zero_gaze_is_missing, "Read (0, 0) gaze as lost tracking (also from the protocol)");
   score->add_option("--screen-px", so.screen_px, "Screen size in pixels, WIDTHxHEIGHT");
   score->add_option("--screen-mm", so.screen_mm, "Screen size in millimetres, WIDTHxHEIGHT");
   score->add_option("--distance-mm", so.distance_mm, "Viewing distance in millimetres");
   score->add_option("--rate", so.rate_hz, "Sampling rate in Hz (default: from the timestamps)");
   score->add_option("--json", so.json_out, "Also write the results as JSON to this file");
-
 }
 
 }  // namespace gazemill

@@ -70,6 +70,8 @@ std::string detection_settings_json(const DetectionSpec& spec) {
   const char* eyes[] = {"left", "right", "best", "average"};
   j["eye"] = eyes[static_cast<int>(spec.eye)];
   j["interpolate_max_ms"] = spec.interpolate_max_ms;
+  const char* pso[] = {"separate", "fixation", "saccade"};
+  j["pso"] = pso[static_cast<int>(spec.pso)];
   j["blinks"] = {{"min_ms", spec.blink_min_ms}, {"max_ms", spec.blink_max_ms},
                  {"padding_before_ms", spec.blink_padding_before_ms}, {"padding_after_ms", spec.blink_padding_after_ms}};
   j["events"] = {{"min_fixation_ms", spec.min_fixation_ms}, {"min_saccade_ms", spec.min_saccade_ms},

@@ -82,7 +82,12 @@ std::unique_ptr<EventDetector> make_detector(const DetectionSpec& spec) {
     Binder().positive("velocity_threshold_deg_s", p.velocity_threshold_deg_s)
         .positive("sg_window_ms", p.velocity.sg_window_ms)
         .whole("sg_order", p.velocity.sg_order)
+        .non_negative("onset_sd_factor", p.onset_sd_factor)
+        .non_negative("offset_onset_weight", p.offset_onset_weight)
+        .positive("local_noise_window_ms", p.local_noise_window_ms)
+        .non_negative("max_glissade_ms", p.max_glissade_ms)
         .apply(spec.method, spec.parameters);
+    if (p.offset_onset_weight > 1) throw std::invalid_argument("parameter offset_onset_weight must be between 0 and 1");
     return std::make_unique<VelocityThresholdDetector>(p);
   }
   if (spec.velocity != "savitzky_golay") {
@@ -102,7 +107,12 @@ std::unique_ptr<EventDetector> make_detector(const DetectionSpec& spec) {
     Binder().positive("lambda", p.lambda)
         .whole("min_saccade_samples", p.min_saccade_samples)
         .non_negative("velocity_window_ms", p.velocity_window_ms)
+        .non_negative("onset_sd_factor", p.onset_sd_factor)
+        .non_negative("offset_onset_weight", p.offset_onset_weight)
+        .positive("local_noise_window_ms", p.local_noise_window_ms)
+        .non_negative("max_glissade_ms", p.max_glissade_ms)
         .apply(spec.method, spec.parameters);
+    if (p.offset_onset_weight > 1) throw std::invalid_argument("parameter offset_onset_weight must be between 0 and 1");
     return std::make_unique<EngbertKlieglDetector>(p);
   }
   if (spec.method == "nystrom_holmqvist") {
@@ -138,6 +148,7 @@ EventParams event_params(const DetectionSpec& s) {
   p.max_velocity_deg_s = s.max_velocity_deg_s;
   p.max_fixation_gap_ms = s.max_fixation_gap_ms;
   p.max_fixation_gap_shift_deg = s.max_fixation_gap_shift_deg;
+  p.pso = s.pso;
   return p;
 }
 

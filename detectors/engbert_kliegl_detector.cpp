@@ -3,8 +3,10 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
+#include <limits>
 
 #include "detectors/median.h"
+#include "detectors/saccade_refinement.h"
 #include "detectors/velocity.h"
 
 namespace gazemill {
@@ -32,7 +34,11 @@ int moving_average_half_width(double window_ms, double interval_us) {
 ParameterList EngbertKlieglDetector::parameters() const {
   return {{"lambda", p_.lambda},
           {"min_saccade_samples", static_cast<double>(p_.min_saccade_samples)},
-          {"velocity_window_ms", p_.velocity_window_ms}};
+          {"velocity_window_ms", p_.velocity_window_ms},
+          {"onset_sd_factor", p_.onset_sd_factor},
+          {"offset_onset_weight", p_.offset_onset_weight},
+          {"local_noise_window_ms", p_.local_noise_window_ms},
+          {"max_glissade_ms", p_.max_glissade_ms}};
 }
 
 ParameterList EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
@@ -53,6 +59,7 @@ ParameterList EngbertKlieglDetector::label(const GazeTrace& g, std::vector<Sampl
     if (labels[i] == SampleLabel::other) labels[i] = SampleLabel::fixation;
   }
   // Runs of supra-threshold samples long enough are saccades.
+  std::vector<SaccadeCore> cores;
   std::size_t i = 0;
   while (i < n) {
     if (!above[i]) {
@@ -65,10 +72,30 @@ ParameterList EngbertKlieglDetector::label(const GazeTrace& g, std::vector<Sampl
       for (std::size_t k = i; k < j; ++k) {
         if (labels[k] == SampleLabel::fixation) labels[k] = SampleLabel::saccade;
       }
+      cores.push_back({i, j - 1});
     }
     i = j;
   }
-  return {{"threshold_x_deg_s", eta_x}, {"threshold_y_deg_s", eta_y}};
+  if (!(p_.onset_sd_factor > 0) || cores.empty()) return {{"threshold_x_deg_s", eta_x}, {"threshold_y_deg_s", eta_y}};
+  std::vector<double> speed(n, 0.0);
+  std::vector<bool> usable(n, false), still(n, false);
+  for (std::size_t k = 0; k < n; ++k) {
+    usable[k] = labels[k] == SampleLabel::fixation || labels[k] == SampleLabel::saccade;
+    if (usable[k]) speed[k] = std::sqrt(v.vx[k] * v.vx[k] + v.vy[k] * v.vy[k]);
+    still[k] = usable[k] && !above[k];
+  }
+  const SpeedSpread fix = speed_spread_below(speed, still, std::numeric_limits<double>::infinity());
+  SaccadeRefinementParams rp;
+  rp.onset_threshold_deg_s = fix.mean_deg_s + p_.onset_sd_factor * fix.sd_deg_s;
+  rp.offset_onset_weight = p_.offset_onset_weight;
+  rp.local_noise_window_ms = p_.local_noise_window_ms;
+  rp.max_glissade_ms = p_.max_glissade_ms;
+  std::vector<SampleLabel> out(n, SampleLabel::other);
+  refine_saccades(g, speed, usable, cores, rp, out);
+  for (std::size_t k = 0; k < n; ++k) {
+    if (usable[k] && out[k] != SampleLabel::other) labels[k] = out[k];
+  }
+  return {{"threshold_x_deg_s", eta_x}, {"threshold_y_deg_s", eta_y}, {"onset_threshold_deg_s", rp.onset_threshold_deg_s}};
 }
 
 }  // namespace gazemill

@@ -5,6 +5,7 @@
 #include <numbers>
 
 #include "detectors/median.h"
+#include "detectors/nystrom_holmqvist_detector.h"
 #include "detectors/timestamp_gaps.h"
 #include "detectors/velocity.h"
 
@@ -23,6 +24,20 @@ void for_each_run(const std::vector<SampleLabel>& labels, F&& f) {
   }
 }
 
+// Whether hypot(dx, dy) > limit, with hypot's own answer to the last bit:
+// the squares decide when they are clearly apart (computed dx^2 + dy^2 is
+// within a few units in the last place, far inside the 1e-9 margin), and
+// hypot itself decides near the limit. Most samples are far from any
+// limit, and hypot costs several times a multiply-add.
+bool longer_than(double dx, double dy, double limit) {
+  const double d2 = dx * dx + dy * dy, l2 = limit * limit;
+  if (l2 > 1e-280 && l2 < 1e280) {  // squares far from underflow and overflow
+    if (d2 < l2 * (1.0 - 1e-9)) return false;
+    if (d2 > l2 * (1.0 + 1e-9)) return true;
+  }
+  return std::hypot(dx, dy) > limit;
+}
+
 double run_ms(const GazeTrace& g, std::size_t a, std::size_t b) {
   // A run covers its samples: from the first sample to one interval after the last.
   return (static_cast<double>(g.time_us[b - 1] - g.time_us[a]) + g.interval_us) / 1000.0;
@@ -30,30 +45,69 @@ double run_ms(const GazeTrace& g, std::size_t a, std::size_t b) {
 
 }  // namespace
 
+double fixation_speed_level(const GazeTrace& g, std::vector<double>* speed_out) {
+  VelocityParams vp;
+  vp.sg_window_ms = kBlinkVelocityWindowMs;
+  vp.with_components = false;
+  Velocity v = compute_velocity(g, vp);
+  std::vector<bool> usable(g.size());
+  for (std::size_t i = 0; i < g.size(); ++i) usable[i] = std::isfinite(v.speed[i]);
+  const PeakThreshold pt = find_peak_threshold(v.speed, usable, NystromHolmqvistParams{});
+  if (speed_out) *speed_out = std::move(v.speed);
+  return pt.mean_deg_s + NystromHolmqvistParams{}.onset_sd_factor * pt.sd_deg_s;
+}
+
 std::vector<SampleLabel> label_missing(const GazeTrace& g, const BlinkParams& p) {
-  std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
-  for (std::size_t i = 0; i < g.size(); ++i) {
-    if (!g.valid[i]) labels[i] = SampleLabel::loss;
+  const std::size_t n = g.size();
+  std::vector<SampleLabel> labels(n, SampleLabel::other);
+  bool any_loss = false, any_pupil = false;
+  for (std::size_t i = 0; i < n; ++i) {
+    if (!g.valid[i]) labels[i] = SampleLabel::loss, any_loss = true;
+    any_pupil = any_pupil || std::isfinite(g.pupil[i]);
   }
-  std::vector<std::pair<std::size_t, std::size_t>> blinks;
-  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
-    if (l != SampleLabel::loss) return;
-    // Gap length counts from the last sample before to the first sample after.
-    const Microseconds before = a > 0 ? g.time_us[a - 1] : g.time_us[a];
-    const Microseconds after = b < g.size() ? g.time_us[b] : g.time_us[b - 1];
-    const double gap_ms = static_cast<double>(after - before) / 1000.0;
-    bool pupil_lost = true;
-    for (std::size_t k = a; k < b && pupil_lost; ++k) pupil_lost = std::isnan(g.pupil[k]);
-    if (pupil_lost && gap_ms >= p.blink_min_ms && gap_ms <= p.blink_max_ms) blinks.emplace_back(a, b);
-  });
-  for (const auto& [a, b] : blinks) {
-    const Microseconds from = g.time_us[a] - static_cast<Microseconds>(p.padding_before_ms * 1000.0);
-    const Microseconds to = g.time_us[b - 1] + static_cast<Microseconds>(p.padding_after_ms * 1000.0);
-    std::size_t lo = a;
-    while (lo > 0 && g.time_us[lo - 1] >= from) --lo;
-    std::size_t hi = b;
-    while (hi < g.size() && g.time_us[hi] <= to) ++hi;
-    for (std::size_t k = lo; k < hi; ++k) labels[k] = SampleLabel::blink;
+  if (any_loss) {
+    // The lid artefacts around a blink: samples on either side of the lost
+    // ones that move faster than the eye does in a fixation (the onset
+    // threshold of Nystrom & Holmqvist 2010, mean + 3 SD of the velocities
+    // below their peak threshold, from memory), lost samples among them and
+    // samples whose velocity window is broken, up to the paddings.
+    std::vector<double> speed;
+    const double level = fixation_speed_level(g, &speed);
+    const auto moving = [&](std::size_t k) { return !g.valid[k] || !(speed[k] <= level); };
+    const auto grow = [&](std::size_t a, std::size_t b) {
+      const Microseconds from = g.time_us[a] - static_cast<Microseconds>(p.padding_before_ms * 1000.0);
+      const Microseconds to = g.time_us[b - 1] + static_cast<Microseconds>(p.padding_after_ms * 1000.0);
+      std::size_t lo = a, hi = b;
+      while (lo > 0 && g.time_us[lo - 1] >= from && moving(lo - 1)) --lo;
+      while (hi < n && g.time_us[hi] <= to && moving(hi)) ++hi;
+      return std::pair<std::size_t, std::size_t>{lo, hi};
+    };
+    std::size_t next = 0;  // samples before this already belong to a blink
+    for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+      if (l != SampleLabel::loss || a < next) return;
+      bool blink = false;
+      std::pair<std::size_t, std::size_t> span{a, b};
+      if (any_pupil) {
+        // With a pupil signal, a blink hides the pupil: the gap, counted from
+        // the last sample before to the first sample after, is the blink.
+        const Microseconds before = a > 0 ? g.time_us[a - 1] : g.time_us[a];
+        const Microseconds after = b < n ? g.time_us[b] : g.time_us[b - 1];
+        const double gap_ms = static_cast<double>(after - before) / 1000.0;
+        bool pupil_lost = true;
+        for (std::size_t k = a; k < b && pupil_lost; ++k) pupil_lost = std::isnan(g.pupil[k]);
+        blink = pupil_lost && gap_ms >= p.blink_min_ms && gap_ms <= p.blink_max_ms;
+        if (blink) span = grow(a, b);
+      } else {
+        // Without one, the lost samples and the lid artefacts around them
+        // (often lost in pieces) are the blink, and their span is measured.
+        span = grow(a, b);
+        const double span_ms = (static_cast<double>(g.time_us[span.second - 1] - g.time_us[span.first]) + g.interval_us) / 1000.0;
+        blink = span_ms >= p.blink_min_ms && span_ms <= p.blink_max_ms;
+      }
+      if (!blink) return;
+      for (std::size_t k = span.first; k < span.second; ++k) labels[k] = SampleLabel::blink;
+      next = span.second;
+    });
   }
   // Samples dropped without a mark leave only a gap in the timestamps. The
   // sample after such a gap stands for the samples lost in it, so the rules
@@ -69,6 +123,22 @@ std::vector<SampleLabel> label_missing(const GazeTrace& g, const BlinkParams& p)
 
 void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLabel>& labels) {
   auto is_gap = [&](std::size_t i) { return labels[i] == SampleLabel::blink || labels[i] == SampleLabel::loss; };
+  // A post-saccadic oscillation only follows a saccade.
+  const auto orphan_pso = [&] {
+    for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
+      if (l == SampleLabel::pso && (a == 0 || labels[a - 1] != SampleLabel::saccade)) {
+        std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
+      }
+    });
+  };
+  orphan_pso();
+  // Folded into the saccade before it, the oscillation counts towards the
+  // saccade's noise and duration checks; into the fixation after it, towards
+  // the minimum fixation.
+  if (p.pso != PsoHandling::separate) {
+    const SampleLabel into = p.pso == PsoHandling::fixation ? SampleLabel::fixation : SampleLabel::saccade;
+    std::replace(labels.begin(), labels.end(), SampleLabel::pso, into);
+  }
   // Saccades: too fast (noise), glued to missing data (lid or loss artefacts), or too short.
   std::vector<std::pair<std::size_t, std::size_t>> runs;
   for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
@@ -79,7 +149,7 @@ void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLab
     bool noise = false;
     for (std::size_t k = a + 1; k < b && !noise && p.max_velocity_deg_s > 0; ++k) {
       const double dt = static_cast<double>(g.time_us[k] - g.time_us[k - 1]) * 1e-6;
-      noise = std::hypot(g.x_deg[k] - g.x_deg[k - 1], g.y_deg[k] - g.y_deg[k - 1]) > p.max_velocity_deg_s * dt;
+      noise = longer_than(g.x_deg[k] - g.x_deg[k - 1], g.y_deg[k] - g.y_deg[k - 1], p.max_velocity_deg_s * dt);
     }
     const bool glued = (a > 0 && is_gap(a - 1)) || (b < labels.size() && is_gap(b));
     if (noise || glued) {
@@ -90,12 +160,7 @@ void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLab
                 inside ? SampleLabel::fixation : SampleLabel::other);
     }
   }
-  // A post-saccadic oscillation only follows a saccade.
-  for_each_run(labels, [&](std::size_t a, std::size_t b, SampleLabel l) {
-    if (l == SampleLabel::pso && (a == 0 || labels[a - 1] != SampleLabel::saccade)) {
-      std::fill(labels.begin() + static_cast<std::ptrdiff_t>(a), labels.begin() + static_cast<std::ptrdiff_t>(b), SampleLabel::other);
-    }
-  });
+  orphan_pso();
   // A fixation goes on across a short gap of lost or unusable samples.
   for (std::size_t a = 1; a < labels.size(); ++a) {
     const auto gap_label = [&](std::size_t k) { return labels[k] == SampleLabel::loss || labels[k] == SampleLabel::other; };
@@ -123,9 +188,10 @@ std::size_t remove_spikes(GazeTrace& g, double spike_deg) {
   for (std::size_t i = 1; i + 1 < g.size(); ++i) {
     if (!g.valid[i - 1] || !g.valid[i] || !g.valid[i + 1]) continue;
     const double mx = 0.5 * (g.x_deg[i - 1] + g.x_deg[i + 1]), my = 0.5 * (g.y_deg[i - 1] + g.y_deg[i + 1]);
+    if (!longer_than(g.x_deg[i] - mx, g.y_deg[i] - my, spike_deg)) continue;  // most samples
     const double off = std::hypot(g.x_deg[i] - mx, g.y_deg[i] - my);
     const double span = std::hypot(g.x_deg[i + 1] - g.x_deg[i - 1], g.y_deg[i + 1] - g.y_deg[i - 1]);
-    if (off > spike_deg && span < 0.5 * off) spikes.push_back(i);
+    if (span < 0.5 * off) spikes.push_back(i);
   }
   for (std::size_t i : spikes) {
     g.valid[i] = 0;

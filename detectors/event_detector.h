@@ -10,6 +10,7 @@
 
 #include "detectors/gaze_trace.h"
 #include "pipeline/events.h"
+#include "pipeline/protocol.h"
 
 namespace gazemill {
 
@@ -30,7 +31,10 @@ class EventDetector {
 
 /// Missing data: a run of missing gaze is a blink when the pupil is missing
 /// too and the run lasts blink_min_ms..blink_max_ms; otherwise track loss.
-/// Blinks are widened by the paddings to cover the lid artefacts around them.
+/// Without any pupil signal in the trace, the run and the lid artefacts
+/// around it together must last blink_min_ms..blink_max_ms. Blinks take in
+/// the lid artefacts on either side, as far as the gaze moves faster than
+/// in a fixation, but no further than the paddings.
 struct BlinkParams {
   double blink_min_ms = 70.0;
   double blink_max_ms = 500.0;
@@ -47,6 +51,10 @@ struct EventParams {
   // (not a blink) continues when the gaze on both sides is this close.
   double max_fixation_gap_ms = 20.0;
   double max_fixation_gap_shift_deg = 0.5;
+  // Post-saccadic oscillation samples kept as such, or folded into the
+  // fixation after them or the saccade before them (before any other
+  // clean-up, so the saccade and fixation rules see the folded runs).
+  PsoHandling pso = PsoHandling::separate;
 };
 
 /// Single-sample spikes (a sample far from both neighbours while they agree)
@@ -61,6 +69,13 @@ std::vector<SampleLabel> label_trace(const GazeTrace& trace, const EventDetector
 /// Labels missing samples as blink or loss, and the first sample after a gap
 /// in the timestamps (is_gap_step) as loss; everything else "other".
 std::vector<SampleLabel> label_missing(const GazeTrace& trace, const BlinkParams& params);
+
+/// The speed (deg/s) below which the gaze is at rest, as blinks' lid
+/// artefacts are bounded: Nystrom & Holmqvist's onset threshold with their
+/// defaults, on a Savitzky-Golay velocity over kBlinkVelocityWindowMs.
+/// `speed`, when given, receives that velocity.
+inline constexpr double kBlinkVelocityWindowMs = 10.0;
+double fixation_speed_level(const GazeTrace& trace, std::vector<double>* speed = nullptr);
 
 /// Minimum durations, noise limit, and no saccades glued to blinks or loss.
 void tidy_labels(const GazeTrace& trace, const EventParams& params, std::vector<SampleLabel>& labels);

@@ -3,11 +3,12 @@
 // Methods 42(1)): Savitzky-Golay velocity and acceleration; physiologically
 // impossible samples are noise; a data-driven peak threshold
 // PT = mean + 6 SD of the velocities below PT, iterated to convergence;
-// saccade onset at mean + 3 SD walking back from each peak to a local
-// minimum; offset at a threshold mixing the onset threshold with the local
-// noise before the saccade, walking forward to the next local minimum (each
-// minimum is the slowest sample, still at rest, so it stays out of the
-// saccade); a glissade (post-saccadic oscillation) is a
+// saccade onset walking back from each peak while the velocity stays at or
+// above mean + 3 SD (the paper walks on to a local minimum below it; our
+// change, detectors/saccade_refinement.cpp); offset at a threshold mixing
+// the onset threshold with the local noise before the saccade, walking
+// forward to the next local minimum (the slowest sample, still at rest, so
+// it stays out of the saccade); a glissade (post-saccadic oscillation) is a
 // velocity bump above the offset threshold within a short window after the
 // offset that comes back to rest before any lost sample. All numbers but the filter window (below) are the paper's as
 // recalled (from memory; see methods.md section 3); each is a parameter.

@@ -1,7 +1,9 @@
 #include "detectors/savitzky_golay.h"
 
 #include <Eigen/Dense>
+#include <array>
 #include <cmath>
+#include <map>
 #include <stdexcept>
 #include <string>
 
@@ -39,15 +41,33 @@ std::vector<double> savitzky_golay_coefficients_at(int window, int order, int de
   return c;
 }
 
+const std::vector<std::vector<double>>& savitzky_golay_table(int window, int order, int derivative) {
+  // One small map per thread (no locks; a few entries: the windows of the
+  // rates in use), and the last table asked for at hand, as the same window
+  // is asked for trace after trace and saccade after saccade.
+  using Key = std::array<int, 3>;
+  thread_local std::map<Key, std::vector<std::vector<double>>> cache;
+  thread_local const Key* last_key = nullptr;
+  thread_local const std::vector<std::vector<double>>* last = nullptr;
+  const Key key{window, order, derivative};
+  if (last_key && *last_key == key) return *last;
+  auto it = cache.find(key);
+  if (it == cache.end()) {
+    std::vector<std::vector<double>> table;
+    for (int pos = -(window / 2); pos <= window / 2; ++pos) table.push_back(savitzky_golay_coefficients_at(window, order, derivative, pos));
+    it = cache.emplace(key, std::move(table)).first;
+  }
+  last_key = &it->first;
+  last = &it->second;
+  return *last;
+}
+
 std::vector<double> savitzky_golay_smooth(const std::vector<double>& values, const std::vector<bool>& usable,
                                           const std::vector<bool>& gap_before, int window, int order) {
   const std::size_t n = values.size(), w = static_cast<std::size_t>(window), h = w / 2;
-  const std::vector<double> centre = savitzky_golay_coefficients(window, order, 0);
   // Off-centre fits for the first and last h samples of a stretch.
-  std::vector<std::vector<double>> edge(w);
-  for (std::size_t pos = 0; pos < w; ++pos) {
-    if (pos != h) edge[pos] = savitzky_golay_coefficients_at(window, order, 0, static_cast<int>(pos) - static_cast<int>(h));
-  }
+  const std::vector<std::vector<double>>& edge = savitzky_golay_table(window, order, 0);
+  const std::vector<double>& centre = edge[h];
   std::vector<double> out = values;
   const auto fit = [&](const std::vector<double>& c, std::size_t first) {
     double sum = 0;

@@ -20,6 +20,12 @@ std::vector<double> savitzky_golay_coefficients(int window, int order, int deriv
 /// as scipy.signal.savgol_filter's mode='interp' does.
 std::vector<double> savitzky_golay_coefficients_at(int window, int order, int derivative, int position);
 
+/// The coefficients for every position of a window, table[position +
+/// window / 2], computed once per (window, order, derivative) and kept for
+/// the life of the calling thread: every trace and every saccade's peak
+/// velocity reuse them. The reference stays valid.
+const std::vector<std::vector<double>>& savitzky_golay_table(int window, int order, int derivative);
+
 /// `values` smoothed by a Savitzky-Golay fit of `order` over `window` samples
 /// (odd), stretch by stretch of usable samples, so nothing is smoothed across
 /// missing data nor across a step marked in `gap_before` (true at i when the

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <tuple>
 
 namespace gazemill {
@@ -48,6 +49,8 @@ void AgreementScorer::add(const std::vector<SampleLabel>& ref, const std::vector
     const auto r = runs_of(ref, label), d = runs_of(det, label);
     ref_events_[c] += r.size();
     det_events_[c] += d.size();
+    for (const Run& e : r) ref_duration_[c] += static_cast<double>(e.end_us - e.start_us) / 1000.0;
+    for (const Run& e : d) det_duration_[c] += static_cast<double>(e.end_us - e.start_us) / 1000.0;
     // All overlapping pairs, best overlap first; each event is matched at most once.
     std::vector<std::tuple<std::size_t, std::size_t, std::size_t>> pairs;  // overlap, ref, det
     std::size_t k = 0;
@@ -74,7 +77,23 @@ void AgreementScorer::add(const std::vector<SampleLabel>& ref, const std::vector
   }
 }
 
+void AgreementScorer::merge(const AgreementScorer& o) {
+  for (std::size_t a = 0; a < kLabelCount; ++a) {
+    for (std::size_t b = 0; b < kLabelCount; ++b) confusion_[a][b] += o.confusion_[a][b];
+    ref_events_[a] += o.ref_events_[a];
+    det_events_[a] += o.det_events_[a];
+    matched_[a] += o.matched_[a];
+    onset_[a] += o.onset_[a];
+    onset_abs_[a] += o.onset_abs_[a];
+    offset_[a] += o.offset_[a];
+    offset_abs_[a] += o.offset_abs_[a];
+    ref_duration_[a] += o.ref_duration_[a];
+    det_duration_[a] += o.det_duration_[a];
+  }
+}
+
 AgreementReport AgreementScorer::report() const {
+  constexpr double kUndefined = std::numeric_limits<double>::quiet_NaN();
   AgreementReport rep;
   rep.confusion = confusion_;
   for (const auto& row : confusion_) {
@@ -97,15 +116,26 @@ AgreementReport AgreementScorer::report() const {
     a.reference_events = ref_events_[c];
     a.detected_events = det_events_[c];
     a.matched_events = matched_[c];
-    a.precision = a.detected_events ? static_cast<double>(a.matched_events) / static_cast<double>(a.detected_events) : 0.0;
-    a.recall = a.reference_events ? static_cast<double>(a.matched_events) / static_cast<double>(a.reference_events) : 0.0;
-    a.f1 = a.precision + a.recall > 0 ? 2 * a.precision * a.recall / (a.precision + a.recall) : 0.0;
+    // Undefined figures stay NaN: a class never detected has no precision,
+    // one never in the reference no recall, and F1 needs both.
+    const double det_n = static_cast<double>(a.detected_events), ref_n = static_cast<double>(a.reference_events);
+    a.precision = a.detected_events ? static_cast<double>(a.matched_events) / det_n : kUndefined;
+    a.recall = a.reference_events ? static_cast<double>(a.matched_events) / ref_n : kUndefined;
+    a.f1 = !a.detected_events || !a.reference_events ? kUndefined
+           : a.matched_events ? 2 * a.precision * a.recall / (a.precision + a.recall)
+                              : 0.0;
+    a.reference_mean_duration_ms = a.reference_events ? ref_duration_[c] / ref_n : kUndefined;
+    a.detected_mean_duration_ms = a.detected_events ? det_duration_[c] / det_n : kUndefined;
+    a.mean_duration_difference_ms = a.detected_mean_duration_ms - a.reference_mean_duration_ms;  // NaN if either is
+    a.mean_onset_difference_ms = a.mean_abs_onset_difference_ms = kUndefined;
+    a.mean_offset_difference_ms = a.mean_abs_offset_difference_ms = a.matched_duration_difference_ms = kUndefined;
     if (a.matched_events) {
       const double m = static_cast<double>(a.matched_events);
       a.mean_onset_difference_ms = onset_[c] / m;
       a.mean_abs_onset_difference_ms = onset_abs_[c] / m;
       a.mean_offset_difference_ms = offset_[c] / m;
       a.mean_abs_offset_difference_ms = offset_abs_[c] / m;
+      a.matched_duration_difference_ms = (offset_[c] - onset_[c]) / m;
     }
     rep.classes.push_back(a);
   }

@@ -85,19 +85,14 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
     const std::size_t h = static_cast<std::size_t>(w / 2);
     // Coefficients for every position in the window: the centre for interior
     // samples, off-centre ones for samples near the edge of a stretch of data.
-    std::vector<std::vector<double>> d1(static_cast<std::size_t>(w)), d2(static_cast<std::size_t>(w));
-    if (sg) {
-      for (int q = 0; q < w; ++q) {
-        const int pos = q - static_cast<int>(h);
-        d1[static_cast<std::size_t>(q)] = savitzky_golay_coefficients_at(w, p.sg_order, 1, pos);
-        if (acceleration) d2[static_cast<std::size_t>(q)] = savitzky_golay_coefficients_at(w, p.sg_order, 2, pos);
-      }
-    }
+    // Computed once per (window, order) and kept (savitzky_golay_table).
+    const std::vector<std::vector<double>>* d1 = sg ? &savitzky_golay_table(w, p.sg_order, 1) : nullptr;
+    const std::vector<std::vector<double>>* d2 = acceleration ? &savitzky_golay_table(w, p.sg_order, 2) : nullptr;
     const std::size_t width = static_cast<std::size_t>(w);
     auto apply = [&](std::size_t i, std::size_t a, std::size_t q) {  // sample i from the window starting at a
       // Local spacing from the window's own timestamps copes with jitter and rate changes.
       const double inv_dt = static_cast<double>(2 * h) / (static_cast<double>(T[a + 2 * h] - T[a]) * 1e-6);
-      const double* c1 = d1[q].data();
+      const double* c1 = (*d1)[q].data();
       double sx = 0, sy = 0;
       for (std::size_t k = 0; k < width; ++k) {
         sx += c1[k] * X[a + k];
@@ -105,7 +100,7 @@ Velocity compute_velocity(const GazeTrace& g, const VelocityParams& p) {
       }
       store(i, sx * inv_dt, sy * inv_dt);
       if (acceleration) {
-        const double* c2 = d2[q].data();
+        const double* c2 = (*d2)[q].data();
         double ax = 0, ay = 0;
         for (std::size_t k = 0; k < width; ++k) {
           ax += c2[k] * X[a + k];

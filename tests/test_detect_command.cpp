@@ -128,9 +128,9 @@ TEST(DetectCommand, BadDetectionSettingsNameTheKey) {
   expect_error("[detection]\nmethod='hmm'\n", "detection.method", "unknown detection method hmm");
   expect_error("[detection]\nmethod='idt'\n[detection.parameters]\nlambda=5\n", "detection.parameters",
                "method idt has no parameter lambda; it has: dispersion_median_factor, dispersion_threshold_deg, min_duration_ms, smoothing_window_ms");
-  expect_error("[detection]\n[detection.parameters]\nvelocity_threshold_deg_s=-3\n", "detection.parameters", "above zero");
+  expect_error("[detection]\nmethod='ivt'\n[detection.parameters]\nvelocity_threshold_deg_s=-3\n", "detection.parameters", "above zero");
   // TOML allows inf; and a huge order or window once reached an unchecked cast to int.
-  expect_error("[detection]\n[detection.parameters]\nvelocity_threshold_deg_s=inf\n", "detection.parameters", "finite");
+  expect_error("[detection]\nmethod='ivt'\n[detection.parameters]\nvelocity_threshold_deg_s=inf\n", "detection.parameters", "finite");
   expect_error("[detection]\n[detection.parameters]\nsg_order=1e300\n", "detection.parameters", "from 1 to 100");
   expect_error("[detection]\nmethod='engbert_kliegl'\n[detection.parameters]\nvelocity_window_ms=1e18\n", "detection.parameters",
                "at most 1000 ms");
@@ -168,6 +168,7 @@ TEST(ScoreCommand, LabelledFileAgreesWithDirectScoring) {
   f.codes = parse_label_codes("1=fixation,2=saccade,3=pso,4=blink,5=loss,0=other");
   f.screen = c.screen;
   DetectionSpec spec;
+  spec.method = "ivt";
   spec.parameters = {{"velocity_threshold_deg_s", 20}};
   const auto from_file = score_labelled_file(f, spec);
   EXPECT_EQ(from_file.samples, sr.recording.samples.size());
@@ -187,8 +188,11 @@ TEST(ScoreCommand, LabelledFileAgreesWithDirectScoring) {
     EXPECT_EQ(e.where().line, 3u);
     EXPECT_EQ(e.where().field, "codes.2");
   }
+  // A label with no class counts as "other" and is listed, not rejected.
   f.codes.erase("5");
-  EXPECT_THROW(score_labelled_file(f, spec), InputError);
+  const auto unmapped = score_labelled(f, spec);
+  EXPECT_EQ(unmapped.unmapped_codes.count("5"), 1u);
+  EXPECT_EQ(unmapped.report.classes[4].reference_samples, 0u);
 }
 
 TEST(ScoreCommand, SimulatedStudyFolder) {
@@ -203,6 +207,7 @@ TEST(ScoreCommand, SimulatedStudyFolder) {
   eo.bids = false;
   sim::export_study(st, d.path().string(), eo);
   DetectionSpec spec;
+  spec.method = "ivt";
   spec.parameters = {{"velocity_threshold_deg_s", 15}, {"sg_window_ms", 10}};
   spec.blink_padding_before_ms = spec.blink_padding_after_ms = 30;
   const auto r = score_simulated_study(d.path().string(), spec);

@@ -109,9 +109,15 @@ INSTANTIATE_TEST_SUITE_P(
         // stays near its upper fixed point in 3 of the 36 trials (many small
         // reading saccades below 100 deg/s inflate the SD) and misses every
         // saccade below it (then 0.928 / 0.922). Targets met (measured
-        // 0.960 / 0.960). Before the velocity minima at either end were left
+        // 0.954 / 0.953). Before the velocity minima at either end were left
         // out of the saccade, each saccade began about 1 ms early and ended
-        // about 1 ms late: 0.944 / 0.942.
+        // about 1 ms late: 0.944 / 0.942. With the onset at the local minimum
+        // beyond the onset threshold, as the paper walks (from memory), 0.960 /
+        // 0.960 here: with a 4 ms filter at 1000 Hz that minimum falls at the
+        // simulated saccade's first sample, where the threshold crossing
+        // comes a sample or two later. With the defaults, on the hand-coded
+        // recordings and in 16 of the 20 cells of bench/detect, the crossing
+        // agreed better (saccade_refinement.cpp).
         Case{"nystrom_holmqvist", {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}}, 0.95, 0.90},
         // The paper's raw samples: at best 0.896 / 0.886 over a grid of
         // 0.11-0.2 deg by 8-20 ms (0.11 deg with an 8 ms window, far shorter
@@ -189,19 +195,62 @@ TEST_P(DetectorDefaults, KappaWithNoParametersGiven) {
 INSTANTIATE_TEST_SUITE_P(
     EveryMethod, DetectorDefaults,
     ::testing::Values(
-        DefaultsCase{"ivt", 250, 0.05, 0.89, 0.89}, DefaultsCase{"ivt", 500, 0.03, 0.89, 0.89},
-        DefaultsCase{"ivt", 1000, 0.03, 0.89, 0.89}, DefaultsCase{"ivt", 2000, 0.05, 0.89, 0.89},
-        DefaultsCase{"ivt", 2000, 0.10, 0.89, 0.89},
-        DefaultsCase{"engbert_kliegl", 250, 0.05, 0.87, 0.90}, DefaultsCase{"engbert_kliegl", 500, 0.03, 0.93, 0.96},
-        DefaultsCase{"engbert_kliegl", 1000, 0.03, 0.93, 0.96}, DefaultsCase{"engbert_kliegl", 2000, 0.05, 0.93, 0.96},
-        DefaultsCase{"engbert_kliegl", 2000, 0.10, 0.89, 0.90},
-        DefaultsCase{"nystrom_holmqvist", 250, 0.05, 0.74, 0.74}, DefaultsCase{"nystrom_holmqvist", 500, 0.03, 0.85, 0.87},
-        DefaultsCase{"nystrom_holmqvist", 1000, 0.03, 0.84, 0.87}, DefaultsCase{"nystrom_holmqvist", 2000, 0.05, 0.85, 0.89},
-        DefaultsCase{"nystrom_holmqvist", 2000, 0.10, 0.89, 0.92},
-        DefaultsCase{"idt", 250, 0.05, 0.85, 0.85}, DefaultsCase{"idt", 500, 0.03, 0.89, 0.89},
-        DefaultsCase{"idt", 1000, 0.03, 0.89, 0.90}, DefaultsCase{"idt", 2000, 0.05, 0.90, 0.91},
-        DefaultsCase{"idt", 2000, 0.10, 0.87, 0.87}),
+        // Floors raised where blinks came to take in their lid artefacts only
+        // as far as the gaze moves (the fixed 50 ms padding took in fixation
+        // samples of the simulator's 25 ms artefacts), and, for Nystrom &
+        // Holmqvist, where onsets moved to the onset-threshold crossing.
+        DefaultsCase{"ivt", 250, 0.05, 0.90, 0.90}, DefaultsCase{"ivt", 500, 0.03, 0.90, 0.89},
+        DefaultsCase{"ivt", 1000, 0.03, 0.90, 0.89}, DefaultsCase{"ivt", 2000, 0.05, 0.90, 0.89},
+        DefaultsCase{"ivt", 2000, 0.10, 0.90, 0.89},
+        DefaultsCase{"engbert_kliegl", 250, 0.05, 0.88, 0.90}, DefaultsCase{"engbert_kliegl", 500, 0.03, 0.95, 0.96},
+        DefaultsCase{"engbert_kliegl", 1000, 0.03, 0.95, 0.96}, DefaultsCase{"engbert_kliegl", 2000, 0.05, 0.95, 0.96},
+        DefaultsCase{"engbert_kliegl", 2000, 0.10, 0.90, 0.90},
+        DefaultsCase{"nystrom_holmqvist", 250, 0.05, 0.79, 0.80}, DefaultsCase{"nystrom_holmqvist", 500, 0.03, 0.89, 0.91},
+        DefaultsCase{"nystrom_holmqvist", 1000, 0.03, 0.88, 0.89}, DefaultsCase{"nystrom_holmqvist", 2000, 0.05, 0.88, 0.91},
+        DefaultsCase{"nystrom_holmqvist", 2000, 0.10, 0.91, 0.93},
+        DefaultsCase{"idt", 250, 0.05, 0.85, 0.85}, DefaultsCase{"idt", 500, 0.03, 0.90, 0.89},
+        DefaultsCase{"idt", 1000, 0.03, 0.91, 0.90}, DefaultsCase{"idt", 2000, 0.05, 0.91, 0.91},
+        DefaultsCase{"idt", 2000, 0.10, 0.88, 0.87}),
     [](const ::testing::TestParamInfo<DefaultsCase>& info) {
       return info.param.method + "_" + std::to_string(static_cast<int>(info.param.rate_hz)) + "Hz_" +
+             std::to_string(static_cast<int>(std::lround(info.param.noise_deg * 100))) + "cdeg";
+    });
+
+// The protocol's default method on the same grid with simulated glissades
+// (sim::detection_grid_config(..., true)), which real recordings have after
+// about half of all saccades (Nystrom & Holmqvist 2010, from memory):
+// fixation, saccade and post-saccadic oscillation kappa, floors about 0.01
+// below the levels measured when the default was chosen.
+namespace {
+
+struct GlissadeCase {
+  double rate_hz, noise_deg;
+  double fixation_floor, saccade_floor, pso_floor;
+};
+
+void PrintTo(const GlissadeCase& c, std::ostream* os) { *os << c.rate_hz << " Hz " << c.noise_deg << " deg"; }
+
+}  // namespace
+
+class DefaultMethodWithGlissades : public ::testing::TestWithParam<GlissadeCase> {};
+
+TEST_P(DefaultMethodWithGlissades, KappaPerClass) {
+  const GlissadeCase& c = GetParam();
+  const DetectionSpec spec;  // nothing but the protocol's defaults
+  const auto st = sim::simulate_study(sim::detection_grid_config(c.rate_hz, c.noise_deg, true));
+  const auto r = agreement(st, spec);
+  std::printf("%s at %.0f Hz, %.2f deg with glissades: kappa fixation %.3f, saccade %.3f, pso %.3f\n", spec.method.c_str(),
+              c.rate_hz, c.noise_deg, kappa(r, SampleLabel::fixation), kappa(r, SampleLabel::saccade), kappa(r, SampleLabel::pso));
+  EXPECT_GE(kappa(r, SampleLabel::fixation), c.fixation_floor);
+  EXPECT_GE(kappa(r, SampleLabel::saccade), c.saccade_floor);
+  EXPECT_GE(kappa(r, SampleLabel::pso), c.pso_floor);
+}
+
+INSTANTIATE_TEST_SUITE_P(
+    Grid, DefaultMethodWithGlissades,
+    ::testing::Values(GlissadeCase{500, 0.03, 0.87, 0.94, 0.64}, GlissadeCase{1000, 0.03, 0.89, 0.94, 0.75},
+                      GlissadeCase{2000, 0.05, 0.88, 0.95, 0.71}, GlissadeCase{1000, 0.10, 0.77, 0.94, 0.27}),
+    [](const ::testing::TestParamInfo<GlissadeCase>& info) {
+      return std::to_string(static_cast<int>(info.param.rate_hz)) + "Hz_" +
              std::to_string(static_cast<int>(std::lround(info.param.noise_deg * 100))) + "cdeg";
     });

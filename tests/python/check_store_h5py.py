@@ -197,12 +197,13 @@ max_missing_percent = 3
             for a, b in zip(start, end):
                 inside |= (t >= a) & (t < b)
             check(np.array_equal(inside, lab == 0), f"{rid}: fixation labels match fixation events")
-            # One row per trial, in the trials' order, with the eye used; I-VT's
-            # fixed threshold sets nothing from the data.
+            # One row per trial, in the trials' order, with the eye used and the
+            # thresholds the default method (Nystrom & Holmqvist) set from it.
             tr = ev["trials"]
             check([x.decode() for x in tr["trial"][:]] == [x.decode() for x in rec["trials/id"][:]], f"{rid}: a detection row per trial")
             check({x.decode() for x in tr["eye"][:]} <= {"left", "right"}, f"{rid}: eye per trial")
-            check(set(tr.keys()) == {"trial", "eye", "samples", "missing_samples"}, f"{rid}: nothing fitted by I-VT")
+            check(set(tr.keys()) == {"trial", "eye", "samples", "missing_samples", "peak_threshold_deg_s", "onset_threshold_deg_s"},
+                  f"{rid}: the default method's thresholds per trial")
             # Each trial's sample count is the samples between its start and end, both included.
             starts, ends = rec["trials/start_us"][:], rec["trials/end_us"][:]
             counted = [int(((t >= a) & (t <= b)).sum()) for a, b in zip(starts, ends)]

@@ -1,0 +1,276 @@
+// The detectors' published rules on constructed traces, every expected value
+// worked by hand in the test (the derivation beside it), and the boundaries
+// the code decides: a sample exactly at I-VT's threshold, and the limits of
+// what counts as a blink and of what is joined to one.
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <limits>
+#include <string>
+#include <vector>
+
+#include "detectors/engbert_kliegl_detector.h"
+#include "detectors/event_detector.h"
+#include "detectors/nystrom_holmqvist_detector.h"
+#include "detectors/saccade_refinement.h"
+#include "detectors/velocity_threshold_detector.h"
+
+using namespace gazemill;
+
+namespace {
+
+// A trace in degrees straight from positions (no screen), one sample every
+// `interval_us`, with a pupil signal unless told otherwise.
+GazeTrace trace_of(const std::vector<double>& x, const std::vector<double>& y, Microseconds interval_us, bool pupil = true) {
+  GazeTrace g;
+  for (std::size_t i = 0; i < x.size(); ++i) {
+    g.time_us.push_back(static_cast<Microseconds>(i) * interval_us);
+    g.x_deg.push_back(x[i]);
+    g.y_deg.push_back(y[i]);
+    g.x_px.push_back(x[i]);
+    g.y_px.push_back(y[i]);
+    g.pupil.push_back(pupil ? 1000.f : std::numeric_limits<float>::quiet_NaN());
+    g.valid.push_back(1);
+  }
+  g.interval_us = static_cast<double>(interval_us);
+  return g;
+}
+
+void lose(GazeTrace& g, std::size_t from, std::size_t to) {  // samples [from, to) lost, pupil too
+  for (std::size_t i = from; i < to; ++i) {
+    g.valid[i] = 0;
+    g.x_deg[i] = g.y_deg[i] = g.x_px[i] = g.y_px[i] = std::nan("");
+    g.pupil[i] = std::numeric_limits<float>::quiet_NaN();
+  }
+}
+
+std::string letters(const std::vector<SampleLabel>& labels, std::size_t from, std::size_t to) {
+  std::string s;
+  for (std::size_t i = from; i < to; ++i) s += "FSPBLo"[static_cast<int>(labels[i])];
+  return s;
+}
+
+}  // namespace
+
+// Engbert & Kliegl (2003), Vision Research 43, 1035-1045, section 2 (from
+// memory; methods.md section 2): per axis eta = lambda x sigma, sigma =
+// sqrt(median(v^2) - median(v)^2), and a sample is supra-threshold when
+// (vx / eta_x)^2 + (vy / eta_y)^2 > 1: an ellipse, not each axis on its own
+// and not one speed threshold.
+//
+// The trace, at 250 Hz (dt = 4 ms), moves in a triangle wave: 20 segments
+// of 20 samples, rising by (2, 6) units of 1/128 deg per sample, then falling
+// by as much. The five-sample moving difference v_n = (x[n+2] + x[n+1] -
+// x[n-1] - x[n-2]) / (6 dt) is exact for a ramp, so inside a segment
+// |vx| = u_x = (2/128) / 0.004 = 3.90625 deg/s and |vy| = u_y = 11.71875
+// deg/s; at each turn three samples take 4/6 u, 0 and -4/6 u. Every feature
+// below has its mirror image in the next (falling) segment, so v is
+// symmetric about 0: median(v) = 0; and more than half the samples sit
+// inside segments, so median(v^2) = u^2. Hence sigma_x = u_x, sigma_y = u_y,
+// and with lambda = 6: eta_x = 23.4375, eta_y = 70.3125 deg/s.
+//
+// Probe A (segment 4, increments 85-93 of (9, 27) units, 4.5 x the segment's):
+// its six inner samples 86-91 (all four increments of their window in the
+// probe) move at (17.578125, 52.734375) deg/s = 0.75 x (eta_x, eta_y). Each
+// axis alone is below its threshold, but 0.75^2 + 0.75^2 = 1.125 > 1: outside
+// the ellipse, a saccade. Its edge samples 85 and 92 move at 47/12 of the
+// segment's velocity on both axes: (47/72)^2 x 2 = 0.852, inside.
+// Probe B (segment 10, increments 205-213 of (0, 24) units): inner samples
+// move at (0, 46.875) deg/s. Their speed and their vertical component
+// exceed eta_x, so one speed threshold, or a threshold shared by the axes,
+// would take them; but (46.875 / 70.3125)^2 = 0.444 < 1: inside the
+// ellipse, no saccade (its edges: at most (1/6)^2 + (4/6)^2 = 0.47).
+TEST(EngbertKlieglRule, EllipseNotAxesNorSpeed) {
+  std::vector<std::pair<int, int>> step(400);
+  for (std::size_t i = 0; i < step.size(); ++i) {
+    const int sign = (i / 20) % 2 == 0 ? 1 : -1;
+    step[i] = {2 * sign, 6 * sign};
+  }
+  for (std::size_t i = 85; i <= 93; ++i) step[i] = {9, 27}, step[i + 20] = {-9, -27};     // probe A and its mirror
+  for (std::size_t i = 205; i <= 213; ++i) step[i] = {0, 24}, step[i + 20] = {0, -24};    // probe B and its mirror
+  std::vector<double> x(400), y(400);
+  for (std::size_t i = 1; i < 400; ++i) {
+    x[i] = x[i - 1] + step[i].first / 128.0;
+    y[i] = y[i - 1] + step[i].second / 128.0;
+  }
+  const GazeTrace g = trace_of(x, y, 4000);
+  EngbertKlieglParams p;  // lambda 6, at least 3 samples, 8 ms = the published five samples at 250 Hz
+  std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+  const ParameterList fitted = EngbertKlieglDetector(p).label(g, labels);
+  EXPECT_NEAR(fitted.at("threshold_x_deg_s"), 23.4375, 1e-9);
+  EXPECT_NEAR(fitted.at("threshold_y_deg_s"), 70.3125, 1e-9);
+  EXPECT_EQ(letters(labels, 84, 94), "FFSSSSSSFF");   // probe A: outside the ellipse, below both axes
+  EXPECT_EQ(letters(labels, 104, 114), "FFSSSSSSFF");  // its mirror
+  EXPECT_EQ(letters(labels, 200, 240), std::string(40, 'F'));  // probe B and its mirror: inside the ellipse
+  std::size_t saccade_samples = 0;
+  for (auto l : labels) saccade_samples += l == SampleLabel::saccade;
+  EXPECT_EQ(saccade_samples, 12u);
+}
+
+// Nystrom & Holmqvist (2010), Behavior Research Methods 42(1), 188-204, the
+// peak-threshold iteration (from memory; methods.md section 3): PT = mean +
+// 6 SD of the velocities below PT, repeated until PT changes by less than
+// 1 deg/s; the onset threshold is mean + 3 SD of the last iteration.
+// Worked by hand: 50 samples at 10 and 50 at 20 deg/s (mean 15, SD 5) and
+// ten at 200. From 60: PT = 15 + 30 = 45; below 45 the same samples, so PT
+// stays 45 and the second iteration ends it. Ten more samples at 50 lie
+// below the start: mean = 2000 / 110 = 200 / 11, mean square = 50000 / 110,
+// variance = 5000/11 - 40000/121 = 15000/121, so PT = (200 + 6 sqrt(15000))
+// / 11 = 84.986 deg/s, which takes in the same samples again.
+TEST(NystromHolmqvistRule, PeakThresholdByHand) {
+  std::vector<double> speed;
+  for (int i = 0; i < 50; ++i) speed.push_back(10), speed.push_back(20);
+  for (int i = 0; i < 10; ++i) speed.push_back(200);
+  NystromHolmqvistParams p;  // starts at 60 deg/s, peak 6 SD, converged within 1 deg/s
+  const PeakThreshold t = find_peak_threshold(speed, std::vector<bool>(speed.size(), true), p);
+  EXPECT_NEAR(t.peak_deg_s, 45.0, 1e-12);
+  EXPECT_NEAR(t.mean_deg_s, 15.0, 1e-12);
+  EXPECT_NEAR(t.sd_deg_s, 5.0, 1e-12);
+  EXPECT_EQ(t.iterations, 2);
+  for (int i = 0; i < 10; ++i) speed.push_back(50);
+  const PeakThreshold u = find_peak_threshold(speed, std::vector<bool>(speed.size(), true), p);
+  EXPECT_NEAR(u.peak_deg_s, (200.0 + 6.0 * std::sqrt(15000.0)) / 11.0, 1e-9);
+  EXPECT_NEAR(u.mean_deg_s + 3.0 * u.sd_deg_s, (200.0 + 3.0 * std::sqrt(15000.0)) / 11.0, 1e-9);  // the onset threshold
+}
+
+// Onset, offset and glissade (Nystrom & Holmqvist 2010, from memory;
+// methods.md section 3) on a constructed speed trace at 1000 Hz, with onset
+// threshold 30 deg/s and peak threshold 45 (the core: samples 12-14, faster
+// than 45).
+//  - Onset: back from the core to the first sample below 30 (sample 10, at
+//    18): the saccade starts at 11. (The paper walks on to the local minimum
+//    below the threshold, sample 9 here; our rule stops at the crossing,
+//    see detectors/saccade_refinement.cpp.)
+//  - Offset threshold: 0.7 x onset + 0.3 x (mean + 3 SD of the 4 samples
+//    before the onset, 12/18/12/18: 15 + 3 x 3 = 24) = 21 + 7.2 = 28.2.
+//    Forward from the core to the first local minimum below 28.2: sample 17
+//    (27, then 35); sample 16 (29) is above it. The minimum is at rest, so
+//    the saccade is 11-16.
+//  - Glissade: within 40 ms after the minimum, samples faster than 28.2
+//    (18-20: 35, 50, 33); then on to the next local minimum below 28.2
+//    (21: 26, then 27). Samples 17-20 are the glissade; sample 19, faster
+//    than the peak threshold, is part of it, not a saccade of its own.
+//  - A glissade whose bump runs into lost data before coming back to rest
+//    is none (our rule: velocity at the edge of lost data is noisy). Its
+//    fastest sample then starts a saccade of its own, 18-21, 4 ms: shorter
+//    than the 5 ms minimum set here, so it is not labelled.
+TEST(NystromHolmqvistRule, OnsetOffsetAndGlissadeByHand) {
+  std::vector<double> s;
+  for (int i = 0; i <= 10; ++i) s.push_back(i % 2 ? 12 : 18);  // 0-10
+  for (double v : {40, 80, 150, 90, 45, 29, 27, 35, 50, 33, 26, 27}) s.push_back(v);  // 11-22
+  for (int i = 23; i < 70; ++i) s.push_back(i % 2 ? 12 : 18);
+  const GazeTrace g = trace_of(std::vector<double>(s.size(), 0.0), std::vector<double>(s.size(), 0.0), 1000);
+  SaccadeRefinementParams p;
+  p.onset_threshold_deg_s = 30;
+  p.offset_onset_weight = 0.7;
+  p.local_noise_window_ms = 4;
+  p.max_glissade_ms = 40;
+  p.min_saccade_ms = 5;
+  std::vector<bool> usable(s.size(), true);
+  const std::vector<SaccadeCore> cores = cores_above(s, usable, 45.0);
+  ASSERT_EQ(cores.size(), 2u);  // 12-14 and 19
+  EXPECT_EQ(cores[0].first, 12u);
+  EXPECT_EQ(cores[0].last, 14u);
+  std::vector<SampleLabel> out(s.size(), SampleLabel::other);
+  refine_saccades(g, s, usable, cores, p, out);
+  EXPECT_EQ(letters(out, 8, 24), "oooSSSSSSPPPPooo");
+
+  usable[22] = false;  // the bump never comes back to rest before lost data
+  std::vector<SampleLabel> cut(s.size(), SampleLabel::other);
+  refine_saccades(g, s, usable, cores_above(s, usable, 45.0), p, cut);
+  EXPECT_EQ(letters(cut, 8, 24), "oooSSSSSSooooooo");
+}
+
+// I-VT (Salvucci & Goldberg 2000, section on I-VT, from memory: points
+// below the threshold are fixation points, the others saccade points). Our
+// decision: a sample exactly at the threshold is a saccade sample. With
+// point-to-point velocity v = dx / dt, dt = (1000 us) x 1e-6 s, a step of
+// 0.05 deg at sample 3 moves at exactly 0.05 / (1000 x 1e-6) deg/s (the
+// definition, evaluated as written); with that as the threshold, sample 3
+// is a saccade sample, and with the next larger double it is a fixation sample.
+TEST(VelocityThresholdRule, ExactlyAtTheThresholdIsASaccadeSample) {
+  const GazeTrace g = trace_of({0.0, 0.0, 0.0, 0.05, 0.05, 0.05}, std::vector<double>(6, 0.0), 1000);
+  const double at = 0.05 / (static_cast<double>(1000) * 1e-6);
+  auto run = [&](double threshold) {
+    VelocityThresholdParams p;
+    p.velocity.method = VelocityMethod::two_point;
+    p.velocity_threshold_deg_s = threshold;
+    std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+    VelocityThresholdDetector(p).label(g, labels);
+    return letters(labels, 0, g.size());
+  };
+  EXPECT_EQ(run(at), "FFFSFF");
+  EXPECT_EQ(run(std::nextafter(at, 1e300)), "FFFFFF");
+  EXPECT_EQ(run(std::nextafter(at, 0.0)), "FFFSFF");
+}
+
+// What is a blink (our rules, README "Event detection"; the 70-500 ms range
+// is common practice, no source). With a pupil signal, missing gaze and
+// pupil is a blink when the gap, from the last sample before to the first
+// after, lasts blink_min_ms to blink_max_ms, both ends included. At 1000 Hz
+// a run of L lost samples is a gap of L + 1 ms: 69 lost samples make 70 ms,
+// a blink; 68 make 69 ms, track loss; 499 make 500 ms, a blink; 500 make
+// 501 ms, track loss.
+TEST(BlinkRule, DurationLimitsAreIncluded) {
+  auto label_gap = [](std::size_t lost) {
+    GazeTrace g = trace_of(std::vector<double>(800, 0.0), std::vector<double>(800, 0.0), 1000);
+    lose(g, 100, 100 + lost);
+    BlinkParams p;
+    p.blink_min_ms = 70;
+    p.blink_max_ms = 500;
+    return label_missing(g, p)[100];
+  };
+  EXPECT_EQ(label_gap(69), SampleLabel::blink);
+  EXPECT_EQ(label_gap(68), SampleLabel::loss);
+  EXPECT_EQ(label_gap(499), SampleLabel::blink);
+  EXPECT_EQ(label_gap(500), SampleLabel::loss);
+}
+
+// The lid artefacts either side of a blink join it while the gaze moves
+// faster than in a fixation, but no further than the paddings (our rule).
+// The boundary is included: with 30 ms of padding at 1000 Hz, the sample
+// exactly 30 ms before the first lost sample is part of the blink and the
+// one 31 ms before is not; likewise 30 ms after the last lost sample. Here
+// the gaze sweeps down at 200 deg/s for 60 ms on both sides of a 100 ms gap
+// (faster than the still, noise-free fixations around it), so only the
+// paddings stop the blink. Without a pupil signal, the lost samples and
+// the artefacts together make the blink: here 30 + 100 + 30 ms.
+TEST(BlinkRule, PaddingLimitIsIncluded) {
+  for (bool pupil : {true, false}) {
+    std::vector<double> y(600, 0.0);
+    for (std::size_t i = 240; i < 300; ++i) y[i] = 0.2 * static_cast<double>(i - 239);            // down before the gap
+    for (std::size_t i = 300; i < 400; ++i) y[i] = 12.0;
+    for (std::size_t i = 400; i < 460; ++i) y[i] = 0.2 * static_cast<double>(460 - i);            // and back up after it
+    GazeTrace g = trace_of(std::vector<double>(600, 0.0), y, 1000, pupil);
+    lose(g, 300, 400);
+    BlinkParams p;
+    p.padding_before_ms = p.padding_after_ms = 30;
+    const std::vector<SampleLabel> labels = label_missing(g, p);
+    EXPECT_EQ(labels[270], SampleLabel::blink) << "30 ms before, pupil " << pupil;
+    EXPECT_EQ(labels[269], SampleLabel::other) << "31 ms before, pupil " << pupil;
+    EXPECT_EQ(labels[429], SampleLabel::blink) << "30 ms after, pupil " << pupil;
+    EXPECT_EQ(labels[430], SampleLabel::other) << "31 ms after, pupil " << pupil;
+  }
+}
+
+// A saccade glued to lost data or a blink is an artefact and is dropped
+// (our rule): one whose last sample touches the first lost sample is
+// dropped; with one fixation sample between them it stays. (No fixation is
+// joined across the gap here, so the dropped samples stay "other".)
+TEST(BlinkRule, SaccadeTouchingLostDataIsDropped) {
+  const GazeTrace g = trace_of(std::vector<double>(100, 0.0), std::vector<double>(100, 0.0), 1000);
+  using L = SampleLabel;
+  auto tidy = [&](std::size_t fixation_between) {
+    std::vector<L> labels(100, L::fixation);
+    for (std::size_t i = 40; i < 55; ++i) labels[i] = L::saccade;  // 15 ms
+    for (std::size_t i = 55 + fixation_between; i < 60 + fixation_between; ++i) labels[i] = L::loss;
+    EventParams p;
+    p.min_fixation_ms = 0;
+    p.max_fixation_gap_ms = 0;
+    tidy_labels(g, p, labels);
+    return labels[47];
+  };
+  EXPECT_EQ(tidy(0), L::other);
+  EXPECT_EQ(tidy(1), L::saccade);
+}
