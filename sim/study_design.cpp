@@ -192,7 +192,7 @@ StudyDesign demo_design(std::size_t items, std::size_t passages) {
   frequency.changes_text = true;
   TargetEffect rare;
   rare.fixation_ms = 30;
-  rare.spillover_ms = 15;
+  rare.spillover_ms = 20;
   rare.skip_factor = 0.75;
   rare.refixation = 0.10;
   frequency.levels = {{"frequent", {}}, {"rare", rare}};
