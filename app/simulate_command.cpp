@@ -3,15 +3,17 @@
 #include <fmt/format.h>
 #include <spdlog/spdlog.h>
 
-#include <iostream>
 #include <stdexcept>
 
 #include "app/run_stats.h"
-#include "pipeline/input_error.h"
 #include "sim/study_export.h"
 #include "sim/study_simulator.h"
 
 namespace gazemill {
+
+namespace {
+sim::SimulationConfig simulation_config(const SimulateOptions& o);
+}  // namespace
 
 void register_simulate_command(CLI::App& app, SimulateOptions& o) {
   auto* sim = app.add_subcommand("simulate",
@@ -56,22 +58,33 @@ void register_simulate_command(CLI::App& app, SimulateOptions& o) {
       ->check(CLI::Range(0.0, 1.0))->capture_default_str();
   sim->add_option("--threads", o.threads, "Participants simulated at once (0: one per core); each holds one participant in memory")
       ->check(CLI::Range(0u, 256u))->capture_default_str();
+  // Choices that only make sense together are usage errors too (exit 2), found before anything is written.
+  sim->callback([&o] {
+    try {
+      const sim::StudySimulator check(simulation_config(o));
+    } catch (const std::invalid_argument& e) {
+      throw CLI::ValidationError("simulate", e.what());
+    }
+  });
 }
 
+namespace {
+
+// Throws std::invalid_argument when the options ask for what the bundled texts cannot give.
 sim::SimulationConfig simulation_config(const SimulateOptions& o) {
   sim::SimulationConfig cfg;
   const auto bundled_items = sim::bundled_sentence_items().size(), bundled_passages = sim::bundled_passages().size();
   if (static_cast<std::size_t>(o.items) > bundled_items) {
-    throw InputError({"", 0, "--items"}, fmt::format("{} items asked for; {} different texts are bundled, and no text is shown twice", o.items, bundled_items));
+    throw std::invalid_argument(fmt::format("--items {}: {} different texts are bundled, and no text is shown twice", o.items, bundled_items));
   }
   if (static_cast<std::size_t>(o.passages) > bundled_passages) {
-    throw InputError({"", 0, "--passages"}, fmt::format("{} passages asked for; {} are bundled", o.passages, bundled_passages));
+    throw std::invalid_argument(fmt::format("--passages {}: {} passages are bundled", o.passages, bundled_passages));
   }
   cfg.design = sim::demo_design(static_cast<std::size_t>(o.items), static_cast<std::size_t>(o.passages));
   if (o.items % static_cast<int>(cfg.design.cells()) != 0) {
-    throw InputError({"", 0, "--items"}, fmt::format("{} items do not divide over the {} cells of the design: every list should see every "
-                                                     "cell equally often, so give a multiple of {}",
-                                                     o.items, cfg.design.cells(), cfg.design.cells()));
+    throw std::invalid_argument(fmt::format("--items {}: the items do not divide over the {} cells of the design; every list should "
+                                            "see every cell equally often, so give a multiple of {}",
+                                            o.items, cfg.design.cells(), cfg.design.cells()));
   }
   cfg.design.participants = o.participants;
   cfg.design.question_share = o.question_share;
@@ -94,19 +107,15 @@ sim::SimulationConfig simulation_config(const SimulateOptions& o) {
   return cfg;
 }
 
+}  // namespace
+
 int run_simulate(const SimulateOptions& o) {
   const RunClock clock;
   const sim::SimulationConfig cfg = simulation_config(o);
   sim::ExportOptions eopt;
   eopt.bids = !o.no_bids;
   eopt.gzip_level = o.gzip_level;
-  sim::ExportSummary s;
-  try {
-    s = sim::simulate_to_folder(cfg, o.folder, eopt, o.threads);
-  } catch (const std::invalid_argument& e) {
-    // A layout that does not fit the screen, or a design the simulator refuses.
-    throw InputError({"", 0, "simulate"}, e.what());
-  }
+  const sim::ExportSummary s = sim::simulate_to_folder(cfg, o.folder, eopt, o.threads);
   const auto& d = cfg.design;
   std::string factors;
   for (const auto& f : d.factors) {
@@ -114,20 +123,17 @@ int run_simulate(const SimulateOptions& o) {
     for (const auto& l : f.levels) levels += (levels.empty() ? "" : "/") + l.name;
     factors += (factors.empty() ? "" : " x ") + f.name + " (" + levels + ")";
   }
-  std::cout << fmt::format(
-      "Simulated study \"{}\" (invented data) in {}:\n"
-      "  {} participants in {} counterbalancing lists, {} trials each: {} sentence items, each seen once in one cell of {},\n"
-      "  then {} passages (every word a region) with vertical drift; a comprehension question after about {:.0f} % of the trials\n"
-      "  {} samples at {:g} Hz{}, {} true fixations on the text\n"
-      "  raw/               one sample export per participant (gzip; empty field = missing, pupil diameter in mm)\n"
-      "{}"
-      "  gazemill.toml      the protocol that reads them ([trials], [design], [regions]){}\n"
-      "  items.tsv, regions.tsv   the regions of every item as text and as boxes\n"
-      "  truth/             the truth: labels per sample, fixations with true line and region, drift, trials, participants\n"
-      "  simulation.json    every setting and the seed\n",
-      d.name, o.folder, s.participants, d.lists(), s.participants ? s.trials / s.participants : 0, d.items.size(), factors, d.passages.size(),
-      100.0 * d.question_share, s.samples, o.rate_hz, o.binocular ? " (both eyes)" : "", s.fixations,
-      o.no_bids ? "" : "  bids/              the same recordings in the BIDS eye-tracking layout\n", o.no_bids ? "" : "; gazemill-bids.toml reads bids/");
+  // What was written, as the other commands report (stderr; -q silences it).
+  spdlog::info("simulated study \"{}\" (invented data) in {}", d.name, o.folder);
+  spdlog::info("{} participants in {} counterbalancing lists, {} trials each: {} sentence items, each seen once in one cell of {}; "
+               "then {} passage{} (every word a region) with vertical drift; a comprehension question after {:.0f} % of the trials",
+               s.participants, d.lists(), s.participants ? s.trials / s.participants : 0, d.items.size(), factors, d.passages.size(),
+               d.passages.size() == 1 ? "" : "s", 100.0 * d.question_share);
+  spdlog::info("{} samples at {:g} Hz{}, {} true fixations on the text", s.samples, o.rate_hz, o.binocular ? " (both eyes)" : "", s.fixations);
+  spdlog::info("raw/: one sample export per participant (empty field = missing, pupil diameter in mm){}", o.no_bids ? "" : "; bids/: the same in the BIDS layout");
+  spdlog::info("{}: reads them ([trials], [design], [regions]){}", s.protocol, o.no_bids ? "" : "; gazemill-bids.toml reads bids/");
+  spdlog::info("items.tsv, regions.tsv: the regions; truth/: labels per sample, fixations with true line and region, drift, trials, "
+               "participants; simulation.json: every setting and the seed");
   spdlog::info("simulate: {}", clock.summary());
   return 0;
 }

@@ -7,6 +7,8 @@
 #include <random>
 #include <stdexcept>
 
+#include <fmt/format.h>
+
 #include "detectors/visual_angle.h"
 
 namespace gazemill::sim {
@@ -222,14 +224,15 @@ StudySimulator::StudySimulator(SimulationConfig config) : config_(std::move(conf
   const StudyDesign& d = config_.design;
   d.validate();
   const double rate = config_.signal.sample_rate_hz;
-  if (!(rate >= 100 && rate <= 2000)) throw std::invalid_argument("sample rate " + std::to_string(rate) + " Hz: expected 100 to 2000 Hz");
+  if (!(rate >= 100 && rate <= 2000)) throw std::invalid_argument(fmt::format("sample rate {:g} Hz: expected 100 to 2000 Hz", rate));
   const int tf = d.text_factor();
   const std::size_t variants = tf < 0 ? 1 : d.factors[static_cast<std::size_t>(tf)].levels.size();
   auto fits = [&](const LaidOutItem& li, const std::string& id) {
     const double bottom = config_.layout.first_line_top_px + li.line_count * config_.layout.line_height_px;
     if (bottom > config_.screen.height_px) {
-      throw std::invalid_argument("item " + id + ": " + std::to_string(li.line_count) + " lines end at " + std::to_string(bottom) +
-                                  " px, below the screen's " + std::to_string(config_.screen.height_px) + " px");
+      throw std::invalid_argument(fmt::format("item {}: its {} lines end at {:g} px, below the screen's {} px (fewer or shorter lines, "
+                                              "or a longer line width, would fit)",
+                                              id, li.line_count, bottom, config_.screen.height_px));
     }
   };
   for (const auto& item : d.items) {

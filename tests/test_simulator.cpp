@@ -6,6 +6,7 @@
 #include <gtest/gtest.h>
 #include <zlib.h>
 
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
@@ -14,6 +15,7 @@
 #include <sstream>
 
 #include "app/protocol_parser.h"
+#include "app/simulate_command.h"
 #include "detectors/visual_angle.h"
 #include "io/region_files.h"
 #include "io/study_store.h"
@@ -651,4 +653,42 @@ TEST(Simulator, CheckedInFixtureIngestsCleanly) {
   EXPECT_EQ(r.recordings, 4u);
   EXPECT_EQ(r.trials, 56u);  // 4 participants x (12 sentence items + 2 passages)
   EXPECT_EQ(r.repairs, 0u);
+}
+
+// The command: defaults shown in its help, any rate from 100 to 2000 Hz, and
+// choices the bundled texts cannot meet refused as usage errors before
+// anything is written.
+TEST(SimulateCommand, DefaultsInHelpAndImpossibleChoicesAreUsageErrors) {
+  TempDir d;
+  auto parse = [&](std::vector<std::string> args) {
+    CLI::App app;
+    SimulateOptions o;
+    register_simulate_command(app, o);
+    args.insert(args.begin(), {"simulate", "-o", d.file("out")});
+    std::reverse(args.begin(), args.end());  // CLI11 takes a vector in reverse order
+    app.parse(args);
+    return o;
+  };
+  {
+    CLI::App app;
+    SimulateOptions o;
+    register_simulate_command(app, o);
+    const std::string help = app.get_subcommand("simulate")->help();
+    for (const char* shown : {"=1000", "=24", "=4", "=0.03", "=40", "=80"}) EXPECT_NE(help.find(shown), std::string::npos) << shown;
+  }
+  EXPECT_EQ(parse({"--rate", "333", "--items", "8", "--passages", "1"}).rate_hz, 333.0);
+  for (const auto& bad : std::vector<std::vector<std::string>>{{"--rate", "99"},
+                                                               {"--rate", "2001"},
+                                                               {"--items", "10"},
+                                                               {"--items", "124"},
+                                                               {"--passages", "13"},
+                                                               {"--passages", "12", "--line-height-px", "80", "--wrap-chars", "50"}}) {
+    EXPECT_THROW(parse(bad), CLI::ParseError) << bad[0] << " " << bad[1];
+  }
+  EXPECT_FALSE(fs::exists(d.file("out")));
+  SimulateOptions o = parse({"--participants", "2", "--items", "4", "--passages", "1", "--rate", "150", "--no-bids"});
+  EXPECT_EQ(run_simulate(o), 0);
+  TsvTable trials(d.file("out/truth/trials.tsv"));
+  EXPECT_EQ(trials.rows(), 10u);  // 2 participants x (4 items + 1 passage)
+  EXPECT_FALSE(fs::exists(d.file("out/bids")));
 }
