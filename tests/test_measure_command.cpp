@@ -45,9 +45,11 @@ kind = "delete_short_fixations"
 min_duration_ms = 80
 )";
 
+// The demo design's first 12 sentence items and 2 passages: the passages'
+// drift puts fixations between the lines.
 std::string simulated(const TempDir& d, int participants) {
   sim::SimulationConfig c;
-  c.design = sim::demo_design();
+  c.design = sim::demo_design(12, 2);
   c.design.participants = participants;
   c.signal.sample_rate_hz = 500;
   c.seed = 99;
