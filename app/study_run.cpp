@@ -30,6 +30,7 @@
 #include "io/event_tables_io.h"
 #include "io/measures_io.h"
 #include "io/region_files.h"
+#include "io/review_file.h"
 #include "io/sha256.h"
 #include "io/study_store.h"
 #include "io/table_set.h"
@@ -594,6 +595,13 @@ StudyRunReport StudyRun::execute() {
       }
     }
   }
+  if (!p_.alignment.review_file.empty()) {
+    // Its rows are checked now; the trials they name, once the recordings are known.
+    const fs::path base = fs::absolute(fs::path(p_.path)).parent_path();
+    const std::string file = fs::path(p_.alignment.review_file).is_absolute() ? p_.alignment.review_file : (base / p_.alignment.review_file).string();
+    if (!fs::exists(file)) throw InputError({p_.path, 0, "alignment.review_file"}, "the review file " + file + " does not exist");
+    read_review_file(file);
+  }
   if (p_.design.factors.empty()) {
     spdlog::debug("the protocol's [design] names no factors: audits and aggregates are not broken down by condition");
   }
@@ -770,6 +778,13 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
     set.add("audit.tsv", audit_tsv(audit));
     set.add("audit_totals.tsv", audit_totals_tsv(audit));
     set.add("audit.json", audit_json(audit));
+  }
+  if (current(Stage::align) && regions) {
+    const auto alignment = read_alignment(store);
+    set.add("alignment_trials.tsv", alignment_trials_tsv(alignment));
+    for (const auto& [name, svg] : flagged_trial_drawings(p, *regions, cleaned_recordings(store), alignment)) {
+      set.add("flagged_trials/" + name, svg);
+    }
   }
   if (current(Stage::measure) && regions) {
     StudyRunReport again;

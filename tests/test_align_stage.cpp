@@ -9,12 +9,16 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <filesystem>
 #include <fstream>
 
 #include "app/line_score.h"
 #include "app/protocol_parser.h"
 #include "app/study_run.h"
+#include "io/alignment_io.h"
+#include "io/study_store.h"
+#include "pipeline/input_error.h"
 #include "sim/study_export.h"
 #include "sim/study_simulator.h"
 #include "test_support.h"
@@ -84,4 +88,76 @@ TEST(AlignStage, MeasuresChangeWhereDriftWasCorrected) {
   }
   EXPECT_GT(passage_changed, 20u);
   EXPECT_EQ(sentence_changed, 0u);
+}
+
+// A person's decisions on flagged trials are data: the review file is
+// applied on every run, recorded with the trial, and a change to it redoes
+// alignment onward (our design; common practice of hand correction made
+// reproducible, no source).
+TEST(AlignStage, AReviewFileOverridesTrialsReproducibly) {
+  TempDir d;
+  const std::string proto = drifted_study(d, 0.7);
+  std::string text;
+  {
+    std::ifstream in(proto);
+    text.assign(std::istreambuf_iterator<char>(in), {});
+  }
+  // The first reader's first passage trial and two sentences.
+  d.write("study/review.tsv",
+          "participant\ttrial\tdecision\tvalue\treason\treviewer\n"
+          "p01\t9\tmethod\twarp\tthe lines are read in order\tA.B.\n"
+          "p01\t1\texclude\t\tthe reader looked away\tA.B.\n"
+          "p01\t2\tshift_lines\t1\tcalibration off by a line\t\n");
+  std::ofstream(proto) << text << "\n[alignment]\nreview_file = \"review.tsv\"\n";
+  StudyRunOptions o;
+  o.store_path = d.file("s.gzm.h5");
+  const auto first = run_study(parse_protocol_file(proto), o);
+  StudyStoreReader store(o.store_path);
+  const auto alignment = read_alignment(store);
+  const auto& p01 = alignment.front();
+  ASSERT_EQ(p01.recording, "p01_1");
+  auto trial = [&](const std::string& id) {
+    return *std::find_if(p01.trials.begin(), p01.trials.end(), [&](const AlignedTrial& t) { return t.trial == id; });
+  };
+  EXPECT_EQ(trial("9").method, "warp");
+  EXPECT_NE(trial("9").review.find("the lines are read in order"), std::string::npos);
+  EXPECT_FALSE(trial("9").flagged);
+  EXPECT_TRUE(trial("1").excluded);
+  for (const auto& r : first.rows) EXPECT_FALSE(r.participant == "p01" && r.trial == "1") << "an excluded trial was measured";
+  // One line down: every fixation of trial 2 on a line is one line further than before (or off the text).
+  EXPECT_NE(trial("2").review.find("shift_lines 1"), std::string::npos);
+  // Unchanged, nothing is redone; a changed review redoes alignment and measures only.
+  EXPECT_EQ(run_study(parse_protocol_file(proto), o).stages.at(Stage::align), "reused");
+  d.write("study/review.tsv", "participant\ttrial\tdecision\tvalue\treason\np01\t9\taccept\t\tlooked fine\n");
+  const auto again = run_study(parse_protocol_file(proto), o);
+  EXPECT_EQ(again.stages.at(Stage::clean), "reused");
+  EXPECT_EQ(again.stages.at(Stage::align), "ran");
+}
+
+TEST(AlignStage, ReviewFileErrorsNameFileLineAndField) {
+  TempDir d;
+  const std::string proto = drifted_study(d, 0.3);
+  std::string text;
+  {
+    std::ifstream in(proto);
+    text.assign(std::istreambuf_iterator<char>(in), {});
+  }
+  std::ofstream(proto) << text << "\n[alignment]\nreview_file = \"review.tsv\"\n";
+  auto expect = [&](const std::string& rows, std::size_t line, const std::string& field) {
+    d.write("study/review.tsv", "participant\ttrial\tdecision\tvalue\treason\n" + rows);
+    StudyRunOptions o;
+    o.store_path = d.file("s.gzm.h5");
+    try {
+      run_study(parse_protocol_file(proto), o);
+      FAIL() << rows;
+    } catch (const InputError& e) {
+      EXPECT_EQ(e.where().line, line) << e.what();
+      EXPECT_EQ(e.where().field, field) << e.what();
+    }
+  };
+  expect("p01\t999\taccept\t\tok\n", 2, "trial");        // no such trial
+  expect("p01\t1\tmethod\twiggle\tsure\n", 2, "value");  // no such method
+  expect("p01\t1\texclude\t\t\n", 2, "reason");           // a decision without its reason
+  expect("p01\t1\tshift\t1\tx\n", 2, "decision");
+  expect("p01\t1\taccept\t\tok\np01\t1\texclude\t\tno\n", 3, "trial");  // the same trial twice
 }
