@@ -20,6 +20,8 @@ struct CommandOptions {
   std::string output;              // -o/--output: run's folder, the tables folder of clean and measure
   unsigned jobs = 0;
   int deflate_level = 1;
+  std::string shard;               // run --shard K/N
+  std::vector<std::string> shards; // merge
   // inspect, audit, verify
   std::string store_argument;
   std::string audit_by;
