@@ -28,6 +28,7 @@
 #include "io/alignment_io.h"
 #include "io/cleaning_io.h"
 #include "io/event_tables_io.h"
+#include "io/hdf5_util.h"
 #include "io/measures_io.h"
 #include "io/region_files.h"
 #include "io/review_file.h"
@@ -831,8 +832,22 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
 }
 
 StudyRunReport run_study(const Protocol& protocol, const StudyRunOptions& options) {
-  StudyRun run(protocol, options);
-  return run.execute();
+  // A failure to write (a full disk, a quota, a folder gone) ends in one line
+  // naming the store and the system's reason; the temporary file is gone by now.
+  auto cannot_write = [&](const std::string& what) -> InputError {
+    const std::string reason = h5::last_error_reason();
+    return InputError({options.store_path, 0, ""}, "cannot write the store: " + (reason.empty() ? what : reason + " (" + what + ")"));
+  };
+  try {
+    StudyRun run(protocol, options);
+    return run.execute();
+  } catch (const InputError&) {
+    throw;
+  } catch (const H5::Exception& e) {
+    throw cannot_write(e.getFuncName() + ": " + e.getDetailMsg());
+  } catch (const std::runtime_error& e) {
+    throw cannot_write(e.what());
+  }
 }
 
 }  // namespace gazemill

@@ -36,7 +36,7 @@ struct StudyRunOptions {
   unsigned shard_index = 0, shard_count = 0;  // shard_count 0 = the whole study
   int deflate_level = 1;
   bool show_progress = false;
-  std::uint64_t raw_budget_bytes = std::uint64_t{192} << 20;  // per recording, see RecordingWorkOptions
+  std::uint64_t raw_budget_bytes = std::uint64_t{96} << 20;  // per recording, see RecordingWorkOptions
 };
 
 /// What a run did, stage by stage, with the counts of what it read and made.

@@ -11,6 +11,8 @@
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <iostream>
+#include <sstream>
 #include <limits>
 #include <map>
 #include <optional>
@@ -151,10 +153,15 @@ std::unique_ptr<StudyStoreWriter> StudyStoreWriter::update(const std::string& pa
 
 StudyStoreWriter::~StudyStoreWriter() {
   if (!committed_) {
+    // After a failed write the C++ API's destructor prints its own complaint
+    // to std::cerr; the error has been reported already, so it goes nowhere.
+    std::ostringstream drop;
+    std::streambuf* old = std::cerr.rdbuf(drop.rdbuf());
     try {
       impl_.reset();
     } catch (...) {
     }
+    std::cerr.rdbuf(old);
     std::remove(temp_path_.c_str());
   }
 }
