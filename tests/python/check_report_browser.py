@@ -1,0 +1,324 @@
+#!/usr/bin/python3
+"""The study report in a real browser: Debian's Chromium, headless, driven
+through the Chrome DevTools Protocol (the protocol's own documentation:
+Page, Runtime, Log, Network and Emulation domains) with Debian's
+python3-websocket. The demo study's report is opened from a file and the
+check asserts, as a reader would see it:
+
+  - no console errors and no uncaught exceptions;
+  - no network request at all besides the page's own file (the page carries
+    every script, style and datum; its Content-Security-Policy refuses
+    anything else, and a refused request would still be seen here);
+  - every section present, each with at least one chart whose SVG holds
+    data marks, and every chart with a title and an alternative text;
+  - the trial viewer switching trials and participants, by its controls,
+    and drawing the new trial's fixations and text.
+
+It keeps a screenshot of the whole page and one of each section
+(OUTDIR/report-demo.png, OUTDIR/report-demo-<section>.png, the trial viewer
+in report-demo-viewer.png), a copy of the page, and prints the
+time to interactive. When Chromium is missing and cannot be installed, or
+cannot start here, the check is skipped (exit 77, ctest SKIP_RETURN_CODE)
+saying why; it never passes without a browser.
+
+usage: check_report_browser.py GAZEMILL_BINARY FIXTURES_DIR OUTDIR
+"""
+import base64
+import json
+import os
+import shutil
+import subprocess
+import sys
+import tempfile
+import time
+import urllib.request
+
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from report_demo import make_demo_report  # noqa: E402
+
+SKIP = 77
+SECTIONS = ["run", "quality", "cleaning", "detection", "drift", "measures", "viewer"]
+
+
+def skip(why):
+    print("SKIP: browser check not run: " + why)
+    sys.exit(SKIP)
+
+
+def find_chromium():
+    for name in ("chromium", "chromium-browser"):
+        path = shutil.which(name)
+        if path:
+            return path
+    if os.geteuid() == 0 and shutil.which("apt-get"):
+        print("Chromium is not installed; installing Debian's chromium package")
+        env = dict(os.environ, DEBIAN_FRONTEND="noninteractive")
+        r = subprocess.run(["apt-get", "-o", "DPkg::Lock::Timeout=600", "install", "-y", "-qq", "--no-install-recommends", "chromium"],
+                           env=env, capture_output=True, text=True)
+        if r.returncode != 0:
+            skip("Chromium is not installed and apt-get could not install it: " + (r.stderr or r.stdout).strip()[-400:])
+        path = shutil.which("chromium")
+        if path:
+            return path
+    skip("Chromium is not installed (Debian package chromium; scripts/install-deps installs it)")
+
+
+try:
+    import websocket  # Debian's python3-websocket
+except ImportError:
+    skip("the Python websocket client is missing (Debian package python3-websocket; scripts/install-deps installs it)")
+
+
+class Browser:
+    """Headless Chromium with a fresh profile, one page, and a DevTools connection to it."""
+
+    def __init__(self, chromium, profile):
+        self.profile = profile
+        self.proc = subprocess.Popen(
+            [chromium, "--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
+             "--disable-sync", "--no-first-run", "--no-default-browser-check", "--disable-extensions", "--mute-audio",
+             "--user-data-dir=" + profile, "--remote-debugging-port=0", "--window-size=1280,900", "about:blank"],
+            stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+        port_file = os.path.join(profile, "DevToolsActivePort")
+        deadline = time.monotonic() + 60
+        while not os.path.exists(port_file):
+            if self.proc.poll() is not None:
+                err = self.proc.stderr.read().decode(errors="replace").strip()
+                skip("Chromium could not start here (exit {}): {}".format(self.proc.returncode, err[-600:]))
+            if time.monotonic() > deadline:
+                self.close()
+                skip("Chromium did not open its DevTools port within 60 s")
+            time.sleep(0.1)
+        time.sleep(0.2)
+        with open(port_file) as f:
+            port = int(f.readline().strip())
+        with urllib.request.urlopen("http://127.0.0.1:{}/json/list".format(port), timeout=30) as r:
+            targets = json.load(r)
+        page = next(t for t in targets if t.get("type") == "page")
+        self.ws = websocket.create_connection(page["webSocketDebuggerUrl"], timeout=120, suppress_origin=True)
+        self.next_id = 0
+        self.events = []
+
+    def send(self, method, params=None, timeout=120):
+        self.next_id += 1
+        mid = self.next_id
+        self.ws.send(json.dumps({"id": mid, "method": method, "params": params or {}}))
+        deadline = time.monotonic() + timeout
+        while True:
+            if time.monotonic() > deadline:
+                raise TimeoutError(method)
+            msg = json.loads(self.ws.recv())
+            if msg.get("id") == mid:
+                if "error" in msg:
+                    raise RuntimeError("{}: {}".format(method, msg["error"]))
+                return msg.get("result", {})
+            if "method" in msg:
+                self.events.append(msg)
+
+    def wait_event(self, method, timeout=120):
+        for e in self.events:
+            if e["method"] == method:
+                return e
+        deadline = time.monotonic() + timeout
+        while time.monotonic() < deadline:
+            msg = json.loads(self.ws.recv())
+            if "method" in msg:
+                self.events.append(msg)
+                if msg["method"] == method:
+                    return msg
+        raise TimeoutError(method)
+
+    def evaluate(self, expression, timeout=120):
+        r = self.send("Runtime.evaluate", {"expression": expression, "awaitPromise": True, "returnByValue": True}, timeout)
+        if "exceptionDetails" in r:
+            raise RuntimeError("page script failed: " + json.dumps(r["exceptionDetails"])[:800])
+        return r["result"].get("value")
+
+    def close(self):
+        try:
+            self.ws.close()
+        except Exception:
+            pass
+        if self.proc.poll() is None:
+            self.proc.terminate()
+            try:
+                self.proc.wait(10)
+            except subprocess.TimeoutExpired:
+                self.proc.kill()
+
+
+failures = []
+passes = 0
+
+
+def check(cond, what):
+    global passes
+    if cond:
+        passes += 1
+    else:
+        failures.append(what)
+        print("FAIL:", what)
+
+
+# What the page shows, read in the page: per section its charts, per chart its title,
+# alternative text and how many data marks (not axes or legends) its SVG holds.
+PAGE_STATE = """
+(() => {
+  const out = {sections: {}, charts: []};
+  for (const s of document.querySelectorAll('main > section')) out.sections[s.id] = s.querySelectorAll('figure.chart').length;
+  for (const f of document.querySelectorAll('figure.chart')) {
+    const body = f.querySelector('.vega');
+    const svg = body && body.querySelector('svg');
+    let marks = 0;
+    if (svg) {
+      for (const g of svg.querySelectorAll('g.role-mark')) {
+        if (g.closest('.role-axis, .role-legend, .role-title')) continue;
+        marks += g.querySelectorAll(':scope > path, :scope > line, :scope > text').length;
+      }
+    }
+    out.charts.push({id: f.id, section: f.closest('section').id, title: (f.querySelector('.chart-title') || {}).textContent || '',
+                     alt: body ? (body.getAttribute('aria-label') || '') : '', svg: !!svg, marks});
+  }
+  return out;
+})()
+"""
+
+VIEWER_STATE = """
+(() => {
+  const s = gazemillReport.viewer.shown;
+  const svg = document.querySelector('#fig-viewer-scanpath svg');
+  const count = (cls) => {
+    let n = 0;
+    for (const g of svg.querySelectorAll('g.' + cls)) if (!g.closest('.role-axis, .role-legend')) n += g.querySelectorAll(':scope > path, :scope > text').length;
+    return n;
+  };
+  return Object.assign({}, s, {symbols: count('mark-symbol'), texts: count('mark-text'),
+    status: document.getElementById('viewer-status').textContent,
+    trialValue: document.getElementById('viewer-trial').value, recordingValue: document.getElementById('viewer-recording').value,
+    timeLines: document.querySelectorAll('#fig-viewer-time svg g.mark-line path').length});
+})()
+"""
+
+
+def browser_messages(b, url):
+    """Console errors, exceptions and error log entries; and every request's URL."""
+    errors, requests = [], []
+    for e in b.events:
+        m, p = e["method"], e.get("params", {})
+        if m == "Runtime.consoleAPICalled" and p.get("type") in ("error", "assert"):
+            errors.append("console.{}: {}".format(p["type"], " ".join(str(a.get("value", a.get("description", ""))) for a in p.get("args", []))))
+        elif m == "Runtime.exceptionThrown":
+            d = p.get("exceptionDetails", {})
+            errors.append("exception: {} {}".format(d.get("text", ""), d.get("exception", {}).get("description", ""))[:600])
+        elif m == "Log.entryAdded" and p.get("entry", {}).get("level") == "error":
+            errors.append("log: " + p["entry"].get("text", ""))
+        elif m == "Network.requestWillBeSent":
+            requests.append(p.get("request", {}).get("url", ""))
+    return errors, requests
+
+
+def change_select(b, select_id, value):
+    b.evaluate("""(() => { const s = document.getElementById('%s'); s.value = '%s';
+        s.dispatchEvent(new Event('change', {bubbles: true})); return new Promise(r => setTimeout(r, 300)); })()""" % (select_id, value))
+
+
+def main():
+    gazemill, fixtures, outdir = sys.argv[1], sys.argv[2], sys.argv[3]
+    os.makedirs(outdir, exist_ok=True)
+    chromium = find_chromium()
+    with tempfile.TemporaryDirectory(ignore_cleanup_errors=True) as tmp:
+        report = make_demo_report(gazemill, fixtures, tmp)
+        url = "file://" + report
+        print("report: {} ({:.2f} MB)".format(report, os.path.getsize(report) / 1e6))
+        b = Browser(chromium, os.path.join(tmp, "profile"))
+        try:
+            for domain in ("Page", "Runtime", "Log", "Network"):
+                b.send(domain + ".enable")
+            b.send("Emulation.setDeviceMetricsOverride", {"width": 1280, "height": 900, "deviceScaleFactor": 1, "mobile": False})
+            t0 = time.monotonic()
+            b.send("Page.navigate", {"url": url})
+            b.wait_event("Page.loadEventFired")
+            try:
+                ready = b.evaluate("gazemillReport.ready.then(() => Number(document.documentElement.getAttribute('data-ready-ms')))")
+            except RuntimeError as e:
+                for line in browser_messages(b, url)[0]:
+                    print("  ", line)
+                raise
+            wall = time.monotonic() - t0
+            print("interactive {} ms after navigation started (page clock); {:.2f} s as this script saw it".format(ready, wall))
+            check(ready is not None and ready > 0, "the page says when it is ready")
+            check(b.evaluate("document.documentElement.getAttribute('data-error')") is None, "no error while drawing the charts")
+
+            state = b.evaluate(PAGE_STATE)
+            for s in SECTIONS:
+                check(state["sections"].get(s, 0) >= 1, "section '{}' is present with at least one chart".format(s))
+            for c in state["charts"]:
+                check(c["svg"] and c["marks"] > 0, "chart {} in '{}' drew data marks ({})".format(c["id"], c["section"], c["marks"]))
+                check(len(c["title"].strip()) > 0, "chart {} has a title".format(c["id"]))
+                check(len(c["alt"].strip()) > 20, "chart {} has an alternative text".format(c["id"]))
+            print("{} charts in {} sections".format(len(state["charts"]), len(state["sections"])))
+
+            # The trial viewer: first trial shown, then another trial, another participant, next.
+            first = b.evaluate(VIEWER_STATE)
+            check(first["kept"] > 0 and first["symbols"] >= first["kept"], "the first trial's fixations are drawn")
+            check(first["chars"] > 20 and first["texts"] >= first["chars"], "the first trial's text is drawn, letter by letter")
+            check(first["timeLines"] >= 2, "the time course draws x and y")
+            change_select(b, "viewer-trial", "5")
+            second = b.evaluate(VIEWER_STATE)
+            print("viewer, first:", {k: first[k] for k in ("trial", "kept", "fixations", "symbols", "chars", "texts")})
+            print("viewer, after choosing trial 5:", {k: second[k] for k in ("trial", "kept", "fixations", "symbols", "chars", "texts")})
+            check(second["trial"] != first["trial"] and second["trialValue"] == "5", "choosing a trial shows it")
+            check(second["status"] != first["status"] and "trial " + second["trial"] in second["status"], "the status names the trial shown")
+            check(second["symbols"] >= second["fixations"] > 0, "the chosen trial's fixations, kept and removed, are drawn")
+            change_select(b, "viewer-recording", "2")
+            third = b.evaluate(VIEWER_STATE)
+            check(third["participant"] != second["participant"], "choosing a participant shows their trials")
+            b.evaluate("document.getElementById('viewer-next').click(); new Promise(r => setTimeout(r, 300))")
+            fourth = b.evaluate(VIEWER_STATE)
+            check(fourth["trial"] != third["trial"] and fourth["trialValue"] == "1", "the next button moves on one trial")
+            b.evaluate("(() => { const c = document.getElementById('viewer-aligned'); c.click(); return new Promise(r => setTimeout(r, 300)); })()")
+            check(b.evaluate(VIEWER_STATE)["symbols"] == fourth["symbols"], "drawing on the assigned lines keeps every fixation")
+            b.evaluate("gazemillReport.viewer.select(0, 0).then(() => true)")
+            b.evaluate("(() => { const c = document.getElementById('viewer-aligned'); c.click(); return new Promise(r => setTimeout(r, 200)); })()")
+
+            # Screenshots: the whole page, then the viewer alone.
+            metrics = b.send("Page.getLayoutMetrics")
+            height = int(min(metrics.get("cssContentSize", metrics.get("contentSize"))["height"], 16000))
+            b.send("Emulation.setDeviceMetricsOverride", {"width": 1280, "height": height, "deviceScaleFactor": 1, "mobile": False})
+            b.evaluate("new Promise(r => setTimeout(r, 500))")
+            shot = b.send("Page.captureScreenshot", {"format": "png", "captureBeyondViewport": True})
+            page_png = os.path.join(outdir, "report-demo.png")
+            with open(page_png, "wb") as f:
+                f.write(base64.b64decode(shot["data"]))
+            # And each section alone, to look at in full size.
+            for section in SECTIONS:
+                rect = b.evaluate("(() => { const r = document.getElementById('%s').getBoundingClientRect(); "
+                                  "return [r.x, r.y + window.scrollY, r.width, r.height]; })()" % section)
+                shot = b.send("Page.captureScreenshot", {"format": "png", "captureBeyondViewport": True,
+                                                         "clip": {"x": rect[0], "y": rect[1], "width": rect[2], "height": rect[3], "scale": 1}})
+                with open(os.path.join(outdir, "report-demo-{}.png".format(section)), "wb") as f:
+                    f.write(base64.b64decode(shot["data"]))
+            viewer_png = os.path.join(outdir, "report-demo-viewer.png")
+            check(os.path.getsize(page_png) > 50000, "a screenshot of the page was kept")
+            print("screenshots: {}, {}".format(page_png, viewer_png))
+            shutil.copy(report, os.path.join(outdir, "report-demo.html"))
+
+            # What the browser saw while all this happened.
+            errors, requests = browser_messages(b, url)
+            for e in errors:
+                print("  ", e)
+            check(not errors, "no console errors ({} seen)".format(len(errors)))
+            other = [u for u in requests if u != url]
+            for u in other:
+                print("   request:", u[:200])
+            check(requests.count(url) >= 1, "the page itself was loaded from its file")
+            check(not other, "no network request besides the page's own file ({} seen)".format(len(other)))
+        finally:
+            b.close()
+
+    print("{} passed, {} failed".format(passes, len(failures)))
+    sys.exit(1 if failures else 0)
+
+
+if __name__ == "__main__":
+    main()
