@@ -5,6 +5,7 @@
 #include <cmath>
 #include <map>
 #include <set>
+#include <span>
 
 #include <nlohmann/json.hpp>
 #include <fmt/chrono.h>
@@ -158,17 +159,22 @@ void gather_quality(const Recording& rec, const DetectedEvents* ev, std::optiona
       }
     }
   }
-  const SamplingRegularity r = sampling_regularity(s.time_us);
-  q.intervals += r.intervals;
-  q.irregular_intervals += r.irregular_intervals;
-  q.gaps += r.gaps;
-  q.non_increasing += r.non_increasing;
-  q.longest_gap_us = std::max(q.longest_gap_us, r.longest_gap_us);
-  if (std::isfinite(r.measured_rate_hz)) acc.rates.push_back(r.measured_rate_hz);
-  if (std::isfinite(r.interval_sd_us)) {
-    const std::uint64_t regular = r.intervals - r.gaps - r.non_increasing;
-    acc.interval_sd_weighted += r.interval_sd_us * r.interval_sd_us * static_cast<double>(regular);
-    acc.regular_intervals += regular;
+  // Regularity inside the trials: the pauses between trials are the experiment's, not the tracker's.
+  for (const auto& tr : rec.trials) {
+    const auto [a, b] = sample_range(s.time_us, tr.start_us, tr.end_us + 1);
+    if (b < a + 2) continue;
+    const SamplingRegularity r = sampling_regularity(std::span<const Microseconds>(s.time_us.data() + a, b - a));
+    q.intervals += r.intervals;
+    q.irregular_intervals += r.irregular_intervals;
+    q.gaps += r.gaps;
+    q.non_increasing += r.non_increasing;
+    q.longest_gap_us = std::max(q.longest_gap_us, r.longest_gap_us);
+    if (std::isfinite(r.measured_rate_hz)) acc.rates.push_back(r.measured_rate_hz);
+    if (std::isfinite(r.interval_sd_us)) {
+      const std::uint64_t regular = r.intervals - r.gaps - r.non_increasing;
+      acc.interval_sd_weighted += r.interval_sd_us * r.interval_sd_us * static_cast<double>(regular);
+      acc.regular_intervals += regular;
+    }
   }
   q.nominal_rate_hz = rec.sample_rate_hz;
   if (ev) gather_precision(rec, *ev, choice, acc);
@@ -667,12 +673,21 @@ class Assembler {
       for (const auto* c : factor_cols) levels.push_back(c ? (*c)[r] : std::string());
       cells[r] = cell_text(factors, cell_key(levels));
     }
-    std::set<std::string> role_set;
-    for (std::size_t r = 0; r < wide.rows; ++r) role_set.insert(role ? (*role)[r] : std::string());
-    for (const auto& x : role_set) {
-      if (!x.empty()) ms.roles.push_back(x);
+    // Roles in reading order: by the mean region number they are given to; regions without one last.
+    std::map<std::string, std::pair<double, std::size_t>> role_position;
+    const auto* region_no = num_col("region");
+    for (std::size_t r = 0; r < wide.rows; ++r) {
+      auto& p = role_position[role ? (*role)[r] : std::string()];
+      p.first += region_no ? (*region_no)[r] : 0.0;
+      ++p.second;
     }
-    if (role_set.count("")) ms.roles.push_back("");
+    std::vector<std::pair<double, std::string>> ordered;
+    for (const auto& [x, p] : role_position) {
+      if (!x.empty()) ordered.emplace_back(p.first / static_cast<double>(p.second), x);
+    }
+    std::sort(ordered.begin(), ordered.end());
+    for (const auto& [pos, x] : ordered) ms.roles.push_back(x);
+    if (role_position.count("")) ms.roles.push_back("");
     auto role_of = [&](std::size_t r) { return role ? (*role)[r] : std::string(); };
     for (const auto& m : ms.measures) {
       const auto* col = num_col(m);

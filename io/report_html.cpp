@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
+#include <zlib.h>
 
 #include <algorithm>
 #include <cmath>
@@ -325,26 +326,61 @@ std::string base64(const std::vector<unsigned char>& bytes) {
   return out;
 }
 
-// The time course as little-endian int16 pixel values, x and y interleaved,
-// -32768 where a bin had no sample; base64 keeps it to 2.7 characters a value.
-std::string time_course(const std::vector<float>& x, const std::vector<float>& y) {
-  std::vector<unsigned char> bytes;
-  bytes.reserve(x.size() * 4);
-  auto put = [&](float v) {
-    std::int16_t q = -32768;
-    if (std::isfinite(v)) q = static_cast<std::int16_t>(std::clamp(std::lround(v), -32767L, 32767L));
-    const auto u = static_cast<std::uint16_t>(q);
-    bytes.push_back(static_cast<unsigned char>(u & 0xff));
-    bytes.push_back(static_cast<unsigned char>(u >> 8));
+// The time course, x and y interleaved, each as whole pixels in a byte code
+// that keeps a trial near a kilobyte: per value an unsigned LEB128 varint of
+// 0 for an empty bin, else 1 + the zigzag code of the step from that axis's
+// last value (0 before the first). Gaze rests between saccades, so most
+// steps take one byte.
+void append_time_course(std::vector<unsigned char>& bytes, const std::vector<float>& x, const std::vector<float>& y) {
+  std::int64_t last[2] = {0, 0};
+  auto put = [&](float v, int axis) {
+    std::uint64_t code = 0;
+    if (std::isfinite(v)) {
+      const std::int64_t px = std::clamp<std::int64_t>(std::llround(v), -1000000, 1000000);
+      const std::int64_t step = px - last[axis];
+      last[axis] = px;
+      code = 1 + (step >= 0 ? static_cast<std::uint64_t>(step) * 2 : static_cast<std::uint64_t>(-step) * 2 - 1);
+    }
+    do {
+      unsigned char b = code & 0x7f;
+      code >>= 7;
+      if (code) b |= 0x80;
+      bytes.push_back(b);
+    } while (code);
   };
   for (std::size_t i = 0; i < x.size(); ++i) {
-    put(x[i]);
-    put(i < y.size() ? y[i] : std::nanf(""));
+    put(x[i], 0);
+    put(i < y.size() ? y[i] : std::nanf(""), 1);
   }
-  return base64(bytes);
 }
 
-json viewer_json(const ReportViewer& v) {
+// The viewer's data (every trial's fixations and time course, the layouts)
+// is most of a large study's page, and a reader looks at a few trials of it.
+// It travels packed, one block per recording and one for the layouts, each
+// unpacked only when first shown: a little-endian uint32 length, a JSON
+// text, then bytes (the recording's time courses; each trial names its
+// offset and length in them), the whole compressed in the zlib format
+// (RFC 1950, which the browser's DecompressionStream("deflate") reads) and
+// base64-encoded (RFC 4648).
+std::string pack(const json& j, const std::vector<unsigned char>& bytes) {
+  const std::string text = j.dump(-1, ' ', false, json::error_handler_t::replace);
+  std::vector<unsigned char> plain;
+  plain.reserve(4 + text.size() + bytes.size());
+  const auto n = static_cast<std::uint32_t>(text.size());
+  for (int k = 0; k < 4; ++k) plain.push_back(static_cast<unsigned char>((n >> (8 * k)) & 0xff));
+  plain.insert(plain.end(), text.begin(), text.end());
+  plain.insert(plain.end(), bytes.begin(), bytes.end());
+  uLongf size = compressBound(static_cast<uLong>(plain.size()));
+  std::vector<unsigned char> packed(size);
+  if (compress2(packed.data(), &size, plain.data(), static_cast<uLong>(plain.size()), 6) != Z_OK) {
+    throw std::runtime_error("report: the viewer's data could not be compressed");
+  }
+  packed.resize(size);
+  return base64(packed);
+}
+
+// What the page needs before any trial is shown: the screen, the font, the rule names, and who is in it.
+json viewer_meta(const ReportViewer& v) {
   json j;
   j["present"] = v.present;
   if (!v.present) return j;
@@ -354,6 +390,18 @@ json viewer_json(const ReportViewer& v) {
   for (const auto& [c, a] : v.text.advance_px) adv[std::string(1, c)] = num(a, 3);
   j["advances"] = adv;
   j["rules"] = v.rules;
+  json recs = json::array();
+  for (std::size_t i = 0; i < v.recordings.size(); ++i) {
+    const auto& r = v.recordings[i];
+    recs.push_back({{"id", r.id}, {"participant", r.participant}, {"session", r.session}, {"trial_count", r.trials.size()},
+                    {"packed", "gazemill-viewer-r" + std::to_string(i)}});
+  }
+  j["recordings"] = recs;
+  j["layouts_packed"] = "gazemill-viewer-layouts";
+  return j;
+}
+
+json layouts_json(const ReportViewer& v) {
   json layouts = json::array();
   for (const auto& l : v.layouts) {
     json lines = json::array();
@@ -368,37 +416,36 @@ json viewer_json(const ReportViewer& v) {
     for (const auto& w : l.words) words.push_back({w.text, w.line, num(w.left_px, 1)});
     layouts.push_back({{"item", l.item}, {"cell", l.cell}, {"lines", lines}, {"regions", regions}, {"words", words}});
   }
-  j["layouts"] = layouts;
-  json recs = json::array();
-  for (const auto& r : v.recordings) {
-    json trials = json::array();
-    for (const auto& t : r.trials) {
-      // Fixations as arrays: [start ms, duration ms, x px, y px, line] when kept,
-      // [start, duration, x, y, line, rule, merged] when removed.
-      json fix = json::array();
-      for (const auto& f : t.fixations) {
-        json a = {num(f.start_ms, 0), num(f.duration_ms, 0), num(f.x_px, 0), num(f.y_px, 0), f.line};
-        if (f.removed_by >= 0 || f.merged) {
-          a.push_back(f.removed_by);
-          a.push_back(f.merged ? 1 : 0);
-        }
-        fix.push_back(std::move(a));
+  return {{"layouts", layouts}};
+}
+
+// One recording's trials, with their time courses in `samples`.
+json recording_json(const ViewerRecording& r, std::vector<unsigned char>& samples) {
+  json trials = json::array();
+  for (const auto& t : r.trials) {
+    // Fixations as arrays: [start ms, duration ms, x px, y px, line] when kept,
+    // [start, duration, x, y, line, rule, merged] when removed.
+    json fix = json::array();
+    for (const auto& f : t.fixations) {
+      json a = {num(f.start_ms, 0), num(f.duration_ms, 0), num(f.x_px, 0), num(f.y_px, 0), f.line};
+      if (f.removed_by >= 0 || f.merged) {
+        a.push_back(f.removed_by);
+        a.push_back(f.merged ? 1 : 0);
       }
-      json tj = {{"id", t.trial}, {"item", t.item}, {"cell", t.cell}, {"layout", t.layout}, {"duration", num(t.duration_ms, 0)}, {"kept", t.kept ? 1 : 0}, {"f", fix}};
-      if (!t.kept) tj["why"] = t.removed_by_rule + (t.removed_reason.empty() ? "" : ": " + t.removed_reason);
-      if (!t.align_method.empty()) {
-        tj["align"] = {t.align_method, num(t.align_confidence, 3), t.align_flagged ? 1 : 0};
-      }
-      if (!t.x_px.empty()) {
-        tj["bin"] = num(t.bin_ms, 3);
-        tj["s"] = time_course(t.x_px, t.y_px);
-      }
-      trials.push_back(std::move(tj));
+      fix.push_back(std::move(a));
     }
-    recs.push_back({{"id", r.id}, {"participant", r.participant}, {"session", r.session}, {"trials", trials}});
+    json tj = {{"id", t.trial}, {"item", t.item}, {"cell", t.cell}, {"layout", t.layout}, {"duration", num(t.duration_ms, 0)}, {"kept", t.kept ? 1 : 0}, {"f", fix}};
+    if (!t.kept) tj["why"] = t.removed_by_rule + (t.removed_reason.empty() ? "" : ": " + t.removed_reason);
+    if (!t.align_method.empty()) tj["align"] = {t.align_method, num(t.align_confidence, 3), t.align_flagged ? 1 : 0};
+    if (!t.x_px.empty()) {
+      tj["bin"] = num(t.bin_ms, 3);
+      const std::size_t offset = samples.size();
+      append_time_course(samples, t.x_px, t.y_px);
+      tj["s"] = {offset, samples.size() - offset};
+    }
+    trials.push_back(std::move(tj));
   }
-  j["recordings"] = recs;
-  return j;
+  return {{"trials", trials}};
 }
 
 // JSON that may sit inside a <script> element: '<', '>' and '&' only occur in
@@ -457,7 +504,7 @@ void figure(HtmlWriter& w, const Figure& f, const std::string& extra_class = "")
 }
 
 void table(HtmlWriter& w, const std::vector<std::string>& head, const std::vector<std::vector<std::string>>& rows, const std::string& caption,
-           const std::vector<bool>& numeric = {}, const std::string& cls = "") {
+           const std::vector<bool>& numeric = {}, const std::string& cls = "", const std::vector<std::string>& row_classes = {}) {
   w.open("div", {{"class", "table-wrap"}});
   w.open("table", cls.empty() ? Attrs{} : Attrs{{"class", cls}});
   w.element("caption", caption);
@@ -469,8 +516,9 @@ void table(HtmlWriter& w, const std::vector<std::string>& head, const std::vecto
   w.close();
   w.close();
   w.open("tbody");
-  for (const auto& r : rows) {
-    w.open("tr");
+  for (std::size_t k = 0; k < rows.size(); ++k) {
+    const auto& r = rows[k];
+    w.open("tr", k < row_classes.size() && !row_classes[k].empty() ? Attrs{{"class", row_classes[k]}} : Attrs{});
     for (std::size_t i = 0; i < r.size(); ++i) {
       if (i == 0) {
         w.element("th", {{"scope", "row"}}, r[i]);
@@ -528,8 +576,12 @@ void run_section(HtmlWriter& w, const ReportModel& m) {
                  (m.cleaning.present ? thousands(r.trials_kept) + " of " + thousands(r.trials) + " trials were kept."
                                      : std::string("Cleaning has not run, so every trial is shown as kept."))});
   std::vector<std::vector<std::string>> stages;
-  for (const auto& s : r.stages) stages.push_back({s.stage, s.state, s.created_utc.empty() ? "–" : s.created_utc, s.tool_version.empty() ? "–" : s.tool_version, s.note});
-  table(w, {"stage", "state", "ran (UTC)", "gazemill", "note"}, stages, "Stages, in pipeline order", {}, "stages");
+  std::vector<std::string> state_classes;
+  for (const auto& s : r.stages) {
+    stages.push_back({s.stage, s.state, s.created_utc.empty() ? "–" : s.created_utc, s.tool_version.empty() ? "–" : s.tool_version, s.note});
+    state_classes.push_back("state-" + s.state);
+  }
+  table(w, {"stage", "state", "ran (UTC)", "gazemill", "note"}, stages, "Stages, in pipeline order", {}, "stages", state_classes);
   w.open("dl", {{"class", "provenance"}});
   auto row = [&](const std::string& k, const std::string& v, bool code = false) {
     w.element("dt", k);
@@ -602,18 +654,19 @@ void quality_section(HtmlWriter& w, const ReportModel& m) {
       for (const auto& [k, n] : p.repair_kinds) kinds += (kinds.empty() ? "" : ", ") + k + " " + thousands(n);
       repairs += " (" + kinds + ")";
     }
-    rows.push_back({p.participant, std::to_string(p.recordings), std::to_string(p.trials), thousands(p.samples),
-                    fmt_pct(ratio(p.missing_samples, p.samples)), fmt_pct(ratio(p.trial_missing_samples, p.trial_samples)),
-                    fmt_num(p.nominal_rate_hz, 1), fmt_num(p.measured_rate_hz, 1), fmt_num(p.interval_sd_us, 1),
-                    fmt_pct(ratio(p.irregular_intervals, p.intervals), 2), thousands(p.gaps),
+    rows.push_back({p.participant, std::to_string(p.trials), thousands(p.samples), fmt_pct(ratio(p.missing_samples, p.samples)),
+                    fmt_pct(ratio(p.trial_missing_samples, p.trial_samples)),
+                    fmt_num(p.measured_rate_hz, 1) + (std::abs(p.measured_rate_hz - p.nominal_rate_hz) > 0.05 ? " (of " + fmt_num(p.nominal_rate_hz, 1) + ")" : ""),
+                    fmt_num(p.interval_sd_us, 1), fmt_pct(ratio(p.irregular_intervals, p.intervals), 2), thousands(p.gaps),
                     p.longest_gap_us ? fmt_num(static_cast<double>(p.longest_gap_us) / 1000.0, 1) : std::string("–"),
                     fmt_num(p.rms_s2s_deg, 3) + " (" + fmt_num(p.rms_s2s_q1_deg, 3) + "–" + fmt_num(p.rms_s2s_q3_deg, 3) + ")",
                     fmt_num(p.std_deg, 3), thousands(p.precision_fixations), repairs});
   }
   table(w,
-        {"participant", "recordings", "trials", "samples", "missing", "missing in trials", "rate (Hz)", "measured (Hz)", "interval SD (µs)",
-         "irregular", "gaps", "longest gap (ms)", "RMS-S2S (deg)", "STD (deg)", "fixations", "repairs at ingest"},
-        rows, "Data quality per participant", {false, true, true, true, true, true, true, true, true, true, true, true, true, true, true, false});
+        {"participant", "trials", "samples", "missing", "missing in trials", "rate (Hz)", "interval SD (µs)", "irregular", "gaps", "longest gap (ms)",
+         "RMS-S2S (deg)", "STD (deg)", "fixations", "repairs at ingest"},
+        rows, "Data quality per participant (sampling inside trials)",
+        {false, true, true, true, true, true, true, true, true, true, true, true, true, false});
   w.close();
 }
 
@@ -860,7 +913,7 @@ std::string report_html(const ReportModel& m) {
   data["detection"] = detection_json(m.detection);
   data["drift"] = drift_json(m.drift);
   data["measures"] = measures_json(m.measures);
-  data["viewer"] = viewer_json(m.viewer);
+  data["viewer"] = viewer_meta(m.viewer);
   // Trials per participant for the run summary.
   json trials = json::array();
   std::map<std::string, std::pair<std::size_t, std::size_t>> per;
@@ -928,6 +981,14 @@ std::string report_html(const ReportModel& m) {
   w.close();
   w.newline();
   w.script(json_for_script(data), {{"type", "application/json"}, {"id", "gazemill-data"}});
+  if (m.viewer.present) {
+    w.script(pack(layouts_json(m.viewer), {}), {{"type", "application/octet-stream"}, {"id", "gazemill-viewer-layouts"}});
+    for (std::size_t i = 0; i < m.viewer.recordings.size(); ++i) {
+      std::vector<unsigned char> samples;
+      const json r = recording_json(m.viewer.recordings[i], samples);
+      w.script(pack(r, samples), {{"type", "application/octet-stream"}, {"id", "gazemill-viewer-r" + std::to_string(i)}});
+    }
+  }
   w.comment(" Vega and topojson-client, from Debian's libjs-vega:\n" + report_asset("vega-copyright"));
   std::string libraries = report_asset("module-loader.js");
   for (const char* name : {"topojson-client", "vega-util", "vega-time", "vega-format", "vega-statistics", "vega-expression", "vega-event-selector",

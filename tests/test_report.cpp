@@ -10,7 +10,10 @@
 #include <cmath>
 #include <filesystem>
 #include <fstream>
+#include <optional>
 #include <regex>
+
+#include <zlib.h>
 
 #include "app/protocol_parser.h"
 #include "app/report_command.h"
@@ -74,6 +77,12 @@ std::string data_block(const std::string& html) {
   const auto a = html.find(open);
   const auto b = html.find("</script>", a);
   return html.substr(a + open.size(), b - a - open.size());
+}
+
+std::string script_block(const std::string& html, const std::string& id) {
+  const auto a = html.find("id=\"" + id + "\">");
+  const auto b = html.find("</script>", a);
+  return html.substr(a + id.size() + 6, b - a - id.size() - 6);
 }
 
 std::vector<unsigned char> from_base64(const std::string& s) {
@@ -196,45 +205,75 @@ TEST(ReportHtml, EscapesEveryText) {
   const std::string html = report_html(m);
   EXPECT_EQ(html.find("<script>alert"), std::string::npos);
   EXPECT_EQ(html.find("<b>bold"), std::string::npos);
-  EXPECT_NE(html.find("&lt;script&gt;alert(&#39;name&#39;)&lt;/script&gt;"), std::string::npos);  // in the title attribute-free text
-  // Exactly three script elements: the data, the libraries, the page's own script.
+  EXPECT_NE(html.find("&lt;script&gt;alert('name')&lt;/script&gt;"), std::string::npos);  // as text (quotes need no escape there)
+  // Exactly five script elements: the data, the viewer's packed layouts and its one recording, the libraries, the page's own script.
   std::size_t opens = 0, closes = 0;
   for (std::size_t p = 0; (p = html.find("<script", p)) != std::string::npos; ++p) ++opens;
   for (std::size_t p = 0; (p = html.find("</script", p)) != std::string::npos; ++p) ++closes;
-  EXPECT_EQ(opens, 3u);
-  EXPECT_EQ(closes, 3u);
+  EXPECT_EQ(opens, 5u);
+  EXPECT_EQ(closes, 5u);
   const auto j = nlohmann::json::parse(data_block(html));
   EXPECT_EQ(j["run"]["study"], "<script>alert('name')</script>");
   EXPECT_EQ(j["cleaning"]["rules"][0]["name"], "</script><script>alert(1)</script>");
   EXPECT_EQ(j["viewer"]["rules"][0], "</script><!--");
 }
 
-// The time course reads back: little-endian int16 pixels, x and y
-// interleaved, -32768 for an empty bin (the encoding the page's script
-// decodes), base64 as RFC 4648.
+// The time course reads back: per value an unsigned LEB128 varint (as DWARF
+// and Protocol Buffers write them), 0 for an empty bin, else 1 + the zigzag
+// code of the step from the axis's last value (the encoding the page's
+// script decodes); base64 as RFC 4648.
 TEST(ReportHtml, TimeCourseReadsBack) {
   ReportModel m;
   m.viewer.present = true;
   ViewerTrial t;
   t.trial = "1";
   t.bin_ms = 10;
-  t.x_px = {100.4f, -3.6f, std::nanf(""), 40000.0f};
-  t.y_px = {250.0f, 251.0f, 252.0f, std::nanf("")};
+  t.x_px = {100.4f, -3.6f, std::nanf(""), 40000.0f, 39999.0f};
+  t.y_px = {250.0f, 251.0f, 252.0f, std::nanf(""), 250.0f};
   m.viewer.recordings.push_back({"r1", "p1", "", {t}});
-  const auto j = nlohmann::json::parse(data_block(report_html(m)));
-  const auto bytes = from_base64(j["viewer"]["recordings"][0]["trials"][0]["s"].get<std::string>());
-  ASSERT_EQ(bytes.size(), 16u);
-  std::vector<int> v;
-  for (std::size_t i = 0; i < bytes.size(); i += 2) v.push_back(static_cast<std::int16_t>(bytes[i] | (bytes[i + 1] << 8)));
-  EXPECT_EQ(v, (std::vector<int>{100, 250, -4, 251, -32768, 252, 32767, -32768}));
+  // The recording's packed block: zlib (RFC 1950) over a uint32 length, the JSON, the time courses.
+  const auto packed = from_base64(script_block(report_html(m), "gazemill-viewer-r0"));
+  std::vector<unsigned char> plain(1 << 16);
+  uLongf size = plain.size();
+  ASSERT_EQ(uncompress(plain.data(), &size, packed.data(), packed.size()), Z_OK);
+  plain.resize(size);
+  const std::uint32_t n = plain[0] | (plain[1] << 8) | (plain[2] << 16) | (static_cast<std::uint32_t>(plain[3]) << 24);
+  const auto j = nlohmann::json::parse(std::string(plain.begin() + 4, plain.begin() + 4 + n));
+  const auto where = j["trials"][0]["s"];
+  const std::vector<unsigned char> bytes(plain.begin() + 4 + n + where[0].get<long>(), plain.begin() + 4 + n + where[0].get<long>() + where[1].get<long>());
+  std::vector<std::optional<long>> values;
+  long last[2] = {0, 0};
+  int axis = 0;
+  for (std::size_t i = 0; i < bytes.size();) {
+    std::uint64_t code = 0;
+    int shift = 0;
+    unsigned char b;
+    do {
+      b = bytes[i++];
+      code |= static_cast<std::uint64_t>(b & 0x7f) << shift;
+      shift += 7;
+    } while (b & 0x80);
+    if (code == 0) {
+      values.push_back(std::nullopt);
+    } else {
+      const std::uint64_t z = code - 1;
+      last[axis] += (z % 2 == 0) ? static_cast<long>(z / 2) : -static_cast<long>((z + 1) / 2);
+      values.push_back(last[axis]);
+    }
+    axis = 1 - axis;
+  }
+  const std::vector<std::optional<long>> expected = {100, 250, -4, 251, std::nullopt, 252, 40000, std::nullopt, 39999, 250};
+  EXPECT_EQ(values, expected);
+  // A small step costs one byte: y back at 250 from 252 is a step of -2, zigzag 3, code 4.
+  EXPECT_EQ(bytes.back(), 4u);
 }
 
 // Every chart is a figure with a title and an alternative text, on a page
 // built from the demo study (the browser test renders the same page).
 TEST(ReportHtml, EveryChartHasATitleAndAlternativeText) {
   const std::string html = report_html(assemble_report(demo().store));
-  const std::regex chart(R"(<figure class="chart[^"]*" id="([^"]+)"><figcaption><span class="chart-title">([^<]+)</span>)");
-  const std::regex alt(R"(<div class="vega" data-chart="([^"]+)" role="img" aria-label="([^"]*)">)");
+  const std::regex chart(R"re(<figure class="chart[^"]*" id="([^"]+)"><figcaption><span class="chart-title">([^<]+)</span>)re");
+  const std::regex alt(R"re(<div class="vega" data-chart="([^"]+)" role="img" aria-label="([^"]*)">)re");
   std::size_t figures = 0, alts = 0;
   for (auto it = std::sregex_iterator(html.begin(), html.end(), chart); it != std::sregex_iterator(); ++it) ++figures;
   for (auto it = std::sregex_iterator(html.begin(), html.end(), alt); it != std::sregex_iterator(); ++it) {

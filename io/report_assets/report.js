@@ -1,6 +1,6 @@
 // gazemill study report: builds a Vega specification for every chart from
 // the page's embedded data, renders them as SVG, and runs the trial viewer.
-// Nothing is fetched: the data are in <script id="gazemill-data">, the
+// Nothing is fetched: the data are in the script element "gazemill-data", the
 // libraries in the script before this one.
 (function () {
   "use strict";
@@ -34,13 +34,23 @@
     range: { category: OKABE_ITO }
   };
 
+  var timings = { script_start: performance.now() };
   var data = JSON.parse(document.getElementById("gazemill-data").textContent);
+  timings.data_parsed = performance.now();
   var views = {};
 
   // --- helpers ------------------------------------------------------------------------------
 
+  // Every chart's width is read once, before any is drawn: reading a width after
+  // the page has changed makes the browser lay the whole page out again.
+  var containerWidths = new Map();
+  function widthOfContainer(el) {
+    if (!containerWidths.has(el)) containerWidths.set(el, el.clientWidth);
+    return containerWidths.get(el);
+  }
+
   function widthOf(el, fallback) {
-    var w = el.clientWidth || (el.parentNode && el.parentNode.clientWidth) || fallback || 700;
+    var w = widthOfContainer(el) || fallback || 700;
     return Math.max(260, Math.floor(w) - 90);
   }
   function cellLabel(c) { return c ? c : "all cells"; }
@@ -88,7 +98,7 @@
         { orient: "bottom", scale: "x", title: "participant", labelAngle: -45, labelAlign: "right", labelOverlap: true },
         { orient: "left", scale: "y", title: "trials", grid: true, tickCount: 5 }
       ],
-      legends: [{ fill: "c", orient: "top-right", direction: "horizontal" }],
+      legends: [{ fill: "c", orient: "top", direction: "horizontal" }],
       marks: [{
         type: "rect", from: { data: "t" },
         encode: { update: {
@@ -113,7 +123,7 @@
         { orient: "bottom", scale: "x", title: "participant", labelAngle: -45, labelAlign: "right", labelOverlap: true },
         { orient: "left", scale: "y", title: "samples without gaze", format: ".1%", grid: true, tickCount: 5 }
       ],
-      legends: [{ fill: "c", orient: "top-right", direction: "horizontal", symbolType: "square" }],
+      legends: [{ fill: "c", orient: "top", direction: "horizontal", symbolType: "square" }],
       marks: [
         { type: "rect", from: { data: "q" }, encode: { update: {
           x: { scale: "x", field: "participant" }, width: { scale: "x", band: 1 }, y: { scale: "y", field: "trial_missing" }, y2: { scale: "y", value: 0 },
@@ -141,7 +151,7 @@
         { orient: "bottom", scale: "x", title: "participant", labelAngle: -45, labelAlign: "right", labelOverlap: true },
         { orient: "left", scale: "y", title: "degrees", grid: true, tickCount: 5 }
       ],
-      legends: [{ stroke: "c", orient: "top-right", direction: "horizontal", symbolType: "circle" }],
+      legends: [{ stroke: "c", orient: "top", direction: "horizontal", symbolType: "circle" }],
       marks: [
         { type: "rule", from: { data: "q" }, encode: { update: { x: { scale: "x", field: "participant" }, y: { scale: "y", field: "rms_q1" },
           y2: { scale: "y", field: "rms_q3" }, stroke: { value: BLUE }, strokeWidth: { value: 2 } } } },
@@ -172,13 +182,14 @@
         share: f.input ? f.remaining / f.input : 1, rule: (f.rule + 1) + ". " + c.rules[f.rule].name, n: f.remaining });
     });
     var steps = ["in"].concat(c.rules.map(function (r, i) { return String(i + 1); }));
-    var total = widthOf(el);
+    var total = widthOfContainer(el) || 900;
     var columns = total > 900 ? 4 : 2;
-    var w = Math.floor((total - (columns - 1) * 40) / columns) - 30;
+    var w = Math.floor((total - (cells.length ? 170 : 0) - columns * 60 - (columns - 1) * 30) / columns);
     return {
       data: [{ name: "flow", values: rows }],
       scales: [cellColours(cells)],
-      layout: { columns: columns, padding: { column: 40, row: 30 }, bounds: "full" },
+      autosize: "pad",
+      layout: { columns: columns, padding: { column: 30, row: 30 }, bounds: "full" },
       legends: cells.length ? [{ stroke: "cellcolour", title: "design cell", orient: "right", symbolType: "stroke" }] : [],
       marks: [{
         type: "group",
@@ -187,8 +198,8 @@
         title: { text: { signal: "parent.level" }, fontSize: 12 },
         encode: { update: { width: { value: w }, height: { value: 150 } } },
         scales: [
-          { name: "x", type: "point", domain: steps, range: "width", padding: 0.3 },
-          { name: "y", type: "linear", domain: { data: "f", field: "share" }, range: "height", nice: true, zero: false }
+          { name: "x", type: "point", domain: steps, range: [0, w], padding: 0.3 },
+          { name: "y", type: "linear", domain: { data: "f", field: "share" }, range: [150, 0], nice: true, zero: false }
         ],
         axes: [
           { orient: "bottom", scale: "x", title: "after rule", labelOverlap: true },
@@ -307,14 +318,14 @@
         { orient: "bottom", scale: "x", title: xTitle, tickCount: 10 },
         { orient: "left", scale: "y", title: "count", grid: true, tickCount: 5, format: "~s" }
       ],
-      legends: [{ fill: "c", orient: "top-right" }],
+      legends: [{ fill: "c", orient: "top", direction: "horizontal" }],
       marks: [
         { type: "rect", from: { data: "h" }, encode: { update: {
           x: { scale: "x", field: "x0", offset: 0.5 }, x2: { scale: "x", field: "x1", offset: -0.5 }, y: { scale: "y", field: "count" }, y2: { scale: "y", value: 0 },
           fill: { value: SKY }, tooltip: { signal: "format(datum.x0, '.4~f') + '–' + format(datum.x1, '.4~f') + ': ' + format(datum.count, ',')" } } } },
         { type: "line", from: { data: "o" }, encode: { update: {
           x: { scale: "x", field: "x" }, y: { scale: "y", field: "count" }, stroke: { value: BLUE }, strokeWidth: { value: 2 },
-          interpolate: { value: "monotone" }, opacity: { value: hasOver ? 1 : 0 } } } }
+          opacity: { value: hasOver ? 1 : 0 } } } }
       ]
     };
   }
@@ -424,7 +435,7 @@
         { orient: "bottom", scale: "x", title: "confidence", tickCount: 10 },
         { orient: "left", scale: "y", title: "trials", grid: true, tickCount: 5 }
       ],
-      legends: [{ fill: "c", orient: "top-left" }],
+      legends: [{ fill: "c", orient: "top", direction: "horizontal" }],
       marks: [{ type: "rect", from: { data: "h" }, encode: { update: {
         x: { scale: "x", field: "x0", offset: 0.5 }, x2: { scale: "x", field: "x1", offset: -0.5 }, y: { scale: "y", field: "y1" }, y2: { scale: "y", field: "y0" },
         fill: { scale: "c", field: "status" }, tooltip: { signal: "format(datum.x0, '.2f') + '–' + format(datum.x1, '.2f') + ': ' + datum.n + ' ' + datum.status" } } } }]
@@ -519,60 +530,107 @@
     });
     var groups = {};
     rows.forEach(function (r) { groups[r.group] = true; });
-    var nGroups = Object.keys(groups).length;
-    var total = widthOf(el), w = Math.floor((total - 200) / 3) - 20;
+    var H = 26 * Object.keys(groups).length;
+    var gap = 30, total = widthOfContainer(el) || 900, labelW = 220;
+    var w = Math.max(110, Math.floor((total - labelW - 2 * gap - 24) / 3));
     var cs = cells.length ? cells : ["all trials"];
-    return {
-      data: [{ name: "p", values: rows }, { name: "dots", values: dots }],
-      scales: [
-        { name: "y", type: "band", domain: { data: "p", field: "group", sort: { field: "roleOrder", op: "min" } }, range: [0, 28 * nGroups], padding: 0.3 },
-        { name: "c", type: "ordinal", domain: cs, range: OKABE_ITO }
-      ],
-      layout: { columns: 3, padding: { column: 24 }, bounds: "full" },
-      marks: [{
+    var panels = ["skipping", "regression out", "regression in"].map(function (name, i) {
+      return {
         type: "group",
-        from: { facet: { name: "f", data: "p", groupby: "measure", aggregate: { fields: ["order"], ops: ["min"], as: ["order"] } } },
-        sort: { field: "datum.order" },
-        title: { text: { signal: "parent.measure" }, fontSize: 12 },
-        encode: { update: { width: { value: Math.max(120, w) }, height: { value: 28 * nGroups } } },
-        data: [{ name: "fd", source: "dots", transform: [{ type: "filter", expr: "datum.measure == parent.measure" }] }],
-        scales: [{ name: "x", type: "linear", domain: [0, 1], range: "width" }],
-        axes: [
-          { orient: "bottom", scale: "x", format: ".0%", grid: true, tickCount: 4 },
-          { orient: "left", scale: "y", labels: { signal: "parent.order == 0" }, labelLimit: 190, ticks: false, domain: false }
+        title: { text: name, fontSize: 12 },
+        encode: { update: { x: { value: i * (w + gap) }, width: { value: w }, height: { value: H } } },
+        data: [
+          { name: "f" + i, source: "p", transform: [{ type: "filter", expr: "datum.measure == '" + name + "'" }] },
+          { name: "d" + i, source: "dots", transform: [{ type: "filter", expr: "datum.measure == '" + name + "'" }] }
         ],
+        scales: [{ name: "x", type: "linear", domain: [0, 1], range: [0, w] }],
+        axes: [{ orient: "bottom", scale: "x", format: ".0%", grid: true, tickCount: 4 }],
         marks: [
-          { type: "rect", from: { data: "f" }, encode: { update: {
+          { type: "rect", from: { data: "f" + i }, encode: { update: {
             y: { scale: "y", field: "group" }, height: { scale: "y", band: 1 }, x: { scale: "x", value: 0 }, x2: { scale: "x", field: "p" },
-            fill: { scale: "c", field: "cell" }, fillOpacity: { value: 0.45 },
+            fill: { scale: "c", field: "cell" }, fillOpacity: { value: 0.45 }, stroke: { scale: "c", field: "cell" },
             tooltip: { signal: "datum.group + ', ' + datum.measure + ': ' + format(datum.p, '.1%') + ' of ' + datum.n" } } } },
-          { type: "symbol", from: { data: "fd" }, encode: { update: {
-            y: { scale: "y", field: "group", band: 0.5 }, x: { scale: "x", field: "p" }, size: { value: 12 }, fill: { value: "#1d232b" }, fillOpacity: { value: 0.5 },
+          { type: "symbol", from: { data: "d" + i }, encode: { update: {
+            y: { scale: "y", field: "group", band: 0.5 }, x: { scale: "x", field: "p" }, size: { value: 14 }, fill: { value: "#1d232b" }, fillOpacity: { value: 0.5 },
             tooltip: { signal: "datum.participant + ': ' + format(datum.p, '.1%') + ' of ' + datum.n" } } } }
         ]
-      }]
+      };
+    });
+    return {
+      width: 3 * w + 2 * gap, height: H, autosize: "pad",
+      data: [{ name: "p", values: rows }, { name: "dots", values: dots }],
+      scales: [
+        { name: "y", type: "band", domain: { data: "p", field: "group", sort: { field: "roleOrder", op: "min" } }, range: [0, H], padding: 0.3 },
+        { name: "c", type: "ordinal", domain: cs, range: OKABE_ITO }
+      ],
+      axes: [{ orient: "left", scale: "y", labelLimit: labelW - 10 }],
+      marks: panels
     };
   };
 
   // --- the trial viewer -------------------------------------------------------------------------
 
+  // The viewer's data travels packed (io/report_html.cpp, pack): one block per
+  // recording and one for the layouts, each base64 of zlib-compressed bytes
+  // holding a uint32 length, a JSON text, then bytes (the time courses), and
+  // each unpacked when first needed.
   var V = data.viewer;
+  V.layouts = null;
+  var unpacked = {};
+  function unpack(id) {
+    if (!unpacked[id]) {
+      var el = document.getElementById(id);
+      if (!el) return Promise.reject(new Error("gazemill report: the page lacks its block " + id));
+      var text = atob(el.textContent.trim()), bytes = new Uint8Array(text.length);
+      for (var i = 0; i < text.length; ++i) bytes[i] = text.charCodeAt(i);
+      var stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream("deflate"));
+      unpacked[id] = new Response(stream).arrayBuffer().then(function (buf) {
+        var n = new DataView(buf).getUint32(0, true);
+        return { json: JSON.parse(new TextDecoder().decode(new Uint8Array(buf, 4, n))), bytes: new Uint8Array(buf, 4 + n) };
+      });
+    }
+    return unpacked[id];
+  }
+  // A recording with its trials and time courses, and the layouts, once unpacked.
+  function loadRecording(i) {
+    var rec = V.recordings[i];
+    return Promise.all([unpack(rec.packed), unpack(V.layouts_packed)]).then(function (parts) {
+      rec.trials = parts[0].json.trials;
+      rec.samples = parts[0].bytes;
+      V.layouts = parts[1].json.layouts;
+      return rec;
+    });
+  }
   var viewerState = { recording: 0, trial: 0, aligned: false, removed: true };
 
-  function decodeTimeCourse(t) {
-    if (!t.s) return [];
-    var bin = atob(t.s), bytes = new Uint8Array(bin.length);
-    for (var i = 0; i < bin.length; ++i) bytes[i] = bin.charCodeAt(i);
-    var view = new DataView(bytes.buffer), rows = [];
-    for (var k = 0; k + 3 < bytes.length; k += 4) {
-      var x = view.getInt16(k, true), y = view.getInt16(k + 2, true), time = (k / 4 + 0.5) * t.bin;
-      rows.push({ t: time, axis: "x", v: x === -32768 ? null : x });
-      rows.push({ t: time, axis: "y", v: y === -32768 ? null : y });
+  // The time course's byte code (io/report_html.cpp, time_course): per value a
+  // varint, 0 for an empty bin, else 1 + the zigzag step from the axis's last value.
+  function decodeTimeCourse(rec, t) {
+    if (!t.s || !rec.samples) return [];
+    var bytes = rec.samples.subarray(t.s[0], t.s[0] + t.s[1]), rows = [], last = [0, 0], axis = 0, k = 0, time = 0;
+    var names = ["x", "y"];
+    for (var i = 0; i < bytes.length;) {
+      var code = 0, shift = 0, b;
+      do {
+        b = bytes[i++];
+        code += (b & 0x7f) * Math.pow(2, shift);
+        shift += 7;
+      } while (b & 0x80);
+      var v = null;
+      if (code > 0) {
+        var z = code - 1;
+        last[axis] += (z % 2 === 0) ? z / 2 : -(z + 1) / 2;
+        v = last[axis];
+      }
+      time = (Math.floor(k / 2) + 0.5) * t.bin;
+      rows.push({ t: time, axis: names[axis], v: v });
+      ++k;
+      axis = 1 - axis;
     }
     return rows;
   }
 
-  function layoutOf(t) { return t.layout >= 0 ? V.layouts[t.layout] : null; }
+  function layoutOf(t) { return t.layout >= 0 && V.layouts ? V.layouts[t.layout] : null; }
 
   function advance(c) {
     var a = V.advances && V.advances[c];
@@ -580,7 +638,7 @@
   }
 
   // The trial's data for the two charts: text, regions, fixations, saccades, time course.
-  function trialData(t) {
+  function trialData(rec, t) {
     var layout = layoutOf(t);
     var chars = [], regions = [], lines = [];
     if (layout) {
@@ -609,7 +667,7 @@
     var kept = fix.filter(function (f) { return !f.removed && f.x !== null; });
     var sacc = [];
     for (var i = 1; i < kept.length; ++i) sacc.push({ x: kept[i - 1].x, y: kept[i - 1].y, ya: kept[i - 1].ya, x2: kept[i].x, y2: kept[i].y, ya2: kept[i].ya });
-    return { chars: chars, regions: regions, lines: lines, fix: fix, sacc: sacc, samples: decodeTimeCourse(t) };
+    return { chars: chars, regions: regions, lines: lines, fix: fix, sacc: sacc, samples: decodeTimeCourse(rec, t) };
   }
 
   function extent(td) {
@@ -625,7 +683,7 @@
   var ROLE_FILL = { target: "#fbe3b3", spillover: "#d6ebf7" };
 
   function scanpathSpec(el) {
-    var w = widthOf(el, 1000) + 60;
+    var w = Math.max(300, (widthOfContainer(el) || 1000) - 24);
     return {
       width: w, height: 300, autosize: "none", padding: { left: 10, right: 10, top: 10, bottom: 10 },
       signals: [
@@ -643,7 +701,8 @@
         { name: "size", type: "linear", domain: [0, 600], range: [0, { signal: "1500 * pxScale * pxScale" }], clamp: false, zero: true },
         { name: "rulecolour", type: "ordinal", domain: { data: "removedFix", field: "ruleName" }, range: [VERMILLION, PURPLE, ORANGE, GREEN, "#1d232b", SKY, BLUE] }
       ],
-      legends: [{ stroke: "rulecolour", title: "removed by", orient: "top-right", symbolType: "cross", symbolSize: 80, labelLimit: 320 }],
+      legends: [{ stroke: "rulecolour", title: "removed by", orient: "top-right", symbolType: "cross", symbolSize: 80, labelLimit: 320,
+        encode: { title: { update: { opacity: { signal: "length(data('removedFix')) ? 1 : 0" } } } } }],
       marks: [
         { type: "rect", from: { data: "regions" }, encode: { update: {
           x: { scale: "x", field: "left" }, x2: { scale: "x", field: "right" }, y: { scale: "y", field: "top" }, y2: { scale: "y", field: "bottom" },
@@ -675,7 +734,7 @@
   }
 
   function timeSpec(el) {
-    var w = widthOf(el, 1000) - 20, h = 110;
+    var w = Math.max(300, (widthOfContainer(el) || 1000) - 80), h = 110;
     function panel(axis, y0, colour, title) {
       return {
         type: "group", encode: { update: { x: { value: 0 }, y: { value: y0 }, width: { signal: "width" }, height: { value: h } } },
@@ -692,7 +751,7 @@
       };
     }
     return {
-      width: w, height: 2 * h + 24, autosize: "pad",
+      width: w, height: 2 * h + 24, autosize: "pad", padding: { left: 64, right: 8, top: 4, bottom: 4 },
       signals: [{ name: "duration", value: 1000 }],
       data: [{ name: "samples", values: [] }, { name: "fixspans", values: [] }],
       scales: [
@@ -744,10 +803,13 @@
   }
 
   function showTrial() {
-    var rec = V.recordings[viewerState.recording];
+    return loadRecording(viewerState.recording).then(drawTrial);
+  }
+
+  function drawTrial(rec) {
     var t = rec.trials[viewerState.trial];
     if (!t) return Promise.resolve();
-    var td = trialData(t);
+    var td = trialData(rec, t);
     var ex = extent(td);
     var sv = views["viewer-scanpath"], tv = views["viewer-time"];
     var jobs = [];
@@ -781,17 +843,21 @@
     shown: null,
     select: function (recording, trial) {
       viewerState.recording = recording;
-      viewerState.trial = trial || 0;
       document.getElementById("viewer-recording").value = String(recording);
-      fillTrialSelect();
-      return showTrial();
+      return loadRecording(recording).then(function (rec) {
+        viewerState.trial = trial < 0 ? rec.trials.length - 1 : (trial || 0);
+        fillTrialSelect();
+        return drawTrial(rec);
+      });
     },
     open: function (recordingId, trialId) {
       for (var i = 0; i < V.recordings.length; ++i) {
         if (V.recordings[i].id !== recordingId) continue;
-        for (var k = 0; k < V.recordings[i].trials.length; ++k) {
-          if (V.recordings[i].trials[k].id === trialId) return viewerApi.select(i, k);
-        }
+        return loadRecording(i).then(function (rec) {
+          for (var k = 0; k < rec.trials.length; ++k) {
+            if (rec.trials[k].id === trialId) return viewerApi.select(V.recordings.indexOf(rec), k);
+          }
+        });
       }
       return Promise.resolve();
     }
@@ -800,7 +866,7 @@
   function step(delta) {
     var rec = V.recordings[viewerState.recording];
     var next = viewerState.trial + delta;
-    if (next < 0 && viewerState.recording > 0) return viewerApi.select(viewerState.recording - 1, V.recordings[viewerState.recording - 1].trials.length - 1);
+    if (next < 0 && viewerState.recording > 0) return viewerApi.select(viewerState.recording - 1, -1);
     if (next >= rec.trials.length && viewerState.recording + 1 < V.recordings.length) return viewerApi.select(viewerState.recording + 1, 0);
     viewerState.trial = Math.max(0, Math.min(rec.trials.length - 1, next));
     document.getElementById("viewer-trial").value = String(viewerState.trial);
@@ -809,7 +875,6 @@
 
   function wireViewer() {
     if (!V.present || !V.recordings.length) return;
-    fillTrialSelect();
     document.getElementById("viewer-recording").addEventListener("change", function (e) { viewerApi.select(Number(e.target.value), 0); });
     document.getElementById("viewer-trial").addEventListener("change", function (e) { viewerState.trial = Number(e.target.value); showTrial(); });
     document.getElementById("viewer-prev").addEventListener("click", function () { step(-1); });
@@ -847,25 +912,49 @@
       var build = builders[key];
       if (!build) throw new Error("no chart named " + key);
       var spec = build(el);
+      // Single-panel charts fill their figure's width, axes and legends included;
+      // faceted ones size their panels themselves.
+      if (!spec.layout && !spec.autosize) {
+        spec.autosize = { type: "fit-x", contains: "padding" };
+        spec.width = Math.max(280, widthOfContainer(el) - 4);
+      }
       spec.description = el.getAttribute("aria-label") || "";
       spec.config = CONFIG;
-      var view = new vega.View(vega.parse(spec), { renderer: "svg", container: el, hover: true });
+      var tb = performance.now();
+      var parsed = vega.parse(spec);
+      var tp = performance.now();
+      var view = new vega.View(parsed, { renderer: "svg", container: el, hover: true });
+      timings["build " + key] = [Math.round(tp - tb), Math.round(performance.now() - tp)];
       var id = el.closest("figure").id;
       views[key === "viewer-scanpath" || key === "viewer-time" ? key : id] = view;
-      return view.runAsync().catch(function (e) { throw new Error("chart " + key + ": " + (e && e.stack || e)); });
+      var t0 = performance.now();
+      return view.runAsync().then(function (v) { timings["chart " + id] = [Math.round(t0), Math.round(performance.now() - t0)]; return v; })
+        .catch(function (e) { throw new Error("chart " + key + ": " + (e && e.stack || e)); });
     } catch (e) {
       return Promise.reject(new Error("chart " + key + ": " + (e && e.stack || e)));
     }
   }
 
-  var api = { ready: null, views: views, viewer: viewerApi, vega: vega };
+  var api = { ready: null, views: views, viewer: viewerApi, vega: vega, timings: timings };
   globalThis.gazemillReport = api;
-  api.ready = Promise.all(Array.prototype.map.call(document.querySelectorAll(".vega[data-chart]"), render))
+  var chartElements = Array.prototype.slice.call(document.querySelectorAll(".vega[data-chart]"));
+  chartElements.forEach(widthOfContainer);
+  // The first recording's block is unpacked while the charts are drawn.
+  var viewerData = V.present && V.recordings.length ? loadRecording(0).then(fillTrialSelect) : Promise.resolve();
+  // Built all at once: drawing them one per task, to answer input between
+  // them, took half as long again in total (the page is laid out and
+  // painted after every chart).
+  var charts = Promise.all(chartElements.map(render)).then(function () {
+    document.documentElement.setAttribute("data-charts-ms", String(Math.round(performance.now())));
+  });
+  api.ready = Promise.all([charts, viewerData])
     .then(function () {
+      timings.charts_and_viewer = performance.now();
       wireViewer();
       return V.present && V.recordings.length ? showTrial() : null;
     })
     .then(function () {
+      timings.trial_shown = performance.now();
       document.documentElement.setAttribute("data-ready-ms", String(Math.round(performance.now())));
       return true;
     });
