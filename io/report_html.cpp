@@ -659,12 +659,12 @@ void quality_section(HtmlWriter& w, const ReportModel& m) {
                     fmt_num(p.measured_rate_hz, 1) + (std::abs(p.measured_rate_hz - p.nominal_rate_hz) > 0.05 ? " (of " + fmt_num(p.nominal_rate_hz, 1) + ")" : ""),
                     fmt_num(p.interval_sd_us, 1), fmt_pct(ratio(p.irregular_intervals, p.intervals), 2), thousands(p.gaps),
                     p.longest_gap_us ? fmt_num(static_cast<double>(p.longest_gap_us) / 1000.0, 1) : std::string("–"),
-                    fmt_num(p.rms_s2s_deg, 3) + " (" + fmt_num(p.rms_s2s_q1_deg, 3) + "–" + fmt_num(p.rms_s2s_q3_deg, 3) + ")",
+                    fmt_num(p.rms_s2s_deg, 3),
                     fmt_num(p.std_deg, 3), thousands(p.precision_fixations), repairs});
   }
   table(w,
-        {"participant", "trials", "samples", "missing", "missing in trials", "rate (Hz)", "interval SD (µs)", "irregular", "gaps", "longest gap (ms)",
-         "RMS-S2S (deg)", "STD (deg)", "fixations", "repairs at ingest"},
+        {"participant", "trials", "samples", "missing", "in trials", "rate Hz", "interval SD µs", "irregular", "gaps", "longest gap ms",
+         "RMS-S2S deg", "STD deg", "fixations", "repairs at ingest"},
         rows, "Data quality per participant (sampling inside trials)",
         {false, true, true, true, true, true, true, true, true, true, true, true, true, false});
   w.close();
@@ -890,7 +890,7 @@ void viewer_section(HtmlWriter& w, const ReportModel& m) {
   figure(w, {"fig-viewer-scanpath", "viewer-scanpath", "Fixations over the text", "numbered in order; area by duration; crosses: removed by cleaning",
              "The chosen trial's text with its regions and the fixations drawn over it in order."},
          "wide");
-  figure(w, {"fig-viewer-time", "viewer-time", "Gaze over time", "x and y in px (lines), fixations (bars along the top)",
+  figure(w, {"fig-viewer-time", "viewer-time", "Gaze over time", "x and y in px (lines), fixations (shaded spans: blue kept, red removed)",
              "Line chart of the chosen trial's horizontal and vertical gaze position over time, with the fixations as spans."},
          "wide");
   w.close();

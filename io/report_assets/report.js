@@ -709,18 +709,19 @@
           fill: { signal: "datum.role == 'target' ? '" + ROLE_FILL.target + "' : datum.role == 'spillover' ? '" + ROLE_FILL.spillover + "' : '#ffffff'" },
           stroke: { value: "#cfcac0" }, strokeWidth: { value: 0.8 },
           tooltip: { signal: "'region ' + datum.region + (datum.role ? ' (' + datum.role + ')' : '') + ': ' + datum.label" } } } },
-        { type: "text", from: { data: "chars" }, encode: { update: {
-          x: { scale: "x", field: "x" }, y: { scale: "y", field: "y" }, text: { field: "c" }, align: { value: "center" }, baseline: { value: "middle" },
-          font: { value: MONO }, fontSize: { signal: "max(6, charPx * pxScale / 0.62)" }, fill: { value: "#3b434d" } } } },
         { type: "rule", from: { data: "sacc" }, encode: { update: {
           x: { scale: "x", field: "x" }, y: { scale: "y", signal: "aligned ? datum.ya : datum.y" },
           x2: { scale: "x", field: "x2" }, y2: { scale: "y", signal: "aligned ? datum.ya2 : datum.y2" }, stroke: { value: BLUE }, strokeOpacity: { value: 0.55 }, strokeWidth: { value: 1.2 } } } },
         { type: "symbol", from: { data: "kept" }, encode: { update: {
           x: { scale: "x", field: "x" }, y: { scale: "y", signal: "aligned ? datum.ya : datum.y" }, size: { scale: "size", field: "dur" },
-          fill: { value: BLUE }, fillOpacity: { value: 0.28 }, stroke: { value: BLUE }, strokeWidth: { value: 1 },
+          fill: { value: BLUE }, fillOpacity: { value: 0.2 }, stroke: { value: BLUE }, strokeWidth: { value: 1 },
           tooltip: { signal: "'fixation ' + datum.n + ': ' + datum.dur + ' ms at ' + datum.start + ' ms, (' + datum.x + ', ' + datum.y + ') px' + (datum.line >= 0 ? ', line ' + (datum.line + 1) : '')" } } } },
+        { type: "text", from: { data: "chars" }, encode: { update: {
+          x: { scale: "x", field: "x" }, y: { scale: "y", field: "y" }, text: { field: "c" }, align: { value: "center" }, baseline: { value: "middle" },
+          font: { value: MONO }, fontSize: { signal: "max(6, charPx * pxScale / 0.62)" }, fill: { value: "#3b434d" } } } },
         { type: "text", from: { data: "kept" }, encode: { update: {
-          x: { scale: "x", field: "x" }, y: { scale: "y", signal: "aligned ? datum.ya : datum.y" }, text: { field: "n" }, align: { value: "center" }, baseline: { value: "middle" },
+          x: { scale: "x", field: "x" }, text: { field: "n" }, align: { value: "center" }, baseline: { value: "bottom" },
+          y: { signal: "scale('y', aligned ? datum.ya : datum.y) - sqrt(scale('size', datum.dur) / PI) - 1" },
           fontSize: { value: 10 }, fontWeight: { value: 700 }, fill: { value: "#0b3d5e" } } } },
         { type: "symbol", from: { data: "removedFix" }, encode: { update: {
           x: { scale: "x", field: "x" }, y: { scale: "y", field: "y" }, shape: { value: "cross" }, angle: { value: 45 }, size: { value: 90 },
@@ -734,12 +735,12 @@
   }
 
   function timeSpec(el) {
-    var w = Math.max(300, (widthOfContainer(el) || 1000) - 80), h = 110;
+    var w = Math.max(300, (widthOfContainer(el) || 1000) - 110), h = 110;
     function panel(axis, y0, colour, title) {
       return {
         type: "group", encode: { update: { x: { value: 0 }, y: { value: y0 }, width: { signal: "width" }, height: { value: h } } },
         data: [{ name: axis, source: "samples", transform: [{ type: "filter", expr: "datum.axis == '" + axis + "'" }] }],
-        scales: [{ name: "v", type: "linear", domain: { data: axis, field: "v" }, range: [h, 0], nice: true, zero: false }],
+        scales: [{ name: "v", type: "linear", domain: { signal: axis + "dom" }, range: [h, 0], nice: true, zero: false }],
         axes: [{ orient: "left", scale: "v", title: title, tickCount: 4, grid: true }],
         marks: [
           { type: "rect", from: { data: "fixspans" }, encode: { update: {
@@ -752,7 +753,7 @@
     }
     return {
       width: w, height: 2 * h + 24, autosize: "pad", padding: { left: 64, right: 8, top: 4, bottom: 4 },
-      signals: [{ name: "duration", value: 1000 }],
+      signals: [{ name: "duration", value: 1000 }, { name: "xdom", value: [0, 100] }, { name: "ydom", value: [0, 100] }],
       data: [{ name: "samples", values: [] }, { name: "fixspans", values: [] }],
       scales: [
         { name: "t", type: "linear", domain: [0, { signal: "duration" }], range: "width", zero: true },
@@ -815,7 +816,7 @@
     var jobs = [];
     if (sv) {
       var w = sv.width();
-      var h = Math.max(160, Math.min(620, Math.round(w * (ex[3] - ex[2]) / (ex[1] - ex[0]))));
+      var h = Math.max(120, Math.min(620, Math.round(w * (ex[3] - ex[2]) / (ex[1] - ex[0]))));
       // One px of the screen is as wide as it is high on the chart: widen the shorter range.
       var xspan = ex[1] - ex[0], yspan = ex[3] - ex[2];
       if (yspan / xspan > h / w) { var extra = (yspan * w / h - xspan) / 2; ex[0] -= extra; ex[1] += extra; }
@@ -828,6 +829,13 @@
       jobs.push(sv.runAsync());
     }
     if (tv) {
+      // Each axis spans at least 80 px, so that a steady gaze is not drawn as a wild one.
+      ["x", "y"].forEach(function (axis) {
+        var vs = td.samples.filter(function (r) { return r.axis === axis && r.v !== null; }).map(function (r) { return r.v; });
+        var lo = vs.length ? Math.min.apply(null, vs) : 0, hi = vs.length ? Math.max.apply(null, vs) : 100;
+        if (hi - lo < 80) { var mid = (hi + lo) / 2; lo = mid - 40; hi = mid + 40; }
+        tv.signal(axis + "dom", [lo, hi]);
+      });
       tv.signal("duration", t.duration || 1);
       tv.data("samples", td.samples).data("fixspans", td.fix.filter(function (f) { return viewerState.removed || !f.removed; }));
       tv.description("Gaze x and y over the " + t.duration + " ms of trial " + t.id + " of " + rec.participant + ".");
@@ -937,22 +945,49 @@
 
   var api = { ready: null, views: views, viewer: viewerApi, vega: vega, timings: timings };
   globalThis.gazemillReport = api;
+  // Drawing order: the charts on the first screen at once, then the rest a few
+  // per task (so the page answers input meanwhile), any chart scrolled to
+  // first. data-first-screen-ms marks the page usable; data-ready-ms every
+  // chart and the trial viewer drawn.
   var chartElements = Array.prototype.slice.call(document.querySelectorAll(".vega[data-chart]"));
   chartElements.forEach(widthOfContainer);
-  // The first recording's block is unpacked while the charts are drawn.
+  var drawn = new Map();
+  function draw(el) {
+    if (!drawn.has(el)) drawn.set(el, render(el));
+    return drawn.get(el);
+  }
+  function yieldToPage() { return new Promise(function (resolve) { setTimeout(resolve, 0); }); }
+  var screenBottom = window.innerHeight + 200;
+  var firstScreen = chartElements.filter(function (el) { return el.getBoundingClientRect().top < screenBottom; });
+  // The first recording's block is unpacked meanwhile.
   var viewerData = V.present && V.recordings.length ? loadRecording(0).then(fillTrialSelect) : Promise.resolve();
-  // Built all at once: drawing them one per task, to answer input between
-  // them, took half as long again in total (the page is laid out and
-  // painted after every chart).
-  var charts = Promise.all(chartElements.map(render)).then(function () {
-    document.documentElement.setAttribute("data-charts-ms", String(Math.round(performance.now())));
+  var first = Promise.all(firstScreen.map(draw)).then(function () {
+    wireViewer();
+    document.documentElement.setAttribute("data-first-screen-ms", String(Math.round(performance.now())));
   });
-  api.ready = Promise.all([charts, viewerData])
-    .then(function () {
-      timings.charts_and_viewer = performance.now();
-      wireViewer();
-      return V.present && V.recordings.length ? showTrial() : null;
-    })
+  if (typeof IntersectionObserver === "function") {
+    var seen = new IntersectionObserver(function (entries) {
+      entries.forEach(function (e) {
+        if (e.isIntersecting) { draw(e.target); seen.unobserve(e.target); }
+      });
+    }, { rootMargin: "300px" });
+    chartElements.forEach(function (el) { seen.observe(el); });
+  }
+  var rest = first.then(function next() {
+    var batch = chartElements.filter(function (el) { return !drawn.has(el); }).slice(0, 4);
+    if (!batch.length) return Promise.all(chartElements.map(draw));
+    return Promise.all(batch.map(draw)).then(yieldToPage).then(next);
+  });
+  window.addEventListener("beforeprint", function () { chartElements.forEach(draw); });
+  var viewerCharts = chartElements.filter(function (el) { return /^viewer-/.test(el.getAttribute("data-chart")); });
+  var viewerShown = Promise.all([first, viewerData].concat(viewerCharts.map(function (el) {
+    return first.then(function () { return draw(el); });
+  }))).then(function () {
+    timings.charts_and_viewer = performance.now();
+    return V.present && V.recordings.length ? showTrial() : null;
+  });
+  api.firstScreen = first;
+  api.ready = Promise.all([rest, viewerShown])
     .then(function () {
       timings.trial_shown = performance.now();
       document.documentElement.setAttribute("data-ready-ms", String(Math.round(performance.now())));

@@ -119,7 +119,9 @@ def main():
                     print("  ", line)
                 raise
             wall = time.monotonic() - t0
-            print("interactive {} ms after navigation started (page clock); {:.2f} s as this script saw it".format(ready, wall))
+            first_screen = b.evaluate("Number(document.documentElement.getAttribute('data-first-screen-ms'))")
+            print("first screen drawn at {} ms, everything at {} ms after navigation started (page clock); {:.2f} s as this script saw it"
+                  .format(first_screen, ready, wall))
             check(ready is not None and ready > 0, "the page says when it is ready")
             check(b.evaluate("document.documentElement.getAttribute('data-error')") is None, "no error while drawing the charts")
 
