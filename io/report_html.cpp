@@ -545,6 +545,19 @@ void section_start(HtmlWriter& w, const std::string& id, const std::string& numb
 
 void absent(HtmlWriter& w, const std::string& what) { w.element("p", {{"class", "absent"}}, what); }
 
+// Why a stage's results are not in the store: it never ran, or it went stale (and its results were removed).
+std::string missing_stage(const ReportModel& m, const std::string& stage, const std::string& what) {
+  for (const auto& s : m.run.stages) {
+    if (s.stage != stage) continue;
+    if (s.state == "stale") {
+      return what + " is out of date (" + (s.note.empty() ? std::string("made from results that have changed since") : s.note) +
+             "), so the store holds none: run gazemill run (or gazemill " + stage + ").";
+    }
+    if (s.state == "current") return what + " could not be read from the store (see the notes above).";
+  }
+  return what + " has not run on this store: run gazemill run (or gazemill " + stage + ").";
+}
+
 // --- the sections ----------------------------------------------------------------------
 
 void run_section(HtmlWriter& w, const ReportModel& m) {
@@ -676,7 +689,7 @@ void cleaning_section(HtmlWriter& w, const ReportModel& m) {
                 "The protocol's rules in their order: how many samples, fixations, trials and participants each removed, first (sequential) "
                 "and when applied alone, per design cell, and from whom.");
   if (!c.present) {
-    absent(w, "Cleaning has not run on this store: run gazemill run (or gazemill clean).");
+    absent(w, missing_stage(m, "clean", "Cleaning"));
     w.close();
     return;
   }
@@ -727,7 +740,7 @@ void detection_section(HtmlWriter& w, const ReportModel& m) {
                 "Fixation durations and saccade amplitudes as detected, peak velocity against amplitude beside the main sequence, and "
                 "participants whose figures stand apart from the rest.");
   if (!d.present) {
-    absent(w, "Detection has not run on this store: run gazemill run (or gazemill detect).");
+    absent(w, missing_stage(m, "detect", "Detection"));
     w.close();
     return;
   }
@@ -782,7 +795,7 @@ void drift_section(HtmlWriter& w, const ReportModel& m) {
   section_start(w, "drift", "5", "Line assignment",
                 "How sure drift correction was of each trial's lines, and the trials it flagged for a look.");
   if (!d.present) {
-    absent(w, "Drift correction has not run on this store: run gazemill run (or gazemill align).");
+    absent(w, missing_stage(m, "align", "Drift correction"));
     w.close();
     return;
   }
@@ -823,7 +836,7 @@ void measures_section(HtmlWriter& w, const ReportModel& m) {
                 "The distribution of each duration measure per region role and design cell, with each participant's mean, and the skipping "
                 "and regression probabilities per region role.");
   if (!ms.present) {
-    absent(w, "The measure stage has not run on this store: run gazemill run (or gazemill measure).");
+    absent(w, missing_stage(m, "measure", "The measure stage"));
     w.close();
     return;
   }

@@ -12,7 +12,9 @@ check asserts, as a reader would see it:
   - every section present, each with at least one chart whose SVG holds
     data marks, and every chart with a title and an alternative text;
   - the trial viewer switching trials and participants, by its controls,
-    and drawing the new trial's fixations and text.
+    and drawing the new trial's fixations and text;
+  - and the page of a store that only went through ingest and detect
+    opening as cleanly, naming the sections it cannot show.
 
 It keeps a screenshot of the whole page and one of each section
 (OUTDIR/report-demo.png, OUTDIR/report-demo-<section>.png, the trial viewer
@@ -27,6 +29,7 @@ import base64
 import json
 import os
 import shutil
+import subprocess
 import sys
 import tempfile
 import time
@@ -89,6 +92,19 @@ VIEWER_STATE = """
     timeLines: document.querySelectorAll('#fig-viewer-time svg g.mark-line path').length});
 })()
 """
+
+
+def make_partial_report(gazemill, fixtures, folder):
+    """The demo study ingested and detected, nothing more, and its report."""
+    study = os.path.join(folder, "partial-study")
+    shutil.copytree(os.path.join(fixtures, "demo-study"), study)
+    proto = os.path.join(study, "gazemill.toml")
+    store = os.path.join(folder, "partial.gzm.h5")
+    subprocess.run([gazemill, "-q", "ingest", proto, "-o", store], check=True)
+    subprocess.run([gazemill, "-q", "detect", proto, "-s", store], check=True)
+    report = os.path.join(folder, "partial-report.html")
+    subprocess.run([gazemill, "-q", "report", store, "-o", report], check=True, stderr=subprocess.DEVNULL)
+    return report
 
 
 def change_select(b, select_id, value):
@@ -189,6 +205,21 @@ def main():
                 print("   request:", u[:200])
             check(requests.count(url) >= 1, "the page itself was loaded from its file")
             check(not other, "no network request besides the page's own file ({} seen)".format(len(other)))
+
+            # A store that only went through ingest and detect: the page still opens cleanly and
+            # says, section by section, what is missing and which command makes it.
+            partial = make_partial_report(gazemill, fixtures, tmp)
+            purl = "file://" + partial
+            b.events = []
+            b.send("Emulation.setDeviceMetricsOverride", {"width": 1280, "height": 900, "deviceScaleFactor": 1, "mobile": False})
+            b.send("Page.navigate", {"url": purl})
+            b.wait_event("Page.loadEventFired")
+            b.evaluate("gazemillReport.ready")
+            notes = b.evaluate("Array.from(document.querySelectorAll('p.absent')).map(p => p.closest('section').id)")
+            check(sorted(notes) == ["cleaning", "drift", "measures"], "a partial store's page names the missing sections ({})".format(notes))
+            errors, requests = browser_messages(b, purl)
+            check(not errors and all(u == purl for u in requests), "a partial store's page opens without errors or requests ({}, {})"
+                  .format(errors[:2], [u for u in requests if u != purl][:2]))
         finally:
             b.close()
 
