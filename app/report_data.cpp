@@ -4,6 +4,7 @@
 #include <chrono>
 #include <cmath>
 #include <map>
+#include <numbers>
 #include <set>
 #include <span>
 
@@ -216,7 +217,7 @@ class Assembler {
     const bool have_clean = store_.exists("audit");
     if (have_clean) cleaning();
     std::vector<RecordingAlignment> alignment;
-    if (store_.exists("recordings") && !ids_.empty() && stage_current_or_stale(Stage::align)) {
+    if (store_.exists("recordings") && !ids_.empty() && stage_ran(Stage::align)) {
       try {
         alignment = read_alignment(store_);
       } catch (const InputError& e) {
@@ -237,7 +238,7 @@ class Assembler {
   }
 
  private:
-  bool stage_current_or_stale(Stage s) const { return store_.stage_record(s).has_value(); }
+  bool stage_ran(Stage s) const { return store_.stage_record(s).has_value(); }
 
   void run_summary() {
     const Provenance prov = store_.provenance();
@@ -432,7 +433,7 @@ class Assembler {
       if (s.amplitude_deg >= o_.min_ratio_amplitude_deg) {
         acc.velocity_ratio.push_back(s.peak_velocity_deg_s / main_sequence_peak_velocity(s.amplitude_deg, mid, ref.c_deg));
       }
-      if (std::cos(s.direction_deg * M_PI / 180.0) < 0) ++acc.leftward;
+      if (std::cos(s.direction_deg * std::numbers::pi / 180.0) < 0) ++acc.leftward;
     }
   }
 
@@ -578,7 +579,8 @@ class Assembler {
     if (const auto r = store_.stage_record(Stage::detect)) {
       try {
         d.method = nlohmann::json::parse(r->settings_json).value("method", std::string());
-      } catch (...) {
+      } catch (const nlohmann::json::exception&) {
+        // An unreadable settings text only leaves the method unnamed.
       }
     }
     const auto z1 = robust_z_scores(per_trial), z2 = robust_z_scores(fix), z3 = robust_z_scores(amp), z4 = robust_z_scores(ratio),

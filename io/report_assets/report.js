@@ -90,7 +90,7 @@
       width: widthOf(el), height: 160,
       data: [{ name: "t", values: rows, transform: [{ type: "stack", groupby: ["participant"], field: "n", sort: { field: "order" } }] }],
       scales: [
-        { name: "x", type: "band", domain: { data: "t", field: "participant", sort: true }, range: "width", padding: 0.2 },
+        { name: "x", type: "band", domain: { data: "t", field: "participant", sort: true }, range: "width", padding: rows.length < 20 ? 0.5 : 0.2 },
         { name: "y", type: "linear", domain: { data: "t", field: "y1" }, range: "height", nice: true },
         { name: "c", type: "ordinal", domain: ["kept", "excluded by cleaning"], range: [BLUE, VERMILLION] }
       ],
@@ -115,7 +115,7 @@
       width: widthOf(el), height: 190,
       data: [{ name: "q", values: rows }],
       scales: [
-        { name: "x", type: "band", domain: { data: "q", field: "participant", sort: true }, range: "width", padding: 0.25 },
+        { name: "x", type: "band", domain: { data: "q", field: "participant", sort: true }, range: "width", padding: rows.length < 10 ? 0.5 : 0.25 },
         { name: "y", type: "linear", domain: { fields: [{ data: "q", field: "trial_missing" }, { data: "q", field: "missing" }] }, range: "height", nice: true, zero: true },
         { name: "c", type: "ordinal", domain: ["inside trials", "whole recording"], range: [SKY, "#1d232b"] }
       ],
