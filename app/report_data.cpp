@@ -585,6 +585,8 @@ class Assembler {
     }
     const auto z1 = robust_z_scores(per_trial), z2 = robust_z_scores(fix), z3 = robust_z_scores(amp), z4 = robust_z_scores(ratio),
                z5 = robust_z_scores(left);
+    const double medians[] = {median_of(per_trial), median_of(fix), median_of(amp), median_of(ratio), median_of(left)};
+    d.outlier_relative = o_.outlier_relative;
     std::size_t i = 0;
     for (auto& [p, acc] : gathered_.participants) {
       ParticipantEvents& e = acc.events;
@@ -593,8 +595,13 @@ class Assembler {
       e.z_median_amplitude = z3[i];
       e.z_velocity_ratio = z4[i];
       e.z_regression_share = z5[i];
-      for (double z : {z1[i], z2[i], z3[i], z4[i], z5[i]}) {
-        if (std::isfinite(z) && std::abs(z) > o_.outlier_z) e.outlying = true;
+      // Apart: beyond the z limit and also far from the median in its own terms, so that
+      // a tight group's trivial differences (a tiny MAD) raise no flag.
+      const double values[] = {per_trial[i], fix[i], amp[i], ratio[i], left[i]};
+      const double zs[] = {z1[i], z2[i], z3[i], z4[i], z5[i]};
+      for (int k = 0; k < 5; ++k) {
+        const double rel = std::abs(values[k] - medians[k]) / std::max(std::abs(medians[k]), 1e-12);
+        if (std::isfinite(zs[k]) && std::abs(zs[k]) > o_.outlier_z && rel > o_.outlier_relative) e.outlying = true;
       }
       d.participants.push_back(e);
       ++i;

@@ -16,8 +16,11 @@ struct ReportDataOptions {
   /// The viewer's time course: at most this many points per trial (bins of
   /// at least one sample interval, widened to a whole millisecond).
   std::size_t max_points_per_trial = 400;
-  /// |robust z| above this marks a participant as outlying in detection.
+  /// A participant stands apart in detection when a figure's |robust z| is
+  /// above outlier_z and the figure is also more than outlier_relative (a
+  /// fraction) from the participants' median (our rule, no source).
   double outlier_z = 3.0;
+  double outlier_relative = 0.10;
   /// Saccades shorter than this are left out of the velocity ratio to the
   /// main sequence (the ratio is unstable for the smallest movements).
   double min_ratio_amplitude_deg = 0.5;

@@ -773,10 +773,12 @@ void detection_section(HtmlWriter& w, const ReportModel& m) {
                          names.empty() ? "" : ": " + names)});
   w.open("p", {{"class", "method"}});
   w.text(fmt::format(
-      "Detection method: {}. Robust z-scores after Leys et al. (2013): (value − median) / (1.4826 × MAD) across participants. The velocity ratio is "
+      "Detection method: {}. Robust z-scores after Leys et al. (2013): (value − median) / (1.4826 × MAD) across participants; a participant "
+      "stands apart where a figure's |z| is above {:g} and the figure is also more than {:g} % from the median (so that a tight group's "
+      "trivial differences raise no flag). With few participants the median and MAD are rough. The velocity ratio is "
       "each saccade's peak velocity over the main sequence at its amplitude (Vmax {:g} deg/s, C {:g} deg, the middle of the band; saccades from 0.5 deg), "
       "median per participant. Leftward saccades are regressions and return sweeps together.",
-      d.method.empty() ? std::string("not recorded") : d.method, 0.5 * (d.reference.v_max_low_deg_s + d.reference.v_max_high_deg_s), d.reference.c_deg));
+      d.method.empty() ? std::string("not recorded") : d.method, d.outlier_z, 100 * d.outlier_relative, 0.5 * (d.reference.v_max_low_deg_s + d.reference.v_max_high_deg_s), d.reference.c_deg));
   w.close();
   std::vector<std::vector<std::string>> rows;
   for (const auto& p : d.participants) {

@@ -146,7 +146,7 @@ struct ParticipantEvents {
   // Robust z-scores of the four figures above, across participants (NaN when undefined).
   double z_fixations_per_trial = kReportNaN, z_median_fixation = kReportNaN, z_median_amplitude = kReportNaN;
   double z_velocity_ratio = kReportNaN, z_regression_share = kReportNaN;
-  bool outlying = false;  // any |z| above the report's limit
+  bool outlying = false;  // any figure apart (DetectionSummary::outlier_z and outlier_relative)
 };
 
 struct MainSequenceReference {
@@ -162,7 +162,8 @@ struct DetectionSummary {
   Histogram saccade_amplitude_deg;
   Histogram2D main_sequence;            // amplitude (deg) x peak velocity (deg/s)
   MainSequenceReference reference;
-  double outlier_z = 3.0;
+  double outlier_z = 3.0;          // apart: |robust z| above this ...
+  double outlier_relative = 0.10;  // ... and more than this fraction from the median
   std::vector<ParticipantEvents> participants;
 };
 

@@ -724,7 +724,7 @@
           y: { signal: "scale('y', aligned ? datum.ya : datum.y) - sqrt(scale('size', datum.dur) / PI) - 1" },
           fontSize: { value: 10 }, fontWeight: { value: 700 }, fill: { value: "#0b3d5e" } } } },
         { type: "symbol", from: { data: "removedFix" }, encode: { update: {
-          x: { scale: "x", field: "x" }, y: { scale: "y", field: "y" }, shape: { value: "cross" }, angle: { value: 45 }, size: { value: 90 },
+          x: { scale: "x", field: "x" }, y: { scale: "y", field: "y" }, shape: { value: "cross" }, angle: { value: 45 }, size: { value: 150 },
           fill: { scale: "rulecolour", field: "ruleName" }, stroke: { value: "#ffffff" }, strokeWidth: { value: 0.6 },
           tooltip: { signal: "(datum.merged ? 'merged away by ' : 'removed by ') + datum.ruleName + ': ' + datum.dur + ' ms at ' + datum.start + ' ms'" } } } },
         { type: "text", from: { data: "removedFix" }, encode: { update: {
