@@ -803,9 +803,9 @@ void drift_section(HtmlWriter& w, const ReportModel& m) {
   }
   std::string methods;
   for (const auto& x : d.methods) methods += (methods.empty() ? "" : ", ") + x;
-  figure(w, {"fig-drift-confidence", "drift-confidence", "Confidence per trial", "every trial; flagged trials in the darker shade",
+  figure(w, {"fig-drift-confidence", "drift-confidence", "Confidence per trial", "every trial; flagged trials in vermillion",
              fmt::format("Histogram of line-assignment confidence (0 to 1) over {} trials by {}; {} flagged.", d.trials, methods, d.flagged)});
-  figure(w, {"fig-drift-participants", "drift-participants", "Confidence per participant", "quartiles (bar), median (tick) and flagged trials (number)",
+  figure(w, {"fig-drift-participants", "drift-participants", "Confidence per participant", "quartiles (bar), median (tick), flagged trials (dots and count)",
              "Chart of each participant's line-assignment confidence: interquartile range, median, and the count of flagged trials."});
   std::vector<std::vector<std::string>> rows;
   const std::size_t shown = std::min<std::size_t>(d.flagged_trials.size(), 500);

@@ -420,7 +420,7 @@
     var all = histogramRows(d.confidence), flagged = histogramRows(d.flagged_confidence), rows = [];
     all.forEach(function (r, i) {
       var f = flagged[i] ? flagged[i].count : 0;
-      rows.push({ x0: r.x0, x1: r.x1, status: "kept as assigned", order: 0, n: r.count - f });
+      rows.push({ x0: r.x0, x1: r.x1, status: "not flagged", order: 0, n: r.count - f });
       rows.push({ x0: r.x0, x1: r.x1, status: "flagged", order: 1, n: f });
     });
     return {
@@ -429,7 +429,7 @@
       scales: [
         { name: "x", type: "linear", domain: [0, 1], range: "width" },
         { name: "y", type: "linear", domain: { data: "h", field: "y1" }, range: "height", nice: true, zero: true },
-        { name: "c", type: "ordinal", domain: ["kept as assigned", "flagged"], range: [SKY, VERMILLION] }
+        { name: "c", type: "ordinal", domain: ["not flagged", "flagged"], range: [SKY, VERMILLION] }
       ],
       axes: [
         { orient: "bottom", scale: "x", title: "confidence", tickCount: 10 },
@@ -450,7 +450,7 @@
     });
     return {
       width: widthOf(el) - 120, height: Math.max(100, Math.min(16 * rows.length, 700)),
-      data: [{ name: "p", values: rows }],
+      data: [{ name: "p", values: rows }, { name: "f", values: d.flagged_trials }],
       scales: [
         { name: "y", type: "band", domain: { data: "p", field: "participant", sort: true }, range: "height", padding: 0.3 },
         { name: "x", type: "linear", domain: [0, 1], range: "width" }
@@ -466,6 +466,10 @@
           tooltip: { signal: "datum.participant + ': median ' + format(datum.median, '.2f') + ', quartiles ' + format(datum.q1, '.2f') + '–' + format(datum.q3, '.2f') + ', ' + datum.flagged + ' of ' + datum.trials + ' trials flagged'" } } } },
         { type: "rect", from: { data: "p" }, encode: { update: {
           y: { scale: "y", field: "participant" }, height: { scale: "y", band: 1 }, xc: { scale: "x", field: "median" }, width: { value: 2.5 }, fill: { value: "#1d232b" } } } },
+        { type: "symbol", from: { data: "f" }, encode: { update: {
+          y: { scale: "y", field: "participant", band: 0.5 }, x: { scale: "x", field: "confidence" }, size: { value: 36 },
+          fill: { value: VERMILLION }, stroke: { value: "#ffffff" }, strokeWidth: { value: 0.6 },
+          tooltip: { signal: "datum.participant + ', trial ' + datum.trial + ' (item ' + datum.item + '): confidence ' + format(datum.confidence, '.2f') + ', flagged'" } } } },
         { type: "text", from: { data: "p" }, encode: { update: {
           y: { scale: "y", field: "participant", band: 0.5 }, x: { signal: "width + 6" }, baseline: { value: "middle" }, fontSize: { value: 11 },
           text: { signal: "datum.flagged ? datum.flagged + ' flagged' : ''" }, fill: { value: VERMILLION } } } }

@@ -12,7 +12,9 @@ check asserts, as a reader would see it:
   - every section present, each with at least one chart whose SVG holds
     data marks, and every chart with a title and an alternative text;
   - the trial viewer switching trials and participants, by its controls,
-    and drawing the new trial's fixations and text;
+    and drawing the new trial's fixations and text, and opening a trial
+    from the table of trials drift correction flagged (two trials are
+    flagged in the store with h5py first: the align stage flags none yet);
   - and the page of a store that only went through ingest and detect
     opening as cleanly, naming the sections it cannot show.
 
@@ -117,7 +119,7 @@ def main():
     os.makedirs(outdir, exist_ok=True)
     chromium = find_chromium()
     with tempfile.TemporaryDirectory(ignore_cleanup_errors=True) as tmp:
-        report = make_demo_report(gazemill, fixtures, tmp)
+        report = make_demo_report(gazemill, fixtures, tmp, flags=[("p02_1", "7", 0.41), ("p03_1", "2", 0.55)])
         url = "file://" + report
         print("report: {} ({:.2f} MB)".format(report, os.path.getsize(report) / 1e6))
         b = Browser(chromium, os.path.join(tmp, "profile"))
@@ -170,6 +172,13 @@ def main():
             check(fourth["trial"] != third["trial"] and fourth["trialValue"] == "1", "the next button moves on one trial")
             b.evaluate("(() => { const c = document.getElementById('viewer-aligned'); c.click(); return new Promise(r => setTimeout(r, 300)); })()")
             check(b.evaluate(VIEWER_STATE)["symbols"] == fourth["symbols"], "drawing on the assigned lines keeps every fixation")
+            # A flagged trial opens in the viewer from the line-assignment table.
+            flagged = b.evaluate("Array.from(document.querySelectorAll('table.flagged tbody tr')).map(tr => tr.children[1].textContent + '/' + tr.children[2].textContent)")
+            check(flagged == ["p02_1/7", "p03_1/2"], "the flagged trials are listed, lowest confidence first ({})".format(flagged))
+            b.evaluate("document.querySelector('table.flagged tbody tr button.open-trial').click(); new Promise(r => setTimeout(r, 500))")
+            opened = b.evaluate(VIEWER_STATE)
+            check(opened["recording"] == "p02_1" and opened["trial"] == "7" and "flagged" in opened["status"],
+                  "a flagged trial's button opens it in the viewer ({} {})".format(opened["recording"], opened["trial"]))
             b.evaluate("gazemillReport.viewer.select(0, 0).then(() => true)")
             b.evaluate("(() => { const c = document.getElementById('viewer-aligned'); c.click(); return new Promise(r => setTimeout(r, 200)); })()")
 

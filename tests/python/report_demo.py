@@ -40,8 +40,24 @@ min_fixations = 12
 '''
 
 
-def make_demo_report(gazemill, fixtures, folder):
-    """Runs the demo study into `folder` and returns the report's path."""
+def flag_trials(store, flags):
+    """Marks trials as drift correction's flagged ones, with a low confidence, in
+    place with h5py: the align stage flags none yet, and the report's table of
+    flagged trials and its links into the trial viewer need some.
+    `flags`: (recording, trial id, confidence)."""
+    import h5py
+    with h5py.File(store, "r+") as h:
+        for recording, trial, confidence in flags:
+            g = h["recordings"][recording]["align"]["trials"]
+            ids = [t.decode() if isinstance(t, bytes) else str(t) for t in g["trial"][:]]
+            k = ids.index(trial)
+            g["flagged"][k] = 1
+            g["confidence"][k] = confidence
+
+
+def make_demo_report(gazemill, fixtures, folder, flags=()):
+    """Runs the demo study into `folder` and returns the report's path;
+    `flags` as flag_trials takes them, applied before the report is made."""
     study = os.path.join(folder, "study")
     shutil.copytree(os.path.join(fixtures, "demo-study"), study)
     proto = os.path.join(study, "gazemill.toml")
@@ -49,6 +65,8 @@ def make_demo_report(gazemill, fixtures, folder):
         f.write(RULES)
     out = os.path.join(folder, "out")
     subprocess.run([gazemill, "-q", "run", proto, "-o", out], check=True)
+    if flags:
+        flag_trials(os.path.join(out, "harbour-news.gzm.h5"), flags)
     report = os.path.join(folder, "demo-report.html")
     subprocess.run([gazemill, "-q", "report", os.path.join(out, "harbour-news.gzm.h5"), "-o", report], check=True)
     return report
