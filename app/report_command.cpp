@@ -2,6 +2,7 @@
 
 #include <spdlog/spdlog.h>
 
+#include <cstring>
 #include <filesystem>
 
 #include "app/report_data.h"
@@ -42,7 +43,9 @@ void write_report(const std::string& store_path, const std::string& html_path, s
 }
 }  // namespace
 
-void write_study_report(const std::string& store_path, const std::string& html_path) { write_report(store_path, html_path, 400); }
+void write_study_report(const std::string& store_path, const std::string& html_path) {
+  write_report(store_path, html_path, ReportOptions{}.max_points_per_trial);
+}
 
 int run_report(const ReportOptions& o) {
   const RunClock clock;
