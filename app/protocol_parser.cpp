@@ -6,6 +6,7 @@
 #include <sstream>
 
 #include "app/toml_section.h"
+#include "alignment/drift_registry.h"
 #include "detectors/detector_registry.h"
 #include "filters/cleaning_rule.h"
 #include "pipeline/input_error.h"
@@ -315,6 +316,38 @@ void parse_regions(TomlSection& r, Protocol& p) {
   r.finish();
 }
 
+void parse_alignment(TomlSection& a, Protocol& p) {
+  AlignmentSpec& spec = p.alignment;
+  if (auto m = a.string("method")) spec.method = *m;
+  if (auto m = a.strings("members")) {
+    if (spec.method != "majority") a.fail("members", "members are for method = \"majority\"");
+    spec.members = *m;
+  }
+  if (auto v = a.number("min_confidence")) {
+    if (!(*v >= 0 && *v <= 1)) a.fail("min_confidence", "expected a number from 0 to 1");
+    spec.min_confidence = *v;
+  }
+  if (auto v = a.number("font_height_px")) {
+    if (!(*v > 0) || !std::isfinite(*v)) a.fail("font_height_px", "expected a positive number of pixels");
+    spec.font_height_px = *v;
+  }
+  if (auto v = a.string("review_file")) spec.review_file = *v;
+  if (auto params = a.table("parameters")) {
+    for (const auto& key : params->keys()) {
+      const auto v = params->number(key);
+      if (!v) params->fail(key, "expected a number");
+      spec.parameters[key] = *v;
+    }
+  }
+  try {
+    if (spec.members.empty()) make_drift_corrector(spec.method, spec.parameters);
+    else make_majority_corrector(spec.members, spec.parameters);
+  } catch (const std::invalid_argument& e) {
+    a.fail(a.has("parameters") ? "parameters" : "method", e.what());
+  }
+  a.finish();
+}
+
 void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
   std::set<std::string> names;
   for (auto& b : blocks) {
@@ -404,6 +437,7 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
                            "' (captured: " + listing(names) + "); capture it, or name the item variable in [design] item = ...");
     }
   }
+  if (auto alignment = top.table("alignment")) parse_alignment(*alignment, p);
   auto cleaning = top.table_array("cleaning");
   parse_cleaning(cleaning, p);
   top.finish();

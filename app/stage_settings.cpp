@@ -4,6 +4,7 @@
 
 #include <filesystem>
 
+#include "alignment/drift_registry.h"
 #include "detectors/detector_registry.h"
 #include "io/sha256.h"
 
@@ -107,9 +108,22 @@ std::string regions_settings_json(const Protocol& p) {
   return j.dump();
 }
 
-std::string align_settings_json(const Protocol&) {
+std::string align_settings_json(const Protocol& p) {
+  const AlignmentSpec& a = p.alignment;
+  const auto corrector = a.members.empty() ? make_drift_corrector(a.method, a.parameters) : make_majority_corrector(a.members, a.parameters);
   nlohmann::json j;
-  j["method"] = "attach";  // nearest line; the drift-correction methods join here
+  j["method"] = a.method;
+  j["parameters"] = corrector->parameters();
+  if (a.method == "majority") j["members"] = a.members.empty() ? default_majority_members() : a.members;
+  j["min_confidence"] = a.min_confidence;
+  j["font_height_px"] = a.font_height_px;
+  if (!a.review_file.empty()) {
+    const fs::path base = fs::absolute(fs::path(p.path)).parent_path();
+    const std::string path = fs::path(a.review_file).is_absolute() ? a.review_file : (base / a.review_file).string();
+    std::error_code ec;
+    j["review_file"] = a.review_file;
+    j["review_file_sha256"] = fs::exists(path, ec) ? sha256_file(path) : "";
+  }
   return j.dump();
 }
 

@@ -552,7 +552,49 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
   }
 }
 
+// Names the cleaning rules give to regions (a role, a number) must exist in
+// the region files: a role no item has would remove nothing without a word.
+void check_region_references(const Protocol& p, const RegionCatalogue& regions) {
+  std::set<std::string> roles;
+  std::size_t most_regions = 0;
+  for (const auto& [key, layout] : regions.layouts()) {
+    most_regions = std::max(most_regions, layout.regions.size());
+    for (const auto& r : layout.regions) {
+      if (!r.role.empty()) roles.insert(r.role);
+    }
+  }
+  for (std::size_t i = 0; i < p.cleaning.size(); ++i) {
+    const CleaningRuleSpec& rule = p.cleaning[i];
+    const std::string where = "cleaning[" + std::to_string(i + 1) + "].";
+    if (const auto role = rule.texts.find("role"); role != rule.texts.end() && !roles.count(role->second)) {
+      std::string known;
+      for (const auto& r : roles) known += (known.empty() ? "" : ", ") + r;
+      throw InputError({p.path, rule.line, where + "role"}, "rule '" + rule.name + "': no region of any item has the role '" + role->second +
+                                                               "'; the region files give " + (known.empty() ? std::string("no roles") : known));
+    }
+    if (const auto n = rule.numbers.find("region"); n != rule.numbers.end() && n->second > static_cast<double>(most_regions)) {
+      throw InputError({p.path, rule.line, where + "region"}, "rule '" + rule.name + "': no item has a region " +
+                                                                 std::to_string(static_cast<long>(n->second)) + " (the most any item has is " +
+                                                                 std::to_string(most_regions) + ")");
+    }
+  }
+}
+
 StudyRunReport StudyRun::execute() {
+  // Everything the protocol refers to is read and checked before any work.
+  if (regions_present()) {
+    regions_ = load_regions(p_);
+    check_region_references(p_, *regions_);
+  } else {
+    for (const auto& rule : p_.cleaning) {
+      if (rule.texts.count("role") || rule.numbers.count("region")) {
+        throw InputError({p_.path, rule.line, "regions"}, "rule '" + rule.name + "' names a region, but the protocol has no [regions] section");
+      }
+    }
+  }
+  if (p_.design.factors.empty()) {
+    spdlog::debug("the protocol's [design] names no factors: audits and aggregates are not broken down by condition");
+  }
   fs::path store(o_.store_path);
   if (store.has_parent_path() && !fs::is_directory(store.parent_path())) {
     throw InputError({o_.store_path, 0, ""}, "the folder " + store.parent_path().string() + " does not exist");

@@ -63,14 +63,16 @@ def region_of(boxes, x, y):
 
 
 def main(folder, out_path):
-    regions = pd.read_csv(os.path.join(folder, "regions.tsv"), sep="\t")
+    # Regions differ by item and frequency (the simulator's text factor); passages have no frequency.
+    regions = pd.read_csv(os.path.join(folder, "regions.tsv"), sep="\t", dtype={"item": str, "frequency": str},
+                          keep_default_na=False)
     boxes_by_item = {key: (g["region"].to_numpy(), g["line"].to_numpy(), g["left_px"].to_numpy(), g["right_px"].to_numpy(),
                            ((g["top_px"] + g["bottom_px"]) / 2.0).to_numpy())
-                     for key, g in regions.groupby(["item", "condition"])}
+                     for key, g in regions.groupby(["item", "frequency"])}
     rows = []
     for path in sorted(glob.glob(os.path.join(folder, "raw", "*.tsv.gz"))):
         participant = re.search(r"(p\d+)_s\d+", os.path.basename(path)).group(1)
-        df = pd.read_csv(path, sep="\t", na_values=["", "."])
+        df = pd.read_csv(path, sep="\t", na_values=["", "."], keep_default_na=False)
         messages = df[df["message"].notna()]
         samples = df[df["message"].isna()]
         t = samples["time_us"].to_numpy() / 1000.0
@@ -79,11 +81,13 @@ def main(folder, out_path):
         for time_us, text in zip(messages["time_us"], messages["message"]):
             if m := re.match(r"^begin trial (\d+)$", text):
                 trial = {"id": m.group(1), "start": time_us / 1000.0}
-            elif m := re.match(r"^item (\S+) condition (\S+)$", text):
-                trial["item"], trial["condition"] = int(m.group(1)), m.group(2)
+            elif m := re.match(r"^show sentence (\S+) frequency (\S+) preview (\S+) list \d+$", text):
+                trial["item"], trial["frequency"], trial["preview"] = m.group(1), m.group(2), m.group(3)
+            elif m := re.match(r"^show passage (\S+) list \d+$", text):
+                trial["item"], trial["frequency"], trial["preview"] = m.group(1), "", ""
             elif re.match(r"^end trial (\d+)$", text):
                 a, b = np.searchsorted(t, trial["start"]), np.searchsorted(t, time_us / 1000.0, side="right")
-                boxes = boxes_by_item[(trial["item"], trial["condition"])]
+                boxes = boxes_by_item[(trial["item"], trial["frequency"])]
                 sequence = [(region_of(boxes, fx, fy), d) for _, d, fx, fy in fixations_of(t[a:b], x[a:b], y[a:b])]
                 n = int(boxes[0].max())
                 furthest = -1
@@ -103,9 +107,9 @@ def main(folder, out_path):
                             j += 1
                     furthest = max(furthest, r)
                 for r in range(1, n + 1):
-                    rows.append((participant, trial["id"], trial["item"], trial["condition"], r,
+                    rows.append((participant, trial["id"], trial["item"], trial["frequency"], trial["preview"], r,
                                  first.get(r, math.nan), gaze.get(r, math.nan), total.get(r, math.nan)))
-    pd.DataFrame(rows, columns=["participant", "trial", "item", "condition", "region", "first_fixation_ms",
+    pd.DataFrame(rows, columns=["participant", "trial", "item", "frequency", "preview", "region", "first_fixation_ms",
                                 "gaze_duration_ms", "total_time_ms"]).to_csv(out_path, sep="\t", index=False, na_rep="NA")
 
 

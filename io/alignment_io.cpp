@@ -1,5 +1,9 @@
 #include "io/alignment_io.h"
 
+#include <cmath>
+#include <limits>
+#include <set>
+
 #include "io/hdf5_util.h"
 #include "pipeline/input_error.h"
 
@@ -34,6 +38,21 @@ void write_alignment(StudyStoreWriter& store, const std::vector<RecordingAlignme
     h5::write_strings(tr, "method", method);
     h5::write_column(tr, "confidence", confidence);
     h5::write_column(tr, "flagged", flagged);
+    std::set<std::string> names;
+    for (const auto& t : a.trials) {
+      for (const auto& [n, v] : t.fit) {
+        if (n != "confidence") names.insert(n);
+      }
+    }
+    H5::Group fit = h5::create_group(tr, "fit");
+    for (const auto& n : names) {
+      std::vector<double> column;
+      for (const auto& t : a.trials) {
+        const auto it = t.fit.find(n);
+        column.push_back(it == t.fit.end() ? std::numeric_limits<double>::quiet_NaN() : it->second);
+      }
+      h5::write_column(fit, n, column, n.ends_with("_px") ? "px" : "");
+    }
   }
 }
 
@@ -55,7 +74,14 @@ std::vector<RecordingAlignment> read_alignment(const StudyStoreReader& store) {
       const auto trial = h5::read_strings(t, "trial"), method = h5::read_strings(t, "method");
       const auto confidence = h5::read_column<double>(t, "confidence");
       const auto flagged = h5::read_column<std::uint8_t>(t, "flagged");
-      for (std::size_t i = 0; i < trial.size(); ++i) a.trials.push_back({trial[i], method.at(i), confidence.at(i), flagged.at(i) != 0});
+      for (std::size_t i = 0; i < trial.size(); ++i) a.trials.push_back({trial[i], method.at(i), confidence.at(i), flagged.at(i) != 0, {}});
+      H5::Group fit = t.openGroup("fit");
+      for (const auto& n : h5::child_names(fit)) {
+        const auto values = h5::read_column<double>(fit, n);
+        for (std::size_t i = 0; i < values.size() && i < a.trials.size(); ++i) {
+          if (!std::isnan(values[i])) a.trials[i].fit[n] = values[i];
+        }
+      }
     } catch (const H5::Exception& e) {
       throw InputError({store.path(), 0, base}, "damaged line assignments: " + e.getDetailMsg());
     }

@@ -2,7 +2,8 @@
 // Drift-correction results in the store:
 //   /recordings/<id>/align/fixations/{input_id,line,corrected_y_px}   line 1-based, 0 = on no line
 //                                                                      (corrected_y_px NaN)
-//   /recordings/<id>/align/trials/{trial,method,confidence,flagged}
+//   /recordings/<id>/align/trials/{trial,method,confidence,flagged,<fit>}   <fit>: each value of the
+//                                                                      method's fit summary (NaN where unset)
 
 #include <vector>
 

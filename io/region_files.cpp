@@ -90,6 +90,12 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px,
   }
   RegionCatalogue cat(factors);
   for (auto& [key, L] : layouts) {
+    // Words are unknown in a boxes file: each box stands for the words it holds.
+    L.word_centre_x_px.assign(L.lines.size(), {});
+    for (const auto& r : L.regions) {
+      for (const auto& b : r.boxes) L.word_centre_x_px[static_cast<std::size_t>(b.line)].push_back(0.5 * (b.left_px + b.right_px));
+    }
+    for (auto& line : L.word_centre_x_px) std::sort(line.begin(), line.end());
     for (std::size_t i = 0; i < L.regions.size(); ++i) {
       if (L.regions[i].boxes.empty()) {
         throw InputError({path, 0, "region"}, "item " + key.first + " has no row for region " + std::to_string(i + 1));

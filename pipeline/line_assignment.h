@@ -19,6 +19,7 @@ struct AlignedTrial {
   std::string method;
   double confidence = 0;         // 0..1, as the method defines it
   bool flagged = false;          // confidence below the protocol's threshold
+  std::map<std::string, double> fit;  // the method's fit summary, units in the names
 };
 
 struct RecordingAlignment {

@@ -124,6 +124,18 @@ struct RegionSpec {
   bool present() const { return !boxes_file.empty() || !items_file.empty(); }
 };
 
+/// Drift correction: the method that gives every kept fixation its text line
+/// (Carr, Pescuma, Furlan, Ktori & Crepaldi 2022), and when a trial is
+/// flagged for a person to look at.
+struct AlignmentSpec {
+  std::string method = "majority";           // a method of alignment/drift_registry.h
+  std::vector<std::string> members;          // for majority: its members in tie order (empty = the default five)
+  std::map<std::string, double> parameters;  // the method's, with units in their names ("<member>.<name>" for majority)
+  double min_confidence = 0.8;               // trials below are flagged (confidence 0..1, as the method defines it)
+  double font_height_px = 0;                 // chain's thresholds are multiples of it; 0 = half the line height
+  std::string review_file;                   // a person's decisions on flagged trials; "" = none
+};
+
 /// One cleaning rule as written in the protocol: a name the lab chooses, a
 /// kind, and parameters with their units in their names.
 struct CleaningRuleSpec {
@@ -153,6 +165,7 @@ struct Protocol {
   DetectionSpec detection;
   std::vector<CleaningRuleSpec> cleaning;  // applied in this order
   RegionSpec regions;
+  AlignmentSpec alignment;
 };
 
 }  // namespace gazemill

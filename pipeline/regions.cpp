@@ -55,6 +55,12 @@ RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSp
     info.last_line = info.boxes.empty() ? info.line : info.boxes.back().line;
     out.regions.push_back(info);
   }
+  out.word_centre_x_px.assign(out.lines.size(), {});
+  for (const Word& w : item.words) {
+    const PlacedChar& a = item.chars[static_cast<std::size_t>(w.first_char)];
+    const PlacedChar& b = item.chars[static_cast<std::size_t>(w.last_char)];
+    out.word_centre_x_px[static_cast<std::size_t>(w.line)].push_back(0.5 * (a.left_px + b.left_px + b.width_px));
+  }
   return out;
 }
 

@@ -45,6 +45,9 @@ struct RegionLayout {
   std::vector<std::string> levels;  // of the catalogue's factors: the design cell it is shown in
   std::vector<LineInfo> lines;
   std::vector<RegionInfo> regions;
+  // Per line, the x centres of its words in reading order (drift correction
+  // aligns fixations with them); of its region boxes when words are unknown.
+  std::vector<std::vector<double>> word_centre_x_px;
   double char_width_px = 0; // for landing positions in characters; 0 when unknown
 };
 

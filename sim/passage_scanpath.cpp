@@ -35,6 +35,28 @@ Passage generate_passage(const PassageParams& p, std::mt19937_64& rng) {
   return out;
 }
 
+Passage passage_from_layout(const LaidOutItem& item, const TextLayoutSpec& spec) {
+  Passage out;
+  out.line_spacing_px = spec.line_height_px;
+  // The glyphs' height is not part of a layout; half the line height is a
+  // usual proportion for text set with generous spacing (our choice).
+  out.font_height_px = 0.5 * spec.line_height_px;
+  out.char_width_px = spec.char_width_px;
+  out.left_px = spec.left_margin_px;
+  for (int l = 0; l < item.line_count; ++l) out.line_y_px.push_back(item.line_centre_y(l, spec));
+  out.words.resize(static_cast<std::size_t>(item.line_count));
+  for (const Word& w : item.words) {
+    const PlacedChar& first = item.chars[static_cast<std::size_t>(w.first_char)];
+    const PlacedChar& last = item.chars[static_cast<std::size_t>(w.last_char)];
+    PassageWord pw;
+    pw.letters = w.length();
+    pw.left_px = first.left_px;
+    pw.right_px = last.left_px + last.width_px;
+    out.words[static_cast<std::size_t>(w.line)].push_back(pw);
+  }
+  return out;
+}
+
 namespace {
 
 class Reader {

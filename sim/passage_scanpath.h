@@ -5,10 +5,13 @@
 // and between-line regressions, one at a time or mixed. Every fixation keeps
 // its true line. Seeded and deterministic: the same generator state gives the
 // same passage and scanpath. For the drift benchmark and the study
-// simulator; tests of drift correction take their expected values elsewhere.
+// simulator, which reads real laid-out text through passage_from_layout;
+// tests of drift correction take their expected values elsewhere.
 
 #include <random>
 #include <vector>
+
+#include "pipeline/text_layout.h"
 
 namespace gazemill::sim {
 
@@ -49,6 +52,11 @@ struct Passage {
 
 /// Lines drawn uniformly from min_lines..max_lines (5-12 by default).
 Passage generate_passage(const PassageParams& params, std::mt19937_64& rng);
+
+/// Laid-out text as a passage: its lines' centres and every word's box
+/// (from its first letter's left edge to its last letter's right edge). Word
+/// w of line l is word (words on the lines before l) + w of `item`.
+Passage passage_from_layout(const LaidOutItem& item, const TextLayoutSpec& spec);
 
 /// How the simulated reader reads when nothing distorts it; probabilities per
 /// word, every default our choice, roughly the size of the skipping and

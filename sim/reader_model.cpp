@@ -14,7 +14,7 @@ double ex_gaussian(double mu, double sigma, double tau, std::mt19937_64& rng) {
 
 }  // namespace
 
-std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int target_region, bool hard,
+std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int target_region, const TargetEffect& effect,
                                                 const ReaderParams& p, std::mt19937_64& rng) {
   std::uniform_real_distribution<double> uniform(0.0, 1.0);
   std::normal_distribution<double> landing_noise(0.0, p.landing_sd_chars);
@@ -22,12 +22,19 @@ std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int tar
   std::vector<ScanpathFixation> path;
   if (n_words == 0) return path;
 
+  bool target_fixated = false;
   auto duration_for = [&](int char_index) {
     const int region = item.chars[static_cast<std::size_t>(char_index)].region;
     double mu = p.duration_mu_ms;
-    if (hard && target_region >= 0) {
-      if (region == target_region) mu += p.target_effect_ms;
-      else if (region == target_region + 1) mu += p.spillover_effect_ms;
+    if (target_region >= 0) {
+      if (region == target_region) {
+        mu += effect.fixation_ms;
+        // The preview's cost falls on the first fixation only.
+        if (!target_fixated) mu += effect.first_fixation_ms;
+        target_fixated = true;
+      } else if (region == target_region + 1) {
+        mu += effect.spillover_ms;
+      }
     }
     return std::max(p.min_duration_ms, ex_gaussian(mu, p.duration_sigma_ms, p.duration_tau_ms, rng));
   };
@@ -38,8 +45,9 @@ std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int tar
     return std::clamp(c, w.first_char, w.last_char);
   };
   auto skip_probability = [&](int word) {
-    const double letters = item.words[static_cast<std::size_t>(word)].length();
-    return std::clamp(p.skip_intercept - p.skip_slope_per_letter * letters, p.skip_floor, p.skip_ceiling);
+    const Word& w = item.words[static_cast<std::size_t>(word)];
+    const double base = std::clamp(p.skip_intercept - p.skip_slope_per_letter * w.length(), p.skip_floor, p.skip_ceiling);
+    return target_region >= 0 && w.region == target_region ? base * effect.skip_factor : base;
   };
 
   int word = 0;
@@ -53,7 +61,7 @@ std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int tar
 
     // Refixate long words once, further to the right of the first landing.
     double p_refix = std::clamp(p.refixation_slope_per_letter * (w.length() - 4), 0.0, 0.5);
-    if (hard && w.region == target_region) p_refix += p.target_refixation_extra;
+    if (target_region >= 0 && w.region == target_region) p_refix += effect.refixation;
     if (!refixated && uniform(rng) < p_refix && c + 2 <= w.last_char) {
       // A refixation moves on to the word's second half (at least two letters on).
       refixated = true;

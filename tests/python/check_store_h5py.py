@@ -225,7 +225,8 @@ max_missing_percent = 3
         check(removed_rows > 0, "removed fixations stay in the store with their rule")
     # The TSV agrees with the store (pandas reads it as a tidy table).
     tsv = pd.read_csv(os.path.join(tmp, "tables", "audit.tsv"), sep="\t")
-    check(set(tsv.columns) >= {"rule", "level", "participant", "condition", "removed_sequential", "removed_alone"}, "audit.tsv columns")
+    check(set(tsv.columns) >= {"rule", "level", "participant", "frequency", "preview", "removed_sequential", "removed_alone"},
+          "audit.tsv columns (the fixture's factors are frequency and preview)")
     check(len(tsv) == len(cnt_level), "audit.tsv has one row per ledger row")
     # I-DT with its defaults sets its threshold per trial from the data; the
     # store keeps it with its unit.
