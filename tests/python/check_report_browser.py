@@ -119,7 +119,8 @@ def main():
     os.makedirs(outdir, exist_ok=True)
     chromium = find_chromium()
     with tempfile.TemporaryDirectory(ignore_cleanup_errors=True) as tmp:
-        report = make_demo_report(gazemill, fixtures, tmp, flags=[("p02_1", "7", 0.41), ("p03_1", "2", 0.55)])
+        flagged_trials = []
+        report = make_demo_report(gazemill, fixtures, tmp, flags=[("p02_1", 5, 0.41), ("p03_1", 1, 0.55)], flagged=flagged_trials)
         url = "file://" + report
         print("report: {} ({:.2f} MB)".format(report, os.path.getsize(report) / 1e6))
         b = Browser(chromium, os.path.join(tmp, "profile"))
@@ -174,10 +175,11 @@ def main():
             check(b.evaluate(VIEWER_STATE)["symbols"] == fourth["symbols"], "drawing on the assigned lines keeps every fixation")
             # A flagged trial opens in the viewer from the line-assignment table.
             flagged = b.evaluate("Array.from(document.querySelectorAll('table.flagged tbody tr')).map(tr => tr.children[1].textContent + '/' + tr.children[2].textContent)")
-            check(flagged == ["p02_1/7", "p03_1/2"], "the flagged trials are listed, lowest confidence first ({})".format(flagged))
+            expected = ["{}/{}".format(r, t) for r, t in flagged_trials]
+            check(flagged == expected, "the flagged trials are listed, lowest confidence first ({}, flagged {})".format(flagged, expected))
             b.evaluate("document.querySelector('table.flagged tbody tr button.open-trial').click(); new Promise(r => setTimeout(r, 500))")
             opened = b.evaluate(VIEWER_STATE)
-            check(opened["recording"] == "p02_1" and opened["trial"] == "7" and "flagged" in opened["status"],
+            check(opened["recording"] == flagged_trials[0][0] and opened["trial"] == flagged_trials[0][1] and "flagged" in opened["status"],
                   "a flagged trial's button opens it in the viewer ({} {})".format(opened["recording"], opened["trial"]))
             b.evaluate("gazemillReport.viewer.select(0, 0).then(() => true)")
             b.evaluate("(() => { const c = document.getElementById('viewer-aligned'); c.click(); return new Promise(r => setTimeout(r, 200)); })()")

@@ -109,40 +109,56 @@ def main():
                 check(abs(np.median(std) - q["std"]) < 1e-4, "{}: STD {} deg (numpy {:.5f})".format(who, q["std"], np.median(std)))
 
         # Measure distributions against pandas' quantiles of the wide table.
-        wide = pd.read_csv(os.path.join(tables, "measures_wide.tsv"), sep="\t", na_values="NA", keep_default_na=False)
+        factors = data["run"]["factors"]
+        wide = pd.read_csv(os.path.join(tables, "measures_wide.tsv"), sep="\t", na_values="NA", keep_default_na=False, dtype={f: str for f in factors})
         wide["region_role"] = wide["region_role"].fillna("")
+
+        def in_cell(frame, cell):
+            """Rows of `frame` in a design cell written as the report writes it: "f=level, g=level" (NA: no level)."""
+            mask = pd.Series(True, index=frame.index)
+            for part in cell.split(", "):
+                f, level = part.split("=", 1)
+                mask &= frame[f].isna() if level == "NA" else (frame[f] == level)
+            return frame[mask]
+
+        def cell_of(levels):
+            return ", ".join("{}={}".format(f, "NA" if pd.isna(v) else v) for f, v in zip(factors, levels))
+
         dist = data["measures"]["distributions"]
-        checked = 0
         for d in dist:
-            cond = d["cell"].split("=", 1)[1]
-            vals = wide[(wide.region_role == d["role"]) & (wide.condition == cond)][d["measure"]].dropna()
+            vals = in_cell(wide[wide.region_role == d["role"]], d["cell"])[d["measure"]].dropna()
             ok = (len(vals) == d["n"] and abs(vals.quantile(0.5) - d["median"]) < 0.051 and abs(vals.quantile(0.25) - d["q1"]) < 0.051
                   and abs(vals.quantile(0.95) - d["p95"]) < 0.051 and abs(vals.mean() - d["mean"]) < 0.051)
             check(ok, "{} {} {}: n {} median {} (pandas n {} median {})".format(d["measure"], d["role"] or "other", d["cell"], d["n"], d["median"],
                                                                                  len(vals), vals.quantile(0.5)))
-            checked += 1
-        check(checked == 4 * 3 * 2, "every measure x role x cell is summarised ({})".format(checked))
+        groups = 0
+        for m in data["measures"]["measures"]:
+            present = wide.dropna(subset=[m])
+            groups += len(present.groupby(["region_role"] + factors, dropna=False))
+        check(groups == len(dist), "every measure x role x cell with a value is summarised ({} of {})".format(len(dist), groups))
 
         # Skipping per role and cell as measures_by_role.tsv gives it.
-        by_role = pd.read_csv(os.path.join(tables, "measures_by_role.tsv"), sep="\t", na_values="NA", keep_default_na=False)
-        for p in data["measures"]["probabilities"]:
-            if p["measure"] != "skipping":
-                continue
-            row = by_role[(by_role.region_role == p["role"]) & (by_role.condition == p["cell"].split("=", 1)[1])]
+        by_role = pd.read_csv(os.path.join(tables, "measures_by_role.tsv"), sep="\t", na_values="NA", keep_default_na=False, dtype={f: str for f in factors})
+        skipping = [p for p in data["measures"]["probabilities"] if p["measure"] == "skipping"]
+        check(len(skipping) == len(by_role), "a skipping probability for every row of measures_by_role.tsv")
+        for p in skipping:
+            row = in_cell(by_role[by_role.region_role == p["role"]], p["cell"])
             check(len(row) == 1 and abs(row.skipping_probability.iloc[0] - p["p"]) < 1e-4 and row.region_readings.iloc[0] == p["n"],
                   "skipping {} {}: {} of {}".format(p["role"], p["cell"], p["p"], p["n"]))
 
         # What the flow leaves after the last rule is what audit_totals.tsv says was kept.
-        totals = pd.read_csv(os.path.join(tables, "audit_totals.tsv"), sep="\t", na_values="NA", keep_default_na=False)
+        totals = pd.read_csv(os.path.join(tables, "audit_totals.tsv"), sep="\t", na_values="NA", keep_default_na=False, dtype={f: str for f in factors})
         flow = pd.DataFrame(data["cleaning"]["flow"])
         last = flow[flow.rule == flow.rule.max()]
         for level in ("sample", "fixation", "trial"):
-            kept = totals[totals.level == level].kept.sum()
+            rows = totals[totals.level == level]
             mine = last[(last.level == level) & (last.cell == "")].remaining.iloc[0]
-            check(kept == mine, "{}s left after the last rule: {} (audit_totals.tsv {})".format(level, mine, kept))
-            for cond, part in totals[totals.level == level].groupby("condition"):
-                cell = last[(last.level == level) & (last.cell == "condition=" + cond)].remaining.iloc[0]
-                check(part.kept.sum() == cell, "{}s left in condition={}: {} (audit_totals.tsv {})".format(level, cond, cell, part.kept.sum()))
+            check(rows.kept.sum() == mine, "{}s left after the last rule: {} (audit_totals.tsv {})".format(level, mine, rows.kept.sum()))
+            for levels, part in rows.groupby(factors, dropna=False):
+                levels = levels if isinstance(levels, tuple) else (levels,)
+                cell = last[(last.level == level) & (last.cell == cell_of(levels))].remaining
+                check(len(cell) == 1 and part.kept.sum() == cell.iloc[0],
+                      "{}s left in {}: {} (audit_totals.tsv {})".format(level, cell_of(levels), list(cell), part.kept.sum()))
 
     print("{} passed, {} failed".format(passes, len(failures)))
     sys.exit(1 if failures else 0)

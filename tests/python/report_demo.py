@@ -44,20 +44,24 @@ def flag_trials(store, flags):
     """Marks trials as drift correction's flagged ones, with a low confidence, in
     place with h5py: the align stage flags none yet, and the report's table of
     flagged trials and its links into the trial viewer need some.
-    `flags`: (recording, trial id, confidence)."""
+    `flags`: (recording, row of its align/trials, confidence). Returns the
+    (recording, trial id) of each, in the order given."""
     import h5py
+    flagged = []
     with h5py.File(store, "r+") as h:
-        for recording, trial, confidence in flags:
+        for recording, row, confidence in flags:
             g = h["recordings"][recording]["align"]["trials"]
-            ids = [t.decode() if isinstance(t, bytes) else str(t) for t in g["trial"][:]]
-            k = ids.index(trial)
-            g["flagged"][k] = 1
-            g["confidence"][k] = confidence
+            trial = g["trial"][row]
+            flagged.append((recording, trial.decode() if isinstance(trial, bytes) else str(trial)))
+            g["flagged"][row] = 1
+            g["confidence"][row] = confidence
+    return flagged
 
 
-def make_demo_report(gazemill, fixtures, folder, flags=()):
+def make_demo_report(gazemill, fixtures, folder, flags=(), flagged=None):
     """Runs the demo study into `folder` and returns the report's path;
-    `flags` as flag_trials takes them, applied before the report is made."""
+    `flags` as flag_trials takes them, applied before the report is made
+    (the trials they name are appended to the list `flagged`)."""
     study = os.path.join(folder, "study")
     shutil.copytree(os.path.join(fixtures, "demo-study"), study)
     proto = os.path.join(study, "gazemill.toml")
@@ -66,7 +70,9 @@ def make_demo_report(gazemill, fixtures, folder, flags=()):
     out = os.path.join(folder, "out")
     subprocess.run([gazemill, "-q", "run", proto, "-o", out], check=True)
     if flags:
-        flag_trials(os.path.join(out, "harbour-news.gzm.h5"), flags)
+        named = flag_trials(os.path.join(out, "harbour-news.gzm.h5"), flags)
+        if flagged is not None:
+            flagged.extend(named)
     report = os.path.join(folder, "demo-report.html")
     subprocess.run([gazemill, "-q", "report", os.path.join(out, "harbour-news.gzm.h5"), "-o", report], check=True)
     return report
