@@ -55,6 +55,12 @@
   }
   function cellLabel(c) { return c ? c : "all cells"; }
   function roleLabel(r) { return r ? r : "other regions"; }
+  // "target: frequent/valid" for role target in cell "frequency=frequent, preview=valid"
+  // (the colour legend names the factors).
+  function groupLabel(role, cell) {
+    var levels = String(cell).split(", ").map(function (p) { var i = p.indexOf("="); return i < 0 ? p : p.slice(i + 1); });
+    return roleLabel(role) + ": " + levels.join("/");
+  }
   function histogramRows(h) {
     var rows = [];
     if (!h || !h.counts) return rows;
@@ -482,11 +488,11 @@
     if (!m.present) return emptySpec(el, "The measures have not been computed.");
     var measure = el.closest("figure").id.replace("fig-measures-", "");
     var rows = m.distributions.filter(function (d) { return d.measure === measure; }).map(function (d) {
-      return Object.assign({}, d, { group: roleLabel(d.role) + " · " + d.cell, roleOrder: m.roles.indexOf(d.role) });
+      return Object.assign({}, d, { group: groupLabel(d.role, d.cell), roleOrder: m.roles.indexOf(d.role) });
     });
     if (!rows.length) return emptySpec(el, "No values.");
     var dots = m.participant_means.filter(function (d) { return d.measure === measure; }).map(function (d) {
-      return { group: roleLabel(d.role) + " · " + d.cell, participant: d.participant, mean: d.mean, n: d.n, cell: d.cell };
+      return { group: groupLabel(d.role, d.cell), participant: d.participant, mean: d.mean, n: d.n, cell: d.cell };
     });
     var cs = cells.length ? cells : ["all trials"];
     return {
@@ -501,6 +507,7 @@
         { orient: "left", scale: "y", labelLimit: 200 },
         { orient: "bottom", scale: "x", title: "ms", grid: true, tickCount: 6 }
       ],
+      legends: [{ fill: "c", orient: "bottom", direction: "vertical", columns: 1, title: "design cell", symbolType: "square", labelLimit: 320 }],
       marks: [
         { type: "rule", from: { data: "d" }, encode: { update: {
           y: { scale: "y", field: "group", band: 0.5 }, x: { scale: "x", field: "p05" }, x2: { scale: "x", field: "p95" }, stroke: { value: "#5b6470" } } } },
@@ -526,11 +533,11 @@
     var names = { skipping: "skipping", regression_out: "regression out", regression_in: "regression in" };
     var order = { skipping: 0, regression_out: 1, regression_in: 2 };
     var rows = m.probabilities.filter(function (p) { return p.p !== null; }).map(function (p) {
-      return { measure: names[p.measure], order: order[p.measure], group: roleLabel(p.role) + " · " + p.cell, roleOrder: m.roles.indexOf(p.role), cell: p.cell, p: p.p, n: p.n };
+      return { measure: names[p.measure], order: order[p.measure], group: groupLabel(p.role, p.cell), roleOrder: m.roles.indexOf(p.role), cell: p.cell, p: p.p, n: p.n };
     });
     if (!rows.length) return emptySpec(el, "No region has a role (the items file's roles column names them).");
     var dots = m.participant_probabilities.map(function (p) {
-      return { measure: names[p.measure], order: order[p.measure], group: roleLabel(p.role) + " · " + p.cell, participant: p.participant, p: p.p, n: p.n };
+      return { measure: names[p.measure], order: order[p.measure], group: groupLabel(p.role, p.cell), participant: p.participant, p: p.p, n: p.n };
     });
     var groups = {};
     rows.forEach(function (r) { groups[r.group] = true; });
@@ -568,6 +575,7 @@
         { name: "c", type: "ordinal", domain: cs, range: OKABE_ITO }
       ],
       axes: [{ orient: "left", scale: "y", labelLimit: labelW - 10 }],
+      legends: [{ fill: "c", orient: "bottom", direction: "vertical", columns: 3, title: "design cell", symbolType: "square", labelLimit: 320 }],
       marks: panels
     };
   };
