@@ -957,9 +957,8 @@
 
   var api = { ready: null, views: views, viewer: viewerApi, vega: vega, timings: timings };
   globalThis.gazemillReport = api;
-  // Drawing order: the charts on the first screen at once, then the rest a few
-  // per task (so the page answers input meanwhile), any chart scrolled to
-  // first. data-first-screen-ms marks the page usable; data-ready-ms every
+  // Drawing order: the charts on the first screen, then, after a paint, the
+  // rest (any chart scrolled to before then goes first). data-first-screen-ms marks the page usable; data-ready-ms every
   // chart and the trial viewer drawn.
   var chartElements = Array.prototype.slice.call(document.querySelectorAll(".vega[data-chart]"));
   chartElements.forEach(widthOfContainer);
@@ -985,11 +984,10 @@
     }, { rootMargin: "300px" });
     chartElements.forEach(function (el) { seen.observe(el); });
   }
-  var rest = first.then(function next() {
-    var batch = chartElements.filter(function (el) { return !drawn.has(el); }).slice(0, 4);
-    if (!batch.length) return Promise.all(chartElements.map(draw));
-    return Promise.all(batch.map(draw)).then(yieldToPage).then(next);
-  });
+  // The rest in one go once the first screen is painted: in batches of four,
+  // the page was laid out and painted again after each (some 200 ms a time
+  // for a 40 x 120 study), which cost more than it gave.
+  var rest = first.then(yieldToPage).then(function () { return Promise.all(chartElements.map(draw)); });
   window.addEventListener("beforeprint", function () { chartElements.forEach(draw); });
   var viewerCharts = chartElements.filter(function (el) { return /^viewer-/.test(el.getAttribute("data-chart")); });
   var viewerShown = Promise.all([first, viewerData].concat(viewerCharts.map(function (el) {
