@@ -163,6 +163,10 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   auto* verify = app.add_subcommand("verify", "Re-run the stored protocol on the recorded inputs and compare every derived dataset");
   verify->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
 
+  auto* exp = app.add_subcommand("export", "Write a store's tables: fixations, saccades and blinks, the audit and the measures");
+  exp->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
+  exp->add_option("-o,--output", o.output, "Folder for the tables (default: <store name>-tables beside the store)");
+
   auto* inspect = app.add_subcommand("inspect", "Show the recordings, trials, data loss and each stage's state in a study store");
   inspect->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
 }
@@ -181,6 +185,24 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     return 0;
   }
   if (app.got_subcommand("verify")) return verify_store(o.store_argument, std::cout) ? 0 : 1;
+  if (app.got_subcommand("export")) {
+    // The tables as the latest current stage's protocol describes them (its design and regions).
+    StudyStoreReader store(o.store_argument);
+    std::optional<StageRecord> last;
+    for (Stage s : kStages) {
+      const auto r = store.stage_record(s);
+      if (!r || r->state != StageState::current) break;
+      last = r;
+    }
+    if (!last || last->stage == Stage::ingest) {
+      throw InputError({o.store_argument, 0, ""}, "has no detected events yet; run gazemill run (or detect) first");
+    }
+    const std::string folder = o.output.empty() ? default_tables_folder(o.store_argument) : o.output;
+    const auto written = write_study_tables(o.store_argument, folder, parse_protocol_text(last->protocol_text, last->protocol_path));
+    if (written.empty()) spdlog::info("{}: the tables there are already those of this store", folder);
+    else spdlog::info("{}: {} tables written", folder, written.size());
+    return 0;
+  }
   if (app.got_subcommand("inspect")) {
     print_store_overview(o.store_argument, std::cout);
     return 0;

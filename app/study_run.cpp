@@ -17,6 +17,7 @@
 
 #include "app/align.h"
 #include "app/clean.h"
+#include "app/event_tables.h"
 #include "app/measure.h"
 #include "app/progress_bar.h"
 #include "app/recording_work.h"
@@ -26,6 +27,7 @@
 #include "gazemill/version.h"
 #include "io/alignment_io.h"
 #include "io/cleaning_io.h"
+#include "io/event_tables_io.h"
 #include "io/measures_io.h"
 #include "io/region_files.h"
 #include "io/sha256.h"
@@ -128,7 +130,7 @@ class StudyRun {
   void run_study_stages(StudyStoreWriter& out);
   void remove_results(StudyStoreWriter& out, Stage stage);
   StageRecord record_for(Stage stage, const std::string& key, const std::string& upstream, const std::string& settings) const;
-  void write_tables();
+
   bool stage_wanted(Stage s) const { return !o_.only || *o_.only == s; }
   bool regions_present() const { return p_.regions.present(); }
 
@@ -727,57 +729,66 @@ StudyRunReport StudyRun::execute() {
     report_.store_written = true;
     spdlog::debug("store written after {:.2f} s", since());
   }
-  if (!o_.tables_folder.empty()) write_tables();
+  if (!o_.tables_folder.empty()) {
+    const auto written = write_study_tables(o_.store_path, o_.tables_folder, p_, &report_);
+    report_.tables = written;
+    report_.tables_folder = o_.tables_folder;
+  }
   spdlog::debug("tables done after {:.2f} s", since());
   return report_;
 }
 
-// The tables of the store as it now is: the audit once cleaned, the
-// measures once measured; written as one set with a manifest, and skipped
-// when the folder already holds this very set.
-void StudyRun::write_tables() {
-  report_.tables_folder = o_.tables_folder;
-  StudyStoreReader store(o_.store_path);
+}  // namespace
+
+std::vector<std::string> write_study_tables(const std::string& store_path, const std::string& folder, const Protocol& p,
+                                            StudyRunReport* fresh) {
+  StudyStoreReader store(store_path);
   nlohmann::json manifest;
-  manifest["store"] = fs::absolute(o_.store_path).lexically_normal().string();
+  manifest["store"] = fs::absolute(store_path).lexically_normal().string();
   manifest["gazemill_version"] = kVersion;
-  for (Stage s : kStages) {
-    const auto r = store.stage_record(s);
-    if (r && r->state == StageState::current) manifest["stages"][to_string(s)] = r->key;
-  }
-  WriteLock lock(o_.tables_folder);
-  remove_leftover_temporaries(o_.tables_folder);
-  if (read_manifest(o_.tables_folder) == manifest.dump(2)) return;
-  TableSet set(o_.tables_folder);
-  const auto current = [&](Stage s) {
+  auto current = [&](Stage s) {
     const auto r = store.stage_record(s);
     return r && r->state == StageState::current;
   };
+  for (Stage s : kStages) {
+    if (current(s)) manifest["stages"][to_string(s)] = store.stage_record(s)->key;
+  }
+  WriteLock lock(folder);
+  remove_leftover_temporaries(folder);
+  if (read_manifest(folder) == manifest.dump(2)) return {};
+  TableSet set(folder);
+  std::optional<RegionCatalogue> regions;
+  if (p.regions.present()) regions = load_regions(p);
+  if (current(Stage::detect)) {
+    const EventTables events = event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align));
+    set.add("fixations.tsv", fixations_tsv(events, p.design));
+    set.add("saccades.tsv", saccades_tsv(events, p.design));
+    set.add("blinks.tsv", blinks_tsv(events, p.design));
+  }
   if (current(Stage::clean)) {
-    const AuditReport audit = report_.audit ? *report_.audit : read_audit(store);
+    const AuditReport audit = fresh && fresh->audit ? *fresh->audit : read_audit(store);
     set.add("audit.tsv", audit_tsv(audit));
     set.add("audit_totals.tsv", audit_totals_tsv(audit));
     set.add("audit.json", audit_json(audit));
   }
-  if (current(Stage::measure) && regions_present()) {
-    if (report_.rows.empty()) {
+  if (current(Stage::measure) && regions) {
+    StudyRunReport again;
+    StudyRunReport& r = fresh ? *fresh : again;
+    if (r.rows.empty()) {
       // Measured before: the same rows again from the store's cleaned fixations and lines.
-      if (!regions_) regions_ = load_regions(p_);
-      report_.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions_, p_.regions, p_.design, &report_.placement);
+      r.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions, p.regions, p.design, &r.placement);
     }
-    const auto& rows = report_.rows;
-    set.add("measures.tsv", measures_long_tsv(rows, p_.design));
-    set.add("measures_wide.tsv", measures_wide_tsv(rows, p_.design));
-    set.add("measures_by_item_region.tsv", aggregates_tsv(aggregate_by_item_region(rows), p_.design.factors));
-    set.add("measures_by_role.tsv", aggregates_tsv(aggregate_by_role(rows), p_.design.factors));
-    set.add("measures_by_participant.tsv", aggregates_tsv(aggregate_by_participant(rows), p_.design.factors));
-    set.add("fixation_placement.tsv", placement_tsv(report_.placement, p_.design.factors));
+    const auto& rows = r.rows;
+    set.add("measures.tsv", measures_long_tsv(rows, p.design));
+    set.add("measures_wide.tsv", measures_wide_tsv(rows, p.design));
+    set.add("measures_by_item_region.tsv", aggregates_tsv(aggregate_by_item_region(rows), p.design.factors));
+    set.add("measures_by_role.tsv", aggregates_tsv(aggregate_by_role(rows), p.design.factors));
+    set.add("measures_by_participant.tsv", aggregates_tsv(aggregate_by_participant(rows), p.design.factors));
+    set.add("fixation_placement.tsv", placement_tsv(r.placement, p.design.factors));
   }
   set.commit(manifest.dump(2));
-  report_.tables = set.names();
+  return set.names();
 }
-
-}  // namespace
 
 StudyRunReport run_study(const Protocol& protocol, const StudyRunOptions& options) {
   StudyRun run(protocol, options);

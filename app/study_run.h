@@ -54,6 +54,14 @@ struct StudyRunReport {
 /// nothing half-written is left in place.
 StudyRunReport run_study(const Protocol& protocol, const StudyRunOptions& options);
 
+/// Writes the tables of the store as it now is into `folder`, as one set with
+/// a manifest: the event lists once detected, the audit once cleaned, the
+/// measures once measured. Skipped when the folder already holds this very
+/// set. `fresh` lends what a run has in memory (and takes the rows computed
+/// here). Returns the files written.
+std::vector<std::string> write_study_tables(const std::string& store_path, const std::string& folder, const Protocol& protocol,
+                                            StudyRunReport* fresh = nullptr);
+
 /// The store a protocol writes by default: <protocol folder>/<study name or "study">.gzm.h5.
 std::string default_store_path(const Protocol& protocol);
 /// The tables folder of a store by default: beside it, "<store name>-tables".

@@ -52,8 +52,8 @@ int main() {
     return CleaningRuleSpec{std::move(name), std::move(kind), std::move(n), std::move(t), 0};
   };
   const std::vector<CleaningRuleSpec> rules = {
-      rule("merge 80", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}}),
-      rule("merge 40", "merge_short_fixations", {{"max_duration_ms", 40}, {"max_distance_deg", 1.25}}),
+      rule("merge 70", "merge_short_fixations", {{"max_duration_ms", 70}, {"max_distance_deg", 0.6}, {"max_gap_ms", 50}}),
+      rule("merge 50", "merge_short_fixations", {{"max_duration_ms", 50}, {"max_distance_deg", 1.0}, {"max_gap_ms", 30}}),
       rule("short", "delete_short_fixations", {{"min_duration_ms", 80}}),
       rule("long", "delete_long_fixations", {{"max_duration_ms", 800}}),
       rule("blinks", "delete_fixations_near_blinks", {{"within_ms", 50}}),

@@ -241,8 +241,14 @@ void collect_events(const GazeTrace& g, const std::vector<SampleLabel>& labels, 
       std::vector<double> xs, ys;
       double sx = 0, sy = 0, sxd = 0, syd = 0;
       double x_lo = 1e300, x_hi = -1e300, y_lo = 1e300, y_hi = -1e300;
+      double pupil_sum = 0;
+      std::size_t pupils = 0;
       for (std::size_t k = a; k < b; ++k) {
         if (!g.valid[k]) continue;  // a bridged gap adds time, not position
+        if (k < g.pupil.size() && std::isfinite(g.pupil[k])) {
+          pupil_sum += g.pupil[k];
+          ++pupils;
+        }
         xs.push_back(g.x_px[k]);
         ys.push_back(g.y_px[k]);
         sx += g.x_px[k];
@@ -262,6 +268,7 @@ void collect_events(const GazeTrace& g, const std::vector<SampleLabel>& labels, 
       f.x_median_px = median_in_place(xs);
       f.y_median_px = median_in_place(ys);
       f.dispersion_deg = (x_hi - x_lo) + (y_hi - y_lo);
+      if (pupils) f.pupil = pupil_sum / static_cast<double>(pupils);
       out.fixations.push_back(f);
     } else if (l == SampleLabel::saccade) {
       SaccadeEvent s;

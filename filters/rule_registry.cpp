@@ -65,7 +65,7 @@ std::unique_ptr<CleaningRule> make_cleaning_rule(const CleaningRuleSpec& spec) {
     if (chars && m.char_width_px <= 0) {
       throw RuleParameterError("", "rule '" + spec.name + "' (" + k + "): max_distance_chars needs char_width_px (the font's character width)");
     }
-    m.max_gap_ms = p.optional("max_gap_ms", 50, 0);
+    m.max_gap_ms = p.required("max_gap_ms", 0);  // every threshold is the lab's to write: no built-in value
     m.prefer = p.choice("prefer", {"nearer", "longer", "previous", "next"}, "nearer");
     m.duration = p.choice("duration", {"sum", "span"}, "sum");
     m.position = p.choice("position", {"longer", "weighted"}, "longer");

@@ -362,6 +362,23 @@ std::vector<CleanFixation> read_clean_fixations(const StudyStoreReader& store, c
   return out;
 }
 
+std::vector<RemovedFixation> read_removed_fixations(const StudyStoreReader& store, const std::string& rec) {
+  const std::string base = "recordings/" + rec + "/clean/removed_fixations";
+  if (!store.exists(base)) throw InputError({store.path(), 0, base}, "no cleaning results; run gazemill clean first");
+  h5::QuietErrors quiet;
+  H5::Group g = store.group(base);
+  const auto ids = h5::read_column<std::uint32_t>(g, "input_id");
+  const auto rule = h5::read_strings(g, "rule"), reason = h5::read_strings(g, "reason");
+  const auto into = h5::read_column<std::int64_t>(g, "merged_into");
+  std::vector<RemovedFixation> out;
+  for (std::size_t i = 0; i < ids.size(); ++i) {
+    RemovedFixation r{ids[i], rule.at(i), reason.at(i), std::nullopt};
+    if (into.at(i) >= 0) r.merged_into = static_cast<std::uint32_t>(into[i]);
+    out.push_back(std::move(r));
+  }
+  return out;
+}
+
 std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& store, const std::string& rec) {
   const std::string base = "recordings/" + rec + "/clean/trials";
   if (!store.exists(base)) throw InputError({store.path(), 0, base}, "no cleaning verdicts; run gazemill clean first");

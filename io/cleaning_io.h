@@ -17,6 +17,7 @@
 // trials that lack a factor's variable, which the tables write as NA.
 
 #include <map>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -46,6 +47,14 @@ void write_audit(StudyStoreWriter& store, const AuditReport& report);
 AuditReport read_audit(const StudyStoreReader& store);
 /// Kept fixations of a recording after cleaning (duration_ms as the merge rules combined it).
 std::vector<CleanFixation> read_clean_fixations(const StudyStoreReader& store, const std::string& recording);
+/// A fixation cleaning removed: by which rule and why, and the input id of the
+/// fixation it was merged into (none when deleted).
+struct RemovedFixation {
+  std::uint32_t input_id = 0;
+  std::string rule, reason;
+  std::optional<std::uint32_t> merged_into;
+};
+std::vector<RemovedFixation> read_removed_fixations(const StudyStoreReader& store, const std::string& recording);
 /// Whether each trial of a recording was kept by cleaning, by trial id.
 std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& store, const std::string& recording);
 

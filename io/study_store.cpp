@@ -326,6 +326,7 @@ void StudyStoreWriter::write_events(const std::string& id, const DetectedEvents&
   h5::write_column(f, "x_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.x_deg; }), "deg");
   h5::write_column(f, "y_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.y_deg; }), "deg");
   h5::write_column(f, "dispersion_deg", number_column<FixationEvent, double>(fx, [](auto& e) { return e.dispersion_deg; }), "deg");
+  h5::write_column(f, "pupil", number_column<FixationEvent, double>(fx, [](auto& e) { return e.pupil; }), "as recorded");
 
   H5::Group sg = h5::create_group(g, "saccades");
   const auto& sc = ev.saccades;
@@ -555,8 +556,9 @@ DetectedEvents StudyStoreReader::read_events(const std::string& id) const {
     const auto xm = h5::read_column<double>(f, "x_median_px"), ym = h5::read_column<double>(f, "y_median_px");
     const auto xd = h5::read_column<double>(f, "x_deg"), yd = h5::read_column<double>(f, "y_deg");
     const auto disp = h5::read_column<double>(f, "dispersion_deg");
+    const auto pupil = h5::read_column<double>(f, "pupil");
     for (std::size_t i = 0; i < trial.size(); ++i) {
-      ev.fixations.push_back({trial[i], eye(eyes[i]), start[i], end[i], x[i], y[i], xm[i], ym[i], xd[i], yd[i], disp[i]});
+      ev.fixations.push_back({trial[i], eye(eyes[i]), start[i], end[i], x[i], y[i], xm[i], ym[i], xd[i], yd[i], disp[i], pupil.at(i)});
     }
     H5::Group s = g.openGroup("saccades");
     const auto st = h5::read_strings(s, "trial"), se = h5::read_strings(s, "eye");

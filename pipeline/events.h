@@ -25,6 +25,7 @@ inline const char* to_string(SampleLabel l) {
 }  // namespace gazemill
 
 #include <cstdint>
+#include <limits>
 #include <map>
 #include <string>
 #include <vector>
@@ -43,6 +44,7 @@ struct FixationEvent {
   double x_median_px = 0, y_median_px = 0;  // median position
   double x_deg = 0, y_deg = 0;              // mean, from the screen centre
   double dispersion_deg = 0;                // (max x - min x) + (max y - min y)
+  double pupil = std::numeric_limits<double>::quiet_NaN();  // mean over its samples, in the input's unit; NaN without a pupil
   double duration_ms() const { return static_cast<double>(end_us - start_us) / 1000.0; }
 };
 

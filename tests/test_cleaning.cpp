@@ -88,7 +88,7 @@ std::uint64_t alone(const CleaningOutcome& o, std::size_t r, AuditLevel l, const
 TEST(MergeShortFixations, StageOneFromThePublishedPractice) {
   std::uint32_t id = 0;
   const auto input = state_of({trial_of({{0, 60, 10.0}, {90, 200, 10.4}, {320, 300, 12.0}}, id)});
-  const auto o = run_cleaning(input, {rule("stage 1", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}})});
+  const auto o = run_cleaning(input, {rule("stage 1", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gap_ms", 50}})});
   EXPECT_EQ(kept_durations(o), (std::vector<double>{260, 300}));
   const auto& b = o.state.participants[0].trials[0].fixations[1];
   EXPECT_DOUBLE_EQ(b.fixation.x_deg, 10.4);
@@ -105,7 +105,7 @@ TEST(MergeShortFixations, PositionDurationAndNeighbourChoices) {
   std::uint32_t id = 0;
   const auto input = state_of({trial_of({{0, 60, 10.0}, {90, 200, 10.4}}, id)});
   // Weighted position: (10.4 * 200 + 10.0 * 60) / 260 = 10.307692; span: 0..290 ms = 290 ms.
-  auto o = run_cleaning(input, {rule("w", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}},
+  auto o = run_cleaning(input, {rule("w", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gap_ms", 50}},
                                      {{"position", "weighted"}, {"duration", "span"}})});
   EXPECT_NEAR(o.state.participants[0].trials[0].fixations[1].fixation.x_deg, 10.307692, 1e-6);
   EXPECT_EQ(kept_durations(o), (std::vector<double>{290}));
@@ -114,7 +114,7 @@ TEST(MergeShortFixations, PositionDurationAndNeighbourChoices) {
   id = 0;
   const auto between = state_of({trial_of({{0, 200, 5.0}, {230, 50, 5.3}, {310, 300, 5.5}}, id)});
   auto pick = [&](const std::string& prefer) {
-    const auto r = run_cleaning(between, {rule("m", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}},
+    const auto r = run_cleaning(between, {rule("m", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gap_ms", 50}},
                                                 {{"prefer", prefer}})});
     return kept_durations(r);
   };
@@ -128,7 +128,7 @@ TEST(MergeShortFixations, PositionDurationAndNeighbourChoices) {
   // 20 ms at 7.1: its previous neighbour (30 ms, 0.1 deg, 30 ms gap) is longer: it joins it, 50 ms.
   id = 0;
   const auto apart = state_of({trial_of({{0, 60, 5.0}, {260, 200, 5.1}, {500, 30, 7.0}, {560, 20, 7.1}}, id)});
-  const auto r = run_cleaning(apart, {rule("m", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}})});
+  const auto r = run_cleaning(apart, {rule("m", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gap_ms", 50}})});
   EXPECT_EQ(kept_durations(r), (std::vector<double>{60, 200, 50}));
 }
 
@@ -254,8 +254,8 @@ TEST(Audit, ConservationHoldsForRandomRuleLists) {
   std::mt19937 rng(1);
   std::uniform_real_distribution<double> dur(20, 1200), x(-20, 20), u(0, 1);
   const std::vector<CleaningRuleSpec> pool = {
-      rule("m80", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}}),
-      rule("m40", "merge_short_fixations", {{"max_duration_ms", 40}, {"max_distance_deg", 1.25}}),
+      rule("m70", "merge_short_fixations", {{"max_duration_ms", 70}, {"max_distance_deg", 0.6}, {"max_gap_ms", 50}}),
+      rule("m50", "merge_short_fixations", {{"max_duration_ms", 50}, {"max_distance_deg", 1.0}, {"max_gap_ms", 30}}),
       rule("short", "delete_short_fixations", {{"min_duration_ms", 80}}),
       rule("long", "delete_long_fixations", {{"max_duration_ms", 800}}),
       rule("blinks", "delete_fixations_near_blinks", {{"within_ms", 100}}),
@@ -314,8 +314,10 @@ TEST(CleaningRules, BadParametersNameTheProblem) {
   EXPECT_NE(error(rule("x", "delete_short_fixations", {})).find("rule 'x' (delete_short_fixations): required parameter min_duration_ms is missing"), std::string::npos);
   EXPECT_NE(error(rule("x", "delete_short_fixations", {{"min_duration", 80}})).find("parameter min_duration needs its unit in the name, e.g. min_duration_ms [min_duration]"), std::string::npos);
   EXPECT_NE(error(rule("x", "delete_short_fixations", {{"min_duration_ms", -5}})).find("must be at least 0"), std::string::npos);
-  EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}})).find("exactly one of max_distance_deg"), std::string::npos);
-  EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}}, {{"prefer", "left"}})).find("must be one of \"nearer\""), std::string::npos);
+  EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_gap_ms", 50}})).find("exactly one of max_distance_deg"), std::string::npos);
+  // Every threshold is the lab's to write (no built-in value): the gap limit too.
+  EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}})).find("max_gap_ms"), std::string::npos);
+  EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gap_ms", 50}}, {{"prefer", "left"}})).find("must be one of \"nearer\""), std::string::npos);
   EXPECT_NE(error(rule("x", "exclude_trials_with_data_loss", {{"max_missing_percent", 140}})).find("at most 100"), std::string::npos);
 }
 
