@@ -401,7 +401,7 @@ class Assembler {
       const bool cleaned = have_clean && store_.exists("recordings/" + id + "/clean");
       if (cleaned) {
         kept = read_clean_fixations(store_, id);
-        removed = read_removed_fixations(store_, id);
+        removed = read_removed_fixation_rows(store_, id);
         verdicts = read_trial_verdicts(store_, id);
         for (const auto& f : kept) gathered_.kept_fixation_ms.push_back(f.duration_ms);
       }

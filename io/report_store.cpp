@@ -45,7 +45,7 @@ void read_columns_into(const H5::Group& g, StoredTable& t, const std::string& pa
 
 }  // namespace
 
-std::vector<RemovedFixationRow> read_removed_fixations(const StudyStoreReader& store, const std::string& recording) {
+std::vector<RemovedFixationRow> read_removed_fixation_rows(const StudyStoreReader& store, const std::string& recording) {
   return reading(store, "recordings/" + recording + "/clean/removed_fixations", [](const H5::Group& g) {
     const auto id = h5::read_column<std::uint32_t>(g, "input_id");
     const auto trial = h5::read_strings(g, "trial");

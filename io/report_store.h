@@ -13,7 +13,8 @@
 
 namespace gazemill {
 
-/// /recordings/<id>/clean/removed_fixations, one row per removed input fixation.
+/// /recordings/<id>/clean/removed_fixations, one row per removed input fixation, every column
+/// (read_removed_fixations in io/cleaning_io.h keeps only the id, rule, reason and merge).
 struct RemovedFixationRow {
   std::uint32_t input_id = 0;
   std::string trial;
@@ -22,7 +23,7 @@ struct RemovedFixationRow {
   std::string rule, reason;
   std::int64_t merged_into = -1;  // the input id it joined; -1 when deleted
 };
-std::vector<RemovedFixationRow> read_removed_fixations(const StudyStoreReader& store, const std::string& recording);
+std::vector<RemovedFixationRow> read_removed_fixation_rows(const StudyStoreReader& store, const std::string& recording);
 
 /// /recordings/<id>/clean/trials: each trial's verdict, with the rule and reason of an exclusion.
 struct TrialVerdictRow {

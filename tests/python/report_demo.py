@@ -12,6 +12,7 @@ name = "merge under 80 ms within 0.5 deg"
 kind = "merge_short_fixations"
 max_duration_ms = 80
 max_distance_deg = 0.5
+max_gap_ms = 50
 
 [[cleaning]]
 name = "shorter than 80 ms"
