@@ -20,6 +20,7 @@
 #include "io/cleaning_io.h"
 #include "io/region_files.h"
 #include "io/report_store.h"
+#include "io/sha256.h"
 #include "io/study_store.h"
 #include "measures/data_quality.h"
 #include "pipeline/design.h"
@@ -65,6 +66,7 @@ std::vector<ReportStage> stage_states(const StudyStoreReader& store) {
       rs.created_utc = r->created_utc;
       rs.tool_version = r->tool_version;
       rs.settings_json = r->settings_json;
+      rs.protocol_sha256 = r->protocol_text.empty() ? std::string() : sha256_hex(r->protocol_text);
       if (stale) rs.note = r->stale_reason.empty() ? "made from results that have changed since" : r->stale_reason;
     }
     out.push_back(std::move(rs));

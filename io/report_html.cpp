@@ -591,10 +591,12 @@ void run_section(HtmlWriter& w, const ReportModel& m) {
   std::vector<std::vector<std::string>> stages;
   std::vector<std::string> state_classes;
   for (const auto& s : r.stages) {
-    stages.push_back({s.stage, s.state, s.created_utc.empty() ? "–" : s.created_utc, s.tool_version.empty() ? "–" : s.tool_version, s.note});
+    stages.push_back({s.stage, s.state, s.created_utc.empty() ? "–" : s.created_utc, s.tool_version.empty() ? "–" : s.tool_version,
+                      s.protocol_sha256.empty() ? "–" : s.protocol_sha256.substr(0, 12) + "…", s.note});
     state_classes.push_back("state-" + s.state);
   }
-  table(w, {"stage", "state", "ran (UTC)", "gazemill", "note"}, stages, "Stages, in pipeline order", {}, "stages", state_classes);
+  table(w, {"stage", "state", "ran (UTC)", "gazemill", "protocol SHA-256", "note"}, stages,
+        "Stages, in pipeline order, with the protocol each ran with", {}, "stages", state_classes);
   w.open("dl", {{"class", "provenance"}});
   auto row = [&](const std::string& k, const std::string& v, bool code = false) {
     w.element("dt", k);
@@ -608,7 +610,7 @@ void run_section(HtmlWriter& w, const ReportModel& m) {
   row("report written", r.report_created_utc + " by gazemill " + r.report_tool_version);
   row("store made", r.store_created_utc + " by gazemill " + r.store_tool_version);
   row("protocol", r.protocol_path, true);
-  row("protocol SHA-256", r.protocol_sha256, true);
+  row("protocol SHA-256 at ingest", r.protocol_sha256, true);
   row("design", r.factors.empty() ? std::string("no factors") : [&] {
     std::string s;
     for (const auto& f : r.factors) s += (s.empty() ? "" : " × ") + f;

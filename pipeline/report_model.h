@@ -53,6 +53,7 @@ struct ReportStage {
   std::string created_utc;  // when it ran ("" when absent)
   std::string tool_version;
   std::string settings_json;  // its protocol section, resolved
+  std::string protocol_sha256;  // of the whole protocol text it ran with
   std::string note;         // why it is stale
 };
 

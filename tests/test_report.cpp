@@ -166,8 +166,11 @@ TEST(ReportData, CountsAgreeWithTheStore) {
   EXPECT_EQ(q_samples, samples);
   // The design cells of the trials, named by the protocol's factors.
   EXPECT_EQ(m.run.cells, std::vector<std::string>(cells.begin(), cells.end()));
-  // Every stage ran and is current.
-  for (const auto& s : m.run.stages) EXPECT_EQ(s.state, "current") << s.stage;
+  // Every stage ran and is current, each with the protocol the ingest hashed (one run, one protocol file).
+  for (const auto& s : m.run.stages) {
+    EXPECT_EQ(s.state, "current") << s.stage;
+    EXPECT_EQ(s.protocol_sha256, m.run.protocol_sha256) << s.stage;
+  }
 }
 
 // Source: the simulator's own set precision (fixtures/demo-study/simulation.json,
