@@ -181,6 +181,8 @@ void register_commands(CLI::App& app, CommandOptions& o) {
 
   register_score_command(app, o.score);
 
+  register_report_command(app, o.report);
+
   auto* audit = app.add_subcommand("audit", "Show what each cleaning rule removed, per condition");
   audit->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
   audit->add_option("--by", o.audit_by, "Break the table down: participant")->check(CLI::IsMember({"participant"}));
@@ -210,6 +212,7 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
   }
   if (app.got_subcommand("simulate")) return run_simulate(o.simulate);
   if (app.got_subcommand("score")) return run_score(o.score);
+  if (app.got_subcommand("report")) return run_report(o.report);
   if (app.got_subcommand("audit")) {
     StudyStoreReader store(o.store_argument);
     print_audit(read_audit(store), o.audit_by == "participant", std::cout);

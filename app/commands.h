@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "app/progress_bar.h"
+#include "app/report_command.h"
 #include "app/score.h"
 #include "app/simulate_command.h"
 
@@ -29,6 +30,8 @@ struct CommandOptions {
   SimulateOptions simulate;
   // score
   ScoreOptions score;
+  // report
+  ReportOptions report;
 };
 
 void register_commands(CLI::App& app, CommandOptions& opts);
