@@ -50,6 +50,32 @@ std::optional<EyeColumnNames> parse_eye(TomlSection& table, const std::string& k
   return cols;
 }
 
+// [input.bids]: a dataset's own column names, and the tracker's own events to keep.
+void parse_bids_input(TomlSection& b, BidsInputSpec& spec) {
+  if (auto v = b.string("timestamp_column")) spec.timestamp_column = *v;
+  if (auto v = b.string("x_column")) spec.x_column = *v;
+  if (auto v = b.string("y_column")) spec.y_column = *v;
+  if (auto v = b.string("pupil_column")) {
+    spec.pupil_column = *v;
+    spec.pupil_column_named = true;
+  }
+  spec.gaze_in_pixels = b.boolean("gaze_in_pixels").value_or(false);
+  spec.zero_gaze_is_missing = b.boolean("zero_gaze_is_missing").value_or(false);
+  if (auto t = b.table("tracker_events")) {
+    spec.tracker_event_column = t->string("column").value_or("trial_type");
+    for (auto [key, field] : {std::pair{"fixation", &spec.tracker_fixation_pattern}, std::pair{"saccade", &spec.tracker_saccade_pattern},
+                              std::pair{"blink", &spec.tracker_blink_pattern}}) {
+      if (auto v = t->string(key)) {
+        check_regex(*t, key, *v);
+        *field = *v;
+      }
+    }
+    if (!spec.keeps_tracker_events()) t->fail("column", "name at least one of fixation, saccade, blink (a pattern on the column)");
+    t->finish();
+  }
+  b.finish();
+}
+
 void parse_input(TomlSection& in, Protocol& p) {
   InputSpec& spec = p.input;
   const std::string format = in.string("format").value_or("delimited");
@@ -109,6 +135,11 @@ void parse_input(TomlSection& in, Protocol& p) {
     spec.message_file = ms;
   }
 
+  if (auto b = in.table("bids")) {
+    if (spec.format != InputFormat::bids) b->fail("timestamp_column", "[input.bids] is for format = \"bids\"");
+    parse_bids_input(*b, spec.bids);
+  }
+
   if (auto r = in.table("repairs")) {
     if (auto d = r->string("duplicate_timestamps")) {
       if (*d == "error") spec.repairs.duplicate_timestamps = DuplicateTimestampPolicy::error;
@@ -141,18 +172,91 @@ void parse_screen(TomlSection& s, Protocol& p) {
   p.screen = g;
 }
 
+// [trials] from = "events" or "table": each row of a table is a trial.
+void parse_trial_table(TomlSection& t, Protocol& p) {
+  TrialSegmentationSpec& spec = p.trials;
+  const bool events = spec.source == TrialSource::events;
+  for (const char* key : {"start", "end", "variables"}) {
+    if (t.has(key)) {
+      t.fail(key, std::string("is for trials from messages; with from = \"") + (events ? "events" : "table") +
+                      "\" each row is a trial and its columns are the variables (markers still come from messages)");
+    }
+  }
+  if (events && p.input.format != InputFormat::bids) {
+    t.fail("from", "from = \"events\" reads the BIDS task *_events.tsv, so [input] format must be \"bids\" "
+                   "(for a lab's own trial table use from = \"table\")");
+  }
+  if (auto v = t.string("trial_type")) {
+    if (!events) t.fail("trial_type", "selects rows of the BIDS task events (from = \"events\")");
+    check_regex(t, "trial_type", *v);
+    spec.trial_type_pattern = *v;
+  }
+  spec.trial_column = t.string("trial_column").value_or("");
+  if (auto cols = t.strings("columns")) {
+    std::set<std::string> seen;
+    for (const auto& c : *cols) {
+      if (c.empty() || !seen.insert(c).second) t.fail("columns", "expected distinct, non-empty column names");
+    }
+    spec.columns = *cols;
+  }
+  if (auto span = t.string("span")) {
+    if (*span != "duration" && *span != "next") {
+      t.fail("span", "expected \"duration\" (each row from its start for its duration) or \"next\" (until the next row's start)");
+    }
+    spec.until_next = *span == "next";
+  }
+  if (events) {
+    for (const char* key : {"table", "delimiter", "time_unit", "start_column", "end_column", "duration_column", "time_origin"}) {
+      if (t.has(key)) {
+        t.fail(key, "is for from = \"table\"; BIDS task events have onset and duration in seconds, their origin given by the sidecars");
+      }
+    }
+    return;
+  }
+  spec.table_template = t.required_string("table");
+  spec.table_delimiter = parse_delimiter(t, "delimiter", '\t');
+  if (auto unit = t.string("time_unit")) {
+    const auto tu = parse_time_unit(*unit);
+    if (!tu) t.fail("time_unit", "expected \"s\", \"ms\", \"us\" or \"ns\", found \"" + *unit + "\"");
+    spec.table_time_unit = *tu;
+  }
+  spec.start_column = t.string("start_column").value_or("start");
+  spec.end_column = t.string("end_column").value_or("end");
+  spec.duration_column = t.string("duration_column").value_or("duration");
+  if (auto origin = t.string("time_origin")) {
+    if (*origin != "clock" && *origin != "first_sample") {
+      t.fail("time_origin", "expected \"clock\" (times on the recording's clock) or \"first_sample\" (from its first sample)");
+    }
+    spec.table_times_from_first_sample = *origin == "first_sample";
+  }
+}
+
 void parse_trials(TomlSection& t, Protocol& p) {
   TrialSegmentationSpec& spec = p.trials;
-  spec.start_pattern = t.required_string("start");
-  check_regex(t, "start", spec.start_pattern);
-  spec.end_pattern = t.required_string("end");
-  check_regex(t, "end", spec.end_pattern);
-  if (auto vars = t.strings("variables")) {
-    for (const auto& v : *vars) {
-      check_regex(t, "variables", v);
-      if (NamedRegex(v).names().empty()) t.fail("variables", "pattern \"" + v + "\" has no named capture (?<name>...) to set a variable");
+  const std::string from = t.string("from").value_or("messages");
+  if (from == "messages") spec.source = TrialSource::messages;
+  else if (from == "events") spec.source = TrialSource::events;
+  else if (from == "table") spec.source = TrialSource::table;
+  else t.fail("from", "expected \"messages\", \"events\" (the BIDS task *_events.tsv) or \"table\", found \"" + from + "\"");
+  static const char* const kTableKeys[] = {"trial_type", "trial_column", "columns", "span", "table", "delimiter", "time_unit",
+                                           "start_column", "end_column", "duration_column", "time_origin"};
+  if (spec.source == TrialSource::messages) {
+    for (const char* key : kTableKeys) {
+      if (t.has(key)) t.fail(key, "is for trials from = \"events\" or \"table\"; these trials come from messages (start, end)");
     }
-    spec.variable_patterns = *vars;
+    spec.start_pattern = t.required_string("start");
+    check_regex(t, "start", spec.start_pattern);
+    spec.end_pattern = t.required_string("end");
+    check_regex(t, "end", spec.end_pattern);
+    if (auto vars = t.strings("variables")) {
+      for (const auto& v : *vars) {
+        check_regex(t, "variables", v);
+        if (NamedRegex(v).names().empty()) t.fail("variables", "pattern \"" + v + "\" has no named capture (?<name>...) to set a variable");
+      }
+      spec.variable_patterns = *vars;
+    }
+  } else {
+    parse_trial_table(t, p);
   }
   if (auto m = t.table("markers")) {
     for (const auto& name : m->keys()) {
@@ -164,8 +268,14 @@ void parse_trials(TomlSection& t, Protocol& p) {
   t.finish();
 }
 
-// Every name the trial patterns capture, except the trial id.
-std::set<std::string> trial_variable_names(const TrialSegmentationSpec& t) {
+// Every name the trial patterns capture, except the trial id; for trials
+// from a table, the columns it declares, or nullopt when it declares none
+// (its columns are known only at ingest, which checks them: app/bids_trials.h).
+std::optional<std::set<std::string>> trial_variable_names(const TrialSegmentationSpec& t) {
+  if (t.source != TrialSource::messages) {
+    if (t.columns.empty()) return std::nullopt;
+    return std::set<std::string>(t.columns.begin(), t.columns.end());
+  }
   std::set<std::string> names;
   std::vector<std::string> patterns = t.variable_patterns;
   patterns.push_back(t.start_pattern);
@@ -179,6 +289,11 @@ std::set<std::string> trial_variable_names(const TrialSegmentationSpec& t) {
   return names;
 }
 
+// Where the names of trial_variable_names come from, for errors.
+std::string variables_source(const TrialSegmentationSpec& t) {
+  return t.source == TrialSource::messages ? "the [trials] patterns capture" : "[trials] columns lists";
+}
+
 std::string listing(const std::set<std::string>& names) {
   if (names.empty()) return "none";
   std::string out;
@@ -190,9 +305,10 @@ void parse_design(std::optional<TomlSection> d, Protocol& p) {
   if (!d) return;
   const auto names = trial_variable_names(p.trials);
   auto known = [&](const std::string& key, const std::string& name) {
-    if (!names.count(name)) {
-      d->fail(key, "'" + name + "' is not a trial variable; the [trials] patterns capture " + listing(names) +
-                       " (name a capture (?<" + name + ">...) in a pattern, or use one of those)");
+    if (names && !names->count(name)) {
+      d->fail(key, "'" + name + "' is not a trial variable; " + variables_source(p.trials) + " " + listing(*names) +
+                       (p.trials.source == TrialSource::messages ? " (name a capture (?<" + name + ">...) in a pattern, or use one of those)"
+                                                                 : " (add it there, or use one of those)"));
     }
   };
   if (auto item = d->string("item")) {
@@ -374,9 +490,9 @@ void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
     }
     if (const auto v = spec.texts.find("variable"); v != spec.texts.end()) {
       const auto names = trial_variable_names(p.trials);
-      if (!names.count(v->second)) {
-        b.fail("variable", "rule '" + spec.name + "': '" + v->second + "' is not a trial variable; the [trials] patterns capture " +
-                               listing(names));
+      if (names && !names->count(v->second)) {
+        b.fail("variable", "rule '" + spec.name + "': '" + v->second + "' is not a trial variable; " + variables_source(p.trials) + " " +
+                               listing(*names));
       }
     }
     try {
@@ -431,10 +547,12 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
     parse_regions(*regions, p);
     // Regions are looked up by the item each trial names.
     const auto names = trial_variable_names(p.trials);
-    if (!names.count(p.design.item_variable)) {
+    if (names && !names->count(p.design.item_variable)) {
       throw InputError({path, top.has("design") ? top.line_of("design") : regions->line(), top.has("design") ? "design.item" : "regions"},
-                       "the regions are looked up by each trial's item, but no [trials] pattern captures '" + p.design.item_variable +
-                           "' (captured: " + listing(names) + "); capture it, or name the item variable in [design] item = ...");
+                       "the regions are looked up by each trial's item, but " +
+                           std::string(p.trials.source == TrialSource::messages ? "no [trials] pattern captures '" : "[trials] columns lacks '") +
+                           p.design.item_variable + "' (" + variables_source(p.trials) + " " + listing(*names) +
+                           "); add it, or name the item variable in [design] item = ...");
     }
   }
   if (auto alignment = top.table("alignment")) parse_alignment(*alignment, p);

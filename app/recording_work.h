@@ -12,6 +12,7 @@
 
 #include "app/study_inputs.h"
 #include "detectors/event_detector.h"
+#include "io/bids_events.h"
 #include "io/compressed_samples.h"
 #include "pipeline/events.h"
 #include "pipeline/protocol.h"
@@ -37,6 +38,8 @@ struct RecordingOutput {
   std::shared_ptr<CompressedSamples> samples;  // null when the samples stay as they are in the store
   std::vector<InputFileRecord> inputs;         // files read (ingest only)
   RepairCounts repairs;
+  bool keeps_tracker_events = false;         // the protocol maps the tracker's own events (ingest)
+  std::vector<TrackerEvent> tracker_events;  // ... as the BIDS physio events files give them
   std::string ingest_key;
   bool detected = false;
   DetectedEvents events;

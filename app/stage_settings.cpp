@@ -5,6 +5,7 @@
 #include <filesystem>
 
 #include "alignment/drift_registry.h"
+#include "app/bids_trials.h"
 #include "detectors/detector_registry.h"
 #include "io/sha256.h"
 
@@ -59,6 +60,13 @@ std::string ingest_settings_json(const Protocol& p) {
   }
   j["trials"] = {{"start", p.trials.start_pattern}, {"end", p.trials.end_pattern}, {"variables", p.trials.variable_patterns},
                  {"markers", p.trials.marker_patterns}};
+  // Trials from a table and [input.bids] only when used, so that the keys of
+  // stores ingested without them stay as they were.
+  if (p.trials.source != TrialSource::messages) j["trials"]["table"] = trial_table_settings_json(p.trials);
+  if (in.format == InputFormat::bids) {
+    const std::string bids = bids_input_settings_json(in.bids);
+    if (bids != bids_input_settings_json(BidsInputSpec{})) j["bids"] = nlohmann::json::parse(bids);
+  }
   return j.dump();
 }
 

@@ -294,6 +294,7 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
   if (r.samples && !r.inputs.empty()) {  // read from its files this run
     out.remove("/recordings/" + id);
     out.write_recording(r.recording, r.summary, r.samples->columns(), r.ingest_key);
+    if (r.keeps_tracker_events) out.write_tracker_events(id, r.tracker_events);
     ++report_.recordings_read;
     report_.samples += r.summary.sample_count;
     report_.messages += r.recording.messages.size();
