@@ -1,13 +1,22 @@
 #include "app/align.h"
 
+#include <fmt/format.h>
+
+#include <algorithm>
 #include <cmath>
+#include <filesystem>
 #include <limits>
+#include <map>
+#include <set>
 
 #include "alignment/drift_registry.h"
+#include "io/review_file.h"
+#include "io/trial_drawing.h"
 #include "measures/region_mapper.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
+namespace fs = std::filesystem;
 
 namespace {
 
@@ -29,6 +38,32 @@ DriftText text_of(const RegionLayout& layout, const AlignmentSpec& spec) {
 std::vector<RecordingAlignment> align_study(const Protocol& protocol, const RegionCatalogue& regions,
                                             const std::vector<CleanedRecording>& recordings) {
   const AlignmentSpec& spec = protocol.alignment;
+  // A person's decisions, checked against the study before any work.
+  std::map<std::pair<std::string, std::string>, const TrialReview*> review_of;
+  std::vector<TrialReview> reviews;
+  std::string review_path;
+  if (!spec.review_file.empty()) {
+    const fs::path base = fs::absolute(fs::path(protocol.path)).parent_path();
+    review_path = fs::path(spec.review_file).is_absolute() ? spec.review_file : (base / spec.review_file).string();
+    reviews = read_review_file(review_path);
+    std::set<std::pair<std::string, std::string>> trials;
+    for (const auto& rec : recordings) {
+      for (const auto& t : rec.meta.trials) trials.insert({rec.meta.participant, t.id});
+    }
+    for (const auto& r : reviews) {
+      if (!trials.count({r.participant, r.trial})) {
+        throw InputError({review_path, r.line, "trial"}, "participant " + r.participant + " has no trial " + r.trial + " in this study");
+      }
+      if (r.decision == ReviewDecision::method) {
+        try {
+          make_drift_corrector(r.value);
+        } catch (const std::invalid_argument& e) {
+          throw InputError({review_path, r.line, "value"}, e.what());
+        }
+      }
+      review_of[{r.participant, r.trial}] = &r;
+    }
+  }
   const auto corrector = spec.members.empty() ? make_drift_corrector(spec.method, spec.parameters)
                                               : make_majority_corrector(spec.members, spec.parameters);
   const bool attach = spec.method == "attach";
@@ -66,13 +101,76 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
         input.fixations.push_back({f.fixation.x_px, f.fixation.y_px, f.duration_ms});
         ids.push_back(f.id);
       }
-      const DriftOutput result = corrector->correct(input);
-      for (std::size_t i = 0; i < ids.size(); ++i) a.fixations[ids[i]] = {result.line[i], result.corrected_y_px[i]};
+      DriftOutput result = corrector->correct(input);
       const auto c = result.fit.find("confidence");
       const double confidence = c == result.fit.end() ? 1.0 : c->second;
-      a.trials.push_back({t.id, spec.method, confidence, confidence < spec.min_confidence, result.fit});
+      AlignedTrial trial{t.id, spec.method, confidence, confidence < spec.min_confidence, result.fit, "", false};
+      if (const auto r = review_of.find({rec.meta.participant, t.id}); r != review_of.end()) {
+        const TrialReview& v = *r->second;
+        trial.flagged = false;  // a person has looked at it
+        trial.review = std::string(to_string(v.decision)) + (v.value.empty() ? "" : " " + v.value) + ": " + v.reason +
+                       (v.reviewer.empty() ? "" : " (" + v.reviewer + ")");
+        switch (v.decision) {
+          case ReviewDecision::accept: break;
+          case ReviewDecision::exclude: trial.excluded = true; break;
+          case ReviewDecision::method:
+            result = make_drift_corrector(v.value)->correct(input);
+            trial.method = v.value;
+            break;
+          case ReviewDecision::shift_lines:
+            for (std::size_t i = 0; i < result.line.size(); ++i) {
+              const long moved = result.line[i] + static_cast<long>(v.number);
+              const bool on = moved >= 0 && moved < static_cast<long>(input.text.line_y_px.size());
+              result.line[i] = on ? static_cast<int>(moved) : -1;
+              result.corrected_y_px[i] = on ? input.text.line_y_px[static_cast<std::size_t>(moved)] : std::numeric_limits<double>::quiet_NaN();
+            }
+            break;
+          case ReviewDecision::offset_px: {
+            DriftInput moved = input;
+            for (auto& f : moved.fixations) f.y_px -= v.number;
+            result = make_drift_corrector("attach")->correct(moved);
+            trial.method = "attach after a reviewer's offset";
+            break;
+          }
+        }
+      }
+      for (std::size_t i = 0; i < ids.size(); ++i) a.fixations[ids[i]] = {result.line[i], result.corrected_y_px[i]};
+      a.trials.push_back(std::move(trial));
     }
     out.push_back(std::move(a));
+  }
+  return out;
+}
+
+std::vector<std::pair<std::string, std::string>> flagged_trial_drawings(const Protocol& protocol, const RegionCatalogue& regions,
+                                                                         const std::vector<CleanedRecording>& recordings,
+                                                                         const std::vector<RecordingAlignment>& alignment) {
+  std::vector<std::pair<std::string, std::string>> out;
+  for (std::size_t r = 0; r < recordings.size() && r < alignment.size(); ++r) {
+    const CleanedRecording& rec = recordings[r];
+    const RecordingAlignment& a = alignment[r];
+    for (const AlignedTrial& at : a.trials) {
+      if (!at.flagged) continue;
+      const auto t = std::find_if(rec.meta.trials.begin(), rec.meta.trials.end(), [&](const Trial& x) { return x.id == at.trial; });
+      if (t == rec.meta.trials.end()) continue;
+      const std::string& item = t->variable(protocol.design.item_variable);
+      const RegionLayout* layout = regions.find(item, t->variables);
+      if (!layout) continue;
+      TrialDrawing d;
+      d.title = fmt::format("{}, trial {} (item {}): {}, confidence {:.2f}", rec.meta.participant, at.trial, item, at.method, at.confidence);
+      for (const auto& l : layout->lines) d.lines.emplace_back(l.top_px, l.bottom_px);
+      for (const auto& region : layout->regions) {
+        for (const auto& b : region.boxes) d.boxes.push_back({b.left_px, b.top_px, b.right_px, b.bottom_px, region.label});
+      }
+      for (const auto& f : rec.kept) {
+        if (f.fixation.trial != at.trial) continue;
+        const auto line = a.fixations.find(f.id);
+        d.fixations.push_back({f.fixation.x_px, f.fixation.y_px,
+                               line == a.fixations.end() ? std::numeric_limits<double>::quiet_NaN() : line->second.corrected_y_px,
+                               f.duration_ms});
+      }
+      out.emplace_back(a.recording + "_trial" + at.trial + ".svg", trial_drawing_svg(d));
+    }
   }
   return out;
 }

@@ -16,4 +16,10 @@ namespace gazemill {
 std::vector<RecordingAlignment> align_study(const Protocol& protocol, const RegionCatalogue& regions,
                                             const std::vector<CleanedRecording>& recordings);
 
+/// A drawing (SVG) of every trial still flagged after review, named
+/// "<recording>_trial<id>.svg", for a person to look at.
+std::vector<std::pair<std::string, std::string>> flagged_trial_drawings(const Protocol& protocol, const RegionCatalogue& regions,
+                                                                         const std::vector<CleanedRecording>& recordings,
+                                                                         const std::vector<RecordingAlignment>& alignment);
+
 }  // namespace gazemill

@@ -10,6 +10,7 @@
 #include "app/inspect.h"
 #include "app/protocol_parser.h"
 #include "app/run_stats.h"
+#include "app/shard_merge.h"
 #include "app/study_run.h"
 #include "app/verify.h"
 #include "io/atomic_file.h"
@@ -85,6 +86,27 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
     const std::string name = protocol.study_name.empty() ? "study" : protocol.study_name;
     opt.store_path = (fs::path(folder) / (name + ".gzm.h5")).string();
     opt.tables_folder = (fs::path(folder) / "tables").string();
+    if (!o.shard.empty()) {
+      // A shard: its recordings ingested and detected into a store of its own; gazemill merge does the rest.
+      const auto slash = o.shard.find('/');
+      unsigned k = 0, n = 0;
+      try {
+        if (slash == std::string::npos) throw std::invalid_argument("no /");
+        std::size_t used = 0;
+        k = static_cast<unsigned>(std::stoul(o.shard.substr(0, slash), &used));
+        if (used != slash) throw std::invalid_argument("K");
+        n = static_cast<unsigned>(std::stoul(o.shard.substr(slash + 1), &used));
+        if (used != o.shard.size() - slash - 1) throw std::invalid_argument("N");
+      } catch (const std::exception&) {
+        throw InputError({"", 0, "--shard"}, "expected K/N, shard K (from 0) of N, e.g. 0/4; found \"" + o.shard + "\"");
+      }
+      if (n == 0 || k >= n) throw InputError({"", 0, "--shard"}, "K/N needs 0 <= K < N; found \"" + o.shard + "\"");
+      opt.shard_index = k;
+      opt.shard_count = n;
+      opt.until = Stage::detect;
+      opt.store_path = (fs::path(folder) / shard_store_name(name, k, n)).string();
+      opt.tables_folder.clear();
+    }
   } else {
     opt.store_path = only == Stage::ingest ? (o.output.empty() ? default_store_path(protocol) : o.output)
                                            : (o.store_path.empty() ? default_store_path(protocol) : o.store_path);
@@ -94,7 +116,7 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   log_counts(r);
   const std::string timing = clock.summary(r.input_bytes);
   spdlog::info("{}: {}", opt.store_path, stage_summary(r));
-  if (!only) {
+  if (!only && o.shard.empty()) {
     nlohmann::json summary;
     summary["store"] = opt.store_path;
     summary["tables"] = opt.tables_folder;
@@ -124,6 +146,11 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   run->add_option("protocol", o.protocol_path, "Protocol file (TOML)")->required()->check(CLI::ExistingFile);
   run->add_option("-o,--output", o.output, "Folder for the store, the tables and the run summary (default: <study>-output beside the protocol)");
   add_run_options(run, o);
+  run->add_option("--shard", o.shard, "Only shard K of N of the recordings (K from 0), for a cluster; then gazemill merge");
+
+  auto* merge = app.add_subcommand("merge", "Join the shard stores of a study run on many machines, and finish the study");
+  merge->add_option("output", o.output, "Folder for the joined store, the tables and the run summary")->required();
+  merge->add_option("shards", o.shards, "The shard stores (gazemill run --shard K/N wrote them)")->required();
 
   auto* ingest = app.add_subcommand("ingest", "Read the raw exports a protocol names into a new HDF5 study store");
   ingest->add_option("protocol", o.protocol_path, "Protocol file (TOML)")->required()->check(CLI::ExistingFile);
@@ -154,6 +181,8 @@ void register_commands(CLI::App& app, CommandOptions& o) {
 
   register_score_command(app, o.score);
 
+  register_report_command(app, o.report);
+
   auto* audit = app.add_subcommand("audit", "Show what each cleaning rule removed, per condition");
   audit->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
   audit->add_option("--by", o.audit_by, "Break the table down: participant")->check(CLI::IsMember({"participant"}));
@@ -171,11 +200,19 @@ void register_commands(CLI::App& app, CommandOptions& o) {
 
 int run_selected_command(const CLI::App& app, const CommandOptions& o) {
   if (app.got_subcommand("run")) return run_stage(o, std::nullopt);
+  if (app.got_subcommand("merge")) {
+    const RunClock clock;
+    const StudyRunReport r = merge_shards(o.shards, o.output);
+    log_counts(r);
+    spdlog::info("merge: {}, {}", stage_summary(r), clock.summary());
+    return 0;
+  }
   for (Stage s : kStages) {
     if (app.got_subcommand(to_string(s))) return run_stage(o, s);
   }
   if (app.got_subcommand("simulate")) return run_simulate(o.simulate);
   if (app.got_subcommand("score")) return run_score(o.score);
+  if (app.got_subcommand("report")) return run_report(o.report);
   if (app.got_subcommand("audit")) {
     StudyStoreReader store(o.store_argument);
     print_audit(read_audit(store), o.audit_by == "participant", std::cout);

@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "app/progress_bar.h"
+#include "app/report_command.h"
 #include "app/score.h"
 #include "app/simulate_command.h"
 
@@ -20,6 +21,8 @@ struct CommandOptions {
   std::string output;              // -o/--output: run's folder, the tables folder of clean and measure
   unsigned jobs = 0;
   int deflate_level = 1;
+  std::string shard;               // run --shard K/N
+  std::vector<std::string> shards; // merge
   // inspect, audit, verify
   std::string store_argument;
   std::string audit_by;
@@ -27,6 +30,8 @@ struct CommandOptions {
   SimulateOptions simulate;
   // score
   ScoreOptions score;
+  // report
+  ReportOptions report;
 };
 
 void register_commands(CLI::App& app, CommandOptions& opts);

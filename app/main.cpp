@@ -7,10 +7,13 @@
 #include <spdlog/spdlog.h>
 
 #include <algorithm>
+#include <cstdio>
+#include <cstdlib>
 #include <iostream>
 
 #include "app/commands.h"
 #include "gazemill/version.h"
+#include "io/hdf5_util.h"
 #include "pipeline/input_error.h"
 
 namespace {
@@ -43,6 +46,7 @@ std::string first_word(int argc, char** argv) {
 
 int main(int argc, char** argv) {
   using namespace gazemill;
+  h5::library_start();
   CLI::App app{"gazemill: from raw eye-tracking sample exports to reading-time measures"};
   app.set_version_flag("--version", std::string("gazemill ") + kVersion);
   app.require_subcommand(1);
@@ -87,13 +91,26 @@ int main(int argc, char** argv) {
   spdlog::set_level(quiet ? spdlog::level::err : verbose ? spdlog::level::debug : spdlog::level::info);
   opts.show_progress = !quiet && stderr_is_terminal();
 
+  int code = 1;
   try {
-    return run_selected_command(app, opts);
+    code = run_selected_command(app, opts);
   } catch (const InputError& e) {
     spdlog::error("{}", e.what());
-    return 1;
   } catch (const std::exception& e) {
     spdlog::error("{}", e.what());
-    return 1;
+  } catch (...) {
+    const std::string reason = h5::last_error_reason();
+    spdlog::error("an HDF5 operation failed{}", reason.empty() ? "" : ": " + reason);
   }
+  if (code == 0) {
+    h5::library_finish();
+    return 0;
+  }
+  // After a failed write HDF5 still holds the file it could not flush, and its
+  // clean-up at exit would try again and crash. Every temporary file is gone
+  // by now (removed as the error unwound), so leave without that clean-up.
+  spdlog::default_logger()->flush();
+  std::fflush(stdout);
+  std::fflush(stderr);
+  std::_Exit(code);
 }

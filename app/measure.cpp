@@ -1,5 +1,6 @@
 #include "app/measure.h"
 
+#include <algorithm>
 #include <map>
 
 #include "measures/reading_measures.h"
@@ -28,6 +29,11 @@ std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& record
       std::vector<const CleanFixation*> trial_fix;
       for (; k < fixations.size() && fixations[k].fixation.trial == t.id; ++k) trial_fix.push_back(&fixations[k]);
       if (const auto v = kept.find(t.id); v != kept.end() && !v->second) continue;
+      // A reviewer may have left the trial out after looking at its lines.
+      if (std::any_of(a->second->trials.begin(), a->second->trials.end(),
+                      [&](const AlignedTrial& x) { return x.trial == t.id && x.excluded; })) {
+        continue;
+      }
       const std::string& item = t.variable(design.item_variable);
       const std::string cell = cell_key(design_levels(design, t.variables));
       const RegionLayout* layout = regions.find(item, t.variables);

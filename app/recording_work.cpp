@@ -202,9 +202,8 @@ void detect_events(RecordingOutput& out, const EventDetector& detector, const De
   std::vector<std::uint8_t> codes(samples.size(), static_cast<std::uint8_t>(SampleLabel::other));
   DetectedEvents& ev = out.events;
   ev = DetectedEvents{};
-  const auto& time = samples.time_us();
   for (const Trial& trial : rec.trials) {
-    const auto [first, last] = sample_range(time, trial.start_us, trial.end_us);
+    const auto [first, last] = samples.range(trial.start_us, trial.end_us);
     // One trial at a time: a long recording never needs all its samples decoded at once.
     Recording one;
     one.id = rec.id;

@@ -14,7 +14,9 @@
 #include <set>
 #include <string_view>
 
+#include "app/line_score.h"
 #include "app/stage_settings.h"
+#include "io/atomic_file.h"
 #include "app/study_run.h"
 #include "app/protocol_parser.h"
 #include "app/temp_folder.h"
@@ -354,6 +356,13 @@ std::pair<double, double> parse_pair(const std::string& text, const std::string&
 }  // namespace
 
 int run_score(const ScoreOptions& so) {
+  if (so.lines) {
+    if (so.simulated_folder.empty()) throw InputError({"", 0, "--lines"}, "line scoring needs a simulated study: --simulated FOLDER");
+    const auto scores = score_lines(so.simulated_folder, so.protocol, so.line_methods);
+    print_line_scores(scores, std::cout);
+    if (!so.json_out.empty()) write_file_atomically(so.json_out, line_scores_json(scores));
+    return 0;
+  }
   if (so.simulated_folder.empty() == so.labelled.empty()) {
     throw InputError({"", 0, "score"}, "give either --simulated FOLDER or --labelled FILE...");
   }
@@ -494,6 +503,8 @@ void register_score_command(CLI::App& app, ScoreOptions& so) {
   score->add_option("--distance-mm", so.distance_mm, "Viewing distance in millimetres");
   score->add_option("--rate", so.rate_hz, "Sampling rate in Hz (default: from the timestamps)");
   score->add_option("--json", so.json_out, "Also write the results as JSON to this file");
+  score->add_flag("--lines", so.lines, "Score drift correction instead: the share of fixations each method puts on their true line (--simulated)");
+  score->add_option("--line-methods", so.line_methods, "With --lines: the methods to score (default: every one)")->delimiter(',');
 }
 
 }  // namespace gazemill

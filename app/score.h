@@ -37,6 +37,9 @@ struct ScoreOptions {
   double distance_mm = 0;
   double rate_hz = 0;
   std::string json_out;
+  // --lines: drift correction instead of detection, on a simulated study.
+  bool lines = false;
+  std::vector<std::string> line_methods;  // empty = every method
 };
 
 /// How to read a labelled recording: one delimited file with time, x, y and

@@ -28,8 +28,10 @@
 #include "io/alignment_io.h"
 #include "io/cleaning_io.h"
 #include "io/event_tables_io.h"
+#include "io/hdf5_util.h"
 #include "io/measures_io.h"
 #include "io/region_files.h"
+#include "io/review_file.h"
 #include "io/sha256.h"
 #include "io/study_store.h"
 #include "io/table_set.h"
@@ -43,6 +45,27 @@ namespace fs = std::filesystem;
 std::string default_store_path(const Protocol& protocol) {
   const std::string name = protocol.study_name.empty() ? "study" : protocol.study_name;
   return (fs::absolute(fs::path(protocol.path)).parent_path() / (name + ".gzm.h5")).lexically_normal().string();
+}
+
+std::string study_ingest_key(const std::map<std::string, std::string>& ingest_keys) {
+  std::vector<std::string> parts;
+  for (const auto& [id, key] : ingest_keys) parts.push_back(id + "=" + key);
+  return make_key("ingest-study", parts);
+}
+
+std::string study_detect_key(const std::string& ingest_key, const std::map<std::string, std::string>& detect_keys) {
+  std::vector<std::string> parts = {ingest_key};
+  for (const auto& [id, key] : detect_keys) parts.push_back(id + "=" + key);
+  return make_key("detect-study", parts);
+}
+
+unsigned shard_of(const std::string& id, unsigned count) {
+  std::uint64_t h = 1469598103934665603ull;  // FNV-1a (Fowler, Noll and Vo), stable across machines and runs
+  for (unsigned char c : id) {
+    h ^= c;
+    h *= 1099511628211ull;
+  }
+  return count ? static_cast<unsigned>(h % count) : 0;
 }
 
 std::string default_tables_folder(const std::string& store_path) {
@@ -190,7 +213,10 @@ void StudyRun::plan_recordings() {
   const bool reads_inputs = !o_.only || *o_.only == Stage::ingest;
   std::map<std::string, RecordingInputs> inputs;
   if (reads_inputs) {
-    for (auto& r : find_recordings(p_)) inputs.emplace(r.id, std::move(r));
+    for (auto& r : find_recordings(p_)) {
+      if (o_.shard_count && shard_of(r.id, o_.shard_count) != o_.shard_index) continue;
+      inputs.emplace(r.id, std::move(r));
+    }
   }
   std::set<std::string> stored;
   std::map<std::string, std::vector<InputFileRecord>> known;
@@ -235,14 +261,14 @@ void StudyRun::plan_recordings() {
 std::string StudyRun::study_key(Stage stage) const {
   switch (stage) {
     case Stage::ingest: {
-      std::vector<std::string> parts;
-      for (const auto& r : plans_) parts.push_back(r.id + "=" + r.ingest_key);
-      return make_key("ingest-study", parts);
+      std::map<std::string, std::string> keys;
+      for (const auto& r : plans_) keys[r.id] = r.ingest_key;
+      return study_ingest_key(keys);
     }
     case Stage::detect: {
-      std::vector<std::string> parts = {keys_.at(Stage::ingest)};
-      for (const auto& r : plans_) parts.push_back(r.id + "=" + r.detect_key);
-      return make_key("detect-study", parts);
+      std::map<std::string, std::string> keys;
+      for (const auto& r : plans_) keys[r.id] = r.detect_key;
+      return study_detect_key(keys_.at(Stage::ingest), keys);
     }
     case Stage::clean: return make_key("clean", {keys_.at(Stage::detect), clean_settings_, regions_settings_});
     case Stage::align: return make_key("align", {keys_.at(Stage::clean), align_settings_, regions_settings_});
@@ -595,6 +621,13 @@ StudyRunReport StudyRun::execute() {
       }
     }
   }
+  if (!p_.alignment.review_file.empty()) {
+    // Its rows are checked now; the trials they name, once the recordings are known.
+    const fs::path base = fs::absolute(fs::path(p_.path)).parent_path();
+    const std::string file = fs::path(p_.alignment.review_file).is_absolute() ? p_.alignment.review_file : (base / p_.alignment.review_file).string();
+    if (!fs::exists(file)) throw InputError({p_.path, 0, "alignment.review_file"}, "the review file " + file + " does not exist");
+    read_review_file(file);
+  }
   if (p_.design.factors.empty()) {
     spdlog::debug("the protocol's [design] names no factors: audits and aggregates are not broken down by condition");
   }
@@ -633,13 +666,13 @@ StudyRunReport StudyRun::execute() {
   }
   keys_[Stage::ingest] = study_key(Stage::ingest);
   const bool ingest_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work == RecordingWork::ingest; }) ||
-                          !removed_recordings_.empty() || o_.only == Stage::ingest;
+                          !removed_recordings_.empty() || o_.only == Stage::ingest || !old_;  // a new store, even of no recordings
   ran_[Stage::ingest] = ingest_ran;
   report_.stages[Stage::ingest] = ingest_ran ? "ran" : "reused";
   if (o_.only != Stage::ingest && (o_.only || o_.until != Stage::ingest)) {
     keys_[Stage::detect] = study_key(Stage::detect);
     const bool detect_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work != RecordingWork::reuse; }) ||
-                            !removed_recordings_.empty() || o_.only == Stage::detect;
+                            !removed_recordings_.empty() || o_.only == Stage::detect || !old_;
     ran_[Stage::detect] = detect_ran;
     report_.stages[Stage::detect] = detect_ran ? "ran" : "reused";
   }
@@ -675,6 +708,7 @@ StudyRunReport StudyRun::execute() {
       prov.protocol_text = p_.text;
       prov.protocol_sha256 = sha256_hex(p_.text);
       prov.created_utc = now_;
+      if (o_.shard_count) prov.shard = std::to_string(o_.shard_index) + "/" + std::to_string(o_.shard_count);
       std::set<std::string> fresh_ids;
       for (const auto& f : inputs_) fresh_ids.insert(f.recording_id);
       if (old_ && o_.only != Stage::ingest) {  // recordings kept from the previous run keep their records
@@ -772,6 +806,13 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
     set.add("audit_totals.tsv", audit_totals_tsv(audit));
     set.add("audit.json", audit_json(audit));
   }
+  if (current(Stage::align) && regions) {
+    const auto alignment = read_alignment(store);
+    set.add("alignment_trials.tsv", alignment_trials_tsv(alignment));
+    for (const auto& [name, svg] : flagged_trial_drawings(p, *regions, cleaned_recordings(store), alignment)) {
+      set.add("flagged_trials/" + name, svg);
+    }
+  }
   if (current(Stage::measure) && regions) {
     StudyRunReport again;
     StudyRunReport& r = fresh ? *fresh : again;
@@ -792,8 +833,22 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
 }
 
 StudyRunReport run_study(const Protocol& protocol, const StudyRunOptions& options) {
-  StudyRun run(protocol, options);
-  return run.execute();
+  // A failure to write (a full disk, a quota, a folder gone) ends in one line
+  // naming the store and the system's reason; the temporary file is gone by now.
+  auto cannot_write = [&](const std::string& what) -> InputError {
+    const std::string reason = h5::last_error_reason();
+    return InputError({options.store_path, 0, ""}, "cannot write the store: " + (reason.empty() ? what : reason + " (" + what + ")"));
+  };
+  try {
+    StudyRun run(protocol, options);
+    return run.execute();
+  } catch (const InputError&) {
+    throw;
+  } catch (const H5::Exception& e) {
+    throw cannot_write(e.getFuncName() + ": " + e.getDetailMsg());
+  } catch (const std::runtime_error& e) {
+    throw cannot_write(e.what());
+  }
 }
 
 }  // namespace gazemill

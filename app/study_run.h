@@ -31,9 +31,12 @@ struct StudyRunOptions {
   unsigned jobs = 0;                  // worker threads; 0 = one per core
   std::optional<Stage> only;          // run this stage alone (a stage command)
   Stage until = Stage::measure;       // a whole run stops after this stage
+  // A shard of a study run on many machines: only the recordings whose id
+  // falls to shard `shard_index` of `shard_count` (a stable hash of the id).
+  unsigned shard_index = 0, shard_count = 0;  // shard_count 0 = the whole study
   int deflate_level = 1;
   bool show_progress = false;
-  std::uint64_t raw_budget_bytes = std::uint64_t{192} << 20;  // per recording, see RecordingWorkOptions
+  std::uint64_t raw_budget_bytes = std::uint64_t{96} << 20;  // per recording, see RecordingWorkOptions
 };
 
 /// What a run did, stage by stage, with the counts of what it read and made.
@@ -61,6 +64,13 @@ StudyRunReport run_study(const Protocol& protocol, const StudyRunOptions& option
 /// here). Returns the files written.
 std::vector<std::string> write_study_tables(const std::string& store_path, const std::string& folder, const Protocol& protocol,
                                             StudyRunReport* fresh = nullptr);
+
+/// The study-level keys of ingest and detect from the recordings' own keys
+/// (by recording id), as every run and a merge of shards compute them.
+std::string study_ingest_key(const std::map<std::string, std::string>& ingest_keys);
+std::string study_detect_key(const std::string& study_ingest_key, const std::map<std::string, std::string>& detect_keys);
+/// The shard (0..count-1) a recording falls to: FNV-1a of its id, modulo count.
+unsigned shard_of(const std::string& recording_id, unsigned count);
 
 /// The store a protocol writes by default: <protocol folder>/<study name or "study">.gzm.h5.
 std::string default_store_path(const Protocol& protocol);

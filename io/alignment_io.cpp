@@ -1,5 +1,7 @@
 #include "io/alignment_io.h"
 
+#include <fmt/format.h>
+
 #include <cmath>
 #include <limits>
 #include <set>
@@ -26,18 +28,23 @@ void write_alignment(StudyStoreWriter& store, const std::vector<RecordingAlignme
     h5::write_column(f, "corrected_y_px", ys, "px");
     std::vector<std::string> trial, method;
     std::vector<double> confidence;
-    std::vector<std::uint8_t> flagged;
+    std::vector<std::uint8_t> flagged, excluded;
+    std::vector<std::string> review;
     for (const auto& t : a.trials) {
       trial.push_back(t.trial);
       method.push_back(t.method);
       confidence.push_back(t.confidence);
       flagged.push_back(t.flagged);
+      excluded.push_back(t.excluded);
+      review.push_back(t.review);
     }
     H5::Group tr = h5::create_group(g, "trials");
     h5::write_strings(tr, "trial", trial);
     h5::write_strings(tr, "method", method);
     h5::write_column(tr, "confidence", confidence);
     h5::write_column(tr, "flagged", flagged);
+    h5::write_column(tr, "excluded", excluded);
+    h5::write_strings(tr, "review", review);
     std::set<std::string> names;
     for (const auto& t : a.trials) {
       for (const auto& [n, v] : t.fit) {
@@ -54,6 +61,33 @@ void write_alignment(StudyStoreWriter& store, const std::vector<RecordingAlignme
       h5::write_column(fit, n, column, n.ends_with("_px") ? "px" : "");
     }
   }
+}
+
+std::string alignment_trials_tsv(const std::vector<RecordingAlignment>& alignment) {
+  std::set<std::string> names;
+  for (const auto& a : alignment) {
+    for (const auto& t : a.trials) {
+      for (const auto& [n, v] : t.fit) {
+        if (n != "confidence") names.insert(n);
+      }
+    }
+  }
+  std::string out = "recording\ttrial\tmethod\tconfidence\tflagged\texcluded\treview";
+  for (const auto& n : names) out += "\t" + n;
+  out += "\n";
+  auto num = [](double v) { return std::isfinite(v) ? fmt::format("{:.6g}", v) : std::string("NA"); };
+  for (const auto& a : alignment) {
+    for (const auto& t : a.trials) {
+      out += a.recording + "\t" + t.trial + "\t" + t.method + "\t" + num(t.confidence) + "\t" + (t.flagged ? "1" : "0") + "\t" +
+             (t.excluded ? "1" : "0") + "\t" + (t.review.empty() ? "NA" : t.review);
+      for (const auto& n : names) {
+        const auto it = t.fit.find(n);
+        out += "\t" + (it == t.fit.end() ? std::string("NA") : num(it->second));
+      }
+      out += "\n";
+    }
+  }
+  return out;
 }
 
 std::vector<RecordingAlignment> read_alignment(const StudyStoreReader& store) {
@@ -74,7 +108,11 @@ std::vector<RecordingAlignment> read_alignment(const StudyStoreReader& store) {
       const auto trial = h5::read_strings(t, "trial"), method = h5::read_strings(t, "method");
       const auto confidence = h5::read_column<double>(t, "confidence");
       const auto flagged = h5::read_column<std::uint8_t>(t, "flagged");
-      for (std::size_t i = 0; i < trial.size(); ++i) a.trials.push_back({trial[i], method.at(i), confidence.at(i), flagged.at(i) != 0, {}});
+      const auto excluded = h5::read_column<std::uint8_t>(t, "excluded");
+      const auto review = h5::read_strings(t, "review");
+      for (std::size_t i = 0; i < trial.size(); ++i) {
+        a.trials.push_back({trial[i], method.at(i), confidence.at(i), flagged.at(i) != 0, {}, review.at(i), excluded.at(i) != 0});
+      }
       H5::Group fit = t.openGroup("fit");
       for (const auto& n : h5::child_names(fit)) {
         const auto values = h5::read_column<double>(fit, n);

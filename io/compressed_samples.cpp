@@ -2,6 +2,7 @@
 
 #include <isa-l/igzip_lib.h>
 
+#include <algorithm>
 #include <cstring>
 #include <stdexcept>
 
@@ -127,15 +128,21 @@ CompressedSamples::CompressedSamples(bool left, bool right, std::vector<Compress
     : left_(left), right_(right), chunk_rows_(columns.empty() ? 0 : columns.front().chunk_rows), level_(0),
       raw_budget_bytes_(raw_budget_bytes), columns_(std::move(columns)) {
   if (columns_.size() != empty_columns(left, right, chunk_rows_).size()) throw std::invalid_argument("wrong number of sample columns");
-  const std::vector<char> t = decode_column(columns_.front());
-  time_us_.resize(t.size() / sizeof(Microseconds));
-  std::memcpy(time_us_.data(), t.data(), t.size());
+  rows_ = columns_.front().rows;
+  std::vector<char> t;
+  for (std::size_t k = 0; k < columns_.front().chunks.size(); ++k) {
+    decode_chunk(columns_.front(), k, t);
+    const auto* times = reinterpret_cast<const Microseconds*>(t.data());
+    const std::size_t n = t.size() / sizeof(Microseconds);
+    chunk_first_us_.push_back(n ? times[0] : 0);
+    chunk_last_us_.push_back(n ? times[n - 1] : 0);
+  }
   // Decoded once and kept when it fits the budget; otherwise slices decode.
-  raw_ = time_us_.size() * raw_bytes_per_sample(left, right) <= raw_budget_bytes_;
+  raw_ = rows_ * raw_bytes_per_sample(left, right) <= raw_budget_bytes_;
   if (!raw_) return;
-  for (std::size_t first = 0; first < time_us_.size(); first += chunk_rows_) {
+  for (std::size_t first = 0; first < rows_; first += chunk_rows_) {
     raw_ = false;  // slice() decodes while the chunks are being kept
-    raw_chunks_.push_back(slice(first, std::min(time_us_.size(), first + chunk_rows_)));
+    raw_chunks_.push_back(slice(first, std::min<std::size_t>(rows_, first + chunk_rows_)));
     raw_ = true;
   }
 }
@@ -149,7 +156,7 @@ SampleColumns CompressedSamples::fresh_chunk() const {
 }
 
 void CompressedSamples::append(const SampleColumns& chunk) {
-  time_us_.insert(time_us_.end(), chunk.time_us.begin(), chunk.time_us.end());
+  rows_ += chunk.size();
   std::size_t at = 0;
   while (at < chunk.size()) {
     const std::size_t take = std::min(chunk.size() - at, chunk_rows_ - staged_.size());
@@ -179,6 +186,8 @@ void CompressedSamples::compress_staged() {
     col.chunks.push_back(std::move(part.chunks.front()));
   };
   add(staged_.time_us.data());
+  chunk_first_us_.push_back(staged_.time_us.front());
+  chunk_last_us_.push_back(staged_.time_us.back());
   for (Eye eye : {Eye::left, Eye::right}) {
     if ((eye == Eye::left && !left_) || (eye == Eye::right && !right_)) continue;
     const EyeSamples& e = staged_.eye(eye);
@@ -188,7 +197,7 @@ void CompressedSamples::compress_staged() {
     add(e.valid.data());
   }
   // The staged rows become the kept chunk (no copy) while the recording fits the budget.
-  if (raw_ && (time_us_.size() * raw_bytes_per_sample(left_, right_) > raw_budget_bytes_)) {
+  if (raw_ && (rows_ * raw_bytes_per_sample(left_, right_) > raw_budget_bytes_)) {
     raw_ = false;
     raw_chunks_ = {};
   }
@@ -216,15 +225,15 @@ SampleColumns CompressedSamples::slice(std::size_t first, std::size_t last) cons
   SampleColumns out;
   out.has_left = left_;
   out.has_right = right_;
-  last = std::min<std::size_t>(last, time_us_.size());
+  last = std::min<std::size_t>(last, rows_);
   if (first >= last) return out;
-  append_range(out.time_us, time_us_, first, last);
   if (raw_) {
     for (std::size_t i = first; i < last;) {
       const std::size_t k = i / chunk_rows_;
       const std::size_t chunk_first = k * chunk_rows_;
       const SampleColumns& c = k < raw_chunks_.size() ? raw_chunks_[k] : staged_;  // the last rows may still be staged
       const std::size_t end = std::min(last, chunk_first + c.size());
+      append_range(out.time_us, c.time_us, i - chunk_first, end - chunk_first);
       for (Eye eye : {Eye::left, Eye::right}) {
         if ((eye == Eye::left && !left_) || (eye == Eye::right && !right_)) continue;
         const EyeSamples& from = c.eye(eye);
@@ -258,6 +267,7 @@ SampleColumns CompressedSamples::slice(std::size_t first, std::size_t last) cons
       i = end;
     }
   };
+  gather(0, out.time_us);
   std::size_t c = 1;
   for (Eye eye : {Eye::left, Eye::right}) {
     if ((eye == Eye::left && !left_) || (eye == Eye::right && !right_)) continue;
@@ -268,6 +278,39 @@ SampleColumns CompressedSamples::slice(std::size_t first, std::size_t last) cons
     gather(c++, to.valid);
   }
   return out;
+}
+
+// One chunk's times: kept ones as they are, or decoded (and cached for the next look).
+const std::vector<Microseconds>& CompressedSamples::chunk_times(std::size_t k) const {
+  if (raw_ && k < raw_chunks_.size()) return raw_chunks_[k].time_us;
+  if (times_chunk_ != k) {
+    std::vector<char> bytes;
+    decode_chunk(columns_.front(), k, bytes);
+    times_.resize(bytes.size() / sizeof(Microseconds));
+    std::memcpy(times_.data(), bytes.data(), bytes.size());
+    times_chunk_ = k;
+  }
+  return times_;
+}
+
+// Binary search over the chunks' bounds, then within the one chunk that holds the answer.
+std::size_t CompressedSamples::lower_bound(Microseconds t) const {
+  const std::size_t k = static_cast<std::size_t>(std::lower_bound(chunk_last_us_.begin(), chunk_last_us_.end(), t) - chunk_last_us_.begin());
+  if (k >= chunk_last_us_.size()) return rows_;
+  const auto& times = chunk_times(k);
+  return k * chunk_rows_ + static_cast<std::size_t>(std::lower_bound(times.begin(), times.end(), t) - times.begin());
+}
+
+std::size_t CompressedSamples::upper_bound(Microseconds t) const {
+  const std::size_t k = static_cast<std::size_t>(std::upper_bound(chunk_last_us_.begin(), chunk_last_us_.end(), t) - chunk_last_us_.begin());
+  if (k >= chunk_last_us_.size()) return rows_;
+  const auto& times = chunk_times(k);
+  return k * chunk_rows_ + static_cast<std::size_t>(std::upper_bound(times.begin(), times.end(), t) - times.begin());
+}
+
+std::pair<std::size_t, std::size_t> CompressedSamples::range(Microseconds start_us, Microseconds end_us) const {
+  const std::size_t a = lower_bound(start_us);
+  return {a, std::max(a, upper_bound(end_us))};
 }
 
 }  // namespace gazemill

@@ -10,6 +10,37 @@ QuietErrors::QuietErrors() {
 }
 QuietErrors::~QuietErrors() { H5Eset_auto2(H5E_DEFAULT, func_, data_); }
 
+void library_start() {
+  H5dont_atexit();
+  H5::H5Library::dontAtExit();
+  H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
+  H5::Exception::dontPrint();
+}
+
+void library_finish() { H5close(); }
+
+namespace {
+herr_t innermost(unsigned n, const H5E_error2_t* e, void* out) {
+  auto* s = static_cast<std::string*>(out);
+  const std::string desc = e->desc ? e->desc : "";
+  // The file driver names the system's reason: "... error message = 'No space left on device' ...".
+  const auto at = desc.find("error message = '");
+  if (at != std::string::npos) {
+    const auto start = at + 17;
+    *s = desc.substr(start, desc.find('\'', start) - start);
+    return 1;  // found: stop walking
+  }
+  if (n == 0 && s->empty()) *s = desc;
+  return 0;
+}
+}  // namespace
+
+std::string last_error_reason() {
+  std::string out;
+  H5Ewalk2(H5E_DEFAULT, H5E_WALK_DOWNWARD, innermost, &out);
+  return out;
+}
+
 template <> H5::PredType native_type<double>() { return H5::PredType::NATIVE_DOUBLE; }
 template <> H5::PredType native_type<float>() { return H5::PredType::NATIVE_FLOAT; }
 template <> H5::PredType native_type<std::int64_t>() { return H5::PredType::NATIVE_INT64; }

@@ -23,6 +23,16 @@ class QuietErrors {
   void* data_ = nullptr;
 };
 
+/// Before any other HDF5 call of the program: HDF5's own error printing off
+/// for good (its stacks fold into our messages), and no clean-up at exit,
+/// which after a failed write (a full disk) would flush again and crash.
+void library_start();
+/// At a successful end: closes the library (flushes nothing left open).
+void library_finish();
+/// The operating system's reason for the error HDF5 last reported (e.g.
+/// "No space left on device"), or the innermost HDF5 message; "" if none.
+std::string last_error_reason();
+
 template <typename T> H5::PredType native_type();
 
 /// Group creation that never records modification times (byte-stable output).

@@ -140,9 +140,28 @@ RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& l
   return cat;
 }
 
-RegionCatalogue load_regions(const Protocol& p) {
+namespace {
+std::string resolve_beside(const Protocol& p, const std::string& f) {
   const fs::path base = fs::absolute(fs::path(p.path)).parent_path();
-  auto resolve = [&](const std::string& f) { return fs::path(f).is_absolute() ? f : (base / f).string(); };
+  return fs::path(f).is_absolute() ? f : (base / f).string();
+}
+}  // namespace
+
+std::vector<ItemText> read_item_texts(const std::string& path, const std::vector<std::string>& design_factors) {
+  TsvTable t(path);
+  const auto factors = factor_columns(t, {"item", "text", "roles"}, design_factors);
+  std::vector<ItemText> out;
+  for (std::size_t r = 0; r < t.rows(); ++r) out.push_back({t.text(r, "item"), levels_of(t, r, factors), t.text(r, "text")});
+  return out;
+}
+
+std::vector<ItemText> load_item_texts(const Protocol& p) {
+  if (!p.regions.boxes_file.empty() || p.regions.items_file.empty()) return {};
+  return read_item_texts(resolve_beside(p, p.regions.items_file), p.design.factors);
+}
+
+RegionCatalogue load_regions(const Protocol& p) {
+  auto resolve = [&](const std::string& f) { return resolve_beside(p, f); };
   if (!p.regions.boxes_file.empty()) return read_region_boxes(resolve(p.regions.boxes_file), p.regions.layout.char_width_px, p.design.factors);
   if (!p.regions.items_file.empty()) return read_items_file(resolve(p.regions.items_file), p.regions.layout, p.design.factors);
   throw InputError({p.path, 0, "regions"}, "the protocol has no [regions] section (boxes_file or items_file)");

@@ -24,4 +24,17 @@ RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& l
 /// The protocol's regions, with file names relative to the protocol's folder.
 RegionCatalogue load_regions(const Protocol& protocol);
 
+/// One row of an items file: the item, the levels of the factor columns the
+/// file has (in the design's order, as RegionLayout::levels), and its text
+/// with '/' between regions.
+struct ItemText {
+  std::string item;
+  std::vector<std::string> levels;
+  std::string text;
+};
+/// The rows of an items file, for drawing the text as it was laid out.
+std::vector<ItemText> read_item_texts(const std::string& path, const std::vector<std::string>& factors);
+/// The protocol's item texts; empty when its regions come from a boxes file.
+std::vector<ItemText> load_item_texts(const Protocol& protocol);
+
 }  // namespace gazemill

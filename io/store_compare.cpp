@@ -11,14 +11,33 @@
 namespace gazemill {
 namespace {
 
-herr_t collect(hid_t, const char* name, const H5O_info_t* info, void* out) {
-  if (info->type == H5O_TYPE_DATASET) static_cast<std::set<std::string>*>(out)->insert(name);
+// Every dataset by path, following external links too (a study joined from
+// shards keeps their samples in the shards' files).
+struct Walk {
+  std::set<std::string>* out;
+  std::string prefix;
+};
+
+herr_t collect(hid_t group, const char* name, const H5L_info_t* info, void* data) {
+  Walk& w = *static_cast<Walk*>(data);
+  const std::string path = w.prefix + name;
+  H5O_info_t o{};
+  if (H5Oget_info_by_name2(group, name, &o, H5O_INFO_BASIC, H5P_DEFAULT) < 0) return 0;  // a dangling link
+  if (o.type == H5O_TYPE_DATASET) {
+    w.out->insert(path);
+  } else if (o.type == H5O_TYPE_GROUP && info->type == H5L_TYPE_EXTERNAL) {
+    const hid_t g = H5Gopen2(group, name, H5P_DEFAULT);
+    Walk inner{w.out, path + "/"};
+    H5Lvisit(g, H5_INDEX_NAME, H5_ITER_INC, collect, &inner);
+    H5Gclose(g);
+  }
   return 0;
 }
 
 std::set<std::string> dataset_paths(const H5::H5File& f) {
   std::set<std::string> out;
-  H5Ovisit(f.getId(), H5_INDEX_NAME, H5_ITER_INC, collect, &out);
+  Walk w{&out, ""};
+  H5Lvisit(f.getId(), H5_INDEX_NAME, H5_ITER_INC, collect, &w);
   return out;
 }
 

@@ -11,6 +11,8 @@
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <iostream>
+#include <sstream>
 #include <limits>
 #include <map>
 #include <optional>
@@ -151,11 +153,90 @@ std::unique_ptr<StudyStoreWriter> StudyStoreWriter::update(const std::string& pa
 
 StudyStoreWriter::~StudyStoreWriter() {
   if (!committed_) {
+    // After a failed write the C++ API's destructor prints its own complaint
+    // to std::cerr; the error has been reported already, so it goes nowhere.
+    std::ostringstream drop;
+    std::streambuf* old = std::cerr.rdbuf(drop.rdbuf());
     try {
       impl_.reset();
     } catch (...) {
     }
+    std::cerr.rdbuf(old);
     std::remove(temp_path_.c_str());
+  }
+}
+
+namespace {
+
+herr_t copy_attribute(hid_t loc, const char* name, const H5A_info_t*, void* destination) {
+  const hid_t dst = *static_cast<hid_t*>(destination);
+  const hid_t a = H5Aopen(loc, name, H5P_DEFAULT);
+  const hid_t type = H5Aget_type(a);
+  const hid_t space = H5Aget_space(a);
+  const hid_t mem = H5Tget_native_type(type, H5T_DIR_DEFAULT);
+  const auto n = static_cast<std::size_t>(std::max<hssize_t>(1, H5Sget_simple_extent_npoints(space)));
+  std::vector<char> buf(n * H5Tget_size(mem));
+  herr_t rc = H5Aread(a, mem, buf.data());
+  if (rc >= 0) {
+    const hid_t b = H5Acreate2(dst, name, type, space, H5P_DEFAULT, H5P_DEFAULT);
+    rc = b < 0 ? -1 : H5Awrite(b, mem, buf.data());
+    if (b >= 0) H5Aclose(b);
+    if (H5Tdetect_class(type, H5T_VLEN) > 0 || H5Tis_variable_str(type) > 0) H5Dvlen_reclaim(mem, space, H5P_DEFAULT, buf.data());
+  }
+  H5Tclose(mem);
+  H5Sclose(space);
+  H5Tclose(type);
+  H5Aclose(a);
+  return rc < 0 ? -1 : 0;
+}
+
+void copy_attributes(hid_t from, hid_t to) {
+  hsize_t idx = 0;
+  if (H5Aiterate2(from, H5_INDEX_NAME, H5_ITER_INC, &idx, copy_attribute, &to) < 0) throw std::runtime_error("cannot copy attributes");
+}
+
+}  // namespace
+
+void StudyStoreWriter::add_linked_recording(const std::string& shard_path, const std::string& id) {
+  h5::QuietErrors quiet;
+  const fs::path here = fs::absolute(path_).parent_path();
+  const fs::path shard = fs::absolute(shard_path).lexically_normal();
+  const std::string rel = shard.lexically_relative(here).string();
+  const std::string target = rel.empty() || rel.rfind("../../", 0) == 0 ? shard.string() : rel;
+  try {
+    H5::H5File src(shard_path, H5F_ACC_RDONLY);
+    H5::Group from = src.openGroup("/recordings/" + id);
+    H5::Group to = h5::create_group(impl_->recordings, id);
+    copy_attributes(from.getId(), to.getId());
+    for (const auto& child : h5::child_names(from)) {
+      if (child == "samples" || child == "events") continue;
+      if (H5Ocopy(from.getId(), child.c_str(), to.getId(), child.c_str(), H5P_DEFAULT, H5P_DEFAULT) < 0) {
+        throw std::runtime_error("cannot copy " + child);
+      }
+    }
+    const std::string base = "/recordings/" + id;
+    if (H5Lcreate_external(target.c_str(), (base + "/samples").c_str(), to.getId(), "samples", H5P_DEFAULT, H5P_DEFAULT) < 0) {
+      throw std::runtime_error("cannot link the samples");
+    }
+    if (h5::exists(from, "events")) {
+      H5::Group ev_from = from.openGroup("events");
+      H5::Group ev_to = h5::create_group(to, "events");
+      copy_attributes(ev_from.getId(), ev_to.getId());
+      for (const auto& child : h5::child_names(ev_from)) {
+        if (child == "sample_label") {
+          if (H5Lcreate_external(target.c_str(), (base + "/events/sample_label").c_str(), ev_to.getId(), "sample_label", H5P_DEFAULT,
+                                 H5P_DEFAULT) < 0) {
+            throw std::runtime_error("cannot link the sample labels");
+          }
+        } else if (H5Ocopy(ev_from.getId(), child.c_str(), ev_to.getId(), child.c_str(), H5P_DEFAULT, H5P_DEFAULT) < 0) {
+          throw std::runtime_error("cannot copy events/" + child);
+        }
+      }
+    }
+  } catch (const H5::Exception& e) {
+    throw InputError({shard_path, 0, "/recordings/" + id}, "cannot join the recording to the study store: " + e.getDetailMsg());
+  } catch (const std::runtime_error& e) {
+    throw InputError({shard_path, 0, "/recordings/" + id}, std::string("cannot join the recording to the study store: ") + e.what());
   }
 }
 
@@ -246,6 +327,7 @@ void StudyStoreWriter::write_provenance(const Provenance& p) {
   h5::set_attr(g, "protocol_text", p.protocol_text);
   h5::set_attr(g, "protocol_sha256", p.protocol_sha256);
   h5::set_attr(g, "created_utc", p.created_utc);
+  h5::set_attr(g, "shard", p.shard);
   H5::Group in = h5::create_group(g, "inputs");
   std::vector<std::string> paths, hashes, recs;
   std::vector<std::uint64_t> sizes;
@@ -513,6 +595,7 @@ Provenance StudyStoreReader::provenance() const {
   p.protocol_text = h5::get_string_attr(g, "protocol_text");
   p.protocol_sha256 = h5::get_string_attr(g, "protocol_sha256");
   p.created_utc = h5::get_string_attr(g, "created_utc");
+  p.shard = h5::has_attr(g, "shard") ? h5::get_string_attr(g, "shard") : "";
   H5::Group in = g.openGroup("inputs");
   const auto paths = h5::read_strings(in, "path");
   const auto sizes = h5::read_column<std::uint64_t>(in, "size_bytes");

@@ -94,6 +94,11 @@ class StudyStoreWriter {
   void write_recording(const Recording& recording, const SampleSummary& summary, const std::vector<CompressedColumn>& samples,
                        const std::string& ingest_key);
   void write_provenance(const Provenance& provenance);
+  /// A recording of another store (a shard) joined to this one: its samples
+  /// and sample labels stay in the shard's file, reached by HDF5 external
+  /// links (by a path relative to this store when the shard lies below its
+  /// folder's parent); everything else is copied.
+  void add_linked_recording(const std::string& shard_path, const std::string& id);
   /// Detection results of one recording (remove() the old ones first).
   void write_events(const std::string& recording_id, const DetectedEvents& events, const CompressedColumn& labels,
                     const std::string& method, const std::string& parameters_json, const std::string& detect_key);

@@ -52,7 +52,10 @@ TableSet::~TableSet() {
 }
 
 void TableSet::add(const std::string& name, const std::string& text) {
-  write_file((fs::path(temp_) / name).string(), text);
+  const fs::path path = fs::path(temp_) / name;  // may lie in a subfolder of the set
+  std::error_code ec;
+  fs::create_directories(path.parent_path(), ec);
+  write_file(path.string(), text);
   names_.push_back(name);
 }
 

@@ -20,6 +20,8 @@ struct AlignedTrial {
   double confidence = 0;         // 0..1, as the method defines it
   bool flagged = false;          // confidence below the protocol's threshold
   std::map<std::string, double> fit;  // the method's fit summary, units in the names
+  std::string review;            // a reviewer's decision applied to it ("" = none), with its reason
+  bool excluded = false;         // a reviewer left it out of the measures
 };
 
 struct RecordingAlignment {

@@ -31,6 +31,7 @@ struct Provenance {
   std::string protocol_text;
   std::string protocol_sha256;
   std::string created_utc;  // ISO 8601
+  std::string shard;        // "K/N" for a shard of a study run on many machines; "" for a whole study
   std::vector<InputFileRecord> inputs;
   std::vector<RepairRecord> repairs;
 };

@@ -12,6 +12,7 @@
 #include <sstream>
 
 #include "app/protocol_parser.h"
+#include "app/shard_merge.h"
 #include "io/store_compare.h"
 #include "io/study_store.h"
 #include "io/table_set.h"
@@ -205,4 +206,36 @@ TEST(StudyRun, TemporaryFilesOfDeadWritersAreRemoved) {
   run_study(parse_protocol_file(proto), o);
   EXPECT_FALSE(fs::exists(dead));
   EXPECT_TRUE(fs::exists(d.file("s.gzm.h5")));
+}
+
+// A study run as shards on many machines and merged equals the study run on
+// one: the same datasets (the shards' samples reached through links) and the
+// same tables, and a missing or repeated shard is named.
+TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("one"));
+  std::vector<std::string> shards;
+  for (unsigned k = 0; k < 3; ++k) {
+    StudyRunOptions o;
+    o.store_path = d.file("shards/s" + std::to_string(k) + ".gzm.h5");
+    fs::create_directories(d.file("shards"));
+    o.shard_index = k;
+    o.shard_count = 3;
+    o.until = Stage::detect;
+    run_study(parse_protocol_file(proto), o);
+    shards.push_back(o.store_path);
+  }
+  EXPECT_THROW(merge_shards({shards[0], shards[1]}, d.file("merged")), InputError);               // shard 2 missing
+  EXPECT_THROW(merge_shards({shards[0], shards[1], shards[1]}, d.file("merged")), InputError);    // shard 1 twice
+  merge_shards(shards, d.file("merged"));
+  const std::string merged = (fs::path(d.file("merged")) / "harbour-news.gzm.h5").string();
+  for (const auto& x : compare_store_datasets(d.file("one/s.gzm.h5"), merged)) {
+    if (x.path.rfind("provenance/inputs/", 0) == 0) continue;  // the same files, in the same order: checked below
+    ADD_FAILURE() << x.path << ": " << x.what;
+  }
+  EXPECT_EQ(StudyStoreReader(merged).provenance().inputs.size(), StudyStoreReader(d.file("one/s.gzm.h5")).provenance().inputs.size());
+  for (const char* t : {"measures_wide.tsv", "audit.tsv", "fixations.tsv", "alignment_trials.tsv"}) {
+    EXPECT_EQ(read_text(d.file(std::string("one/tables/") + t)), read_text(d.file(std::string("merged/tables/") + t))) << t;
+  }
 }

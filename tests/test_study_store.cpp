@@ -136,7 +136,10 @@ TEST(StudyStore, RoundTripsEveryRecordType) {
   EXPECT_EQ(store.sample_summary("p03_2").sample_count, 4321u);
   // The chunks read back raw decode to the same samples (raw_budget 0: every slice decodes).
   CompressedSamples again(true, true, store.read_sample_chunks("p03_2"), 0);
-  ASSERT_EQ(again.time_us(), r.samples.time_us);
+  ASSERT_EQ(again.slice(0, again.size()).time_us, r.samples.time_us);
+  // Trials are found by time: the samples within [1500th, 2600th sample's time], both ends included.
+  EXPECT_EQ(again.range(r.samples.time_us[1500], r.samples.time_us[2600]), std::make_pair(std::size_t{1500}, std::size_t{2601}));
+  EXPECT_EQ(again.range(r.samples.time_us[1500] - 1, r.samples.time_us[1500] - 1).first, 1500u);
   const SampleColumns middle = again.slice(1500, 2600);  // across chunk edges
   for (std::size_t i = 0; i < middle.size(); ++i) {
     EXPECT_EQ(middle.right.valid[i], r.samples.right.valid[1500 + i]);

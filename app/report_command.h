@@ -1,0 +1,29 @@
+#pragma once
+// The report command: one self-contained HTML page to judge a study at a
+// glance (run and provenance, signal quality, cleaning, detection, line
+// assignment, measures, and a trial viewer), written from its store.
+
+#include <CLI/CLI.hpp>
+#include <string>
+
+namespace gazemill {
+
+struct ReportOptions {
+  std::string store_path;
+  std::string output;  // -o; default: <store name without .gzm.h5>-report.html beside the store
+  std::size_t max_points_per_trial = 400;
+};
+
+/// Adds `gazemill report STORE [-o report.html]`, its options stored in `options`.
+void register_report_command(CLI::App& app, ReportOptions& options);
+/// Runs it; returns the exit code. Throws InputError on a bad store.
+int run_report(const ReportOptions& options);
+
+/// The report of the store at `store_path`, written to `html_path` (through a
+/// temporary file renamed into place), for `gazemill run` to write beside its store.
+void write_study_report(const std::string& store_path, const std::string& html_path);
+
+/// Where `report` writes by default: beside the store, "<name>-report.html".
+std::string default_report_path(const std::string& store_path);
+
+}  // namespace gazemill

@@ -1,0 +1,31 @@
+#pragma once
+// Assembles the study report's content (pipeline/report_model.h) from a
+// study store: provenance and stage states, data quality from the samples,
+// the cleaning audit, detection and drift-correction summaries, the
+// measures, and every trial for the trial viewer. Whatever a stage has not
+// made yet is left out and named in ReportRun::notes.
+
+#include <cstddef>
+#include <string>
+
+#include "pipeline/report_model.h"
+
+namespace gazemill {
+
+struct ReportDataOptions {
+  /// The viewer's time course: at most this many points per trial (bins of
+  /// at least one sample interval, widened to a whole millisecond).
+  std::size_t max_points_per_trial = 400;
+  /// A participant stands apart in detection when a figure's |robust z| is
+  /// above outlier_z and the figure is also more than outlier_relative (a
+  /// fraction) from the participants' median (our rule, no source).
+  double outlier_z = 3.0;
+  double outlier_relative = 0.10;
+  /// Saccades shorter than this are left out of the velocity ratio to the
+  /// main sequence (the ratio is unstable for the smallest movements).
+  double min_ratio_amplitude_deg = 0.5;
+};
+
+ReportModel assemble_report(const std::string& store_path, const ReportDataOptions& options = {});
+
+}  // namespace gazemill
