@@ -40,7 +40,10 @@ void log_counts(const StudyRunReport& r) {
     spdlog::info("read {} recordings: {} trials, {} samples, {} messages, {} repairs", r.recordings_read, r.trials, r.samples,
                  r.messages, r.repairs);
   }
-  if (r.recordings_detected > 0) {
+  if (r.recordings_detected > 0 && r.events_imported) {
+    spdlog::info("imported the fixation lists of {} recordings: {} fixations in trials (no samples: the detect stage is recorded as imported)",
+                 r.recordings_detected, r.fixations);
+  } else if (r.recordings_detected > 0) {
     spdlog::info("detected in {} recordings ({} samples): {} fixations, {} saccades, {} blinks", r.recordings_detected,
                  r.samples_detected, r.fixations, r.saccades, r.blinks);
   }

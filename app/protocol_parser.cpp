@@ -76,12 +76,49 @@ void parse_bids_input(TomlSection& b, BidsInputSpec& spec) {
   b.finish();
 }
 
+// [input.fixations]: the column mapping of a fixation list.
+void parse_fixation_list(TomlSection& f, FixationListSpec& spec) {
+  spec.delimiter = parse_delimiter(f, "delimiter", '\t');
+  const std::string unit = f.string("time_unit").value_or("ms");
+  const auto tu = parse_time_unit(unit);
+  if (!tu) f.fail("time_unit", "expected \"s\", \"ms\", \"us\" or \"ns\", found \"" + unit + "\"");
+  spec.time_unit = *tu;
+  spec.start_column = f.required_string("start_column");
+  spec.end_column = f.string("end_column").value_or("");
+  spec.duration_column = f.string("duration_column").value_or("");
+  if (spec.end_column.empty() == spec.duration_column.empty()) {
+    f.fail(spec.end_column.empty() ? "end_column" : "duration_column",
+           "give exactly one of end_column (each fixation's end) and duration_column (its duration), in time_unit");
+  }
+  spec.x_column = f.required_string("x_column");
+  spec.y_column = f.required_string("y_column");
+  spec.pupil_column = f.string("pupil_column").value_or("");
+  spec.eye_column = f.string("eye_column").value_or("");
+  spec.left_value = f.string("left_value").value_or("left");
+  spec.right_value = f.string("right_value").value_or("right");
+  if (spec.left_value.empty() || spec.left_value == spec.right_value) {
+    f.fail("left_value", "the eye column's texts for the two eyes must differ and not be empty");
+  }
+  if (auto e = f.string("eye")) {
+    if (*e == "left") spec.eye = Eye::left;
+    else if (*e == "right") spec.eye = Eye::right;
+    else f.fail("eye", "expected \"left\" or \"right\", found \"" + *e + "\"");
+  } else if (spec.eye_column.empty()) {
+    f.fail("eye", "the list has no eye_column, so say which eye its fixations are from: eye = \"left\" or \"right\"");
+  }
+  spec.message_column = f.string("message_column").value_or("");
+  if (auto mv = f.strings("missing_values")) spec.missing_values = *mv;
+  f.finish();
+}
+
 void parse_input(TomlSection& in, Protocol& p) {
   InputSpec& spec = p.input;
   const std::string format = in.string("format").value_or("delimited");
   if (format == "delimited") spec.format = InputFormat::delimited;
   else if (format == "bids") spec.format = InputFormat::bids;
-  else in.fail("format", "expected \"delimited\" or \"bids\", found \"" + format + "\"");
+  else if (format == "fixations") spec.format = InputFormat::fixations;
+  else in.fail("format", "expected \"delimited\" (samples), \"bids\" (a BIDS eye-tracking dataset) or \"fixations\" (a fixation list), found \"" +
+                             format + "\"");
 
   auto files = in.strings("files");
   if (!files || files->empty()) {
@@ -97,6 +134,16 @@ void parse_input(TomlSection& in, Protocol& p) {
   if (auto rate = in.number("sample_rate_hz")) {
     if (!(*rate > 0)) in.fail("sample_rate_hz", "expected a positive rate in Hz");
     spec.sample_rate_hz = *rate;
+  }
+
+  if (spec.format == InputFormat::fixations) {
+    if (in.has("table")) in.fail("table", "is for sample exports; a fixation list is mapped in [input.fixations]");
+    if (in.has("sample_rate_hz")) in.fail("sample_rate_hz", "a fixation list has no samples");
+    auto f = in.table("fixations");
+    if (!f) throw InputError({p.path, in.line(), "input.fixations"}, "required for format = \"fixations\": the column mapping [input.fixations]");
+    parse_fixation_list(*f, spec.fixations);
+  } else if (in.has("fixations")) {
+    in.fail("fixations", "is for format = \"fixations\"");
   }
 
   if (auto t = in.table("table")) {
@@ -129,8 +176,9 @@ void parse_input(TomlSection& in, Protocol& p) {
     ms.time_column = m->required_string("time_column");
     ms.text_column = m->required_string("text_column");
     m->finish();
-    if (!spec.table.message_column.empty()) {
-      m->fail("file", "messages come either from input.table.message_column or from a separate file, not both");
+    if (!spec.table.message_column.empty() || !spec.fixations.message_column.empty()) {
+      m->fail("file", std::string("messages come either from input.") + (spec.format == InputFormat::fixations ? "fixations" : "table") +
+                          ".message_column or from a separate file, not both");
     }
     spec.message_file = ms;
   }
@@ -270,7 +318,7 @@ void parse_trials(TomlSection& t, Protocol& p) {
 
 // Every name the trial patterns capture, except the trial id; for trials
 // from a table, the columns it declares, or nullopt when it declares none
-// (its columns are known only at ingest, which checks them: app/bids_trials.h).
+// (its columns are known only at ingest, which checks them: app/table_trials.h).
 std::optional<std::set<std::string>> trial_variable_names(const TrialSegmentationSpec& t) {
   if (t.source != TrialSource::messages) {
     if (t.columns.empty()) return std::nullopt;
@@ -480,6 +528,14 @@ void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
       else b.fail(key, "rule '" + spec.name + "': a parameter is a number or a text");
     }
     b.keys();  // the rule checks its own parameters below
+    // A fixation list brings no samples, blinks or stretches of lost tracking:
+    // these rules would remove every trial, or nothing, without a word.
+    if (p.input.format == InputFormat::fixations &&
+        (spec.kind == "exclude_trials_with_data_loss" || spec.kind == "delete_fixations_near_blinks" ||
+         spec.kind == "exclude_trials_with_gap_in_window" || spec.kind == "exclude_trials_with_gap_in_first_pass")) {
+      b.fail("kind", "rule '" + spec.name + "' (" + spec.kind + ") needs samples, blinks or lost tracking, which a fixation list "
+                     "([input] format = \"fixations\") does not have");
+    }
     // Names that refer to other parts of the protocol are checked here, before any work.
     if (const auto m = spec.texts.find("marker"); m != spec.texts.end() && m->second != "trial_start" &&
                                                   !p.trials.marker_patterns.count(m->second)) {
@@ -535,14 +591,24 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   if (!input) throw InputError({path, 0, "input"}, "required section [input] is missing");
   parse_input(*input, p);
   if (auto screen = top.table("screen")) parse_screen(*screen, p);
-  if (!p.screen && p.input.format == InputFormat::delimited) {
+  if (!p.screen && p.input.format != InputFormat::bids) {
     throw InputError({path, 0, "screen"}, "required section [screen] is missing (width_px, height_px, width_mm, height_mm, viewing_distance_mm)");
   }
   auto trials = top.table("trials");
   if (!trials) throw InputError({path, 0, "trials"}, "required section [trials] is missing (start and end message patterns)");
   parse_trials(*trials, p);
+  if (p.input.format == InputFormat::fixations && p.trials.table_times_from_first_sample) {
+    throw InputError({path, trials->line_of("time_origin"), "trials.time_origin"},
+                     "a fixation list has no samples to count from: give the trial table's times on the list's own clock (time_origin = \"clock\")");
+  }
   parse_design(top.table("design"), p);
-  if (auto detection = top.table("detection")) parse_detection(*detection, p);
+  if (auto detection = top.table("detection")) {
+    if (p.input.format == InputFormat::fixations) {
+      detection->fail(detection->keys().empty() ? "method" : detection->keys().front(),
+                      "[detection] has no effect with format = \"fixations\": the fixation list's rows are the events; remove the section");
+    }
+    parse_detection(*detection, p);
+  }
   if (auto regions = top.table("regions")) {
     parse_regions(*regions, p);
     // Regions are looked up by the item each trial names.

@@ -8,10 +8,12 @@
 
 #include <spdlog/spdlog.h>
 
-#include "app/bids_trials.h"
+#include "app/table_trials.h"
+#include "detectors/fixation_import.h"
 #include "detectors/recording_detection.h"
 #include "io/bids_reader.h"
 #include "io/delimited_reader.h"
+#include "io/fixation_list_reader.h"
 #include "io/sha256.h"
 #include "pipeline/input_error.h"
 
@@ -94,9 +96,16 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   for (const auto& f : in.files) out.inputs.push_back(describe_input(f, in.id, known));
 
   const bool bids_input = protocol.input.format == InputFormat::bids;
+  const bool fixation_input = protocol.input.format == InputFormat::fixations;
   bool left = false, right = false;
+  FixationListRead list;
   if (bids_input) {
     for (const auto& eye : in.bids->eyes) (eye.sidecar.recorded_eye == Eye::left ? left : right) = true;
+  } else if (fixation_input) {
+    // No samples: the recording's eyes are those its fixations are from.
+    list = read_fixation_list(in.sample_file, protocol.input.fixations);
+    for (const auto& f : list.fixations) (f.eye == Eye::left ? left : right) = true;
+    if (options.progress) options.progress(out.inputs.front().size_bytes);
   } else {
     left = protocol.input.table.left.has_value();
     right = protocol.input.table.right.has_value();
@@ -118,6 +127,12 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     else if (b.screen) rec.screen = *b.screen;
     else if (b.screen_error) throw *b.screen_error;
     else throw InputError({in.sample_file, 0, "StimulusPresentation"}, "no screen geometry: neither a task *_events.json with StimulusPresentation nor [screen] in the protocol");
+  } else if (fixation_input) {
+    result.messages = std::move(list.messages);
+    result.message_lines = std::move(list.message_lines);
+    result.first_time_us = list.first_us;
+    result.last_time_us = list.last_us;
+    rec.screen = *protocol.screen;
   } else {
     DelimitedReadOptions opt;
     opt.layout = protocol.input.table;
@@ -132,9 +147,9 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     DelimitedReadOptions mopt;
     mopt.layout.delimiter = protocol.input.message_file->delimiter;
     mopt.layout.time_column = protocol.input.message_file->time_column;
-    mopt.layout.time_unit = protocol.input.table.time_unit;
+    mopt.layout.time_unit = fixation_input ? protocol.input.fixations.time_unit : protocol.input.table.time_unit;
     mopt.layout.message_column = protocol.input.message_file->text_column;
-    mopt.layout.missing_values = protocol.input.table.missing_values;
+    mopt.layout.missing_values = fixation_input ? protocol.input.fixations.missing_values : protocol.input.table.missing_values;
     mopt.layout_key = "input.messages";
     NullSink none;
     DelimitedReadResult m = read_delimited(in.message_file, mopt, none);
@@ -181,8 +196,20 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     }
   }
   if (!from_messages) {
-    if (result.samples == 0) throw InputError({in.sample_file, 0, ""}, "no samples: a trial table needs the recording's samples to place its trials");
+    if (fixation_input ? list.fixations.empty() && rec.messages.empty() : result.samples == 0) {
+      throw InputError({in.sample_file, 0, ""}, std::string("no ") + (fixation_input ? "fixations" : "samples") +
+                                                    ": a trial table needs the recording's data to place its trials");
+    }
     rec.trials = trials_from_table(in, protocol, {result.first_time_us, result.last_time_us}, rec.messages, message_source);
+  }
+  if (fixation_input) {
+    // The list's fixations are the recording's events: the detect stage has nothing to do.
+    FixationImport imported = import_fixations(rec.trials, list.fixations, rec.screen);
+    out.events = std::move(imported.events);
+    out.fixations_outside_trials = imported.outside_trials;
+    out.other_eye_rows = list.other_eye_rows;
+    out.labels = compress_column("sample_label", ColumnType::uint8, "", nullptr, 0, options.chunk_rows, options.deflate_level);
+    out.detected = true;
   }
   if (protocol.input.sample_rate_hz > 0) rec.sample_rate_hz = protocol.input.sample_rate_hz;
   else if (rec.sample_rate_hz <= 0 && result.median_interval_us > 0) rec.sample_rate_hz = 1e6 / result.median_interval_us;

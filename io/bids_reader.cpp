@@ -8,6 +8,7 @@
 #include <nlohmann/json.hpp>
 #include <set>
 
+#include "io/cell_table.h"
 #include "pipeline/named_regex.h"
 
 namespace gazemill {
@@ -339,7 +340,7 @@ std::vector<TrackerEvent> read_bids_tracker_events(const BidsEyeFiles& eye, cons
   if (!names.tracker_fixation_pattern.empty()) kinds.emplace_back(SampleLabel::fixation, NamedRegex(names.tracker_fixation_pattern));
   if (!names.tracker_saccade_pattern.empty()) kinds.emplace_back(SampleLabel::saccade, NamedRegex(names.tracker_saccade_pattern));
   if (!names.tracker_blink_pattern.empty()) kinds.emplace_back(SampleLabel::blink, NamedRegex(names.tracker_blink_pattern));
-  const EventTable table(eye.events_tsv, '\t', layout.columns);
+  const CellTable table(eye.events_tsv, '\t', layout.columns);
   std::vector<TrackerEvent> out;
   for (std::size_t r = 0; r < table.rows(); ++r) {
     if (table.missing(r, column)) continue;

@@ -12,7 +12,7 @@
 #include <string>
 #include <vector>
 
-#include "io/bids_events.h"
+#include "pipeline/events.h"
 #include "io/bids_sidecars.h"
 #include "io/delimited_reader.h"
 #include "pipeline/input_error.h"

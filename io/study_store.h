@@ -52,7 +52,7 @@
 #include <string>
 #include <vector>
 
-#include "io/bids_events.h"
+#include "pipeline/events.h"
 #include "io/compressed_samples.h"
 #include "pipeline/events.h"
 #include "pipeline/provenance.h"

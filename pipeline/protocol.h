@@ -13,7 +13,9 @@
 
 namespace gazemill {
 
-enum class InputFormat { delimited, bids };
+/// Samples from a delimited export or a BIDS dataset, or fixations a lab
+/// already has (its recording software's or another tool's fixation list).
+enum class InputFormat { delimited, bids, fixations };
 
 /// Header names of one eye's columns in a delimited file.
 struct EyeColumnNames {
@@ -79,6 +81,26 @@ struct BidsInputSpec {
   }
 };
 
+/// How to read a delimited fixation list (format = "fixations"): one
+/// fixation per row; rows with a message instead are messages at their
+/// start time. Read as the detected events: there are no samples.
+struct FixationListSpec {
+  char delimiter = '\t';
+  TimeUnit time_unit = TimeUnit::milliseconds;  // of start, end and duration
+  std::string start_column;                     // required
+  std::string end_column;                       // exactly one of end_column ...
+  std::string duration_column;                  // ... and duration_column
+  std::string x_column;                         // mean position, px (required)
+  std::string y_column;
+  std::string pupil_column;                     // optional; "" = none
+  std::string eye_column;                       // optional; "" = every row is `eye`'s
+  std::string left_value = "left";              // the eye column's texts for each eye
+  std::string right_value = "right";
+  std::optional<Eye> eye;                       // without eye_column: required; with it: keep only this eye's rows
+  std::string message_column;                   // optional: a row with a text here is a message, not a fixation
+  std::vector<std::string> missing_values{"", "NaN", "nan", "NA", "."};
+};
+
 struct InputSpec {
   InputFormat format = InputFormat::delimited;
   std::vector<std::string> files;     // glob patterns, relative to the protocol's folder
@@ -90,6 +112,7 @@ struct InputSpec {
   RepairPolicy repairs;
   double sample_rate_hz = 0.0;        // 0 = estimate from the median sample interval
   BidsInputSpec bids;                 // bids only
+  FixationListSpec fixations;         // fixations only
 };
 
 /// Where trials come from: message patterns, the rows of the BIDS task

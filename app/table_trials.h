@@ -30,14 +30,15 @@ struct SampleSpan {
 std::vector<Trial> trials_from_table(const RecordingInputs& inputs, const Protocol& protocol, const SampleSpan& samples,
                                      const std::vector<Message>& messages, std::string& source_file);
 
+/// Reads the header of the recording's trial table (the task events or the
+/// lab's own) and checks every column the protocol names or relies on, so
+/// that a missing one is found before any work. Throws InputError naming
+/// the file, its header line and the column.
+void check_trial_table(const RecordingInputs& inputs, const Protocol& protocol);
+
 /// The trial variables the rest of the protocol relies on: [design]
 /// factors, the item when [regions] are given, and the variables cleaning
 /// rules name. Checked against each table's columns at ingest.
 std::set<std::string> trial_variables_needed(const Protocol& protocol);
-
-/// The [trials] keys of a table route, as JSON text, for the ingest settings.
-std::string trial_table_settings_json(const TrialSegmentationSpec& spec);
-/// The [input.bids] settings as JSON text, for the ingest settings.
-std::string bids_input_settings_json(const BidsInputSpec& spec);
 
 }  // namespace gazemill

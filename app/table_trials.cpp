@@ -1,4 +1,4 @@
-#include "app/bids_trials.h"
+#include "app/table_trials.h"
 
 #include <algorithm>
 #include <cmath>
@@ -6,7 +6,7 @@
 #include <nlohmann/json.hpp>
 #include <optional>
 
-#include "io/bids_events.h"
+#include "io/cell_table.h"
 #include "pipeline/input_error.h"
 #include "pipeline/named_regex.h"
 
@@ -96,57 +96,51 @@ std::set<std::string> trial_variables_needed(const Protocol& p) {
   return out;
 }
 
-std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& p, const SampleSpan& samples,
-                                     const std::vector<Message>& messages, std::string& source_file) {
+namespace {
+
+std::string trial_table_path(const RecordingInputs& in, const Protocol& p) {
+  if (p.trials.source == TrialSource::table) return in.trial_table_file;
+  const std::string path = in.bids ? in.bids->task_events_tsv : std::string();
+  if (path.empty()) {
+    throw InputError({in.sample_file, 0, "trials.from"},
+                     "trials come from the task events, but no *_events.tsv applies to this recording (looked beside it and "
+                     "in the folders above, up to the dataset root, as the BIDS Inheritance Principle says)");
+  }
+  return path;
+}
+
+char trial_table_delimiter(const Protocol& p) { return p.trials.source == TrialSource::events ? '\t' : p.trials.table_delimiter; }
+
+// The columns of a trial table's times, after checking that every column
+// the protocol names or relies on is in its header.
+struct TrialColumns {
+  std::string start, end, duration;
+};
+
+TrialColumns trial_columns(const CellTable& table, const Protocol& p) {
   const TrialSegmentationSpec& spec = p.trials;
   const bool events = spec.source == TrialSource::events;
-  std::string path;
+  TrialColumns c;
   if (events) {
-    path = in.bids ? in.bids->task_events_tsv : std::string();
-    if (path.empty()) {
-      throw InputError({in.sample_file, 0, "trials.from"},
-                       "trials come from the task events, but no *_events.tsv applies to this recording (looked beside it and "
-                       "in the folders above, up to the dataset root, as the BIDS Inheritance Principle says)");
-    }
+    c.start = "onset";
+    c.duration = "duration";
   } else {
-    path = in.trial_table_file;
-  }
-  source_file = path;
-  const EventTable table(path, events ? '\t' : spec.table_delimiter);
-  const std::vector<std::string> absent = events ? std::vector<std::string>{} : p.input.table.missing_values;
-  auto fail = [&](std::size_t row, const std::string& column, const std::string& what) -> void {
-    throw InputError({path, table.line_of(row), column}, what);
-  };
-
-  RowClock clock;
-  std::string end_column, duration_column;
-  if (events) {
-    clock = bids_onset_clock(in, samples, path);
-    duration_column = "duration";
-  } else {
-    clock.start_column = spec.start_column;
-    clock.unit = spec.table_time_unit;
-    clock.origin_us = spec.table_times_from_first_sample ? samples.first_us : 0;
-    clock.hint = spec.table_times_from_first_sample
-                     ? "its times are read in " + to_string(spec.table_time_unit) + " from the recording's first sample (time_origin)"
-                     : "its times are read in " + to_string(spec.table_time_unit) + " on the recording's clock (time_unit, time_origin)";
-    if (table.has(spec.end_column)) end_column = spec.end_column;
-    else duration_column = spec.duration_column;
+    c.start = spec.start_column;
+    if (table.has(spec.end_column)) c.end = spec.end_column;
+    else c.duration = spec.duration_column;
   }
   const auto header = [&](const std::string& column, const std::string& what) {
-    throw InputError({path, table.header_line(), column}, what + "; the columns are " + listing(table.columns()));
+    throw InputError({table.path(), table.header_line(), column}, what + "; the columns are " + listing(table.columns()));
   };
-  if (!table.has(clock.start_column)) header(clock.start_column, "the column with each trial's start is missing");
-  if (!spec.until_next && end_column.empty() && !table.has(duration_column)) {
-    header(duration_column, events ? std::string("the duration column is missing (or give span = \"next\")")
-                                   : "neither the end column \"" + spec.end_column + "\" nor the duration column is there " +
-                                         "(or give span = \"next\")");
+  if (!table.has(c.start)) header(c.start, "the column with each trial's start is missing");
+  if (!spec.until_next && c.end.empty() && !table.has(c.duration)) {
+    header(c.duration, events ? std::string("the duration column is missing (or give span = \"next\")")
+                              : "neither the end column \"" + spec.end_column + "\" nor the duration column is there " +
+                                    "(or give span = \"next\")");
   }
   if (!spec.trial_column.empty() && !table.has(spec.trial_column)) header(spec.trial_column, "the column trials.trial_column names is missing");
-  std::optional<NamedRegex> selector;
-  if (!spec.trial_type_pattern.empty()) {
-    if (!table.has("trial_type")) header("trial_type", "trials.trial_type selects rows by the trial_type column, which is missing");
-    selector.emplace(spec.trial_type_pattern);
+  if (!spec.trial_type_pattern.empty() && !table.has("trial_type")) {
+    header("trial_type", "trials.trial_type selects rows by the trial_type column, which is missing");
   }
   for (const auto& name : trial_variables_needed(p)) {
     if (!table.has(name)) {
@@ -154,6 +148,46 @@ std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& 
                        "which is no column of this table");
     }
   }
+  return c;
+}
+
+}  // namespace
+
+void check_trial_table(const RecordingInputs& in, const Protocol& p) {
+  const std::string path = trial_table_path(in, p);
+  trial_columns(CellTable(path, trial_table_delimiter(p)), p);
+}
+
+std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& p, const SampleSpan& samples,
+                                     const std::vector<Message>& messages, std::string& source_file) {
+  const TrialSegmentationSpec& spec = p.trials;
+  const bool events = spec.source == TrialSource::events;
+  const std::string path = trial_table_path(in, p);
+  source_file = path;
+  const CellTable table(path, trial_table_delimiter(p));
+  const std::vector<std::string> absent = events ? std::vector<std::string>{}
+                                          : p.input.format == InputFormat::fixations ? p.input.fixations.missing_values
+                                                                                     : p.input.table.missing_values;
+  auto fail = [&](std::size_t row, const std::string& column, const std::string& what) -> void {
+    throw InputError({path, table.line_of(row), column}, what);
+  };
+  const TrialColumns columns = trial_columns(table, p);
+  const std::string& end_column = columns.end;
+  const std::string& duration_column = columns.duration;
+
+  RowClock clock;
+  if (events) {
+    clock = bids_onset_clock(in, samples, path);
+  } else {
+    clock.start_column = spec.start_column;
+    clock.unit = spec.table_time_unit;
+    clock.origin_us = spec.table_times_from_first_sample ? samples.first_us : 0;
+    clock.hint = spec.table_times_from_first_sample
+                     ? "its times are read in " + to_string(spec.table_time_unit) + " from the recording's first sample (time_origin)"
+                     : "its times are read in " + to_string(spec.table_time_unit) + " on the recording's clock (time_unit, time_origin)";
+  }
+  std::optional<NamedRegex> selector;
+  if (!spec.trial_type_pattern.empty()) selector.emplace(spec.trial_type_pattern);
   std::set<std::string> not_variables = {clock.start_column, end_column, duration_column, spec.trial_column, ""};
 
   // The rows that are trials, with their starts.
@@ -241,41 +275,6 @@ std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& 
     }
   }
   return trials;
-}
-
-std::string trial_table_settings_json(const TrialSegmentationSpec& s) {
-  const char* from[] = {"messages", "events", "table"};
-  nlohmann::json j = {{"from", from[static_cast<int>(s.source)]},
-                      {"trial_type", s.trial_type_pattern},
-                      {"trial_column", s.trial_column},
-                      {"columns", s.columns},
-                      {"span", s.until_next ? "next" : "duration"}};
-  if (s.source == TrialSource::table) {
-    j["table"] = s.table_template;
-    j["delimiter"] = std::string(1, s.table_delimiter);
-    j["time_unit"] = to_string(s.table_time_unit);
-    j["start_column"] = s.start_column;
-    j["end_column"] = s.end_column;
-    j["duration_column"] = s.duration_column;
-    j["time_origin"] = s.table_times_from_first_sample ? "first_sample" : "clock";
-  }
-  return j.dump();
-}
-
-std::string bids_input_settings_json(const BidsInputSpec& s) {
-  return nlohmann::json{{"timestamp_column", s.timestamp_column},
-                        {"x_column", s.x_column},
-                        {"y_column", s.y_column},
-                        {"pupil_column", s.pupil_column},
-                        {"pupil_column_named", s.pupil_column_named},
-                        {"gaze_in_pixels", s.gaze_in_pixels},
-                        {"zero_gaze_is_missing", s.zero_gaze_is_missing},
-                        {"tracker_events",
-                         {{"column", s.tracker_event_column},
-                          {"fixation", s.tracker_fixation_pattern},
-                          {"saccade", s.tracker_saccade_pattern},
-                          {"blink", s.tracker_blink_pattern}}}}
-      .dump();
 }
 
 }  // namespace gazemill

@@ -1,6 +1,8 @@
-#include "io/bids_events.h"
+#include "io/cell_table.h"
 
 #include <algorithm>
+#include <cmath>
+#include <cstdlib>
 #include <cstring>
 #include <set>
 
@@ -108,7 +110,7 @@ std::optional<Microseconds> parse_decimal_time(const std::string& text, TimeUnit
   return negative ? -v : v;
 }
 
-EventTable::EventTable(const std::string& path, char delimiter, std::vector<std::string> columns)
+CellTable::CellTable(const std::string& path, char delimiter, std::vector<std::string> columns)
     : path_(path), columns_(std::move(columns)) {
   ByteSource source(path);
   std::string text;
@@ -163,23 +165,23 @@ EventTable::EventTable(const std::string& path, char delimiter, std::vector<std:
   }
 }
 
-bool EventTable::has(const std::string& column) const {
+bool CellTable::has(const std::string& column) const {
   return !column.empty() && std::find(columns_.begin(), columns_.end(), column) != columns_.end();
 }
 
-const std::string& EventTable::text(std::size_t row, const std::string& column) const {
+const std::string& CellTable::text(std::size_t row, const std::string& column) const {
   static const std::string none;
   const auto it = std::find(columns_.begin(), columns_.end(), column);
   if (column.empty() || it == columns_.end()) return none;
   return cells_[row][static_cast<std::size_t>(it - columns_.begin())];
 }
 
-bool EventTable::missing(std::size_t row, const std::string& column, const std::vector<std::string>& also) const {
+bool CellTable::missing(std::size_t row, const std::string& column, const std::vector<std::string>& also) const {
   const std::string& t = text(row, column);
   return t.empty() || t == "n/a" || std::find(also.begin(), also.end(), t) != also.end();
 }
 
-Microseconds EventTable::time(std::size_t row, const std::string& column, TimeUnit unit) const {
+Microseconds CellTable::time(std::size_t row, const std::string& column, TimeUnit unit) const {
   const std::string& t = text(row, column);
   const auto v = parse_decimal_time(t, unit);
   if (!v) {
@@ -190,6 +192,19 @@ Microseconds EventTable::time(std::size_t row, const std::string& column, TimeUn
     throw InputError({path_, lines_[row], column}, "expected a time in " + to_string(unit) + ", found '" + t + "'");
   }
   return *v;
+}
+
+double CellTable::number(std::size_t row, const std::string& column, const std::string& expected) const {
+  const std::string& t = text(row, column);
+  const char* begin = t.c_str();
+  char* end = nullptr;
+  const double v = t.empty() ? 0.0 : std::strtod(begin, &end);
+  if (t.empty() || end != begin + t.size() || !std::isfinite(v)) {
+    const bool comma = t.find(',') != std::string::npos;
+    throw InputError({path_, lines_[row], column}, "expected " + expected + ", found '" + t + "'" +
+                                                        (comma ? " (a decimal comma? numbers are read with a decimal point)" : ""));
+  }
+  return v;
 }
 
 }  // namespace gazemill
