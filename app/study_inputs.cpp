@@ -127,6 +127,11 @@ std::vector<RecordingInputs> find_recordings(const Protocol& protocol) {
     r.participant = who.participant;
     r.session = who.session;
     r.id = sanitize_id(who.session.empty() ? who.participant : who.participant + "_" + who.session);
+    if (protocol.input.format == InputFormat::bids) {
+      // Runs of one task are recordings of their own (BIDS v1.11.0, "Entities": run).
+      const auto name = parse_bids_name(fs::path(file).filename().string());
+      if (name && name->entity("run")) r.id += sanitize_id("_run" + *name->entity("run"));
+    }
     if (const auto [it, fresh] = file_of_id.emplace(r.id, file); !fresh) {
       throw InputError({protocol.path, 0, "input.filename_pattern"},
                        "the files " + it->second + " and " + file + " both give recording '" + r.id +
