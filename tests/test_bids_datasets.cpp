@@ -24,6 +24,7 @@
 #include "app/protocol_parser.h"
 #include "app/study_run.h"
 #include "io/bids_sidecars.h"
+#include "io/bids_writer.h"
 #include "io/study_store.h"
 #include "pipeline/input_error.h"
 #include "sim/study_export.h"
@@ -425,3 +426,103 @@ factors = ["cond"]
   EXPECT_EQ(r.trials[1].variable("cond"), "y");
 }
 
+// gazemill export --bids: a study's samples and detected events as a BIDS
+// 1.11 eye-tracking dataset ("Physiological recordings": header-less
+// physio files with Columns in sidecars; physio events with OnsetSource
+// "timestamp"; dataset_description.json with BIDSVersion), whose shared
+// metadata sits at the root; read back, the same samples, messages and trials.
+TEST(BidsExport, AStudyRoundTripsToIdenticalSamples) {
+  TempDir d;
+  sim::SimulationConfig c;
+  c.design = sim::demo_design(4, 0);
+  c.design.participants = 2;
+  c.signal.sample_rate_hz = 500;
+  c.seed = 11;
+  sim::ExportOptions eo;
+  eo.bids = false;
+  const std::string proto = sim::simulate_to_folder(c, (d.path() / "study").string(), eo).protocol;
+  const Protocol p = parse_protocol_file(proto);
+  ingest_study(p, d.file("study/s.gzm.h5"));
+  detect_study(p, d.file("study/s.gzm.h5"));
+  StudyStoreReader before(d.file("study/s.gzm.h5"));
+  const BidsExportSummary s = write_bids_dataset(before, d.file("shared"), "reading", "a study", "test");
+  EXPECT_EQ(s.recordings, 2u);
+  EXPECT_GT(s.event_rows, 0u);
+  EXPECT_TRUE(fs::exists(d.file("shared/dataset_description.json")));
+  EXPECT_TRUE(fs::exists(d.file("shared/task-reading_physio.json")));
+  EXPECT_TRUE(fs::exists(d.file("shared/sub-p01/ses-1/beh/sub-p01_ses-1_task-reading_recording-eye1_physio.tsv.gz")));
+  EXPECT_TRUE(fs::exists(d.file("shared/sub-p01/ses-1/beh/sub-p01_ses-1_task-reading_events.tsv")));
+  // A second export into the same folder is refused, and leaves it as it was.
+  EXPECT_NE(error_of([&] { write_bids_dataset(before, d.file("shared"), "reading", "a study", "test"); }).find("not an empty folder"),
+            std::string::npos);
+
+  std::string text;
+  {
+    std::ifstream in(proto);
+    text.assign(std::istreambuf_iterator<char>(in), {});
+  }
+  const std::string trials = text.substr(text.find("[trials]"), text.find("[design]") - text.find("[trials]"));
+  const std::string again = R"([input]
+format = "bids"
+files = ["sub-*/ses-*/beh/*_physio.tsv.gz"]
+
+[input.bids.tracker_events]
+fixation = '^fixation$'
+saccade = '^saccade$'
+blink = '^blink$'
+
+)" + trials;
+  const Protocol q = parse_protocol_text(again, d.write("shared/gazemill.toml", again));
+  ingest_study(q, d.file("back.gzm.h5"));
+  StudyStoreReader after(d.file("back.gzm.h5"));
+  ASSERT_EQ(after.recording_ids(), before.recording_ids());
+  for (const auto& id : before.recording_ids()) {
+    SCOPED_TRACE(id);
+    const Recording a = before.read_recording(id, true), b = after.read_recording(id, true);
+    EXPECT_EQ(a.samples.time_us, b.samples.time_us);
+    EXPECT_EQ(a.samples.has_left, b.samples.has_left);
+    EXPECT_EQ(a.samples.has_right, b.samples.has_right);
+    for (Eye e : {Eye::left, Eye::right}) {
+      const EyeSamples &x = a.samples.eye(e), &y = b.samples.eye(e);
+      EXPECT_EQ(x.valid, y.valid);
+      ASSERT_EQ(x.x_px.size(), y.x_px.size());
+      for (std::size_t i = 0; i < x.x_px.size(); ++i) {
+        if (!x.valid[i]) continue;
+        ASSERT_EQ(x.x_px[i], y.x_px[i]) << i;
+        ASSERT_EQ(x.y_px[i], y.y_px[i]) << i;
+        ASSERT_TRUE(x.pupil[i] == y.pupil[i] || (std::isnan(x.pupil[i]) && std::isnan(y.pupil[i]))) << i;
+      }
+    }
+    EXPECT_EQ(a.sample_rate_hz, b.sample_rate_hz);
+    EXPECT_EQ(a.screen.width_px, b.screen.width_px);
+    EXPECT_DOUBLE_EQ(a.screen.viewing_distance_mm, b.screen.viewing_distance_mm);
+    ASSERT_EQ(a.messages.size(), b.messages.size());
+    ASSERT_EQ(a.trials.size(), b.trials.size());
+    for (std::size_t t = 0; t < a.trials.size(); ++t) {
+      EXPECT_EQ(a.trials[t].start_us, b.trials[t].start_us);
+      EXPECT_EQ(a.trials[t].variables, b.trials[t].variables);
+    }
+    // The detected fixations come back as the tracker's own events.
+    const DetectedEvents ev = before.read_events(id);
+    std::size_t fixations = 0;
+    for (const auto& t : after.read_tracker_events(id)) fixations += t.kind == SampleLabel::fixation;
+    EXPECT_EQ(fixations, ev.fixations.size());
+  }
+  // The task events read as trials give the same trials.
+  const std::string from_events = R"([input]
+format = "bids"
+files = ["sub-*/ses-*/beh/*_physio.tsv.gz"]
+[trials]
+from = "events"
+trial_column = "trial"
+)";
+  const Protocol r = parse_protocol_text(from_events, d.write("shared/events.toml", from_events));
+  ingest_study(r, d.file("events.gzm.h5"));
+  StudyStoreReader by_events(d.file("events.gzm.h5"));
+  const Recording a = before.read_recording("p01_1", false), b = by_events.read_recording("p01_1", false);
+  ASSERT_EQ(a.trials.size(), b.trials.size());
+  EXPECT_EQ(a.trials.back().id, b.trials.back().id);
+  EXPECT_EQ(a.trials.back().start_us, b.trials.back().start_us);
+  EXPECT_EQ(a.trials.back().end_us, b.trials.back().end_us);
+  EXPECT_EQ(a.trials.back().variables, b.trials.back().variables);
+}
