@@ -22,6 +22,7 @@
 #include <functional>
 
 #include "app/protocol_parser.h"
+#include "app/score.h"
 #include "app/study_run.h"
 #include "io/bids_sidecars.h"
 #include "io/bids_writer.h"
@@ -216,6 +217,13 @@ saccade = '^saccade$'
   EXPECT_EQ(tracker[0].start_us, 1785305000);
   EXPECT_EQ(tracker[0].end_us, 1785325000);
 
+  // gazemill score --store: the tracker's events as the reference for gazemill's detection.
+  detect_study(p, d.file("s.gzm.h5"));
+  const AgreementReport agreement = score_tracker_events(d.file("s.gzm.h5"));
+  // Per run and trial, the detection's eye: trial 1 (5..35 ms of the run) holds
+  // the fixation and the saccade; trial 2 (50..90 ms) none. Two runs.
+  EXPECT_EQ(agreement.of(SampleLabel::fixation).reference_events, 2u);
+  EXPECT_EQ(agreement.of(SampleLabel::saccade).reference_events, 2u);
 }
 
 // Without [screen], the sidecar's viewing distance of 60 "m" is named.
