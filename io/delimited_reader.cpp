@@ -746,6 +746,9 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
   // line starts (size when the data ends with a newline).
   auto parse_block = [&](const char* data, std::size_t size) {
     std::size_t pos = 0;
+    // A header-less file (BIDS physio) goes straight to the rows: its
+    // byte-order mark is skipped here, before the first row is read.
+    if (line_no == 0 && parser.has_header() && size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
     for (;;) {
       if (parser.has_header()) {
         const char* start = data + pos;
