@@ -168,6 +168,24 @@ TEST(FixationFilters, NearBlinksAndOutsideTheScreen) {
   EXPECT_THROW(run_cleaning(input, {rule("text", "delete_fixations_outside", {}, {{"area", "text"}})}), std::invalid_argument);
 }
 
+// The near-blink boundary, decided and documented in filters/fixation_filters.h
+// (common practice, no source): a fixation goes when it ends *less than*
+// within_ms before a blink starts or starts less than within_ms after one
+// ends; exactly within_ms away it stays. Blink 1000-1200 ms, within 50 ms:
+// ends at 950 (exactly 50 before): stays; ends at 951: goes; starts at 1250
+// (exactly 50 after): stays; starts at 1249: goes.
+TEST(FixationFilters, NearBlinkBoundaryIsExclusive) {
+  std::uint32_t id = 0;
+  auto t = trial_of({{750, 200, 0}, {751, 200, 1}, {1250, 100, 2}, {1249, 100, 3}}, id);
+  t.blinks.push_back({"1", Eye::left, 1'000'000, 1'200'000});
+  const auto o = run_cleaning(state_of({t}), {rule("blinks", "delete_fixations_near_blinks", {{"within_ms", 50}})});
+  const auto& kept = o.state.participants[0].trials[0].fixations;
+  EXPECT_TRUE(kept[0].kept);
+  EXPECT_FALSE(kept[1].kept);
+  EXPECT_TRUE(kept[2].kept);
+  EXPECT_FALSE(kept[3].kept);
+}
+
 TEST(TrialExclusions, EachKindByHand) {
   std::uint32_t id = 0;
   auto a = trial_of({{0, 200, 0}, {300, 200, 1}}, id);

@@ -140,6 +140,24 @@ for key, rows in wide.groupby(["participant", "session", "trial"], sort=False):
             if m in BOOLEANS and want is not None:
                 want = 1.0 if want else 0.0
             check(close(got, want, TOL.get(m, 1e-9)), f"{key} region {int(r.region)} {m}: store {got}, oracle {want}")
+# The spillover columns: each row's preceding_* and following_* are the
+# oracle's values of the regions before and after it (NA at the ends).
+NEIGHBOUR = {"skipped_first_pass": "skipped", "first_fixation_ms": "first_fixation_ms",
+             "gaze_duration_ms": "gaze_duration_ms", "total_time_ms": "total_time_ms"}
+for key, rows in wide.groupby(["participant", "session", "trial"], sort=False):
+    region_count = int(rows.region.max())
+    expected = oracle.region_measures(trials.get(key, []), region_count, CHAR_WIDTH_PX)
+    for r in rows.itertuples():
+        for side, step in (("preceding", -1), ("following", +1)):
+            other = int(r.region) - 1 + step
+            check(close(getattr(r, side + "_region"), other + 1 if 0 <= other < region_count else None, 0),
+                  f"{key} region {int(r.region)} {side}_region")
+            for column, m in NEIGHBOUR.items():
+                want = expected[other][m] if 0 <= other < region_count else None
+                if m == "skipped" and want is not None:
+                    want = 1.0 if want else 0.0
+                got = getattr(r, f"{side}_{column}")
+                check(close(got, want, 1e-9), f"{key} region {int(r.region)} {side}_{column}: store {got}, oracle {want}")
 check(rows_checked == len(wide) and rows_checked > 1000, f"every row of the wide table checked ({rows_checked} of {len(wide)})")
 # Every trial with kept fixations and no measure row must be one the cleaning excluded.
 unmeasured = [k for k in trials if k not in measured_trials]
@@ -202,6 +220,18 @@ check((agg.n_gaze_duration_ms == agg.first_pass_readings).all(), "n of gaze dura
 check((agg.n_total_time_ms == agg.fixated_readings).all(), "n of total time = fixated readings in every group")
 check((wide.skipped_first_pass == 1).sum() > 0 and (wide.fixated == 0).sum() > 0,
       "the demo has skipped and never-fixated regions, so NA handling is exercised")
+# Row order (measures/measure_aggregates.cpp's promise, for people reading
+# the table): by item, then region, both as numbers where they are numbers
+# (region 10 after region 9, not after region 1).
+order = agg[["item", "region"]].astype(str).values.tolist()
+as_number = lambda s: (0, int(s), "") if s.isdigit() else (1, 0, s)
+items_seen = [as_number(i) for i, _ in order]
+check(all(a <= b for a, b in zip(items_seen, items_seen[1:])), "by_item_region: items in numeric order")
+regions_in_order = True
+for (i1, r1), (i2, r2) in zip(order, order[1:]):
+    if i1 == i2 and int(r2) < int(r1):
+        regions_in_order = False
+check(regions_in_order and agg.region.astype(int).max() >= 10, "by_item_region: regions in numeric order within an item (some past 9)")
 print(f"(b) {n1} item x region, {n2} role and {n3} participant groups recomputed with pandas")
 
 print(f"{passes} checks passed, {len(failures)} failed")
