@@ -76,6 +76,12 @@ def close(a, b, tol):
 with tempfile.TemporaryDirectory() as tmp:
     study = os.path.join(tmp, "study")
     shutil.copytree(os.path.join(fixtures, "demo-study"), study)
+    # A merge rule (Eskenazi 2023's stage 1, with wider limits so that the
+    # demo has merges): cleaned durations then differ from detected ones, and
+    # the measures must use the cleaned fixations.
+    with open(os.path.join(study, "gazemill.toml"), "a") as f:
+        f.write('\n[[cleaning]]\nname = "merge short"\nkind = "merge_short_fixations"\n'
+                'max_duration_ms = 120\nmax_distance_deg = 1.5\nmax_gap_ms = 80\n')
     out = os.path.join(tmp, "out")
     subprocess.run([gazemill, "-q", "run", os.path.join(study, "gazemill.toml"), "-o", out], check=True)
     tables = os.path.join(out, "tables")
@@ -87,11 +93,21 @@ with tempfile.TemporaryDirectory() as tmp:
     with h5py.File(os.path.join(out, stores[0]), "r") as h:
         # The kept fixations of every recording, full precision, from the store.
         stored = {}
+        first_id = 0  # input ids number the detected fixations across the recordings, in their order
         for rec in h["recordings"]:
             g = h["recordings"][rec]["clean/fixations"]
-            cols = {k: g[k][:] for k in ("trial", "start_us", "duration_ms", "x_px", "y_px", "x_deg", "y_deg")}
+            cols = {k: g[k][:] for k in ("trial", "start_us", "duration_ms", "x_px", "y_px", "x_deg", "y_deg", "input_id")}
+            # Keyed by the detected fixation's start (what fixations.tsv shows): a
+            # merged fixation's own span may start earlier.
+            detected = h["recordings"][rec]["events/fixations"]
+            detected_start = detected["start_us"][:]
+            detected_ms = detected["duration_ms"][:]
             for i in range(len(cols["trial"])):
-                stored[(rec, text(cols["trial"][i]), int(cols["start_us"][i]))] = {k: cols[k][i] for k in cols}
+                j = int(cols["input_id"][i]) - first_id
+                entry = {k: cols[k][i] for k in cols}
+                entry["detected_ms"] = detected_ms[j]
+                stored[(rec, text(cols["trial"][i]), int(detected_start[j]))] = entry
+            first_id += len(detected_start)
         wide = pd.DataFrame({k: ([text(x) for x in v[:]] if v.dtype == object else v[:]) for k, v in h["measures/wide"].items()})
         aggregates = {}
         for name in ("by_item_region", "by_role", "by_participant"):
@@ -111,6 +127,10 @@ for key, rows in kept.groupby(["participant", "session", "trial"], sort=False):
         if s is None:
             missing += 1
             continue
+        # fixations.tsv: duration_ms is the cleaned duration, detected_duration_ms the detector's.
+        check(abs(r.duration_ms - s["duration_ms"]) < 0.01 and abs(r.detected_duration_ms - s["detected_ms"]) < 0.01,
+              f"{key} fixation at {r.start_us} us: fixations.tsv durations {r.duration_ms}/{r.detected_duration_ms}, "
+              f"store {s['duration_ms']}/{s['detected_ms']}")
         # Region and line in the tables count from 1; the oracle counts regions from 0, -1 off the regions.
         region = -1 if pd.isna(r.region) else int(r.region) - 1
         line = -1 if pd.isna(r.line) else int(r.line) - 1
@@ -118,6 +138,7 @@ for key, rows in kept.groupby(["participant", "session", "trial"], sort=False):
         fx.append(Fixation(float(s["duration_ms"]), float(s["x_px"]), float(s["y_px"]), float(s["x_deg"]), float(s["y_deg"]),
                            line, region, landing))
     trials[key] = fx
+check((fixations_tsv.duration_ms != fixations_tsv.detected_duration_ms).sum() >= 10, "the merge rule merged some fixations")
 check(missing == 0, f"every kept fixation of fixations.tsv is in the store's clean/fixations ({missing} not)")
 
 # Tolerances: durations and degrees come from the store in full precision;
