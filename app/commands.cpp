@@ -9,6 +9,7 @@
 #include "app/audit_report.h"
 #include "app/inspect.h"
 #include "app/protocol_parser.h"
+#include "app/report_command.h"
 #include "app/run_stats.h"
 #include "app/shard_merge.h"
 #include "app/study_run.h"
@@ -69,6 +70,17 @@ void log_counts(const StudyRunReport& r) {
 }
 
 // Runs one stage (or, for `run`, the whole study) and logs what happened.
+// The study's report, OUTDIR/report.html, written again whenever the store
+// changed (or the page is missing); a report of an older store is never left beside a newer one.
+std::string refresh_report(const std::string& store_path, const std::string& folder, bool store_written) {
+  const std::string html = (fs::path(folder) / "report.html").string();
+  if (store_written || !fs::exists(html)) {
+    write_study_report(store_path, html);
+    spdlog::info("report: {}", html);
+  }
+  return html;
+}
+
 int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   const RunClock clock;
   const Protocol protocol = parse_protocol_file(o.protocol_path);
@@ -114,12 +126,15 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   }
   const StudyRunReport r = run_study(protocol, opt);
   log_counts(r);
+  std::string report_path;
+  if (!only && o.shard.empty() && !o.no_report) report_path = refresh_report(opt.store_path, folder, r.store_written);
   const std::string timing = clock.summary(r.input_bytes);
   spdlog::info("{}: {}", opt.store_path, stage_summary(r));
   if (!only && o.shard.empty()) {
     nlohmann::json summary;
     summary["store"] = opt.store_path;
     summary["tables"] = opt.tables_folder;
+    if (!report_path.empty()) summary["report"] = report_path;
     for (const auto& [stage, what] : r.stages) summary["stages"][to_string(stage)] = what;
     summary["recordings"] = r.recordings;
     summary["recordings_read"] = r.recordings_read;
@@ -146,11 +161,13 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   run->add_option("protocol", o.protocol_path, "Protocol file (TOML)")->required()->check(CLI::ExistingFile);
   run->add_option("-o,--output", o.output, "Folder for the store, the tables and the run summary (default: <study>-output beside the protocol)");
   add_run_options(run, o);
+  run->add_flag("--no-report", o.no_report, "Write no report.html (gazemill report writes one later)");
   run->add_option("--shard", o.shard, "Only shard K of N of the recordings (K from 0), for a cluster; then gazemill merge");
 
   auto* merge = app.add_subcommand("merge", "Join the shard stores of a study run on many machines, and finish the study");
   merge->add_option("output", o.output, "Folder for the joined store, the tables and the run summary")->required();
   merge->add_option("shards", o.shards, "The shard stores (gazemill run --shard K/N wrote them)")->required();
+  merge->add_flag("--no-report", o.no_report, "Write no report.html (gazemill report writes one later)");
 
   auto* ingest = app.add_subcommand("ingest", "Read the raw exports a protocol names into a new HDF5 study store");
   ingest->add_option("protocol", o.protocol_path, "Protocol file (TOML)")->required()->check(CLI::ExistingFile);
@@ -204,6 +221,7 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     const RunClock clock;
     const StudyRunReport r = merge_shards(o.shards, o.output);
     log_counts(r);
+    if (!o.no_report) refresh_report(r.store_path, o.output, true);  // merge always writes its store
     spdlog::info("merge: {}, {}", stage_summary(r), clock.summary());
     return 0;
   }

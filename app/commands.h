@@ -23,6 +23,7 @@ struct CommandOptions {
   int deflate_level = 1;
   std::string shard;               // run --shard K/N
   std::vector<std::string> shards; // merge
+  bool no_report = false;          // run, merge: --no-report
   // inspect, audit, verify
   std::string store_argument;
   std::string audit_by;

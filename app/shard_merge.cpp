@@ -116,6 +116,7 @@ StudyRunReport merge_shards(const std::vector<std::string>& shards, const std::s
     }
   }
   report.recordings = owner.size();
+  report.store_path = store;
   report.tables_folder = (fs::path(out_folder) / "tables").string();
   report.tables = write_study_tables(store, report.tables_folder, protocol, &report);
   return report;

@@ -769,6 +769,7 @@ StudyRunReport StudyRun::execute() {
     report_.tables_folder = o_.tables_folder;
   }
   spdlog::debug("tables done after {:.2f} s", since());
+  report_.store_path = o_.store_path;
   return report_;
 }
 

@@ -49,6 +49,7 @@ struct StudyRunReport {
   std::vector<MeasureRow> rows;      // when measure ran
   PlacementCounts placement;         // where measure placed the kept fixations
   bool store_written = false;
+  std::string store_path;            // the study store the run wrote or read
   std::vector<std::string> tables;   // written this run
   std::string tables_folder;
 };

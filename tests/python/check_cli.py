@@ -101,5 +101,28 @@ end = '^E$'
     r = run("run", "--no-such-option")
     check(r.returncode == 2 and r.stderr.startswith("error:"), "usage errors start with error:", r)
 
+# run writes the study's report beside its store, again only when the store changed
+# (common practice for a build step: an output is refreshed with its input, no source).
+import shutil
+with tempfile.TemporaryDirectory() as tmp:
+    study = os.path.join(tmp, "study")
+    shutil.copytree(os.path.join(sys.argv[2], "demo-study"), study)
+    proto = os.path.join(study, "gazemill.toml")
+    out = os.path.join(tmp, "out")
+    html = os.path.join(out, "report.html")
+    r = run("run", proto, "-o", out)
+    check(r.returncode == 0 and os.path.getsize(html) > 10000 and "report.html" in r.stderr, "run writes report.html and names it", r)
+    first = os.stat(html).st_mtime_ns
+    r = run("run", proto, "-o", out)
+    check(r.returncode == 0 and os.stat(html).st_mtime_ns == first, "a run with nothing to redo leaves the report as it is", r)
+    with open(proto, "a") as f:
+        f.write('\n[[cleaning]]\nname = "brief"\nkind = "delete_short_fixations"\nmin_duration_ms = 80\n')
+    r = run("run", proto, "-o", out)
+    check(r.returncode == 0 and os.stat(html).st_mtime_ns != first and "brief" in open(html).read(),
+          "a run that changed the store writes the report again, with the new rule in it", r)
+    out2 = os.path.join(tmp, "out2")
+    r = run("run", proto, "-o", out2, "--no-report")
+    check(r.returncode == 0 and not os.path.exists(os.path.join(out2, "report.html")), "run --no-report writes none", r)
+
 print(f"{passes} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)
