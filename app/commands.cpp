@@ -15,6 +15,8 @@
 #include "app/study_run.h"
 #include "app/verify.h"
 #include "io/atomic_file.h"
+#include "io/bids_writer.h"
+#include "gazemill/version.h"
 #include "io/cleaning_io.h"
 #include "io/study_store.h"
 #include "pipeline/input_error.h"
@@ -41,7 +43,10 @@ void log_counts(const StudyRunReport& r) {
     spdlog::info("read {} recordings: {} trials, {} samples, {} messages, {} repairs", r.recordings_read, r.trials, r.samples,
                  r.messages, r.repairs);
   }
-  if (r.recordings_detected > 0) {
+  if (r.recordings_detected > 0 && r.events_imported) {
+    spdlog::info("imported the fixation lists of {} recordings: {} fixations in trials (no samples: the detect stage is recorded as imported)",
+                 r.recordings_detected, r.fixations);
+  } else if (r.recordings_detected > 0) {
     spdlog::info("detected in {} recordings ({} samples): {} fixations, {} saccades, {} blinks", r.recordings_detected,
                  r.samples_detected, r.fixations, r.saccades, r.blinks);
   }
@@ -210,6 +215,8 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   auto* exp = app.add_subcommand("export", "Write a store's tables: fixations, saccades and blinks, the audit and the measures");
   exp->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
   exp->add_option("-o,--output", o.output, "Folder for the tables (default: <store name>-tables beside the store)");
+  exp->add_option("--bids", o.bids_folder, "Write the raw samples and detected events as a BIDS eye-tracking dataset into this new folder");
+  exp->add_option("--task", o.bids_task, "The BIDS task label (letters and digits; default: the study's name, else \"reading\")");
 
   auto* inspect = app.add_subcommand("inspect", "Show the recordings, trials, data loss and each stage's state in a study store");
   inspect->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
@@ -237,6 +244,22 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     return 0;
   }
   if (app.got_subcommand("verify")) return verify_store(o.store_argument, std::cout) ? 0 : 1;
+  if (app.got_subcommand("export") && !o.bids_folder.empty()) {
+    StudyStoreReader store(o.store_argument);
+    const auto ingest = store.stage_record(Stage::ingest);
+    if (!ingest) throw InputError({o.store_argument, 0, ""}, "has no ingested recordings to export");
+    const Protocol protocol = parse_protocol_text(ingest->protocol_text, ingest->protocol_path);
+    const auto detect = store.stage_record(Stage::detect);
+    const bool events = detect && detect->state == StageState::current;
+    if (!events) spdlog::warn("{}: no current detected events; the dataset gets the samples and messages only", o.store_argument);
+    std::string task = o.bids_task.empty() ? bids_label(protocol.study_name) : o.bids_task;
+    if (task.empty()) task = "reading";
+    if (bids_label(task) != task) throw InputError({"", 0, "--task"}, "a BIDS label has letters and digits only; found \"" + task + "\"");
+    const BidsExportSummary s = write_bids_dataset(store, o.bids_folder, task, protocol.study_name, kVersion);
+    spdlog::info("{}: a BIDS dataset of {} recordings (task-{}), {} files, {} detected events", o.bids_folder, s.recordings, task, s.files,
+                 s.event_rows);
+    return 0;
+  }
   if (app.got_subcommand("export")) {
     // The tables as the latest current stage's protocol describes them (its design and regions).
     StudyStoreReader store(o.store_argument);

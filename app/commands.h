@@ -27,6 +27,9 @@ struct CommandOptions {
   // inspect, audit, verify
   std::string store_argument;
   std::string audit_by;
+  // export --bids
+  std::string bids_folder;
+  std::string bids_task;
   // simulate
   SimulateOptions simulate;
   // score

@@ -50,12 +50,75 @@ std::optional<EyeColumnNames> parse_eye(TomlSection& table, const std::string& k
   return cols;
 }
 
+// [input.bids]: a dataset's own column names, and the tracker's own events to keep.
+void parse_bids_input(TomlSection& b, BidsInputSpec& spec) {
+  if (auto v = b.string("timestamp_column")) spec.timestamp_column = *v;
+  if (auto v = b.string("x_column")) spec.x_column = *v;
+  if (auto v = b.string("y_column")) spec.y_column = *v;
+  if (auto v = b.string("pupil_column")) {
+    spec.pupil_column = *v;
+    spec.pupil_column_named = true;
+  }
+  spec.gaze_in_pixels = b.boolean("gaze_in_pixels").value_or(false);
+  spec.zero_gaze_is_missing = b.boolean("zero_gaze_is_missing").value_or(false);
+  if (auto t = b.table("tracker_events")) {
+    spec.tracker_event_column = t->string("column").value_or("trial_type");
+    for (auto [key, field] : {std::pair{"fixation", &spec.tracker_fixation_pattern}, std::pair{"saccade", &spec.tracker_saccade_pattern},
+                              std::pair{"blink", &spec.tracker_blink_pattern}}) {
+      if (auto v = t->string(key)) {
+        check_regex(*t, key, *v);
+        *field = *v;
+      }
+    }
+    if (!spec.keeps_tracker_events()) t->fail("column", "name at least one of fixation, saccade, blink (a pattern on the column)");
+    t->finish();
+  }
+  b.finish();
+}
+
+// [input.fixations]: the column mapping of a fixation list.
+void parse_fixation_list(TomlSection& f, FixationListSpec& spec) {
+  spec.delimiter = parse_delimiter(f, "delimiter", '\t');
+  const std::string unit = f.string("time_unit").value_or("ms");
+  const auto tu = parse_time_unit(unit);
+  if (!tu) f.fail("time_unit", "expected \"s\", \"ms\", \"us\" or \"ns\", found \"" + unit + "\"");
+  spec.time_unit = *tu;
+  spec.start_column = f.required_string("start_column");
+  spec.end_column = f.string("end_column").value_or("");
+  spec.duration_column = f.string("duration_column").value_or("");
+  if (spec.end_column.empty() == spec.duration_column.empty()) {
+    f.fail(spec.end_column.empty() ? "end_column" : "duration_column",
+           "give exactly one of end_column (each fixation's end) and duration_column (its duration), in time_unit");
+  }
+  spec.x_column = f.required_string("x_column");
+  spec.y_column = f.required_string("y_column");
+  spec.pupil_column = f.string("pupil_column").value_or("");
+  spec.eye_column = f.string("eye_column").value_or("");
+  spec.left_value = f.string("left_value").value_or("left");
+  spec.right_value = f.string("right_value").value_or("right");
+  if (spec.left_value.empty() || spec.left_value == spec.right_value) {
+    f.fail("left_value", "the eye column's texts for the two eyes must differ and not be empty");
+  }
+  if (auto e = f.string("eye")) {
+    if (*e == "left") spec.eye = Eye::left;
+    else if (*e == "right") spec.eye = Eye::right;
+    else f.fail("eye", "expected \"left\" or \"right\", found \"" + *e + "\"");
+  } else if (spec.eye_column.empty()) {
+    f.fail("eye", "the list has no eye_column, so say which eye its fixations are from: eye = \"left\" or \"right\"");
+  }
+  spec.message_column = f.string("message_column").value_or("");
+  if (auto mv = f.strings("missing_values")) spec.missing_values = *mv;
+  f.finish();
+}
+
 void parse_input(TomlSection& in, Protocol& p) {
   InputSpec& spec = p.input;
   const std::string format = in.string("format").value_or("delimited");
   if (format == "delimited") spec.format = InputFormat::delimited;
   else if (format == "bids") spec.format = InputFormat::bids;
-  else in.fail("format", "expected \"delimited\" or \"bids\", found \"" + format + "\"");
+  else if (format == "fixations") spec.format = InputFormat::fixations;
+  else in.fail("format", "expected \"delimited\" (samples), \"bids\" (a BIDS eye-tracking dataset) or \"fixations\" (a fixation list), found \"" +
+                             format + "\"");
 
   auto files = in.strings("files");
   if (!files || files->empty()) {
@@ -71,6 +134,16 @@ void parse_input(TomlSection& in, Protocol& p) {
   if (auto rate = in.number("sample_rate_hz")) {
     if (!(*rate > 0)) in.fail("sample_rate_hz", "expected a positive rate in Hz");
     spec.sample_rate_hz = *rate;
+  }
+
+  if (spec.format == InputFormat::fixations) {
+    if (in.has("table")) in.fail("table", "is for sample exports; a fixation list is mapped in [input.fixations]");
+    if (in.has("sample_rate_hz")) in.fail("sample_rate_hz", "a fixation list has no samples");
+    auto f = in.table("fixations");
+    if (!f) throw InputError({p.path, in.line(), "input.fixations"}, "required for format = \"fixations\": the column mapping [input.fixations]");
+    parse_fixation_list(*f, spec.fixations);
+  } else if (in.has("fixations")) {
+    in.fail("fixations", "is for format = \"fixations\"");
   }
 
   if (auto t = in.table("table")) {
@@ -103,10 +176,16 @@ void parse_input(TomlSection& in, Protocol& p) {
     ms.time_column = m->required_string("time_column");
     ms.text_column = m->required_string("text_column");
     m->finish();
-    if (!spec.table.message_column.empty()) {
-      m->fail("file", "messages come either from input.table.message_column or from a separate file, not both");
+    if (!spec.table.message_column.empty() || !spec.fixations.message_column.empty()) {
+      m->fail("file", std::string("messages come either from input.") + (spec.format == InputFormat::fixations ? "fixations" : "table") +
+                          ".message_column or from a separate file, not both");
     }
     spec.message_file = ms;
+  }
+
+  if (auto b = in.table("bids")) {
+    if (spec.format != InputFormat::bids) b->fail("timestamp_column", "[input.bids] is for format = \"bids\"");
+    parse_bids_input(*b, spec.bids);
   }
 
   if (auto r = in.table("repairs")) {
@@ -141,18 +220,91 @@ void parse_screen(TomlSection& s, Protocol& p) {
   p.screen = g;
 }
 
+// [trials] from = "events" or "table": each row of a table is a trial.
+void parse_trial_table(TomlSection& t, Protocol& p) {
+  TrialSegmentationSpec& spec = p.trials;
+  const bool events = spec.source == TrialSource::events;
+  for (const char* key : {"start", "end", "variables"}) {
+    if (t.has(key)) {
+      t.fail(key, std::string("is for trials from messages; with from = \"") + (events ? "events" : "table") +
+                      "\" each row is a trial and its columns are the variables (markers still come from messages)");
+    }
+  }
+  if (events && p.input.format != InputFormat::bids) {
+    t.fail("from", "from = \"events\" reads the BIDS task *_events.tsv, so [input] format must be \"bids\" "
+                   "(for a lab's own trial table use from = \"table\")");
+  }
+  if (auto v = t.string("trial_type")) {
+    if (!events) t.fail("trial_type", "selects rows of the BIDS task events (from = \"events\")");
+    check_regex(t, "trial_type", *v);
+    spec.trial_type_pattern = *v;
+  }
+  spec.trial_column = t.string("trial_column").value_or("");
+  if (auto cols = t.strings("columns")) {
+    std::set<std::string> seen;
+    for (const auto& c : *cols) {
+      if (c.empty() || !seen.insert(c).second) t.fail("columns", "expected distinct, non-empty column names");
+    }
+    spec.columns = *cols;
+  }
+  if (auto span = t.string("span")) {
+    if (*span != "duration" && *span != "next") {
+      t.fail("span", "expected \"duration\" (each row from its start for its duration) or \"next\" (until the next row's start)");
+    }
+    spec.until_next = *span == "next";
+  }
+  if (events) {
+    for (const char* key : {"table", "delimiter", "time_unit", "start_column", "end_column", "duration_column", "time_origin"}) {
+      if (t.has(key)) {
+        t.fail(key, "is for from = \"table\"; BIDS task events have onset and duration in seconds, their origin given by the sidecars");
+      }
+    }
+    return;
+  }
+  spec.table_template = t.required_string("table");
+  spec.table_delimiter = parse_delimiter(t, "delimiter", '\t');
+  if (auto unit = t.string("time_unit")) {
+    const auto tu = parse_time_unit(*unit);
+    if (!tu) t.fail("time_unit", "expected \"s\", \"ms\", \"us\" or \"ns\", found \"" + *unit + "\"");
+    spec.table_time_unit = *tu;
+  }
+  spec.start_column = t.string("start_column").value_or("start");
+  spec.end_column = t.string("end_column").value_or("end");
+  spec.duration_column = t.string("duration_column").value_or("duration");
+  if (auto origin = t.string("time_origin")) {
+    if (*origin != "clock" && *origin != "first_sample") {
+      t.fail("time_origin", "expected \"clock\" (times on the recording's clock) or \"first_sample\" (from its first sample)");
+    }
+    spec.table_times_from_first_sample = *origin == "first_sample";
+  }
+}
+
 void parse_trials(TomlSection& t, Protocol& p) {
   TrialSegmentationSpec& spec = p.trials;
-  spec.start_pattern = t.required_string("start");
-  check_regex(t, "start", spec.start_pattern);
-  spec.end_pattern = t.required_string("end");
-  check_regex(t, "end", spec.end_pattern);
-  if (auto vars = t.strings("variables")) {
-    for (const auto& v : *vars) {
-      check_regex(t, "variables", v);
-      if (NamedRegex(v).names().empty()) t.fail("variables", "pattern \"" + v + "\" has no named capture (?<name>...) to set a variable");
+  const std::string from = t.string("from").value_or("messages");
+  if (from == "messages") spec.source = TrialSource::messages;
+  else if (from == "events") spec.source = TrialSource::events;
+  else if (from == "table") spec.source = TrialSource::table;
+  else t.fail("from", "expected \"messages\", \"events\" (the BIDS task *_events.tsv) or \"table\", found \"" + from + "\"");
+  static const char* const kTableKeys[] = {"trial_type", "trial_column", "columns", "span", "table", "delimiter", "time_unit",
+                                           "start_column", "end_column", "duration_column", "time_origin"};
+  if (spec.source == TrialSource::messages) {
+    for (const char* key : kTableKeys) {
+      if (t.has(key)) t.fail(key, "is for trials from = \"events\" or \"table\"; these trials come from messages (start, end)");
     }
-    spec.variable_patterns = *vars;
+    spec.start_pattern = t.required_string("start");
+    check_regex(t, "start", spec.start_pattern);
+    spec.end_pattern = t.required_string("end");
+    check_regex(t, "end", spec.end_pattern);
+    if (auto vars = t.strings("variables")) {
+      for (const auto& v : *vars) {
+        check_regex(t, "variables", v);
+        if (NamedRegex(v).names().empty()) t.fail("variables", "pattern \"" + v + "\" has no named capture (?<name>...) to set a variable");
+      }
+      spec.variable_patterns = *vars;
+    }
+  } else {
+    parse_trial_table(t, p);
   }
   if (auto m = t.table("markers")) {
     for (const auto& name : m->keys()) {
@@ -164,8 +316,14 @@ void parse_trials(TomlSection& t, Protocol& p) {
   t.finish();
 }
 
-// Every name the trial patterns capture, except the trial id.
-std::set<std::string> trial_variable_names(const TrialSegmentationSpec& t) {
+// Every name the trial patterns capture, except the trial id; for trials
+// from a table, the columns it declares, or nullopt when it declares none
+// (its columns are known only at ingest, which checks them: app/table_trials.h).
+std::optional<std::set<std::string>> trial_variable_names(const TrialSegmentationSpec& t) {
+  if (t.source != TrialSource::messages) {
+    if (t.columns.empty()) return std::nullopt;
+    return std::set<std::string>(t.columns.begin(), t.columns.end());
+  }
   std::set<std::string> names;
   std::vector<std::string> patterns = t.variable_patterns;
   patterns.push_back(t.start_pattern);
@@ -179,6 +337,11 @@ std::set<std::string> trial_variable_names(const TrialSegmentationSpec& t) {
   return names;
 }
 
+// Where the names of trial_variable_names come from, for errors.
+std::string variables_source(const TrialSegmentationSpec& t) {
+  return t.source == TrialSource::messages ? "the [trials] patterns capture" : "[trials] columns lists";
+}
+
 std::string listing(const std::set<std::string>& names) {
   if (names.empty()) return "none";
   std::string out;
@@ -190,9 +353,10 @@ void parse_design(std::optional<TomlSection> d, Protocol& p) {
   if (!d) return;
   const auto names = trial_variable_names(p.trials);
   auto known = [&](const std::string& key, const std::string& name) {
-    if (!names.count(name)) {
-      d->fail(key, "'" + name + "' is not a trial variable; the [trials] patterns capture " + listing(names) +
-                       " (name a capture (?<" + name + ">...) in a pattern, or use one of those)");
+    if (names && !names->count(name)) {
+      d->fail(key, "'" + name + "' is not a trial variable; " + variables_source(p.trials) + " " + listing(*names) +
+                       (p.trials.source == TrialSource::messages ? " (name a capture (?<" + name + ">...) in a pattern, or use one of those)"
+                                                                 : " (add it there, or use one of those)"));
     }
   };
   if (auto item = d->string("item")) {
@@ -364,6 +528,14 @@ void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
       else b.fail(key, "rule '" + spec.name + "': a parameter is a number or a text");
     }
     b.keys();  // the rule checks its own parameters below
+    // A fixation list brings no samples, blinks or stretches of lost tracking:
+    // these rules would remove every trial, or nothing, without a word.
+    if (p.input.format == InputFormat::fixations &&
+        (spec.kind == "exclude_trials_with_data_loss" || spec.kind == "delete_fixations_near_blinks" ||
+         spec.kind == "exclude_trials_with_gap_in_window" || spec.kind == "exclude_trials_with_gap_in_first_pass")) {
+      b.fail("kind", "rule '" + spec.name + "' (" + spec.kind + ") needs samples, blinks or lost tracking, which a fixation list "
+                     "([input] format = \"fixations\") does not have");
+    }
     // Names that refer to other parts of the protocol are checked here, before any work.
     if (const auto m = spec.texts.find("marker"); m != spec.texts.end() && m->second != "trial_start" &&
                                                   !p.trials.marker_patterns.count(m->second)) {
@@ -374,9 +546,9 @@ void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
     }
     if (const auto v = spec.texts.find("variable"); v != spec.texts.end()) {
       const auto names = trial_variable_names(p.trials);
-      if (!names.count(v->second)) {
-        b.fail("variable", "rule '" + spec.name + "': '" + v->second + "' is not a trial variable; the [trials] patterns capture " +
-                               listing(names));
+      if (names && !names->count(v->second)) {
+        b.fail("variable", "rule '" + spec.name + "': '" + v->second + "' is not a trial variable; " + variables_source(p.trials) + " " +
+                               listing(*names));
       }
     }
     try {
@@ -419,22 +591,34 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   if (!input) throw InputError({path, 0, "input"}, "required section [input] is missing");
   parse_input(*input, p);
   if (auto screen = top.table("screen")) parse_screen(*screen, p);
-  if (!p.screen && p.input.format == InputFormat::delimited) {
+  if (!p.screen && p.input.format != InputFormat::bids) {
     throw InputError({path, 0, "screen"}, "required section [screen] is missing (width_px, height_px, width_mm, height_mm, viewing_distance_mm)");
   }
   auto trials = top.table("trials");
   if (!trials) throw InputError({path, 0, "trials"}, "required section [trials] is missing (start and end message patterns)");
   parse_trials(*trials, p);
+  if (p.input.format == InputFormat::fixations && p.trials.table_times_from_first_sample) {
+    throw InputError({path, trials->line_of("time_origin"), "trials.time_origin"},
+                     "a fixation list has no samples to count from: give the trial table's times on the list's own clock (time_origin = \"clock\")");
+  }
   parse_design(top.table("design"), p);
-  if (auto detection = top.table("detection")) parse_detection(*detection, p);
+  if (auto detection = top.table("detection")) {
+    if (p.input.format == InputFormat::fixations) {
+      detection->fail(detection->keys().empty() ? "method" : detection->keys().front(),
+                      "[detection] has no effect with format = \"fixations\": the fixation list's rows are the events; remove the section");
+    }
+    parse_detection(*detection, p);
+  }
   if (auto regions = top.table("regions")) {
     parse_regions(*regions, p);
     // Regions are looked up by the item each trial names.
     const auto names = trial_variable_names(p.trials);
-    if (!names.count(p.design.item_variable)) {
+    if (names && !names->count(p.design.item_variable)) {
       throw InputError({path, top.has("design") ? top.line_of("design") : regions->line(), top.has("design") ? "design.item" : "regions"},
-                       "the regions are looked up by each trial's item, but no [trials] pattern captures '" + p.design.item_variable +
-                           "' (captured: " + listing(names) + "); capture it, or name the item variable in [design] item = ...");
+                       "the regions are looked up by each trial's item, but " +
+                           std::string(p.trials.source == TrialSource::messages ? "no [trials] pattern captures '" : "[trials] columns lacks '") +
+                           p.design.item_variable + "' (" + variables_source(p.trials) + " " + listing(*names) +
+                           "); add it, or name the item variable in [design] item = ...");
     }
   }
   if (auto alignment = top.table("alignment")) parse_alignment(*alignment, p);

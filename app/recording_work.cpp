@@ -6,9 +6,14 @@
 #include <cstdio>
 #include <filesystem>
 
+#include <spdlog/spdlog.h>
+
+#include "app/table_trials.h"
+#include "detectors/fixation_import.h"
 #include "detectors/recording_detection.h"
 #include "io/bids_reader.h"
 #include "io/delimited_reader.h"
+#include "io/fixation_list_reader.h"
 #include "io/sha256.h"
 #include "pipeline/input_error.h"
 
@@ -32,6 +37,22 @@ std::int64_t modified_ns(const std::string& path) {
   struct stat st {};
   if (::stat(path.c_str(), &st) != 0) return 0;
   return static_cast<std::int64_t>(st.st_mtim.tv_sec) * 1000000000 + st.st_mtim.tv_nsec;
+}
+
+// Which sidecar gave which key, by the BIDS Inheritance Principle (-v shows it).
+void log_bids_sidecars(const BidsRecordingFiles& b) {
+  if (!spdlog::should_log(spdlog::level::debug)) return;
+  auto show = [&](const std::string& data, const char* what, const MergedSidecar& m) {
+    if (m.empty()) return;
+    spdlog::debug("{}: {} metadata from {} file(s)", data, what, m.files.size());
+    for (const auto& line : m.describe()) spdlog::debug("  {}", line);
+  };
+  for (const auto& eye : b.eyes) {
+    show(eye.physio_tsv, "physio", eye.physio_sidecar);
+    show(eye.events_tsv, "physio events", eye.events_sidecar);
+  }
+  show(b.key + "_events", "task events", b.task_events_sidecar);
+  if (!b.task_events_tsv.empty()) spdlog::debug("{}: task events table {}", b.key, b.task_events_tsv);
 }
 
 // Counts forwarded to the progress callback as increments.
@@ -75,9 +96,16 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   for (const auto& f : in.files) out.inputs.push_back(describe_input(f, in.id, known));
 
   const bool bids_input = protocol.input.format == InputFormat::bids;
+  const bool fixation_input = protocol.input.format == InputFormat::fixations;
   bool left = false, right = false;
+  FixationListRead list;
   if (bids_input) {
     for (const auto& eye : in.bids->eyes) (eye.sidecar.recorded_eye == Eye::left ? left : right) = true;
+  } else if (fixation_input) {
+    // No samples: the recording's eyes are those its fixations are from.
+    list = read_fixation_list(in.sample_file, protocol.input.fixations);
+    for (const auto& f : list.fixations) (f.eye == Eye::left ? left : right) = true;
+    if (options.progress) options.progress(out.inputs.front().size_bytes);
   } else {
     left = protocol.input.table.left.has_value();
     right = protocol.input.table.right.has_value();
@@ -86,11 +114,25 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   DelimitedReadResult result;
   if (bids_input) {
     const BidsRecordingFiles& b = *in.bids;
-    result = read_bids_recording(b, protocol.input.table.missing_values, protocol.input.repairs.duplicate_timestamps, *out.samples);
+    log_bids_sidecars(b);
+    BidsReadOptions bopt;
+    bopt.missing_values = protocol.input.table.missing_values;
+    bopt.duplicates = protocol.input.repairs.duplicate_timestamps;
+    bopt.names = protocol.input.bids;
+    result = read_bids_recording(b, bopt, *out.samples, &out.tracker_events);
+    out.keeps_tracker_events = protocol.input.bids.keeps_tracker_events();
     rec.sample_rate_hz = b.eyes.front().sidecar.sampling_frequency_hz;
-    if (b.screen) rec.screen = *b.screen;
-    else if (protocol.screen) rec.screen = *protocol.screen;
+    // [screen] in the protocol replaces what the task events sidecar says.
+    if (protocol.screen) rec.screen = *protocol.screen;
+    else if (b.screen) rec.screen = *b.screen;
+    else if (b.screen_error) throw *b.screen_error;
     else throw InputError({in.sample_file, 0, "StimulusPresentation"}, "no screen geometry: neither a task *_events.json with StimulusPresentation nor [screen] in the protocol");
+  } else if (fixation_input) {
+    result.messages = std::move(list.messages);
+    result.message_lines = std::move(list.message_lines);
+    result.first_time_us = list.first_us;
+    result.last_time_us = list.last_us;
+    rec.screen = *protocol.screen;
   } else {
     DelimitedReadOptions opt;
     opt.layout = protocol.input.table;
@@ -105,9 +147,9 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     DelimitedReadOptions mopt;
     mopt.layout.delimiter = protocol.input.message_file->delimiter;
     mopt.layout.time_column = protocol.input.message_file->time_column;
-    mopt.layout.time_unit = protocol.input.table.time_unit;
+    mopt.layout.time_unit = fixation_input ? protocol.input.fixations.time_unit : protocol.input.table.time_unit;
     mopt.layout.message_column = protocol.input.message_file->text_column;
-    mopt.layout.missing_values = protocol.input.table.missing_values;
+    mopt.layout.missing_values = fixation_input ? protocol.input.fixations.missing_values : protocol.input.table.missing_values;
     mopt.layout_key = "input.messages";
     NullSink none;
     DelimitedReadResult m = read_delimited(in.message_file, mopt, none);
@@ -129,9 +171,12 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   }
   std::string message_source = in.message_file.empty() ? in.sample_file : in.message_file;
   if (bids_input && !in.bids->eyes.front().events_tsv.empty()) message_source = in.bids->eyes.front().events_tsv;
-  const TrialSegmenter segmenter(protocol.trials, protocol.input.repairs.unterminated_trials);
-  rec.trials = segmenter.segment(rec.messages, lines, message_source, result.repairs);
-  if (rec.trials.empty()) {
+  const bool from_messages = protocol.trials.source == TrialSource::messages;
+  if (from_messages) {
+    const TrialSegmenter segmenter(protocol.trials, protocol.input.repairs.unterminated_trials);
+    rec.trials = segmenter.segment(rec.messages, lines, message_source, result.repairs);
+  }
+  if (from_messages && rec.trials.empty()) {
     throw InputError({message_source, 0, "trials.start"}, "no trial found: no message matches the start pattern \"" +
                                                               protocol.trials.start_pattern + "\"");
   }
@@ -149,6 +194,22 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
                            format_number(kLeastRateHz) + " to " + format_number(kMostRateHz) + " Hz. Is " + unit +
                            " the unit of the time column?");
     }
+  }
+  if (!from_messages) {
+    if (fixation_input ? list.fixations.empty() && rec.messages.empty() : result.samples == 0) {
+      throw InputError({in.sample_file, 0, ""}, std::string("no ") + (fixation_input ? "fixations" : "samples") +
+                                                    ": a trial table needs the recording's data to place its trials");
+    }
+    rec.trials = trials_from_table(in, protocol, {result.first_time_us, result.last_time_us}, rec.messages, message_source);
+  }
+  if (fixation_input) {
+    // The list's fixations are the recording's events: the detect stage has nothing to do.
+    FixationImport imported = import_fixations(rec.trials, list.fixations, rec.screen);
+    out.events = std::move(imported.events);
+    out.fixations_outside_trials = imported.outside_trials;
+    out.other_eye_rows = list.other_eye_rows;
+    out.labels = compress_column("sample_label", ColumnType::uint8, "", nullptr, 0, options.chunk_rows, options.deflate_level);
+    out.detected = true;
   }
   if (protocol.input.sample_rate_hz > 0) rec.sample_rate_hz = protocol.input.sample_rate_hz;
   else if (rec.sample_rate_hz <= 0 && result.median_interval_us > 0) rec.sample_rate_hz = 1e6 / result.median_interval_us;

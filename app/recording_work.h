@@ -12,6 +12,7 @@
 
 #include "app/study_inputs.h"
 #include "detectors/event_detector.h"
+#include "pipeline/events.h"
 #include "io/compressed_samples.h"
 #include "pipeline/events.h"
 #include "pipeline/protocol.h"
@@ -37,8 +38,12 @@ struct RecordingOutput {
   std::shared_ptr<CompressedSamples> samples;  // null when the samples stay as they are in the store
   std::vector<InputFileRecord> inputs;         // files read (ingest only)
   RepairCounts repairs;
+  bool keeps_tracker_events = false;         // the protocol maps the tracker's own events (ingest)
+  std::vector<TrackerEvent> tracker_events;  // ... as the BIDS physio events files give them
   std::string ingest_key;
-  bool detected = false;
+  bool detected = false;                     // detected this run, or imported from a fixation list at ingest
+  std::size_t fixations_outside_trials = 0;  // fixation list: rows that start in no trial, left out
+  std::size_t other_eye_rows = 0;            // fixation list: rows of the eye the protocol leaves out
   DetectedEvents events;
   CompressedColumn labels;  // one per sample: the codes of SampleLabel
   std::string detect_key;

@@ -7,6 +7,9 @@
 #include <numbers>
 #include <set>
 #include <span>
+#include <atomic>
+#include <exception>
+#include <thread>
 
 #include <nlohmann/json.hpp>
 #include <fmt/chrono.h>
@@ -18,6 +21,7 @@
 #include "gazemill/version.h"
 #include "io/alignment_io.h"
 #include "io/cleaning_io.h"
+#include "io/compressed_samples.h"
 #include "io/region_files.h"
 #include "io/report_store.h"
 #include "io/sha256.h"
@@ -183,6 +187,29 @@ void gather_quality(const Recording& rec, const DetectedEvents* ev, std::optiona
   if (ev) gather_precision(rec, *ev, choice, acc);
 }
 
+// One recording's signal quality added to its participant's.
+void add_quality(const ParticipantAccumulator& from, ParticipantAccumulator& to) {
+  const ParticipantQuality& a = from.quality;
+  ParticipantQuality& q = to.quality;
+  q.recordings += a.recordings;
+  q.trials += a.trials;
+  q.samples += a.samples;
+  q.missing_samples += a.missing_samples;
+  q.trial_samples += a.trial_samples;
+  q.trial_missing_samples += a.trial_missing_samples;
+  q.intervals += a.intervals;
+  q.irregular_intervals += a.irregular_intervals;
+  q.gaps += a.gaps;
+  q.non_increasing += a.non_increasing;
+  q.longest_gap_us = std::max(q.longest_gap_us, a.longest_gap_us);
+  q.nominal_rate_hz = a.nominal_rate_hz;
+  to.rates.insert(to.rates.end(), from.rates.begin(), from.rates.end());
+  to.interval_sd_weighted += from.interval_sd_weighted;
+  to.regular_intervals += from.regular_intervals;
+  to.rms.insert(to.rms.end(), from.rms.begin(), from.rms.end());
+  to.stds.insert(to.stds.end(), from.stds.begin(), from.stds.end());
+}
+
 void finish_quality(ParticipantAccumulator& acc) {
   ParticipantQuality& q = acc.quality;
   q.measured_rate_hz = median_of(acc.rates);
@@ -211,7 +238,7 @@ namespace {
 
 class Assembler {
  public:
-  Assembler(const std::string& path, const ReportDataOptions& o) : store_(path), o_(o) {}
+  Assembler(const std::string& path, const ReportDataOptions& o) : store_path_(path), store_(path), o_(o) {}
 
   ReportModel run() {
     run_summary();
@@ -368,46 +395,104 @@ class Assembler {
     m_.run.fixations_kept = c.kept["fixation"];
   }
 
+  // What one recording contributes, read from the store on this thread (HDF5
+  // is not thread-safe) and worked out from its samples on a worker.
+  struct RecordingWork {
+    Recording rec;  // metadata; samples decoded on the worker, released after
+    std::vector<CompressedColumn> sample_chunks;
+    std::optional<DetectedEvents> ev;
+    std::vector<CleanFixation> kept;
+    std::vector<RemovedFixationRow> removed;
+    std::vector<TrialVerdictRow> verdicts;
+    bool cleaned = false;
+    ParticipantAccumulator quality;       // this recording's part of its participant's signal quality
+    std::vector<ViewerTrial> time_courses;  // per trial, in rec.trials order: bin_ms, x_px, y_px
+  };
+
+  // The sample-heavy part, on a worker: decode, signal quality, time courses.
+  void work_on_samples(RecordingWork& w) const {
+    w.rec.samples = decode_samples(w.rec.samples.has_left, w.rec.samples.has_right, std::move(w.sample_chunks));
+    w.sample_chunks.clear();
+    gather_quality(w.rec, w.ev ? &*w.ev : nullptr, eye_choice_, w.quality);
+    const double interval_us = w.rec.sample_rate_hz > 0 ? 1e6 / w.rec.sample_rate_hz : 1000.0;
+    w.time_courses.resize(w.rec.trials.size());
+    for (std::size_t i = 0; i < w.rec.trials.size(); ++i) time_course(w.rec, w.rec.trials[i], interval_us, w.time_courses[i]);
+    w.rec.samples = SampleColumns{};
+  }
+
   void recordings(bool have_clean) {
     ReportViewer& v = m_.viewer;
     v.present = !ids_.empty();
     if (protocol_) v.text = protocol_->regions.layout;
     std::set<std::string> participants;
     bool events_seen = false;
-    for (const auto& id : ids_) {
-      const Recording rec = store_.read_recording(id, true);
-      participants.insert(rec.participant);
-      if (v.screen_width_px == 0) {
-        v.screen_width_px = rec.screen.width_px;
-        v.screen_height_px = rec.screen.height_px;
+    const std::size_t threads = std::max<std::size_t>(1, o_.threads ? o_.threads : std::thread::hardware_concurrency());
+    // A window of recordings at a time, so that memory follows the window, not the study.
+    for (std::size_t from = 0; from < ids_.size(); from += 2 * threads) {
+      const std::size_t to = std::min(ids_.size(), from + 2 * threads);
+      std::vector<RecordingWork> batch(to - from);
+      for (std::size_t i = from; i < to; ++i) {
+        RecordingWork& w = batch[i - from];
+        const std::string& id = ids_[i];
+        w.rec = store_.read_recording(id, false);
+        w.sample_chunks = store_.read_sample_chunks(id);
+        if (store_.has_events(id)) w.ev = store_.read_events(id);
+        w.cleaned = have_clean && store_.exists("recordings/" + id + "/clean");
+        if (w.cleaned) {
+          w.kept = read_clean_fixations(store_, id);
+          w.removed = read_removed_fixation_rows(store_, id);
+          w.verdicts = read_trial_verdicts(store_, id);
+        }
       }
-      m_.run.trials += rec.trials.size();
-      m_.run.samples += rec.samples.size();
-      ParticipantAccumulator& acc = gathered_.participants[rec.participant];
-      acc.quality.participant = rec.participant;
-      acc.events.participant = rec.participant;
-      for (const auto& rp : repairs_[id]) {
-        acc.quality.repairs += rp.count;
-        acc.quality.repair_kinds[rp.kind] += rp.count;
+      std::atomic<std::size_t> next{0};
+      std::vector<std::exception_ptr> errors(batch.size());
+      auto worker = [&] {
+        for (std::size_t k; (k = next++) < batch.size();) {
+          try {
+            work_on_samples(batch[k]);
+          } catch (...) {
+            errors[k] = std::current_exception();
+          }
+        }
+      };
+      std::vector<std::thread> pool;
+      for (std::size_t t = 1; t < std::min(threads, batch.size()); ++t) pool.emplace_back(worker);
+      worker();
+      for (auto& t : pool) t.join();
+      for (std::size_t k = 0; k < batch.size(); ++k) {
+        if (errors[k]) {
+          try {
+            std::rethrow_exception(errors[k]);
+          } catch (const std::exception& e) {
+            throw InputError({store_path_, 0, "recordings/" + ids_[from + k] + "/samples"}, e.what());
+          }
+        }
       }
-      std::optional<DetectedEvents> ev;
-      if (store_.has_events(id)) {
-        ev = store_.read_events(id);
-        events_seen = true;
+      // In study order, as one thread would have done it.
+      for (RecordingWork& w : batch) {
+        const Recording& rec = w.rec;
+        participants.insert(rec.participant);
+        if (v.screen_width_px == 0) {
+          v.screen_width_px = rec.screen.width_px;
+          v.screen_height_px = rec.screen.height_px;
+        }
+        m_.run.trials += rec.trials.size();
+        m_.run.samples += w.quality.quality.samples;
+        ParticipantAccumulator& acc = gathered_.participants[rec.participant];
+        acc.quality.participant = rec.participant;
+        acc.events.participant = rec.participant;
+        for (const auto& rp : repairs_[rec.id]) {
+          acc.quality.repairs += rp.count;
+          acc.quality.repair_kinds[rp.kind] += rp.count;
+        }
+        add_quality(w.quality, acc);
+        if (w.ev) {
+          events_seen = true;
+          gather_events(rec, *w.ev, acc);
+        }
+        for (const auto& f : w.kept) gathered_.kept_fixation_ms.push_back(f.duration_ms);
+        v.recordings.push_back(viewer_recording(rec, w.ev ? &*w.ev : nullptr, w.cleaned, w.kept, w.removed, w.verdicts, w.time_courses));
       }
-      gather_quality(rec, ev ? &*ev : nullptr, eye_choice_, acc);
-      if (ev) gather_events(rec, *ev, acc);
-      std::vector<CleanFixation> kept;
-      std::vector<RemovedFixationRow> removed;
-      std::vector<TrialVerdictRow> verdicts;
-      const bool cleaned = have_clean && store_.exists("recordings/" + id + "/clean");
-      if (cleaned) {
-        kept = read_clean_fixations(store_, id);
-        removed = read_removed_fixation_rows(store_, id);
-        verdicts = read_trial_verdicts(store_, id);
-        for (const auto& f : kept) gathered_.kept_fixation_ms.push_back(f.duration_ms);
-      }
-      v.recordings.push_back(viewer_recording(rec, ev ? &*ev : nullptr, cleaned, kept, removed, verdicts));
     }
     m_.run.participants = participants.size();
     m_.detection.present = events_seen;
@@ -440,7 +525,8 @@ class Assembler {
   }
 
   ViewerRecording viewer_recording(const Recording& rec, const DetectedEvents* ev, bool cleaned, const std::vector<CleanFixation>& kept,
-                                   const std::vector<RemovedFixationRow>& removed, const std::vector<TrialVerdictRow>& verdicts) {
+                                   const std::vector<RemovedFixationRow>& removed, const std::vector<TrialVerdictRow>& verdicts,
+                                   std::vector<ViewerTrial>& time_courses) {
     ViewerRecording out{rec.id, rec.participant, rec.session, {}};
     std::map<std::string, TrialSources> by_trial;
     for (const auto& t : rec.trials) by_trial[t.id].trial = &t;
@@ -455,8 +541,8 @@ class Assembler {
       al = &a->second;
       for (const auto& t : al->trials) by_trial[t.trial].aligned = &t;
     }
-    const double interval_us = rec.sample_rate_hz > 0 ? 1e6 / rec.sample_rate_hz : 1000.0;
-    for (const Trial& t : rec.trials) {
+    for (std::size_t ti = 0; ti < rec.trials.size(); ++ti) {
+      const Trial& t = rec.trials[ti];
       const TrialSources& src = by_trial[t.id];
       ViewerTrial vt;
       vt.trial = t.id;
@@ -506,7 +592,9 @@ class Assembler {
           vt.fixations.push_back({(static_cast<double>(f->start_us) - t0) / 1000.0, f->duration_ms(), f->x_px, f->y_px});
         }
       }
-      time_course(rec, t, interval_us, vt);
+      vt.bin_ms = time_courses[ti].bin_ms;
+      vt.x_px = std::move(time_courses[ti].x_px);
+      vt.y_px = std::move(time_courses[ti].y_px);
       out.trials.push_back(std::move(vt));
     }
     return out;
@@ -763,6 +851,7 @@ class Assembler {
     }
   }
 
+  std::string store_path_;
   StudyStoreReader store_;
   ReportDataOptions o_;
   ReportModel m_;

@@ -16,6 +16,8 @@ struct ReportDataOptions {
   /// The viewer's time course: at most this many points per trial (bins of
   /// at least one sample interval, widened to a whole millisecond).
   std::size_t max_points_per_trial = 400;
+  /// Recordings worked on at once (0: one per core).
+  std::size_t threads = 0;
   /// A participant stands apart in detection when a figure's |robust z| is
   /// above outlier_z and the figure is also more than outlier_relative (a
   /// fraction) from the participants' median (our rule, no source).

@@ -5,6 +5,7 @@
 
 #include <glob.h>
 
+#include <algorithm>
 #include <charconv>
 #include <cmath>
 #include <filesystem>
@@ -355,7 +356,56 @@ std::pair<double, double> parse_pair(const std::string& text, const std::string&
 
 }  // namespace
 
+// The tracker's own events kept at ingest ([input.bids.tracker_events])
+// as the reference, gazemill's labels as detected: trial by trial, with
+// the events of the eye detection used in that trial.
+AgreementReport score_tracker_events(const std::string& store_path) {
+  StudyStoreReader store(store_path);
+  AgreementScorer scorer;
+  std::size_t scored = 0;
+  for (const auto& id : store.recording_ids()) {
+    if (!store.has_tracker_events(id)) continue;
+    if (!store.has_events(id)) {
+      throw InputError({store_path, 0, ""}, "recording " + id + " has the tracker's own events but no detected ones; run gazemill detect first");
+    }
+    const Recording rec = store.read_recording(id, true);
+    const std::vector<SampleLabel> detected = store.read_sample_labels(id);
+    const std::vector<TrackerEvent> tracker = store.read_tracker_events(id);
+    const DetectedEvents events = store.read_events(id);
+    const auto& time = rec.samples.time_us;
+    for (std::size_t t = 0; t < rec.trials.size(); ++t) {
+      const Trial& trial = rec.trials[t];
+      const Eye eye = t < events.trials.size() ? events.trials[t].eye : Eye::left;
+      const auto first = static_cast<std::size_t>(std::lower_bound(time.begin(), time.end(), trial.start_us) - time.begin());
+      const auto last = static_cast<std::size_t>(std::upper_bound(time.begin(), time.end(), trial.end_us) - time.begin());
+      if (last <= first) continue;
+      std::vector<SampleLabel> reference(last - first, SampleLabel::other);
+      for (const auto& e : tracker) {
+        if (e.eye != eye || e.end_us <= trial.start_us || e.start_us > trial.end_us) continue;
+        auto a = std::lower_bound(time.begin() + static_cast<std::ptrdiff_t>(first), time.begin() + static_cast<std::ptrdiff_t>(last), e.start_us);
+        for (; a != time.begin() + static_cast<std::ptrdiff_t>(last) && *a < e.end_us; ++a) {
+          reference[static_cast<std::size_t>(a - time.begin()) - first] = e.kind;
+        }
+      }
+      scorer.add(reference, std::vector<SampleLabel>(detected.begin() + static_cast<std::ptrdiff_t>(first), detected.begin() + static_cast<std::ptrdiff_t>(last)),
+                 std::vector<Microseconds>(time.begin() + static_cast<std::ptrdiff_t>(first), time.begin() + static_cast<std::ptrdiff_t>(last)));
+    }
+    ++scored;
+  }
+  if (scored == 0) {
+    throw InputError({store_path, 0, ""}, "no recording keeps the tracker's own events: map them in [input.bids.tracker_events] and ingest again");
+  }
+  return scorer.report();
+}
+
 int run_score(const ScoreOptions& so) {
+  if (!so.store.empty()) {
+    const AgreementReport report = score_tracker_events(so.store);
+    std::cout << "reference: the tracker's own events; compared: gazemill's detection, trial by trial\n";
+    print_agreement(report, std::cout);
+    if (!so.json_out.empty()) write_file_atomically(so.json_out, report_json(report).dump(2) + "\n");
+    return 0;
+  }
   if (so.lines) {
     if (so.simulated_folder.empty()) throw InputError({"", 0, "--lines"}, "line scoring needs a simulated study: --simulated FOLDER");
     const auto scores = score_lines(so.simulated_folder, so.protocol, so.line_methods);
@@ -482,6 +532,11 @@ void register_score_command(CLI::App& app, ScoreOptions& so) {
                                     "Delimited files with time, x, y and a label column (paths or quoted glob patterns); "
                                     "scored per file and pooled");
   sim_opt->excludes(lab_opt);
+  auto* store_opt = score->add_option("--store", so.store,
+                                      "A study store whose recordings keep the tracker's own events (BIDS physio events, "
+                                      "[input.bids.tracker_events]): compare them with gazemill's detection");
+  store_opt->excludes(sim_opt);
+  store_opt->excludes(lab_opt);
   score->add_option("--protocol", so.protocol,
                     "Take the detection settings, the [input.table] reading settings and the screen from this protocol");
   score->add_option("--method", so.method, "Detection method: ivt, idt, engbert_kliegl, nystrom_holmqvist");

@@ -19,6 +19,7 @@ namespace gazemill {
 /// The options of `gazemill score`.
 struct ScoreOptions {
   std::string simulated_folder;
+  std::string store;              // --store: the tracker's own events against gazemill's detection
   std::vector<std::string> labelled;  // files or glob patterns
   std::string protocol;           // detection settings, [input.table] reading settings and screen from a protocol
   std::string method;             // or from the command line
@@ -108,5 +109,11 @@ std::string agreement_json(const AgreementReport& pooled, const DetectionSpec& d
 void register_score_command(CLI::App& app, ScoreOptions& options);
 /// Runs it; returns the exit code. Throws InputError on bad input.
 int run_score(const ScoreOptions& options);
+
+/// The tracker's own events a store keeps beside gazemill's (BIDS physio
+/// events mapped in [input.bids.tracker_events]) as the reference against
+/// gazemill's detected labels, trial by trial, in the eye detection used.
+/// Throws InputError when no recording keeps them or one is not detected.
+AgreementReport score_tracker_events(const std::string& store_path);
 
 }  // namespace gazemill

@@ -13,6 +13,44 @@ namespace fs = std::filesystem;
 
 namespace {
 
+// The [trials] keys of a table route.
+std::string trial_table_settings_json(const TrialSegmentationSpec& s) {
+  const char* from[] = {"messages", "events", "table"};
+  nlohmann::json j = {{"from", from[static_cast<int>(s.source)]},
+                      {"trial_type", s.trial_type_pattern},
+                      {"trial_column", s.trial_column},
+                      {"columns", s.columns},
+                      {"span", s.until_next ? "next" : "duration"}};
+  if (s.source == TrialSource::table) {
+    j["table"] = s.table_template;
+    j["delimiter"] = std::string(1, s.table_delimiter);
+    j["time_unit"] = to_string(s.table_time_unit);
+    j["start_column"] = s.start_column;
+    j["end_column"] = s.end_column;
+    j["duration_column"] = s.duration_column;
+    j["time_origin"] = s.table_times_from_first_sample ? "first_sample" : "clock";
+  }
+  return j.dump();
+}
+
+// The [input.bids] settings.
+std::string bids_input_settings_json(const BidsInputSpec& s) {
+  return nlohmann::json{{"timestamp_column", s.timestamp_column},
+                        {"x_column", s.x_column},
+                        {"y_column", s.y_column},
+                        {"pupil_column", s.pupil_column},
+                        {"pupil_column_named", s.pupil_column_named},
+                        {"gaze_in_pixels", s.gaze_in_pixels},
+                        {"zero_gaze_is_missing", s.zero_gaze_is_missing},
+                        {"tracker_events",
+                         {{"column", s.tracker_event_column},
+                          {"fixation", s.tracker_fixation_pattern},
+                          {"saccade", s.tracker_saccade_pattern},
+                          {"blink", s.tracker_blink_pattern}}}}
+      .dump();
+}
+
+
 std::string delimiter_text(char c) { return std::string(1, c); }
 
 nlohmann::json eye_json(const std::optional<EyeColumnNames>& e) {
@@ -41,7 +79,7 @@ std::string ingest_settings_json(const Protocol& p) {
   const InputSpec& in = p.input;
   const TableLayout& t = in.table;
   nlohmann::json j;
-  j["format"] = in.format == InputFormat::bids ? "bids" : "delimited";
+  j["format"] = in.format == InputFormat::bids ? "bids" : in.format == InputFormat::fixations ? "fixations" : "delimited";
   j["filename_pattern"] = in.filename_pattern;
   j["table"] = {{"delimiter", delimiter_text(t.delimiter)}, {"comment_prefix", t.comment_prefix}, {"time_column", t.time_column},
                 {"time_unit", to_string(t.time_unit)},     {"left", eye_json(t.left)},          {"right", eye_json(t.right)},
@@ -59,6 +97,21 @@ std::string ingest_settings_json(const Protocol& p) {
   }
   j["trials"] = {{"start", p.trials.start_pattern}, {"end", p.trials.end_pattern}, {"variables", p.trials.variable_patterns},
                  {"markers", p.trials.marker_patterns}};
+  // Trials from a table and [input.bids] only when used, so that the keys of
+  // stores ingested without them stay as they were.
+  if (p.trials.source != TrialSource::messages) j["trials"]["table"] = trial_table_settings_json(p.trials);
+  if (in.format == InputFormat::fixations) {
+    const FixationListSpec& f = in.fixations;
+    j["fixations"] = {{"delimiter", delimiter_text(f.delimiter)}, {"time_unit", to_string(f.time_unit)}, {"start_column", f.start_column},
+                      {"end_column", f.end_column}, {"duration_column", f.duration_column}, {"x_column", f.x_column},
+                      {"y_column", f.y_column}, {"pupil_column", f.pupil_column}, {"eye_column", f.eye_column},
+                      {"left_value", f.left_value}, {"right_value", f.right_value}, {"eye", f.eye ? to_string(*f.eye) : std::string()},
+                      {"message_column", f.message_column}, {"missing_values", f.missing_values}};
+  }
+  if (in.format == InputFormat::bids) {
+    const std::string bids = bids_input_settings_json(in.bids);
+    if (bids != bids_input_settings_json(BidsInputSpec{})) j["bids"] = nlohmann::json::parse(bids);
+  }
   return j.dump();
 }
 
@@ -78,6 +131,19 @@ std::string detection_settings_json(const DetectionSpec& spec) {
   j["events"] = {{"min_fixation_ms", spec.min_fixation_ms}, {"min_saccade_ms", spec.min_saccade_ms},
                  {"max_velocity_deg_s", spec.max_velocity_deg_s}, {"max_fixation_gap_ms", spec.max_fixation_gap_ms},
                  {"max_fixation_gap_shift_deg", spec.max_fixation_gap_shift_deg}, {"spike_deg", spec.spike_deg}};
+  return j.dump();
+}
+
+std::string imported_events_settings_json(const Protocol& p) {
+  const FixationListSpec& f = p.input.fixations;
+  nlohmann::json j;
+  j["events"] = "imported, not detected";
+  j["from"] = "fixation lists ([input] format = \"fixations\")";
+  j["columns"] = {{"start", f.start_column}, {"end", f.end_column},   {"duration", f.duration_column}, {"x", f.x_column},
+                  {"y", f.y_column},         {"pupil", f.pupil_column}, {"eye", f.eye_column},         {"message", f.message_column}};
+  j["time_unit"] = to_string(f.time_unit);
+  j["eye"] = f.eye ? to_string(*f.eye) : std::string("any");
+  j["trial_rule"] = "a fixation belongs to the trial in which it starts";
   return j.dump();
 }
 

@@ -14,6 +14,8 @@ namespace gazemill {
 std::string ingest_settings_json(const Protocol& protocol);
 /// The detection settings (method, resolved parameters, eye, blinks, events).
 std::string detection_settings_json(const DetectionSpec& spec);
+/// What the detect stage records when a fixation list's rows are the events.
+std::string imported_events_settings_json(const Protocol& protocol);
 std::string cleaning_settings_json(const Protocol& protocol);
 /// The region settings and the SHA-256 of the items or boxes file ("" settings without [regions]).
 std::string regions_settings_json(const Protocol& protocol);

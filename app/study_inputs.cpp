@@ -56,7 +56,8 @@ Identity identify(const Protocol& p, const std::string& file) {
   return id;
 }
 
-std::string expand_template(const std::string& tmpl, const std::string& sample_file, const Identity& id) {
+std::string expand_template(const std::string& tmpl, const std::string& sample_file, const Identity& id,
+                            const std::string& key_name = "input.messages.file") {
   const fs::path f(sample_file);
   std::string name = f.filename().string();
   std::string stem = name;
@@ -73,7 +74,7 @@ std::string expand_template(const std::string& tmpl, const std::string& sample_f
       if (close != std::string::npos) {
         const std::string key = tmpl.substr(i + 1, close - i - 1);
         auto it = vars.find(key);
-        if (it == vars.end()) throw InputError({"", 0, "input.messages.file"}, "unknown placeholder {" + key + "}");
+        if (it == vars.end()) throw InputError({"", 0, key_name}, "unknown placeholder {" + key + "}");
         out += it->second;
         i = close;
         continue;
@@ -113,7 +114,7 @@ std::vector<RecordingInputs> find_recordings(const Protocol& protocol) {
   std::vector<BidsRecordingFiles> bids;
   std::vector<std::string> primary = files;
   if (protocol.input.format == InputFormat::bids) {
-    bids = group_bids_recordings(files);
+    bids = group_bids_recordings(files, protocol.input.bids);
     primary.clear();
     for (const auto& b : bids) primary.push_back(b.eyes.front().physio_tsv);
   }
@@ -126,6 +127,11 @@ std::vector<RecordingInputs> find_recordings(const Protocol& protocol) {
     r.participant = who.participant;
     r.session = who.session;
     r.id = sanitize_id(who.session.empty() ? who.participant : who.participant + "_" + who.session);
+    if (protocol.input.format == InputFormat::bids) {
+      // Runs of one task are recordings of their own (BIDS v1.11.0, "Entities": run).
+      const auto name = parse_bids_name(fs::path(file).filename().string());
+      if (name && name->entity("run")) r.id += sanitize_id("_run" + *name->entity("run"));
+    }
     if (const auto [it, fresh] = file_of_id.emplace(r.id, file); !fresh) {
       throw InputError({protocol.path, 0, "input.filename_pattern"},
                        "the files " + it->second + " and " + file + " both give recording '" + r.id +
@@ -134,12 +140,7 @@ std::vector<RecordingInputs> find_recordings(const Protocol& protocol) {
     r.sample_file = file;
     if (protocol.input.format == InputFormat::bids) {
       r.bids = bids[k];
-      for (const auto& eye : bids[k].eyes) {
-        for (const auto* f : {&eye.physio_tsv, &eye.physio_json, &eye.events_tsv, &eye.events_json}) {
-          if (!f->empty()) r.files.push_back(*f);
-        }
-      }
-      if (!bids[k].screen_source.empty()) r.files.push_back(bids[k].screen_source);
+      for (const auto& f : bids_input_files(bids[k])) r.files.push_back(f);
     } else {
       r.files.push_back(file);
     }
@@ -149,6 +150,13 @@ std::vector<RecordingInputs> find_recordings(const Protocol& protocol) {
         throw InputError({r.message_file, 0, "input.messages.file"}, "the message file for " + file + " does not exist");
       }
       r.files.push_back(r.message_file);
+    }
+    if (protocol.trials.source == TrialSource::table) {
+      r.trial_table_file = expand_template(protocol.trials.table_template, file, who, "trials.table");
+      if (!fs::exists(r.trial_table_file)) {
+        throw InputError({r.trial_table_file, 0, "trials.table"}, "the trial table for " + file + " does not exist");
+      }
+      r.files.push_back(r.trial_table_file);
     }
     out.push_back(std::move(r));
   }

@@ -18,6 +18,7 @@ struct RecordingInputs {
   std::string session;
   std::string sample_file;   // the file messages and errors are named by (BIDS: the first eye's physio file)
   std::string message_file;  // "" when the messages are rows of the sample file
+  std::string trial_table_file;  // [trials] from = "table": the recording's trial table
   std::vector<std::string> files;  // every file the recording is read from, in a fixed order
   std::optional<BidsRecordingFiles> bids;
 };

@@ -22,6 +22,7 @@
 #include "app/progress_bar.h"
 #include "app/recording_work.h"
 #include "app/stage_settings.h"
+#include "app/table_trials.h"
 #include "app/study_inputs.h"
 #include "detectors/detector_registry.h"
 #include "gazemill/version.h"
@@ -127,7 +128,7 @@ class StudyRun {
     } catch (const std::invalid_argument& e) {
       throw InputError({p_.path, 0, "detection"}, e.what());
     }
-    detect_settings_ = detection_settings_json(p_.detection);
+    detect_settings_ = imports_ ? imported_events_settings_json(p_) : detection_settings_json(p_.detection);
     regions_settings_ = regions_settings_json(p_);
     clean_settings_ = cleaning_settings_json(p_);
     align_settings_ = align_settings_json(p_);
@@ -159,6 +160,9 @@ class StudyRun {
 
   const Protocol& p_;
   const StudyRunOptions& o_;
+  // A fixation list's rows are the events: ingest imports them, and the
+  // detect stage's record says so instead of naming a detector.
+  const bool imports_ = p_.input.format == InputFormat::fixations;
   std::unique_ptr<EventDetector> detector_;
   std::string ingest_settings_, detect_settings_, regions_settings_, clean_settings_, align_settings_, measure_settings_;
   RecordingWorkOptions work_;
@@ -320,6 +324,7 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
   if (r.samples && !r.inputs.empty()) {  // read from its files this run
     out.remove("/recordings/" + id);
     out.write_recording(r.recording, r.summary, r.samples->columns(), r.ingest_key);
+    if (r.keeps_tracker_events) out.write_tracker_events(id, r.tracker_events);
     ++report_.recordings_read;
     report_.samples += r.summary.sample_count;
     report_.messages += r.recording.messages.size();
@@ -332,7 +337,14 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
   }
   if (r.detected) {
     for (const auto& g : {"events", "clean", "align"}) out.remove("/recordings/" + id + "/" + g);
-    out.write_events(id, r.events, r.labels, p_.detection.method, nlohmann::json(detector_->parameters()).dump(), r.detect_key);
+    if (imports_) {
+      out.write_events(id, r.events, r.labels, "imported", "{}", r.detect_key);
+      report_.events_imported = true;
+      if (r.fixations_outside_trials) spdlog::info("{}: {} fixation(s) of the list start in no trial and are left out", id, r.fixations_outside_trials);
+      if (r.other_eye_rows) spdlog::info("{}: {} fixation(s) of the other eye left out (input.fixations.eye)", id, r.other_eye_rows);
+    } else {
+      out.write_events(id, r.events, r.labels, p_.detection.method, nlohmann::json(detector_->parameters()).dump(), r.detect_key);
+    }
     ++report_.recordings_detected;
     report_.samples_detected += r.samples ? r.samples->size() : 0;
     report_.fixations += r.events.fixations.size();
@@ -418,7 +430,10 @@ void StudyRun::run_recordings(StudyStoreWriter& out) {
           r.samples = std::make_shared<CompressedSamples>(r.recording.samples.has_left, r.recording.samples.has_right,
                                                           std::move(slot.stored_samples), work.raw_budget_bytes);
         }
-        if (detect_too) {
+        if (imports_) {
+          if (plan.work != RecordingWork::ingest) throw InputError({p_.path, 0, "input.format"}, "a fixation list's events are imported at ingest");
+          r.detect_key = make_key("detect", {r.ingest_key, detect_settings_});
+        } else if (detect_too) {
           r.detect_key = make_key("detect", {r.ingest_key, detect_settings_});
           detect_events(r, *detector_, p_.detection, work);
         }
@@ -467,7 +482,7 @@ void StudyRun::run_recordings(StudyStoreWriter& out) {
       lock.unlock();
       RecordingPlan& plan = plans_[todo[k]];
       plan.ingest_key = r.ingest_key;
-      if (detect_too) plan.detect_key = r.detect_key;
+      if (detect_too || imports_) plan.detect_key = r.detect_key;
       write_recording(out, r);
       prepare(k + 1 + window);
       {
@@ -638,8 +653,19 @@ StudyRunReport StudyRun::execute() {
   if (const int n = remove_leftover_temporaries(o_.store_path); n > 0) {
     spdlog::info("removed {} temporary file(s) that an interrupted run left beside {}", n, o_.store_path);
   }
+  if (imports_ && o_.only == Stage::detect) {
+    throw InputError({o_.store_path, 0, ""}, "there is nothing to detect: the protocol " + p_.path + " reads fixation lists ([input] format = "
+                                             "\"fixations\"), whose rows are the events; ingest imported them and recorded the detect stage "
+                                             "as imported. Run `gazemill clean " + p_.path + "` next");
+  }
   open_previous();
   plan_recordings();
+  if (p_.trials.source != TrialSource::messages) {
+    // The names the protocol relies on, in every trial table's header, before any work.
+    for (const auto& plan : plans_) {
+      if (plan.work == RecordingWork::ingest && plan.inputs) check_trial_table(*plan.inputs, p_);
+    }
+  }
   if (o_.only && *o_.only != Stage::ingest) check_current_up_to(*o_.only);
   report_.recordings = plans_.size();
 
@@ -668,7 +694,12 @@ StudyRunReport StudyRun::execute() {
                           !removed_recordings_.empty() || o_.only == Stage::ingest || !old_;  // a new store, even of no recordings
   ran_[Stage::ingest] = ingest_ran;
   report_.stages[Stage::ingest] = ingest_ran ? "ran" : "reused";
-  if (o_.only != Stage::ingest && (o_.only || o_.until != Stage::ingest)) {
+  if (imports_) {
+    // Imported with the recordings: the detect stage is current whenever ingest is.
+    keys_[Stage::detect] = study_key(Stage::detect);
+    ran_[Stage::detect] = ran_[Stage::ingest];
+    report_.stages[Stage::detect] = ingest_ran ? "imported" : "reused";
+  } else if (o_.only != Stage::ingest && (o_.only || o_.until != Stage::ingest)) {
     keys_[Stage::detect] = study_key(Stage::detect);
     const bool detect_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work != RecordingWork::reuse; }) ||
                             !removed_recordings_.empty() || o_.only == Stage::detect || !old_;

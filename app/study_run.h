@@ -45,6 +45,7 @@ struct StudyRunReport {
   std::size_t recordings = 0, recordings_read = 0, recordings_detected = 0;
   std::uint64_t samples = 0, messages = 0, trials = 0, input_bytes = 0, repairs = 0;  // of the recordings read
   std::uint64_t samples_detected = 0, fixations = 0, saccades = 0, blinks = 0;       // of the recordings detected
+  bool events_imported = false;      // the events came from fixation lists, not from detection
   std::optional<AuditReport> audit;  // when clean ran
   std::vector<MeasureRow> rows;      // when measure ran
   PlacementCounts placement;         // where measure placed the kept fixations

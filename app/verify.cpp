@@ -47,10 +47,13 @@ bool verify_store(const std::string& store_path, std::ostream& out) {
   const std::string again = (scratch.path() / "again.gzm.h5").string();
   try {
     for (const auto& r : stages) {
+      const Protocol protocol = parse_protocol_text(r.protocol_text, r.protocol_path);
+      // Imported fixation lists: the ingest re-run imports the events again.
+      if (r.stage == Stage::detect && protocol.input.format == InputFormat::fixations) continue;
       StudyRunOptions opt;
       opt.store_path = again;
       opt.only = r.stage;
-      run_study(parse_protocol_text(r.protocol_text, r.protocol_path), opt);
+      run_study(protocol, opt);
     }
   } catch (const InputError& e) {
     out << "re-run failed: " << e.what() << "\n";

@@ -3,12 +3,13 @@
 #include <algorithm>
 #include <cmath>
 #include <filesystem>
-#include <fstream>
+#include <functional>
 #include <map>
 #include <nlohmann/json.hpp>
 #include <set>
 
-#include "pipeline/input_error.h"
+#include "io/cell_table.h"
+#include "pipeline/named_regex.h"
 
 namespace gazemill {
 namespace fs = std::filesystem;
@@ -16,20 +17,72 @@ using nlohmann::json;
 
 namespace {
 
-json load_json(const std::string& path) {
-  std::ifstream in(path);
-  if (!in) throw InputError({path, 0, ""}, "cannot open JSON sidecar");
-  try {
-    return json::parse(in);
-  } catch (const json::exception& e) {  // parse_error, and out_of_range for a number past a double (found by fuzzing)
-    throw InputError({path, 0, ""}, std::string("not valid JSON: ") + e.what());
+// Typed access to a merged sidecar: a missing field is an error of the
+// lowest sidecar (where it belongs), a wrong value one of the file that gave it.
+class Fields {
+ public:
+  Fields(const MergedSidecar& m, std::string lowest) : m_(m), lowest_(std::move(lowest)) {
+    try {
+      j_ = json::parse(m.json);
+    } catch (const json::exception& e) {
+      throw InputError({lowest_, 0, ""}, std::string("not valid JSON: ") + e.what());
+    }
   }
-}
+  bool has(const std::string& key) const { return j_.contains(key); }
+  std::string file_of(const std::string& key) const { return m_.file_of(key); }
+  [[noreturn]] void fail(const std::string& key, const std::string& problem, const std::string& field = "") const {
+    throw InputError({has(key) ? file_of(key) : lowest_, 0, field.empty() ? key : field}, problem);
+  }
+  const json& require(const std::string& key) const {
+    if (!has(key)) fail(key, "required BIDS field is missing" + searched());
+    return j_.at(key);
+  }
+  double number(const std::string& key) const {
+    const json& v = require(key);
+    if (!v.is_number()) fail(key, "expected a number, found " + v.dump());
+    return v.get<double>();
+  }
+  std::string text(const std::string& key) const {
+    const json& v = require(key);
+    if (!v.is_string()) fail(key, "expected a text, found " + v.dump());
+    return v.get<std::string>();
+  }
+  std::string text_or(const std::string& key, const std::string& fallback) const { return has(key) ? text(key) : fallback; }
+  std::vector<std::string> texts(const std::string& key) const {
+    const json& v = require(key);
+    std::vector<std::string> out;
+    if (v.is_array()) {
+      for (const auto& e : v) {
+        if (!e.is_string()) break;
+        out.push_back(e.get<std::string>());
+      }
+    }
+    if (!v.is_array() || out.size() != v.size()) fail(key, "expected a list of texts, found " + v.dump());
+    return out;
+  }
+  // The Units of a column's description, e.g. "timestamp": {"Units": "ms"}.
+  std::optional<std::string> units(const std::string& column) const {
+    if (!has(column)) return std::nullopt;
+    const json& c = j_.at(column);
+    if (!c.is_object() || !c.contains("Units")) return std::nullopt;
+    if (!c.at("Units").is_string()) fail(column, "expected Units as a text, found " + c.at("Units").dump(), column + ".Units");
+    return c.at("Units").get<std::string>();
+  }
+  const json& raw() const { return j_; }
+  const std::string& lowest() const { return lowest_; }
 
-const json& require(const json& j, const std::string& path, const std::string& field) {
-  if (!j.contains(field)) throw InputError({path, 0, field}, "required BIDS field is missing");
-  return j.at(field);
-}
+ private:
+  std::string searched() const {
+    std::string s = " (looked in";
+    for (std::size_t i = 0; i < m_.files.size(); ++i) s += (i ? ", " : " ") + m_.files[i];
+    return m_.files.size() > 1 ? s + ")" : "";
+  }
+  const MergedSidecar& m_;
+  std::string lowest_;
+  json j_;
+};
+
+bool in(const std::vector<std::string>& v, const std::string& s) { return std::find(v.begin(), v.end(), s) != v.end(); }
 
 // "sub-01_task-read_recording-eye1_physio.tsv.gz" -> "sub-01_task-read"
 std::string entities_before_recording(const std::string& name) {
@@ -42,35 +95,9 @@ std::string replace_suffix(const std::string& physio_tsv, const std::string& new
   return physio_tsv.substr(0, pos) + new_suffix;
 }
 
-std::optional<std::string> task_label(const std::string& key) {
-  const auto pos = key.find("task-");
-  if (pos == std::string::npos) return std::nullopt;
-  const auto end = key.find('_', pos);
-  return key.substr(pos, end == std::string::npos ? std::string::npos : end - pos);
-}
-
-// The task's events sidecar: beside the data first, then up the folders
-// (BIDS inheritance: a top-level task-<label>_events.json applies to all).
-std::optional<std::string> find_events_json(const fs::path& dir, const std::string& key) {
-  const fs::path beside = dir / (key + "_events.json");
-  if (fs::exists(beside)) return beside.string();
-  const auto task = task_label(key);
-  if (!task) return std::nullopt;
-  for (fs::path d = dir; !d.empty(); d = d.parent_path()) {
-    const fs::path top = d / (*task + "_events.json");
-    if (fs::exists(top)) return top.string();
-    if (fs::exists(d / "dataset_description.json") || d == d.parent_path()) break;
-  }
-  return std::nullopt;
-}
-
-std::optional<ScreenGeometry> read_screen(const std::string& path) {
-  const json j = load_json(path);
-  if (!j.contains("StimulusPresentation")) return std::nullopt;
-  const json& sp = j.at("StimulusPresentation");
-  for (const char* f : {"ScreenDistance", "ScreenResolution", "ScreenSize"}) {
-    if (!sp.contains(f)) return std::nullopt;
-  }
+ScreenGeometry read_screen(const Fields& f) {
+  const std::string path = f.file_of("StimulusPresentation");
+  const json& sp = f.raw().at("StimulusPresentation");
   // Checked by hand, not by get<int>: that of a huge double is undefined.
   const auto bad = [&] {
     return InputError({path, 0, "StimulusPresentation"},
@@ -81,13 +108,23 @@ std::optional<ScreenGeometry> read_screen(const std::string& path) {
     if (!v.is_number() || !(v.get<double>() > 0.0 && v.get<double>() <= most)) throw bad();
     return v.get<double>();
   };
-  const auto pair = [&](const char* f) -> const json& {
-    const json& v = sp.at(f);
+  const auto pair = [&](const char* name) -> const json& {
+    const json& v = sp.at(name);
     if (!v.is_array() || v.size() != 2) throw bad();
     return v;
   };
+  // Metres (BIDS v1.11.0, "Task events > Stimulus presentation details").
+  // Published datasets have given centimetres (60, 120): no viewing distance
+  // or screen is ten metres, so such a value is named instead of read as metres.
+  constexpr double kMostMetres = 10.0;
+  const double distance = positive(sp.at("ScreenDistance"), 1e6);
+  if (distance > kMostMetres) {
+    throw InputError({path, 0, "StimulusPresentation.ScreenDistance"},
+                     "is in metres in BIDS, and " + sp.at("ScreenDistance").dump() +
+                         " m is no viewing distance (centimetres?); correct the sidecar, or give the geometry in [screen]");
+  }
   ScreenGeometry g;
-  g.viewing_distance_mm = positive(sp.at("ScreenDistance"), 1e3) * 1000.0;
+  g.viewing_distance_mm = distance * 1000.0;
   const auto pixels = [&](const json& v) {
     const double n = positive(v, 1e6);
     if (n != std::floor(n)) throw bad();
@@ -95,94 +132,120 @@ std::optional<ScreenGeometry> read_screen(const std::string& path) {
   };
   g.width_px = pixels(pair("ScreenResolution")[0]);
   g.height_px = pixels(pair("ScreenResolution")[1]);
-  g.width_mm = positive(pair("ScreenSize")[0], 1e3) * 1000.0;
-  g.height_mm = positive(pair("ScreenSize")[1], 1e3) * 1000.0;
+  for (int i = 0; i < 2; ++i) {
+    const double m = positive(pair("ScreenSize")[i], 1e6);
+    if (m > kMostMetres) {
+      throw InputError({path, 0, "StimulusPresentation.ScreenSize"}, "is in metres in BIDS, and " + pair("ScreenSize").dump() +
+                                                                         " m is no screen (centimetres?); correct the sidecar, or "
+                                                                         "give the geometry in [screen]");
+    }
+    (i == 0 ? g.width_mm : g.height_mm) = m * 1000.0;
+  }
   return g;
 }
 
-std::vector<Message> read_bids_events(const BidsEyeFiles& eye, std::vector<std::size_t>& lines) {
-  const json j = load_json(eye.events_json);
-  DelimitedReadOptions opt;
-  try {
-    const std::string onset_source = require(j, eye.events_json, "OnsetSource").get<std::string>();
-    if (onset_source != "timestamp") {
-      throw InputError({eye.events_json, 0, "OnsetSource"},
-                       "only OnsetSource \"timestamp\" (onsets on the physio clock) is supported, found \"" + onset_source + "\"");
-    }
-    opt.column_names = require(j, eye.events_json, "Columns").get<std::vector<std::string>>();
-  } catch (const json::exception& e) {
-    throw InputError({eye.events_json, 0, ""}, std::string("a field has the wrong type: ") + e.what());
+// The columns of a physio events file and the unit of its onsets, from its
+// merged sidecar (BIDS v1.11.0, "Physiology events": Columns and OnsetSource
+// REQUIRED; "timestamp" puts the onsets on the physio file's timestamp clock).
+struct PhysioEventsLayout {
+  std::vector<std::string> columns;
+};
+
+PhysioEventsLayout physio_events_layout(const BidsEyeFiles& eye, const BidsInputSpec& names) {
+  const Fields f(eye.events_sidecar, eye.events_json);
+  PhysioEventsLayout l;
+  std::string onset_source;
+  if (f.has("OnsetSource")) {
+    onset_source = f.text("OnsetSource");
+  } else if (f.has("ForeignIndexColumn")) {
+    // The name of BEP020's drafts, still in the published eyetracking_fmri
+    // example's physio events sidecar; it meant what OnsetSource means now.
+    onset_source = f.text("ForeignIndexColumn");
+  } else {
+    f.require("OnsetSource");
   }
-  if (std::find(opt.column_names.begin(), opt.column_names.end(), "message") == opt.column_names.end()) return {};
+  if (onset_source != "timestamp" && onset_source != names.timestamp_column) {
+    f.fail(f.has("OnsetSource") ? "OnsetSource" : "ForeignIndexColumn",
+           "only onsets on the physio clock (\"timestamp\") are supported, found \"" + onset_source + "\"");
+  }
+  l.columns = f.texts("Columns");
+  if (!in(l.columns, "onset")) f.fail("Columns", "the column \"onset\" is REQUIRED in physio events");
+  return l;
+}
+
+std::vector<Message> read_bids_events(const BidsEyeFiles& eye, const BidsInputSpec& names, std::vector<std::size_t>& lines) {
+  const PhysioEventsLayout layout = physio_events_layout(eye, names);
+  if (!in(layout.columns, "message")) return {};
+  DelimitedReadOptions opt;
+  opt.column_names = layout.columns;
   opt.layout.delimiter = '\t';
   opt.layout.time_column = "onset";
   opt.layout.time_unit = eye.sidecar.timestamp_unit;
   opt.layout.message_column = "message";
   opt.layout.missing_values = {"n/a", ""};
-  opt.layout_key = eye.events_json + " Columns";
+  opt.layout_key = eye.events_sidecar.file_of("Columns") + " Columns";
   NullSink none;
   DelimitedReadResult r = read_delimited(eye.events_tsv, opt, none);
   lines = std::move(r.message_lines);
   return std::move(r.messages);
 }
 
-// The sidecar's fields; nlohmann's json::exception for a value of the wrong type.
-BidsPhysioSidecar physio_sidecar_fields(const json& j, const std::string& path) {
+}  // namespace
+
+BidsPhysioSidecar bids_physio_fields(const MergedSidecar& sidecar, const std::string& lowest, const BidsInputSpec& names) {
+  const Fields f(sidecar, lowest);
   BidsPhysioSidecar s;
-  const std::string type = j.value("PhysioType", "generic");
-  if (type != "eyetrack") {
-    throw InputError({path, 0, "PhysioType"}, "expected \"eyetrack\", found \"" + type + "\"");
-  }
-  s.sampling_frequency_hz = require(j, path, "SamplingFrequency").get<double>();
+  const std::string type = f.text_or("PhysioType", "generic");
+  if (type != "eyetrack") f.fail("PhysioType", "expected \"eyetrack\", found \"" + type + "\"" + (f.has("PhysioType") ? "" : " (the default)"));
+  s.sampling_frequency_hz = f.number("SamplingFrequency");
   if (!(s.sampling_frequency_hz > 0.0) || !std::isfinite(s.sampling_frequency_hz)) {
-    throw InputError({path, 0, "SamplingFrequency"}, "expected a positive number of samples per second");
+    f.fail("SamplingFrequency", "expected a positive number of samples per second");
   }
-  s.start_time_s = require(j, path, "StartTime").get<double>();
-  s.columns = require(j, path, "Columns").get<std::vector<std::string>>();
-  const std::string eye = require(j, path, "RecordedEye").get<std::string>();
+  s.start_time_s = f.number("StartTime");
+  s.columns = f.texts("Columns");
+  const std::string eye = f.text("RecordedEye");
   if (eye == "left") s.recorded_eye = Eye::left;
   else if (eye == "right") s.recorded_eye = Eye::right;
-  else throw InputError({path, 0, "RecordedEye"}, "expected \"left\" or \"right\" (cyclopean signals are not supported yet), found \"" + eye + "\"");
-  const std::string coords = require(j, path, "SampleCoordinateSystem").get<std::string>();
-  if (coords != "gaze-on-screen") {
-    throw InputError({path, 0, "SampleCoordinateSystem"}, "expected \"gaze-on-screen\", found \"" + coords + "\"");
-  }
-  for (const char* required : {"timestamp", "x_coordinate", "y_coordinate"}) {
-    if (std::find(s.columns.begin(), s.columns.end(), required) == s.columns.end()) {
-      throw InputError({path, 0, "Columns"}, std::string("the eye-tracking column \"") + required + "\" is required");
+  else f.fail("RecordedEye", "expected \"left\" or \"right\" (cyclopean signals are not supported yet), found \"" + eye + "\"");
+  const std::string coords = f.text("SampleCoordinateSystem");
+  if (coords != "gaze-on-screen") f.fail("SampleCoordinateSystem", "expected \"gaze-on-screen\", found \"" + coords + "\"");
+  for (const std::string* required : {&names.timestamp_column, &names.x_column, &names.y_column}) {
+    if (!in(s.columns, *required)) {
+      f.fail("Columns", "the eye-tracking column \"" + *required + "\" is required" +
+                            (*required == "timestamp" || *required == "x_coordinate" || *required == "y_coordinate"
+                                 ? std::string(" (name the dataset's own columns in [input.bids] if it uses others)")
+                                 : std::string(" ([input.bids] names it)")));
     }
   }
-  if (!j.contains("timestamp") || !j.at("timestamp").contains("Units")) {
-    throw InputError({path, 0, "timestamp.Units"}, "the unit of the timestamp column is needed (\"s\", \"ms\", \"us\" or \"ns\")");
+  s.has_pupil = in(s.columns, names.pupil_column);
+  if (names.pupil_column_named && !s.has_pupil) {
+    f.fail("Columns", "the pupil column \"" + names.pupil_column + "\" that [input.bids] names is not among the Columns");
   }
-  const std::string unit = j.at("timestamp").at("Units").get<std::string>();
-  const auto tu = parse_time_unit(unit);
-  if (!tu) throw InputError({path, 0, "timestamp.Units"}, "expected \"s\", \"ms\", \"us\" or \"ns\", found \"" + unit + "\"");
+  const auto tunit = f.units(names.timestamp_column);
+  if (!tunit) {
+    f.fail(names.timestamp_column, "the unit of the timestamp column is needed (\"s\", \"ms\", \"us\" or \"ns\")",
+           names.timestamp_column + ".Units");
+  }
+  const auto tu = parse_time_unit(*tunit);
+  if (!tu) f.fail(names.timestamp_column, "expected \"s\", \"ms\", \"us\" or \"ns\", found \"" + *tunit + "\"", names.timestamp_column + ".Units");
   s.timestamp_unit = *tu;
-  for (const char* axis : {"x_coordinate", "y_coordinate"}) {
-    if (!j.contains(axis) || !j.at(axis).contains("Units")) {
-      throw InputError({path, 0, std::string(axis) + ".Units"}, "Units is REQUIRED for gaze coordinates");
+  for (const std::string* axis : {&names.x_column, &names.y_column}) {
+    const auto u = f.units(*axis);
+    if (names.gaze_in_pixels) continue;
+    if (!u) f.fail(*axis, "Units is REQUIRED for gaze coordinates", *axis + ".Units");
+    if (*u != "pixel" && *u != "px") {
+      f.fail(*axis, "expected \"pixel\", found \"" + *u + "\" (gazemill works in screen pixels; if these are pixels whatever "
+                    "the sidecar says, set gaze_in_pixels = true in [input.bids])", *axis + ".Units");
     }
-    const std::string u = j.at(axis).at("Units").get<std::string>();
-    if (u != "pixel" && u != "px") throw InputError({path, 0, std::string(axis) + ".Units"}, "expected \"pixel\", found \"" + u + "\"");
   }
   return s;
 }
 
-}  // namespace
-
-BidsPhysioSidecar read_bids_physio_sidecar(const std::string& path) {
-  const json j = load_json(path);
-  // One try for every field: a value of the wrong JSON type anywhere (a
-  // number for a unit, say) is an input error naming the file, not a crash.
-  try {
-    return physio_sidecar_fields(j, path);
-  } catch (const json::exception& e) {
-    throw InputError({path, 0, ""}, std::string("a field has the wrong type: ") + e.what());
-  }
+BidsPhysioSidecar read_bids_physio_sidecar(const std::string& path, const BidsInputSpec& names) {
+  return bids_physio_fields(merge_bids_sidecars({path}), path, names);
 }
 
-std::vector<BidsRecordingFiles> group_bids_recordings(const std::vector<std::string>& physio_paths) {
+std::vector<BidsRecordingFiles> group_bids_recordings(const std::vector<std::string>& physio_paths, const BidsInputSpec& names) {
   std::map<std::string, BidsRecordingFiles> by_key;
   for (const auto& p : physio_paths) {
     const fs::path path(p);
@@ -193,20 +256,31 @@ std::vector<BidsRecordingFiles> group_bids_recordings(const std::vector<std::str
     const std::string key = (path.parent_path() / entities_before_recording(name)).string();
     BidsEyeFiles eye;
     eye.physio_tsv = p;
-    eye.physio_json = replace_suffix(p, "_physio.json");
-    if (!fs::exists(eye.physio_json)) throw InputError({eye.physio_json, 0, ""}, "the sidecar of " + p + " is missing (it is REQUIRED)");
-    eye.sidecar = read_bids_physio_sidecar(eye.physio_json);
-    const std::string ev = replace_suffix(p, "_physioevents.tsv.gz");
-    if (fs::exists(ev)) {
+    eye.physio_sidecar = inherited_sidecar(p, "physio");
+    if (eye.physio_sidecar.empty()) {
+      throw InputError({replace_suffix(p, "_physio.json"), 0, ""},
+                       "no *_physio.json applies to " + p + " (one is REQUIRED: beside it, or above it by the Inheritance Principle)");
+    }
+    eye.physio_json = eye.physio_sidecar.files.back();
+    eye.sidecar = bids_physio_fields(eye.physio_sidecar, eye.physio_json, names);
+    for (const char* suffix : {"_physioevents.tsv.gz", "_physioevents.tsv"}) {
+      const std::string ev = replace_suffix(p, suffix);
+      if (!fs::exists(ev)) continue;
       eye.events_tsv = ev;
-      eye.events_json = replace_suffix(p, "_physioevents.json");
-      if (!fs::exists(eye.events_json)) throw InputError({eye.events_json, 0, ""}, "the sidecar of " + ev + " is missing");
+      eye.events_sidecar = inherited_sidecar(ev, "physioevents");
+      if (eye.events_sidecar.empty()) {
+        throw InputError({replace_suffix(p, "_physioevents.json"), 0, ""}, "no *_physioevents.json applies to " + ev + " (one is REQUIRED)");
+      }
+      eye.events_json = eye.events_sidecar.files.back();
+      physio_events_layout(eye, names);  // its problems surface before any file is read
+      break;
     }
     auto& rec = by_key[key];
     rec.key = key;
     for (const auto& other : rec.eyes) {
       if (other.sidecar.recorded_eye == eye.sidecar.recorded_eye) {
-        throw InputError({p, 0, "RecordedEye"}, "the same eye is also recorded in " + other.physio_tsv);
+        throw InputError({eye.physio_sidecar.file_of("RecordedEye"), 0, "RecordedEye"},
+                         "the same eye is also recorded in " + other.physio_tsv + " (for " + p + ")");
       }
     }
     rec.eyes.push_back(std::move(eye));
@@ -215,32 +289,110 @@ std::vector<BidsRecordingFiles> group_bids_recordings(const std::vector<std::str
   for (auto& [key, rec] : by_key) {
     std::sort(rec.eyes.begin(), rec.eyes.end(),
               [](const BidsEyeFiles& a, const BidsEyeFiles& b) { return a.sidecar.recorded_eye < b.sidecar.recorded_eye; });
-    const fs::path k(key);
-    if (auto ej = find_events_json(k.parent_path(), k.filename().string())) {
-      rec.screen = read_screen(*ej);
-      if (rec.screen) rec.screen_source = *ej;
+    // The task's events belong to the run (the entities without recording-):
+    // a task events file and its sidecars apply to it by inheritance.
+    const std::string run_events = key + "_events.tsv";
+    const auto tables = applicable_bids_files(run_events, "events", ".tsv");
+    if (!tables.empty()) rec.task_events_tsv = tables.back();  // rule 5a: the lowest one
+    rec.task_events_sidecar = merge_bids_sidecars(applicable_bids_files(run_events, "events", ".json"));
+    if (!rec.task_events_sidecar.empty()) {
+      try {
+        const Fields f(rec.task_events_sidecar, rec.task_events_sidecar.files.back());
+        const json& sp = f.has("StimulusPresentation") ? f.raw().at("StimulusPresentation") : json();
+        if (sp.is_object() && sp.contains("ScreenDistance") && sp.contains("ScreenResolution") && sp.contains("ScreenSize")) {
+          rec.screen = read_screen(f);
+          rec.screen_source = f.file_of("StimulusPresentation");
+        }
+      } catch (const InputError& e) {
+        rec.screen_error = e;
+      }
     }
     out.push_back(std::move(rec));
   }
   return out;
 }
 
-DelimitedReadResult read_bids_recording(const BidsRecordingFiles& files, const std::vector<std::string>& missing_values,
-                                        DuplicateTimestampPolicy duplicates, SampleSink& sink) {
+std::vector<std::string> bids_input_files(const BidsRecordingFiles& files) {
+  std::vector<std::string> out;
+  auto add = [&](const std::string& f) {
+    if (!f.empty() && !in(out, f)) out.push_back(f);
+  };
+  for (const auto& eye : files.eyes) {
+    add(eye.physio_tsv);
+    for (const auto& f : eye.physio_sidecar.files) add(f);
+    add(eye.events_tsv);
+    for (const auto& f : eye.events_sidecar.files) add(f);
+  }
+  add(files.task_events_tsv);
+  for (const auto& f : files.task_events_sidecar.files) add(f);
+  return out;
+}
+
+std::vector<TrackerEvent> read_bids_tracker_events(const BidsEyeFiles& eye, const BidsInputSpec& names) {
+  if (eye.events_tsv.empty() || !names.keeps_tracker_events()) return {};
+  const PhysioEventsLayout layout = physio_events_layout(eye, names);
+  const std::string& column = names.tracker_event_column;
+  if (!in(layout.columns, column)) {
+    throw InputError({eye.events_sidecar.file_of("Columns"), 0, "Columns"},
+                     "input.bids.tracker_events.column names \"" + column + "\", which is not among the Columns of " + eye.events_tsv);
+  }
+  std::vector<std::pair<SampleLabel, NamedRegex>> kinds;
+  if (!names.tracker_fixation_pattern.empty()) kinds.emplace_back(SampleLabel::fixation, NamedRegex(names.tracker_fixation_pattern));
+  if (!names.tracker_saccade_pattern.empty()) kinds.emplace_back(SampleLabel::saccade, NamedRegex(names.tracker_saccade_pattern));
+  if (!names.tracker_blink_pattern.empty()) kinds.emplace_back(SampleLabel::blink, NamedRegex(names.tracker_blink_pattern));
+  const CellTable table(eye.events_tsv, '\t', layout.columns);
+  std::vector<TrackerEvent> out;
+  for (std::size_t r = 0; r < table.rows(); ++r) {
+    if (table.missing(r, column)) continue;
+    const std::string& value = table.text(r, column);
+    for (const auto& [kind, re] : kinds) {
+      bool hit = false;
+      try {
+        hit = re.search(value).has_value();
+      } catch (const std::length_error& e) {
+        throw InputError({eye.events_tsv, table.line_of(r), column}, e.what());
+      }
+      if (!hit) continue;
+      if (!in(layout.columns, "duration") || table.missing(r, "duration")) {
+        throw InputError({eye.events_tsv, table.line_of(r), "duration"},
+                         std::string("a tracker ") + to_string(kind) + " needs its duration; found none");
+      }
+      // Onset and duration on the timestamp clock, in its unit: the
+      // specification's own example has a fixation at 7186806 lasting 72 on a
+      // millisecond clock (BIDS v1.11.0, "Physiology events").
+      TrackerEvent ev;
+      ev.kind = kind;
+      ev.eye = eye.sidecar.recorded_eye;
+      ev.start_us = table.time(r, "onset", eye.sidecar.timestamp_unit);
+      const Microseconds duration = table.time(r, "duration", eye.sidecar.timestamp_unit);
+      if (duration < 0) throw InputError({eye.events_tsv, table.line_of(r), "duration"}, "a duration is zero or positive");
+      ev.end_us = ev.start_us + duration;
+      out.push_back(ev);
+      break;
+    }
+  }
+  std::stable_sort(out.begin(), out.end(), [](const TrackerEvent& a, const TrackerEvent& b) { return a.start_us < b.start_us; });
+  return out;
+}
+
+DelimitedReadResult read_bids_recording(const BidsRecordingFiles& files, const BidsReadOptions& options, SampleSink& sink,
+                                        std::vector<TrackerEvent>* tracker_events) {
+  const BidsInputSpec& names = options.names;
   auto options_for = [&](const BidsEyeFiles& eye) {
     DelimitedReadOptions opt;
     opt.column_names = eye.sidecar.columns;
     opt.layout.delimiter = '\t';
-    opt.layout.time_column = "timestamp";
+    opt.layout.time_column = names.timestamp_column;
     opt.layout.time_unit = eye.sidecar.timestamp_unit;
-    opt.layout.missing_values = missing_values;
+    opt.layout.missing_values = options.missing_values;
     opt.layout.missing_values.push_back("n/a");
-    EyeColumnNames cols{"x_coordinate", "y_coordinate", ""};
-    if (std::find(opt.column_names.begin(), opt.column_names.end(), "pupil_size") != opt.column_names.end()) cols.pupil = "pupil_size";
+    opt.layout.zero_gaze_is_missing = names.zero_gaze_is_missing;
+    EyeColumnNames cols{names.x_column, names.y_column, ""};
+    if (eye.sidecar.has_pupil) cols.pupil = names.pupil_column;
     if (eye.sidecar.recorded_eye == Eye::left) opt.layout.left = cols;
     else opt.layout.right = cols;
-    opt.duplicate_timestamps = duplicates;
-    opt.layout_key = eye.physio_json + " Columns";
+    opt.duplicate_timestamps = options.duplicates;
+    opt.layout_key = eye.physio_sidecar.file_of("Columns") + " Columns";
     return opt;
   };
 
@@ -253,7 +405,7 @@ DelimitedReadResult read_bids_recording(const BidsRecordingFiles& files, const s
     DelimitedReadResult ra = read_delimited(files.eyes[0].physio_tsv, options_for(files.eyes[0]), a);
     DelimitedReadResult rb = read_delimited(files.eyes[1].physio_tsv, options_for(files.eyes[1]), b);
     if (a.samples.time_us != b.samples.time_us) {
-      throw InputError({files.eyes[1].physio_tsv, 0, "timestamp"},
+      throw InputError({files.eyes[1].physio_tsv, 0, names.timestamp_column},
                        "the two eyes' files must share timestamps row by row, but differ from " + files.eyes[0].physio_tsv);
     }
     SampleColumns both = std::move(a.samples);
@@ -287,13 +439,21 @@ DelimitedReadResult read_bids_recording(const BidsRecordingFiles& files, const s
   for (const auto& eye : files.eyes) {
     if (eye.events_tsv.empty()) continue;
     std::vector<std::size_t> lines;
-    const auto msgs = read_bids_events(eye, lines);
+    const auto msgs = read_bids_events(eye, names, lines);
     for (std::size_t i = 0; i < msgs.size(); ++i) {
       if (seen.insert({msgs[i].time_us, msgs[i].text}).second) {
         result.messages.push_back(msgs[i]);
         result.message_lines.push_back(lines[i]);
       }
     }
+    if (tracker_events) {
+      const auto ev = read_bids_tracker_events(eye, names);
+      tracker_events->insert(tracker_events->end(), ev.begin(), ev.end());
+    }
+  }
+  if (tracker_events) {
+    std::stable_sort(tracker_events->begin(), tracker_events->end(),
+                     [](const TrackerEvent& a, const TrackerEvent& b) { return a.start_us < b.start_us; });
   }
   return result;
 }

@@ -313,4 +313,9 @@ std::pair<std::size_t, std::size_t> CompressedSamples::range(Microseconds start_
   return {a, std::max(a, upper_bound(end_us))};
 }
 
+SampleColumns decode_samples(bool left, bool right, std::vector<CompressedColumn> columns) {
+  const CompressedSamples samples(left, right, std::move(columns), 0);  // no raw copy: one slice decodes each chunk once
+  return samples.slice(0, samples.size());
+}
+
 }  // namespace gazemill

@@ -38,6 +38,9 @@ void decode_chunk(const CompressedColumn& column, std::size_t k, std::vector<cha
 /// Every row of a column.
 std::vector<char> decode_column(const CompressedColumn& column);
 
+/// Every sample of a recording from its stored chunks (time_us, then per recorded eye x, y, pupil, valid).
+SampleColumns decode_samples(bool left, bool right, std::vector<CompressedColumn> columns);
+
 /// A sink that compresses samples as they arrive.
 class CompressedSamples : public SampleSink {
  public:

@@ -852,6 +852,9 @@ class LineFeeder {
   // line starts (size when the data ends with a newline).
   std::size_t parse_block(const char* data, std::size_t size) {
     std::size_t pos = 0;
+    // A header-less file (BIDS physio) goes straight to the rows: its
+    // byte-order mark is skipped here, before the first row is read.
+    if (line_no_ == 0 && parser_.has_header() && size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
     for (;;) {
       if (parser_.has_header()) {
         const char* start = data + pos;

@@ -472,6 +472,31 @@ H5::Group StudyStoreWriter::group(const std::string& path) {
   return g;
 }
 
+namespace {
+const std::pair<SampleLabel, const char*> kTrackerKinds[] = {
+    {SampleLabel::fixation, "fixations"}, {SampleLabel::saccade, "saccades"}, {SampleLabel::blink, "blinks"}};
+}  // namespace
+
+void StudyStoreWriter::write_tracker_events(const std::string& id, const std::vector<TrackerEvent>& events) {
+  H5::Group rec = impl_->recordings.openGroup(id);
+  H5::Group g = h5::create_group(rec, "tracker_events");
+  h5::set_attr(g, "source", std::string("BIDS physio events"));
+  for (const auto& [kind, name] : kTrackerKinds) {
+    std::vector<std::string> eyes;
+    std::vector<std::int64_t> start, end;
+    for (const auto& e : events) {
+      if (e.kind != kind) continue;
+      eyes.push_back(to_string(e.eye));
+      start.push_back(e.start_us);
+      end.push_back(e.end_us);
+    }
+    H5::Group k = h5::create_group(g, name);
+    h5::write_strings(k, "eye", eyes);
+    h5::write_column(k, "start_us", start, "us");
+    h5::write_column(k, "end_us", end, "us");
+  }
+}
+
 void StudyStoreWriter::write_stage_record(const StageRecord& r) {
   const std::string path = std::string("provenance/stages/") + to_string(r.stage);
   remove("/" + path);
@@ -678,6 +703,32 @@ DetectedEvents StudyStoreReader::read_events(const std::string& id) const {
     impl_->fail(base, "damaged or incomplete events: " + e.getDetailMsg());
   }
   return ev;
+}
+
+bool StudyStoreReader::has_tracker_events(const std::string& id) const {
+  h5::QuietErrors quiet;
+  return h5::exists(impl_->file.openGroup("/"), "recordings/" + id + "/tracker_events");
+}
+
+std::vector<TrackerEvent> StudyStoreReader::read_tracker_events(const std::string& id) const {
+  h5::QuietErrors quiet;
+  const std::string base = "recordings/" + id + "/tracker_events";
+  H5::Group g = impl_->group(base);
+  std::vector<TrackerEvent> out;
+  try {
+    for (const auto& [kind, name] : kTrackerKinds) {
+      H5::Group k = g.openGroup(name);
+      const auto eyes = h5::read_strings(k, "eye");
+      const auto start = h5::read_column<std::int64_t>(k, "start_us"), end = h5::read_column<std::int64_t>(k, "end_us");
+      for (std::size_t i = 0; i < eyes.size(); ++i) {
+        out.push_back({kind, eyes[i] == "right" ? Eye::right : Eye::left, start.at(i), end.at(i)});
+      }
+    }
+  } catch (const H5::Exception& e) {
+    impl_->fail(base, "damaged or incomplete tracker events: " + e.getDetailMsg());
+  }
+  std::stable_sort(out.begin(), out.end(), [](const TrackerEvent& a, const TrackerEvent& b) { return a.start_us < b.start_us; });
+  return out;
 }
 
 bool StudyStoreReader::exists(const std::string& path) const {

@@ -36,6 +36,11 @@
 //                                                  used, its sample counts, and each value the detector
 //                                                  set from the trial's own data (float64 with its unit,
 //                                                  NaN where not set), e.g. dispersion_threshold_deg
+//   /recordings/<id>/tracker_events                written by ingest when the protocol maps the tracker's own
+//                                                  events ([input.bids.tracker_events]); kept beside gazemill's
+//                                                  detection, never replacing it. attrs source ("BIDS physio events")
+//   /recordings/<id>/tracker_events/{fixations,saccades,blinks}/{eye,start_us,end_us}   one row per event as the
+//                                                  tracker's physio events file gives it (end = onset + duration)
 // Sample columns and labels are chunked (65 536 rows), shuffled and deflated; every numeric dataset
 // has a "unit" attribute. The file keeps its free-space map, so a run that replaces results in
 // place reuses their space instead of growing the file.
@@ -47,6 +52,7 @@
 #include <string>
 #include <vector>
 
+#include "pipeline/events.h"
 #include "io/compressed_samples.h"
 #include "pipeline/events.h"
 #include "pipeline/provenance.h"
@@ -96,6 +102,8 @@ class StudyStoreWriter {
   /// Detection results of one recording (remove() the old ones first).
   void write_events(const std::string& recording_id, const DetectedEvents& events, const CompressedColumn& labels,
                     const std::string& method, const std::string& parameters_json, const std::string& detect_key);
+  /// The tracker's own events of one recording, beside gazemill's (ingest).
+  void write_tracker_events(const std::string& recording_id, const std::vector<TrackerEvent>& events);
   /// The record of a study stage, replacing any earlier one.
   void write_stage_record(const StageRecord& record);
   /// Marks a stage's record stale (its results are removed by the caller).
@@ -137,6 +145,9 @@ class StudyStoreReader {
   /// The detect_key of a recording's events ("" when none).
   std::string events_key(const std::string& id) const;
   DetectedEvents read_events(const std::string& id) const;
+  bool has_tracker_events(const std::string& id) const;
+  /// The tracker's own events, in time order.
+  std::vector<TrackerEvent> read_tracker_events(const std::string& id) const;
   std::vector<SampleLabel> read_sample_labels(const std::string& id) const;
   /// A study stage's record, if it ran.
   std::optional<StageRecord> stage_record(Stage stage) const;

@@ -94,4 +94,13 @@ struct DetectedEvents {
   std::vector<TrialDetection> trials;  // one per trial of the recording, in its order
 };
 
+/// One of the tracker's own events, as its physio events file gives it:
+/// from onset for its duration (end exclusive, as gazemill's own events).
+struct TrackerEvent {
+  SampleLabel kind = SampleLabel::fixation;  // fixation, saccade or blink
+  Eye eye = Eye::left;
+  Microseconds start_us = 0;
+  Microseconds end_us = 0;
+};
+
 }  // namespace gazemill

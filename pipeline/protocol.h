@@ -13,7 +13,9 @@
 
 namespace gazemill {
 
-enum class InputFormat { delimited, bids };
+/// Samples from a delimited export or a BIDS dataset, or fixations a lab
+/// already has (its recording software's or another tool's fixation list).
+enum class InputFormat { delimited, bids, fixations };
 
 /// Header names of one eye's columns in a delimited file.
 struct EyeColumnNames {
@@ -57,6 +59,48 @@ struct RepairPolicy {
   UnterminatedTrialPolicy unterminated_trials = UnterminatedTrialPolicy::error;
 };
 
+/// BIDS eye-tracking input: column names for datasets that depart from the
+/// specification's (BIDS v1.11.0, "Eye-tracking": timestamp, x_coordinate,
+/// y_coordinate, pupil_size), and the tracker's own events to keep.
+struct BidsInputSpec {
+  std::string timestamp_column = "timestamp";
+  std::string x_column = "x_coordinate";
+  std::string y_column = "y_coordinate";
+  std::string pupil_column = "pupil_size";  // optional unless named in the protocol
+  bool pupil_column_named = false;          // the protocol named it: it must be in Columns
+  bool gaze_in_pixels = false;              // the gaze columns are screen pixels whatever their Units say
+  bool zero_gaze_is_missing = false;        // (0, 0) gaze is lost tracking
+  // Rows of the *_physioevents files that are the tracker's own fixations,
+  // saccades and blinks: a pattern per kind on one column; "" = not kept.
+  std::string tracker_event_column = "trial_type";
+  std::string tracker_fixation_pattern;
+  std::string tracker_saccade_pattern;
+  std::string tracker_blink_pattern;
+  bool keeps_tracker_events() const {
+    return !tracker_fixation_pattern.empty() || !tracker_saccade_pattern.empty() || !tracker_blink_pattern.empty();
+  }
+};
+
+/// How to read a delimited fixation list (format = "fixations"): one
+/// fixation per row; rows with a message instead are messages at their
+/// start time. Read as the detected events: there are no samples.
+struct FixationListSpec {
+  char delimiter = '\t';
+  TimeUnit time_unit = TimeUnit::milliseconds;  // of start, end and duration
+  std::string start_column;                     // required
+  std::string end_column;                       // exactly one of end_column ...
+  std::string duration_column;                  // ... and duration_column
+  std::string x_column;                         // mean position, px (required)
+  std::string y_column;
+  std::string pupil_column;                     // optional; "" = none
+  std::string eye_column;                       // optional; "" = every row is `eye`'s
+  std::string left_value = "left";              // the eye column's texts for each eye
+  std::string right_value = "right";
+  std::optional<Eye> eye;                       // without eye_column: required; with it: keep only this eye's rows
+  std::string message_column;                   // optional: a row with a text here is a message, not a fixation
+  std::vector<std::string> missing_values{"", "NaN", "nan", "NA", "."};
+};
+
 struct InputSpec {
   InputFormat format = InputFormat::delimited;
   std::vector<std::string> files;     // glob patterns, relative to the protocol's folder
@@ -67,10 +111,18 @@ struct InputSpec {
   std::optional<MessageFileSpec> message_file;
   RepairPolicy repairs;
   double sample_rate_hz = 0.0;        // 0 = estimate from the median sample interval
+  BidsInputSpec bids;                 // bids only
+  FixationListSpec fixations;         // fixations only
 };
 
-/// Trial segmentation from messages.
+/// Where trials come from: message patterns, the rows of the BIDS task
+/// *_events.tsv, or the lab's own trial table beside each recording.
+enum class TrialSource { messages, events, table };
+
+/// Trial segmentation.
 struct TrialSegmentationSpec {
+  TrialSource source = TrialSource::messages;
+  // from = "messages":
   std::string start_pattern;  // must match the trial's first message; capture (?<trial>...) optional
   std::string end_pattern;    // must match its last message
   // Patterns matched against every message of a trial. Every named capture of
@@ -79,6 +131,20 @@ struct TrialSegmentationSpec {
   std::vector<std::string> variable_patterns;
   // Named time points: the first message of a trial matching the pattern sets it.
   std::map<std::string, std::string> marker_patterns;
+
+  // from = "events" or "table": each row a trial, every other column a trial variable.
+  std::string trial_type_pattern;    // events: only rows whose trial_type matches; "" = every row
+  std::string trial_column;          // the column naming each trial; "" = numbered 1, 2, ... in row order
+  std::vector<std::string> columns;  // the variables the table must have; empty = any (checked at ingest)
+  bool until_next = false;           // a trial lasts until the next row's start, not for its duration
+  // from = "table" only:
+  std::string table_template;        // path with the placeholders of input.messages.file
+  char table_delimiter = '\t';
+  TimeUnit table_time_unit = TimeUnit::milliseconds;
+  std::string start_column = "start";
+  std::string end_column = "end";            // used when the table has it, else duration_column
+  std::string duration_column = "duration";
+  bool table_times_from_first_sample = false;  // times count from the recording's first sample, not on its clock
 };
 
 /// Which eye's data the events come from when both were recorded.

@@ -142,8 +142,8 @@ TEST(BidsReader, SidecarProblemsNameTheField) {
   expect_field(std::string(s).replace(s.find("1000"), 4, "0"), "SamplingFrequency");
   // Found by fuzzing: a number past a double escaped as nlohmann's out_of_range.
   expect_field(std::string(s).replace(s.find("1000"), 4, "7E777777"), "");
-  // A value of the wrong JSON type anywhere is an error of the file.
-  expect_field(std::string(s).replace(s.find("{\"Units\": \"ms\"}"), 15, "{\"Units\": 5}"), "");
+  // A value of the wrong JSON type is an error of the field that holds it.
+  expect_field(std::string(s).replace(s.find("{\"Units\": \"ms\"}"), 15, "{\"Units\": 5}"), "timestamp.Units");
 }
 
 // The screen from StimulusPresentation is checked by hand: nlohmann's

@@ -47,7 +47,7 @@ with tempfile.TemporaryDirectory() as tmp:
         f.write('[input]\nfiles = ["*.tsv"]\nformat = "delimted"\n')
     r = run("ingest", proto)
     check(r.returncode == 1, "bad protocol exits 1", r)
-    check(f"{proto}:3: field 'input.format'" in r.stderr and "expected \"delimited\" or \"bids\"" in r.stderr,
+    check(f"{proto}:3: field 'input.format'" in r.stderr and "expected \"delimited\" (samples), \"bids\"" in r.stderr,
           "bad protocol names file, line and key", r)
 
     with open(proto, "w") as f:
