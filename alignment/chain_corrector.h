@@ -1,6 +1,7 @@
 #pragma once
-// chain (Carr et al. 2022, "Chain"): consecutive fixations closer than an x
-// and a y threshold form a chain; each chain goes, whole, to the line nearest
+// chain (Carr et al. 2022, "Chain"): consecutive fixations no further apart
+// than an x and a y threshold (a step of exactly a threshold stays in the
+// chain, our choice) form a chain; each chain goes, whole, to the line nearest
 // the mean y of its fixations. Assumes drift changes little within a run of
 // short saccades. Thresholds too low make it attach; too high, and fixations
 // of several lines are forced onto one.

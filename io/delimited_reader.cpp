@@ -101,10 +101,12 @@ constexpr Microseconds kTimeOutOfRange = std::numeric_limits<Microseconds>::max(
 // A whole number (>= 0) of `unit` in microseconds, exactly.
 Microseconds scale_whole_time_in(TimeUnit unit, std::int64_t whole) {
   switch (unit) {
-    case TimeUnit::seconds: return whole <= kMaxTimeUs / 1000000 ? whole * 1000000 : kTimeOutOfRange;
-    case TimeUnit::milliseconds: return whole <= kMaxTimeUs / 1000 ? whole * 1000 : kTimeOutOfRange;
+    case TimeUnit::seconds: return whole <= kMaxTimeUs / kMicrosecondsPerSecond ? whole * kMicrosecondsPerSecond : kTimeOutOfRange;
+    case TimeUnit::milliseconds:
+      return whole <= kMaxTimeUs / kMicrosecondsPerMillisecond ? whole * kMicrosecondsPerMillisecond : kTimeOutOfRange;
     case TimeUnit::microseconds: return whole <= kMaxTimeUs ? whole : kTimeOutOfRange;
-    case TimeUnit::nanoseconds: return (whole + 500) / 1000;  // round half up, as llround for positives
+    case TimeUnit::nanoseconds:  // round half up, as llround for positives
+      return (whole + kNanosecondsPerMicrosecond / 2) / kNanosecondsPerMicrosecond;
   }
   return whole;
 }
@@ -711,79 +713,26 @@ class RowParser {
   DelimitedReadResult result_;
 };
 
-}  // namespace
+// Feeds a file's lines to a RowParser, in three steps: plain files from
+// mapped windows (read_mapped), the rest (gzip, pipes, or what the system
+// would not map) through read() blocks (read_blocks), then the checks of the
+// whole file (finish).
+class LineFeeder {
+ public:
+  LineFeeder(const std::string& path, const DelimitedReadOptions& options, SampleSink& sink, ByteSource& source)
+      : path_(path), options_(options), source_(source), parser_(path, options, sink) {}
 
-DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadOptions& options, SampleSink& sink) {
-  ByteSource source(path);
-  RowParser parser(path, options, sink);
-  const std::string& comment = options.layout.comment_prefix;
-  std::size_t line_no = 0;
-  bool any_line = false;
-
-  auto handle_line = [&](std::string_view line) {
-    ++line_no;
-    // A byte-order mark, which some Windows tools put before UTF-8 text, is
-    // no part of the first column's name (common practice, no source).
-    if (line_no == 1 && line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
-    // "Unicode text" from some Windows tools is UTF-16: every other byte a
-    // NUL, which would otherwise surface as a header that matches nothing.
-    if (line_no == 1 && (line.substr(0, 2) == "\xFF\xFE" || line.substr(0, 2) == "\xFE\xFF")) {
-      throw InputError({path, 1, ""}, "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); save or export it as UTF-8");
-    }
-    if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
-    if (line.empty()) return;
-    if (!comment.empty() && line.substr(0, comment.size()) == comment) return;
-    any_line = true;
-    if (!parser.has_header()) {
-      parser.parse_header(line, line_no);
-      return;
-    }
-    parser.parse_row(line, line_no);
-  };
-
-  // Parses the whole lines of data[0, size); data[size] must be '\0', the
-  // sentinel parse_common_rows relies on. Returns where an unfinished last
-  // line starts (size when the data ends with a newline).
-  auto parse_block = [&](const char* data, std::size_t size) {
-    std::size_t pos = 0;
-    // A header-less file (BIDS physio) goes straight to the rows: its
-    // byte-order mark is skipped here, before the first row is read.
-    if (line_no == 0 && parser.has_header() && size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
-    for (;;) {
-      if (parser.has_header()) {
-        const char* start = data + pos;
-        const char* stop = parser.parse_common_rows(start, data + size, line_no);
-        any_line = any_line || stop != start;
-        pos = static_cast<std::size_t>(stop - data);
-      }
-      const char* nl = static_cast<const char*>(std::memchr(data + pos, '\n', size - pos));
-      if (!nl) return pos;
-      const std::size_t end = static_cast<std::size_t>(nl - data);
-      handle_line(std::string_view(data + pos, end - pos));
-      pos = end + 1;
-    }
-  };
-
-  std::uint64_t last_report = 0;
-  auto report = [&](std::uint64_t done) {
-    if (options.progress && done - last_report > (64u << 20)) {
-      last_report = done;
-      options.progress(done, source.raw_size());
-    }
-  };
-
-  std::string carry;  // an unfinished line at the end of what has been parsed
-  bool rest_to_read = true;  // bytes left for read() below
-  if (source.mappable() && options.map_plain_files) {
-    // A plain file is parsed from mapped windows: no copy into a buffer,
-    // which was a sixth of the parsing time. Each window ends after its last
-    // whole line; the '\0' sentinel is written just after that line, into
-    // this mapping's private copy of the page (the next window maps the
-    // file's own bytes again from that line on).
-    const std::uint64_t size = source.raw_size();
+  // A plain file is parsed from mapped windows: no copy into a buffer,
+  // which was a sixth of the parsing time. Each window ends after its last
+  // whole line; the '\0' sentinel is written just after that line, into
+  // this mapping's private copy of the page (the next window maps the
+  // file's own bytes again from that line on). Returns whether the whole
+  // file was read; if not, the source is left where read_blocks goes on.
+  bool read_mapped() {
+    const std::uint64_t size = source_.raw_size();
     std::uint64_t offset = 0;  // where the unparsed bytes begin in the file
     const std::size_t page = MappedWindow::page_size();
-    const std::size_t window = std::max<std::size_t>(1, (options.mapped_window_bytes + page - 1) / page) * page;
+    const std::size_t window = std::max<std::size_t>(1, (options_.mapped_window_bytes + page - 1) / page) * page;
     while (offset < size) {
       const std::uint64_t map_start = offset / page * page;
       std::size_t length = static_cast<std::size_t>(std::min<std::uint64_t>(window, size - map_start));
@@ -791,24 +740,24 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
       const char* begin = nullptr;
       const char* nl = nullptr;
       for (;;) {  // grow the window until it holds a whole line or the rest of the file
-        w = MappedWindow::map(source.descriptor(), map_start, length);
+        w = MappedWindow::map(source_.descriptor(), map_start, length);
         if (!w) break;
         // Touching mapped pages past a file's end stops the program (SIGBUS):
         // a file cut short by another program is caught here, window by
         // window, as an error instead (a cut while a window is read is not).
-        if (const std::uint64_t now = source.current_size(); now < map_start + length) {
-          throw InputError({path, line_no, ""}, "the file shrank from " + std::to_string(size) + " to " +
-                                                    std::to_string(now) + " bytes while it was being read");
+        if (const std::uint64_t now = source_.current_size(); now < map_start + length) {
+          throw InputError({path_, line_no_, ""}, "the file shrank from " + std::to_string(size) + " to " +
+                                                      std::to_string(now) + " bytes while it was being read");
         }
         begin = w->data() + (offset - map_start);
         nl = static_cast<const char*>(::memrchr(begin, '\n', static_cast<std::size_t>(w->data() + length - begin)));
         if (nl || map_start + length == size) break;
         length = static_cast<std::size_t>(std::min<std::uint64_t>(2 * std::uint64_t{length}, size - map_start));
       }
-      if (!w) break;  // the system would not map it: read the rest below
+      if (!w) break;  // the system would not map it: read the rest by read_blocks
       char* const data = w->data();
       if (!nl) {  // the rest of the file is one line with no newline at its end
-        carry.assign(begin, static_cast<std::size_t>(data + length - begin));
+        carry_.assign(begin, static_cast<std::size_t>(data + length - begin));
         offset = size;
         break;
       }
@@ -830,43 +779,122 @@ DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadO
       offset += used;
       report(offset);
     }
-    rest_to_read = offset < size;
-    if (rest_to_read) source.seek(offset);
+    if (offset >= size) return true;
+    source_.seek(offset);
+    return false;
   }
-  if (rest_to_read) {
+
+  // The file (or its rest) through read() into a buffer: gzip files, pipes.
+  void read_blocks() {
     std::unique_ptr<char[]> buffer(new char[kBlockBytes + 1]);
     for (;;) {
-      const std::size_t n = source.read(buffer.get(), kBlockBytes);
+      const std::size_t n = source_.read(buffer.get(), kBlockBytes);
       if (n == 0) break;
       buffer[n] = '\0';
       std::string_view block(buffer.get(), n);
       std::size_t pos = 0;
-      if (!carry.empty()) {
+      if (!carry_.empty()) {
         const char* nl = static_cast<const char*>(std::memchr(block.data(), '\n', block.size()));
         if (!nl) {
-          carry.append(block);
+          carry_.append(block);
           continue;
         }
         pos = static_cast<std::size_t>(nl - block.data()) + 1;
-        carry.append(block.substr(0, pos - 1));
-        handle_line(carry);
-        carry.clear();
+        carry_.append(block.substr(0, pos - 1));
+        handle_line(carry_);
+        carry_.clear();
       }
       pos += parse_block(block.data() + pos, block.size() - pos);
-      carry.assign(block.substr(pos));
-      report(source.raw_offset());
+      carry_.assign(block.substr(pos));
+      report(source_.raw_offset());
     }
   }
-  if (!carry.empty()) handle_line(carry);
-  if (!any_line) throw InputError({path, 0, ""}, "the file is empty; expected a header line and sample rows");
-  DelimitedReadResult result = parser.finish();
-  if (source.gzip_trailing_bytes() > 0) result.repairs["gzip_trailing_bytes_ignored"] += source.gzip_trailing_bytes();
-  const bool wants_samples = options.layout.left || options.layout.right;
-  if (wants_samples && result.samples == 0) {
-    throw InputError({path, line_no, ""}, "the file has no sample rows; expected at least one row after the header");
+
+  // The last line without a newline, and the checks of the whole file.
+  DelimitedReadResult finish() {
+    if (!carry_.empty()) handle_line(carry_);
+    if (!any_line_) throw InputError({path_, 0, ""}, "the file is empty; expected a header line and sample rows");
+    DelimitedReadResult result = parser_.finish();
+    if (source_.gzip_trailing_bytes() > 0) result.repairs["gzip_trailing_bytes_ignored"] += source_.gzip_trailing_bytes();
+    const bool wants_samples = options_.layout.left || options_.layout.right;
+    if (wants_samples && result.samples == 0) {
+      throw InputError({path_, line_no_, ""}, "the file has no sample rows; expected at least one row after the header");
+    }
+    if (options_.progress) options_.progress(source_.raw_size(), source_.raw_size());
+    return result;
   }
-  if (options.progress) options.progress(source.raw_size(), source.raw_size());
-  return result;
+
+ private:
+  void handle_line(std::string_view line) {
+    ++line_no_;
+    // A byte-order mark, which some Windows tools put before UTF-8 text, is
+    // no part of the first column's name (common practice, no source).
+    if (line_no_ == 1 && line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
+    // "Unicode text" from some Windows tools is UTF-16: every other byte a
+    // NUL, which would otherwise surface as a header that matches nothing.
+    if (line_no_ == 1 && (line.substr(0, 2) == "\xFF\xFE" || line.substr(0, 2) == "\xFE\xFF")) {
+      throw InputError({path_, 1, ""}, "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); save or export it as UTF-8");
+    }
+    if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+    if (line.empty()) return;
+    const std::string& comment = options_.layout.comment_prefix;
+    if (!comment.empty() && line.substr(0, comment.size()) == comment) return;
+    any_line_ = true;
+    if (!parser_.has_header()) {
+      parser_.parse_header(line, line_no_);
+      return;
+    }
+    parser_.parse_row(line, line_no_);
+  }
+
+  // Parses the whole lines of data[0, size); data[size] must be '\0', the
+  // sentinel parse_common_rows relies on. Returns where an unfinished last
+  // line starts (size when the data ends with a newline).
+  std::size_t parse_block(const char* data, std::size_t size) {
+    std::size_t pos = 0;
+    // A header-less file (BIDS physio) goes straight to the rows: its
+    // byte-order mark is skipped here, before the first row is read.
+    if (line_no_ == 0 && parser_.has_header() && size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
+    for (;;) {
+      if (parser_.has_header()) {
+        const char* start = data + pos;
+        const char* stop = parser_.parse_common_rows(start, data + size, line_no_);
+        any_line_ = any_line_ || stop != start;
+        pos = static_cast<std::size_t>(stop - data);
+      }
+      const char* nl = static_cast<const char*>(std::memchr(data + pos, '\n', size - pos));
+      if (!nl) return pos;
+      const std::size_t end = static_cast<std::size_t>(nl - data);
+      handle_line(std::string_view(data + pos, end - pos));
+      pos = end + 1;
+    }
+  }
+
+  void report(std::uint64_t done) {
+    if (options_.progress && done - last_report_ > (64u << 20)) {
+      last_report_ = done;
+      options_.progress(done, source_.raw_size());
+    }
+  }
+
+  const std::string& path_;
+  const DelimitedReadOptions& options_;
+  ByteSource& source_;
+  RowParser parser_;
+  std::size_t line_no_ = 0;
+  bool any_line_ = false;
+  std::string carry_;  // an unfinished line at the end of what has been parsed
+  std::uint64_t last_report_ = 0;
+};
+
+}  // namespace
+
+DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadOptions& options, SampleSink& sink) {
+  ByteSource source(path);
+  LineFeeder feeder(path, options, sink, source);
+  const bool whole = source.mappable() && options.map_plain_files && feeder.read_mapped();
+  if (!whole) feeder.read_blocks();
+  return feeder.finish();
 }
 
 }  // namespace gazemill

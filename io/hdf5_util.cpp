@@ -212,12 +212,6 @@ std::vector<std::string> read_strings(const H5::Group& group, const std::string&
   return out;
 }
 
-hsize_t column_length(const H5::Group& group, const std::string& name) {
-  hsize_t n = 0;
-  group.openDataSet(name).getSpace().getSimpleExtentDims(&n);
-  return n;
-}
-
 std::vector<std::string> child_names(const H5::Group& group) {
   std::vector<std::string> out;
   for (hsize_t i = 0; i < group.getNumObjs(); ++i) out.push_back(group.getObjnameByIdx(i));

@@ -65,7 +65,6 @@ std::vector<T> read_column(const H5::Group& group, const std::string& name);
 template <typename T>
 std::vector<T> read_column_range(const H5::Group& group, const std::string& name, hsize_t first, hsize_t count);
 std::vector<std::string> read_strings(const H5::Group& group, const std::string& name);
-hsize_t column_length(const H5::Group& group, const std::string& name);
 std::vector<std::string> child_names(const H5::Group& group);
 
 }  // namespace gazemill::h5

@@ -116,10 +116,6 @@ NamedRegex::NamedRegex(const std::string& pattern) : pattern_(pattern) {
   }
 }
 
-bool NamedRegex::has_name(const std::string& name) const {
-  return std::find(names_.begin(), names_.end(), name) != names_.end();
-}
-
 namespace {
 
 struct SearchCall {

@@ -25,7 +25,6 @@ class NamedRegex {
 
   const std::string& pattern() const { return pattern_; }
   const std::vector<std::string>& names() const { return names_; }
-  bool has_name(const std::string& name) const;
 
  private:
   std::string pattern_;

@@ -4,10 +4,10 @@ namespace gazemill {
 
 double microseconds_per(TimeUnit unit) {
   switch (unit) {
-    case TimeUnit::seconds: return 1e6;
-    case TimeUnit::milliseconds: return 1e3;
+    case TimeUnit::seconds: return static_cast<double>(kMicrosecondsPerSecond);
+    case TimeUnit::milliseconds: return static_cast<double>(kMicrosecondsPerMillisecond);
     case TimeUnit::microseconds: return 1.0;
-    case TimeUnit::nanoseconds: return 1e-3;
+    case TimeUnit::nanoseconds: return 1.0 / static_cast<double>(kNanosecondsPerMicrosecond);
   }
   return 1.0;
 }

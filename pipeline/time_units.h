@@ -15,6 +15,13 @@ using Microseconds = std::int64_t;
 /// Unit in which a source file writes its timestamps.
 enum class TimeUnit { seconds, milliseconds, microseconds, nanoseconds };
 
+// The one place the units' sizes are written. The delimited reader scales
+// whole numbers with them exactly (integer arithmetic, unit by unit), and
+// everything else through microseconds_per.
+constexpr std::int64_t kMicrosecondsPerSecond = 1000000;
+constexpr std::int64_t kMicrosecondsPerMillisecond = 1000;
+constexpr std::int64_t kNanosecondsPerMicrosecond = 1000;
+
 /// Microseconds per one source unit (seconds -> 1e6, nanoseconds -> 1e-3).
 double microseconds_per(TimeUnit unit);
 

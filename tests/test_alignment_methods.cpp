@@ -140,6 +140,21 @@ TEST(DriftMethods, ChainThresholdsTooLowGiveAttachTooHighForceOneLine) {
             std::vector<int>(8, 1));
 }
 
+// chain's boundary, decided (alignment/chain_corrector.h, our choice): a
+// step of exactly the x threshold stays in the chain. Font height 20 px, so
+// the default x threshold is 20 x 20 = 400 px. Lines at 100 and 150: A at
+// (100, 128) is nearest line 1 (22 px against 28), B at (500, 100) on line
+// 0. One chain: mean y 114, line 0 for both. B 401 px on: two chains, A on
+// line 1.
+TEST(DriftMethods, ChainKeepsAStepOfExactlyTheThreshold) {
+  DriftInput in;
+  in.text = page({100, 150}, {100, 300, 500});
+  in.fixations = {{100, 128, 200}, {500, 100, 200}};
+  EXPECT_EQ(lines_of("chain", in), (std::vector<int>{0, 0}));
+  in.fixations[1].x_px = 501;
+  EXPECT_EQ(lines_of("chain", in), (std::vector<int>{1, 0}));
+}
+
 // compare (Carr et al. 2022, "Compare", after Lima Sanches et al. 2015):
 // lines at 100 and 150 px, line 0 with words at 100..900 (five), line 1 with
 // words at 100 and 250 (a short last line); every fixation on a word, 30 px
@@ -286,6 +301,17 @@ TEST(DriftMethods, AttachIsTheNearestLine) {
     expected.push_back(best);
   }
   EXPECT_EQ(lines_of("attach", in), expected);
+}
+
+// Halfway between two lines, decided (alignment/drift_input.h, our choice):
+// the upper line. Centres 100, 160, 200: y = 130 and y = 180 are each
+// exactly halfway; they go to lines 0 and 1. Just below halfway they go down.
+TEST(DriftMethods, HalfwayBetweenTwoLinesIsTheUpperOne) {
+  const std::vector<double> centres{100, 160, 200};
+  EXPECT_EQ(nearest_line(centres, 130), 0);
+  EXPECT_EQ(nearest_line(centres, 180), 1);
+  EXPECT_EQ(nearest_line(centres, 130.001), 1);
+  EXPECT_EQ(nearest_line(centres, 180.001), 2);
 }
 
 // The output's corrected y is the assigned line's centre, and the shared fit

@@ -108,6 +108,8 @@ TEST(MergeShortFixations, PositionDurationAndNeighbourChoices) {
   auto o = run_cleaning(input, {rule("w", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gap_ms", 50}},
                                      {{"position", "weighted"}, {"duration", "span"}})});
   EXPECT_NEAR(o.state.participants[0].trials[0].fixations[1].fixation.x_deg, 10.307692, 1e-6);
+  // The pixels likewise: x_px = 960 + 40 x_deg, so (1376 * 200 + 1360 * 60) / 260 = 1372.307692.
+  EXPECT_NEAR(o.state.participants[0].trials[0].fixations[1].fixation.x_px, 1372.307692, 1e-6);
   EXPECT_EQ(kept_durations(o), (std::vector<double>{290}));
 
   // A 50 ms fixation between a 200 ms one 0.3 deg left and a 300 ms one 0.2 deg right.
@@ -166,6 +168,80 @@ TEST(FixationFilters, NearBlinksAndOutsideTheScreen) {
   o = run_cleaning(mapped, {rule("text", "delete_fixations_outside", {}, {{"area", "text"}})});
   EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 1u);
   EXPECT_THROW(run_cleaning(input, {rule("text", "delete_fixations_outside", {}, {{"area", "text"}})}), std::invalid_argument);
+}
+
+// The near-blink boundary, decided and documented in filters/fixation_filters.h
+// (common practice, no source): a fixation goes when it ends *less than*
+// within_ms before a blink starts or starts less than within_ms after one
+// ends; exactly within_ms away it stays. Blink 1000-1200 ms, within 50 ms:
+// ends at 950 (exactly 50 before): stays; ends at 951: goes; starts at 1250
+// (exactly 50 after): stays; starts at 1249: goes.
+TEST(FixationFilters, NearBlinkBoundaryIsExclusive) {
+  std::uint32_t id = 0;
+  auto t = trial_of({{750, 200, 0}, {751, 200, 1}, {1250, 100, 2}, {1249, 100, 3}}, id);
+  t.blinks.push_back({"1", Eye::left, 1'000'000, 1'200'000});
+  const auto o = run_cleaning(state_of({t}), {rule("blinks", "delete_fixations_near_blinks", {{"within_ms", 50}})});
+  const auto& kept = o.state.participants[0].trials[0].fixations;
+  EXPECT_TRUE(kept[0].kept);
+  EXPECT_FALSE(kept[1].kept);
+  EXPECT_TRUE(kept[2].kept);
+  EXPECT_FALSE(kept[3].kept);
+}
+
+// The merge rule's two limits, as filters/merge_short_fixations.h states
+// them: fixations *shorter than* max_duration_ms are merged (80 ms with an
+// 80 ms limit is not), with *at most* max_gap_ms between them (a gap of
+// exactly 50 ms with a 50 ms limit is merged). Worked by hand.
+TEST(MergeShortFixations, DurationLimitIsStrictGapLimitIsNot) {
+  std::uint32_t id = 0;
+  const auto params = std::map<std::string, double>{{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gap_ms", 50}};
+  // 80 ms, then 50 ms later 200 ms 0.4 deg away: 80 ms is not short.
+  auto o = run_cleaning(state_of({trial_of({{0, 80, 10.0}, {130, 200, 10.4}}, id)}), {rule("m", "merge_short_fixations", params)});
+  EXPECT_EQ(kept_durations(o), (std::vector<double>{80, 200}));
+  // 60 ms ending at 60, the next starting at 110: a gap of exactly 50 ms, merged (60 + 200).
+  id = 0;
+  o = run_cleaning(state_of({trial_of({{0, 60, 10.0}, {110, 200, 10.4}}, id)}), {rule("m", "merge_short_fixations", params)});
+  EXPECT_EQ(kept_durations(o), (std::vector<double>{260}));
+}
+
+// Outside the screen or a box (common practice, no source): the screen is
+// width_px wide and height_px high (1920 x 1080 here), so x = 1500 px is on
+// it; a box's margin widens it on every side. Positions: x_px = 960 + 40
+// x_deg, y_px = 540 for every fixation of trial_of.
+TEST(FixationFilters, ScreenWidthAndBoxMargins) {
+  std::uint32_t id = 0;
+  const auto input = state_of({trial_of({{0, 200, 13.5}, {300, 200, 0}}, id)});  // x = 1500 and 960 px
+  auto o = run_cleaning(input, {rule("screen", "delete_fixations_outside", {})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 0u);
+  // A box from y = 550 down: y = 540 is 10 px above it; a 20 px margin takes it in.
+  const std::map<std::string, double> box{{"left_px", 0}, {"top_px", 550}, {"right_px", 1920}, {"bottom_px", 1000}};
+  o = run_cleaning(input, {rule("box", "delete_fixations_outside", box, {{"area", "box"}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 2u);
+  auto with_margin = box;
+  with_margin["margin_px"] = 20;
+  o = run_cleaning(input, {rule("box", "delete_fixations_outside", with_margin, {{"area", "box"}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::fixation), 0u);
+}
+
+// A blink in a window after a marker (our rule, filters/trial_exclusions.h):
+// the window [marker + from_ms, marker + to_ms) and a blink overlap when the
+// blink starts before the window ends and ends after it starts; touching an
+// edge is no overlap. Marker at 1000 ms, window 0-500 ms: a blink 1500-1600
+// or 900-1000 leaves the trial; 1499-1600 excludes it.
+TEST(TrialExclusions, ABlinkTouchingTheWindowIsOutsideIt) {
+  std::uint32_t id = 0;
+  auto with_blink = [&](Microseconds from, Microseconds to) {
+    auto t = trial_of({{0, 200, 0}}, id);
+    t.markers["text_shown"] = 1'000'000;
+    t.blinks.push_back({"1", Eye::left, from, to});
+    const auto o = run_cleaning(state_of({t}), {rule("window", "exclude_trials_with_gap_in_window", {{"from_ms", 0}, {"to_ms", 500}},
+                                                     {{"marker", "text_shown"}, {"events", "blink"}})});
+    return o.state.participants[0].trials[0].kept;
+  };
+  EXPECT_TRUE(with_blink(1'500'000, 1'600'000));
+  EXPECT_TRUE(with_blink(900'000, 1'000'000));
+  EXPECT_FALSE(with_blink(1'499'000, 1'600'000));
+  EXPECT_FALSE(with_blink(900'000, 1'001'000));
 }
 
 TEST(TrialExclusions, EachKindByHand) {
@@ -359,4 +435,51 @@ TEST(RegionExclusions, FirstPassGapSkippingAndFirstRegion) {
   auto plain = input;
   for (auto& t : plain.participants[0].trials) t.regions_mapped = false;
   EXPECT_THROW(run_cleaning(plain, {rule("first", "exclude_trials_without_first_region", {})}), std::invalid_argument);
+}
+
+// First-pass reading, as filters/region_exclusions.h defines it for these
+// rules (after measures/reading_measures.h): a region is skipped in first
+// pass when any region *further on* was fixated before it, not only the one
+// just before; and its first pass lasts until the next fixation after the
+// run starts, so a blink in the saccade that leaves the region counts.
+// Fixations every 200 ms lasting 180 ms, worked by hand:
+//  - regions 0, 3, 1, 2, 4: region 2 (the target) comes after region 3:
+//    skipped, although the fixation just before it is on region 1;
+//  - regions 0, 1, 2, 2, 3: the target's first pass is fixations 2-3,
+//    400-780 ms, and lasts until fixation 4 starts at 800 ms; a blink at
+//    785-795 ms falls in it.
+TEST(RegionExclusions, SkippedAfterAnyFurtherRegionAndTheExitSaccadeCounts) {
+  std::uint32_t id = 0;
+  auto make = [&](const std::string& name, std::vector<int> regions) {
+    std::vector<F> fs;
+    for (std::size_t k = 0; k < regions.size(); ++k) fs.push_back({200.0 * static_cast<double>(k), 180, 0});
+    CleanTrial t = trial_of(fs, id);
+    t.trial = name;
+    for (std::size_t k = 0; k < regions.size(); ++k) t.fixations[k].region = regions[k];
+    t.regions_mapped = true;
+    t.region_roles["target"] = 2;
+    return t;
+  };
+  auto o = run_cleaning(state_of({make("1", {0, 3, 1, 2, 4})}), {rule("skip", "exclude_trials_skipping_region", {}, {{"role", "target"}})});
+  EXPECT_FALSE(o.state.participants[0].trials[0].kept);
+  auto t = make("2", {0, 1, 2, 2, 3});
+  t.blinks.push_back({"2", Eye::left, 785'000, 795'000});
+  o = run_cleaning(state_of({t}), {rule("blink", "exclude_trials_with_gap_in_first_pass", {}, {{"role", "target"}, {"events", "blink"}})});
+  EXPECT_FALSE(o.state.participants[0].trials[0].kept);
+}
+
+// A participant's mean of a trial variable *below* min_mean excludes them
+// (filters/participant_exclusions.h); exactly min_mean does not. Four
+// trials, correct 1, 1, 0, 0: mean 0.5, with min_mean 0.5: kept.
+TEST(ParticipantExclusions, AMeanOfExactlyTheMinimumStays) {
+  std::uint32_t id = 0;
+  std::vector<CleanTrial> trials;
+  for (int k = 0; k < 4; ++k) {
+    auto t = trial_of({{0, 200, 0}}, id);
+    t.trial = std::to_string(k + 1);
+    t.variables["correct"] = k < 2 ? "1" : "0";
+    trials.push_back(t);
+  }
+  const auto o = run_cleaning(state_of(trials), {rule("accuracy", "exclude_participants_by_variable", {{"min_mean", 0.5}}, {{"variable", "correct"}})});
+  EXPECT_EQ(seq(o, 0, AuditLevel::participant), 0u);
 }

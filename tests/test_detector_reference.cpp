@@ -178,6 +178,20 @@ TEST(VisualAngle, RuleOfThumbAndExactValues) {
   EXPECT_DOUBLE_EQ(a.x_deg(960), 0.0);
 }
 
+// Non-square pixels: a screen of 1000 x 500 px and 400 x 100 mm has pixels
+// 0.4 mm wide and 0.2 mm high, so the vertical angle must use the height.
+// At 500 mm, the bottom edge is 250 px = 50 mm below the centre:
+// atan(50 / 500) = 5.710593 deg; the right edge 500 px = 200 mm across:
+// atan(200 / 500) = 21.801409 deg (worked by hand; the degrees checked with
+// Python's math.atan, common practice, no source).
+TEST(VisualAngle, EachAxisUsesItsOwnPixelSize) {
+  const VisualAngle a({1000, 500, 400.0, 100.0, 500.0});
+  EXPECT_NEAR(a.y_deg(500), 5.710593, 1e-6);
+  EXPECT_NEAR(a.y_deg(0), -5.710593, 1e-6);
+  EXPECT_NEAR(a.x_deg(1000), 21.801409, 1e-6);
+  EXPECT_NEAR(a.y_px(5.710593137499643), 500.0, 1e-6);
+}
+
 // Engbert & Kliegl (2003): the 5-point velocity is exact for a ramp; methods.md
 // section 2: x = 0.1 n deg at 250 Hz gives 25.0 deg/s.
 TEST(EngbertKliegl, RampVelocityAndMedianBasedSd) {

@@ -182,6 +182,68 @@ TEST(NystromHolmqvistRule, OnsetOffsetAndGlissadeByHand) {
   EXPECT_EQ(letters(cut, 8, 24), "oooSSSSSSooooooo");
 }
 
+// The glissade window's far edge, decided (our rule; Nystrom & Holmqvist
+// 2010 look for a glissade within a fixed time after the offset, from
+// memory): a sample exactly max_glissade_ms after the offset's minimum is
+// still inside the window. The trace of OnsetOffsetAndGlissadeByHand with a
+// window of 1 ms (one sample at 1000 Hz): the minimum is sample 17, so the
+// window holds sample 18 only; at 35 deg/s it is above the offset threshold
+// (28.2), so 17-20 are still the glissade, up to the next minimum (21).
+TEST(NystromHolmqvistRule, GlissadeWindowHoldsItsLastSample) {
+  std::vector<double> s;
+  for (int i = 0; i <= 10; ++i) s.push_back(i % 2 ? 12 : 18);
+  for (double v : {40, 80, 150, 90, 45, 29, 27, 35, 50, 33, 26, 27}) s.push_back(v);
+  for (int i = 23; i < 70; ++i) s.push_back(i % 2 ? 12 : 18);
+  const GazeTrace g = trace_of(std::vector<double>(s.size(), 0.0), std::vector<double>(s.size(), 0.0), 1000);
+  SaccadeRefinementParams p;
+  p.onset_threshold_deg_s = 30;
+  p.offset_onset_weight = 0.7;
+  p.local_noise_window_ms = 4;
+  p.max_glissade_ms = 1;
+  p.min_saccade_ms = 5;
+  const std::vector<bool> usable(s.size(), true);
+  std::vector<SampleLabel> out(s.size(), SampleLabel::other);
+  refine_saccades(g, s, usable, cores_above(s, usable, 45.0), p, out);
+  EXPECT_EQ(letters(out, 8, 24), "oooSSSSSSPPPPooo");
+}
+
+// Engbert & Kliegl (2003), section 2 (from memory): a saccade needs at
+// least min_saccade_samples (3) supra-threshold samples in a row; exactly 3
+// is enough, 2 is not. The triangle wave of EllipseNotAxesNorSpeed (sigma
+// per axis = the segment's own velocity u, eta = 6 u), with shorter probes
+// of 4.5 u per increment. With the weights 1, 2, 2, 1 of the five-sample
+// moving difference over the increments d[n-1], d[n], d[n+1], d[n+2], a
+// sample moves at 4.5 u (0.75 eta per axis: 1.125 > 1, outside the ellipse)
+// only when all four increments are in the probe; a probe of increments
+// a..b gives b - a - 2 such samples. Probe A, increments 85-90: samples
+// 86-88, three, a saccade. Its edge samples: 85 and 89 take 23.5/6 u
+// (0.6528 eta per axis: 0.852 < 1), 84 and 90 16.5/6 u: inside. Probe C,
+// increments 205-209: samples 206-207, two, no saccade. Each probe has its
+// mirror image 20 increments later, so median(v) stays 0 and median(v^2) u^2.
+TEST(EngbertKlieglRule, ExactlyTheMinimumSamplesMakeASaccade) {
+  std::vector<std::pair<int, int>> step(400);
+  for (std::size_t i = 0; i < step.size(); ++i) {
+    const int sign = (i / 20) % 2 == 0 ? 1 : -1;
+    step[i] = {2 * sign, 6 * sign};
+  }
+  for (std::size_t i = 85; i <= 90; ++i) step[i] = {9, 27}, step[i + 20] = {-9, -27};      // probe A and its mirror
+  for (std::size_t i = 205; i <= 209; ++i) step[i] = {9, 27}, step[i + 20] = {-9, -27};    // probe C and its mirror
+  std::vector<double> x(400), y(400);
+  for (std::size_t i = 1; i < 400; ++i) {
+    x[i] = x[i - 1] + step[i].first / 128.0;
+    y[i] = y[i - 1] + step[i].second / 128.0;
+  }
+  const GazeTrace g = trace_of(x, y, 4000);
+  EngbertKlieglParams p;
+  ASSERT_EQ(p.min_saccade_samples, 3);
+  std::vector<SampleLabel> labels(g.size(), SampleLabel::other);
+  const ParameterList fitted = EngbertKlieglDetector(p).label(g, labels);
+  EXPECT_NEAR(fitted.at("threshold_x_deg_s"), 23.4375, 1e-9);
+  EXPECT_EQ(letters(labels, 84, 91), "FFSSSFF");
+  EXPECT_EQ(letters(labels, 104, 111), "FFSSSFF");
+  EXPECT_EQ(letters(labels, 200, 240), std::string(40, 'F'));
+}
+
 // I-VT (Salvucci & Goldberg 2000, section on I-VT, from memory: points
 // below the threshold are fixation points, the others saccade points). Our
 // decision: a sample exactly at the threshold is a saccade sample. With
@@ -273,4 +335,90 @@ TEST(BlinkRule, SaccadeTouchingLostDataIsDropped) {
   };
   EXPECT_EQ(tidy(0), L::other);
   EXPECT_EQ(tidy(1), L::saccade);
+}
+
+// The shortest fixation, decided (our rule, README "Event detection"; a
+// minimum duration is common practice, no source): a fixation run lasting
+// exactly min_fixation_ms stays, a shorter one becomes "other". A run
+// covers its samples, from the first to one interval after the last: at
+// 1000 Hz, 40 samples last 40 ms (kept with a 40 ms minimum), 39 last 39 ms.
+TEST(FixationRule, ExactlyTheMinimumDurationStays) {
+  const GazeTrace g = trace_of(std::vector<double>(100, 0.0), std::vector<double>(100, 0.0), 1000);
+  using L = SampleLabel;
+  auto tidy = [&](std::size_t samples) {
+    std::vector<L> labels(100, L::other);
+    for (std::size_t i = 10; i < 10 + samples; ++i) labels[i] = L::fixation;
+    EventParams p;
+    p.min_fixation_ms = 40;
+    tidy_labels(g, p, labels);
+    return labels[20];
+  };
+  EXPECT_EQ(tidy(40), L::fixation);
+  EXPECT_EQ(tidy(39), L::other);
+}
+
+// Blink paddings before and after are separate settings (our rule, README
+// "Event detection"): the trace of PaddingLimitIsIncluded with 30 ms before
+// and 10 ms after. The gap is samples 300-399 at 1000 Hz; 30 ms before its
+// first sample is sample 270, 10 ms after its last is sample 409.
+TEST(BlinkRule, PaddingBeforeAndAfterAreTheirOwn) {
+  for (bool pupil : {true, false}) {
+    std::vector<double> y(600, 0.0);
+    for (std::size_t i = 240; i < 300; ++i) y[i] = 0.2 * static_cast<double>(i - 239);
+    for (std::size_t i = 300; i < 400; ++i) y[i] = 12.0;
+    for (std::size_t i = 400; i < 460; ++i) y[i] = 0.2 * static_cast<double>(460 - i);
+    GazeTrace g = trace_of(std::vector<double>(600, 0.0), y, 1000, pupil);
+    lose(g, 300, 400);
+    BlinkParams p;
+    p.padding_before_ms = 30;
+    p.padding_after_ms = 10;
+    const std::vector<SampleLabel> labels = label_missing(g, p);
+    EXPECT_EQ(labels[270], SampleLabel::blink) << "30 ms before, pupil " << pupil;
+    EXPECT_EQ(labels[269], SampleLabel::other) << "31 ms before, pupil " << pupil;
+    EXPECT_EQ(labels[409], SampleLabel::blink) << "10 ms after, pupil " << pupil;
+    EXPECT_EQ(labels[410], SampleLabel::other) << "11 ms after, pupil " << pupil;
+  }
+}
+
+// A saccade's direction, as pipeline/events.h defines it: 0 deg rightwards,
+// 90 deg downwards on the screen (y grows downwards), i.e. atan2(dy, dx) of
+// its first and last samples (common practice, no source). Worked by hand:
+// straight down by 2 deg: 90 deg; right 1 and up 1: -45 deg.
+TEST(SaccadeEvents, DirectionZeroRightwardsNinetyDownwards) {
+  std::vector<double> x(40, 0.0), y(40, 0.0);
+  for (std::size_t i = 10; i < 40; ++i) y[i] = i < 15 ? 0.5 * static_cast<double>(i - 10) : 2.0;  // samples 10-14: 0 to 2
+  for (std::size_t i = 25; i < 40; ++i) {
+    x[i] = i < 30 ? 0.25 * static_cast<double>(i - 25) : 1.0;  // samples 25-29: right 1 and up 1
+    y[i] = i < 30 ? 2.0 - 0.25 * static_cast<double>(i - 25) : 1.0;
+  }
+  const GazeTrace g = trace_of(x, y, 1000);
+  std::vector<SampleLabel> labels(40, SampleLabel::fixation);
+  for (std::size_t i = 10; i < 15; ++i) labels[i] = SampleLabel::saccade;
+  for (std::size_t i = 25; i < 30; ++i) labels[i] = SampleLabel::saccade;
+  DetectedEvents ev;
+  collect_events(g, labels, "1", Eye::left, ev);
+  ASSERT_EQ(ev.saccades.size(), 2u);
+  EXPECT_NEAR(ev.saccades[0].direction_deg, 90.0, 1e-9);
+  EXPECT_NEAR(ev.saccades[0].amplitude_deg, 2.0, 1e-9);
+  EXPECT_NEAR(ev.saccades[1].direction_deg, -45.0, 1e-9);
+}
+
+// Joining a fixation across lost samples, decided (our rule, README "Event
+// detection"): the gap is the time the lost samples cover, one interval
+// each, and a gap of exactly max_fixation_gap_ms is joined. At 1000 Hz with
+// a 20 ms limit: 20 lost samples (from the last fixation sample to the next
+// is 21 ms, the gap 20 ms) are joined; 21 lost samples are not.
+TEST(FixationRule, AGapOfExactlyTheLimitIsJoined) {
+  const GazeTrace g = trace_of(std::vector<double>(100, 0.0), std::vector<double>(100, 0.0), 1000);
+  using L = SampleLabel;
+  auto tidy = [&](std::size_t lost) {
+    std::vector<L> labels(100, L::fixation);
+    for (std::size_t i = 40; i < 40 + lost; ++i) labels[i] = L::loss;
+    EventParams p;
+    p.max_fixation_gap_ms = 20;
+    tidy_labels(g, p, labels);
+    return labels[40];
+  };
+  EXPECT_EQ(tidy(20), L::fixation);
+  EXPECT_EQ(tidy(21), L::loss);
 }

@@ -166,6 +166,31 @@ TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
          "frequncy");
 }
 
+// What a boxes file gives the drift methods and the landing positions,
+// worked by hand (common practice, no source: a box stands for the words it
+// holds, at its centre). Char width 12 px. Region 1: 100-148 on line 1;
+// region 2: 148-196; region 3 wraps: 196-256 on line 1, then 100-136 on
+// line 2. Word centres on line 1: 124, 172, 226; on line 2: 118. Region 3's
+// second box comes after (256 - 196) / 12 = 5 characters of its first.
+TEST(MeasureCommand, BoxesFileGivesWordCentresAndWrappedCharacters) {
+  TempDir d;
+  const std::string path = d.write("boxes.tsv",
+                                   "item\tregion\tlabel\tleft_px\ttop_px\tright_px\tbottom_px\tline\n"
+                                   "1\t1\tThe\t100\t200\t148\t240\t1\n"
+                                   "1\t2\tdog\t148\t200\t196\t240\t1\n"
+                                   "1\t3\tran far\t196\t200\t256\t240\t1\n"
+                                   "1\t3\tran far\t100\t240\t136\t280\t2\n");
+  const RegionCatalogue cat = read_region_boxes(path, 12, {});
+  const RegionLayout* L = cat.find("1", {});
+  ASSERT_NE(L, nullptr);
+  ASSERT_EQ(L->word_centre_x_px.size(), 2u);
+  EXPECT_EQ(L->word_centre_x_px[0], (std::vector<double>{124, 172, 226}));
+  EXPECT_EQ(L->word_centre_x_px[1], (std::vector<double>{118}));
+  ASSERT_EQ(L->regions[2].boxes.size(), 2u);
+  EXPECT_DOUBLE_EQ(L->regions[2].boxes[1].chars_before, 5.0);
+  EXPECT_DOUBLE_EQ(L->lines[1].top_px, 240);
+}
+
 // Items-file roles must name regions the item has: "9=target" on a
 // seven-region item would make the target disappear from every table.
 TEST(MeasureCommand, ARoleOnARegionTheItemLacksIsAnError) {

@@ -298,6 +298,34 @@ TEST(RegionMapper, LinesMarginsAndLanding) {
   EXPECT_DOUBLE_EQ(*at(105, 260).landing_chars, 5.5);
 }
 
+// Edges, decided (common practice, no source: boxes are half-open, so that
+// every x on a line belongs to exactly one region): a box holds its left
+// edge and not its right one; a line holds its top and bottom edges. Layout
+// as in LinesMarginsAndLanding: region 0 "aa bbb" is columns 0-5 (x 100 to
+// 160), region 1 starts with the space at column 6 (x 160); line 0 spans
+// y 200 to 240.
+TEST(RegionMapper, BoxesHoldTheirLeftEdgeLinesBothEdges) {
+  TextLayoutSpec spec;
+  spec.char_width_px = 10;
+  spec.line_height_px = 40;
+  spec.left_margin_px = 100;
+  spec.first_line_top_px = 200;
+  spec.wrap_width_chars = 12;
+  const RegionLayout L = region_layout_from_text(lay_out_item("x", "aa bbb / cccc dd / e", spec), spec, {});
+  RegionSpec rs;
+  rs.layout = spec;
+  rs.off_line_nearest = false;  // only y inside a line counts
+  EXPECT_EQ(place_fixation(L, 160, 220, rs).region, 1);
+  EXPECT_EQ(place_fixation(L, 159.99, 220, rs).region, 0);
+  EXPECT_EQ(place_fixation(L, 100, 220, rs).region, 0);
+  EXPECT_EQ(place_fixation(L, 105, 200, rs).line, 0);
+  EXPECT_EQ(place_fixation(L, 105, 199.99, rs).line, -1);
+  // Beside the text: the default margin is two characters (20 px here).
+  rs.off_line_nearest = true;
+  EXPECT_EQ(place_fixation(L, 81, 220, rs).region, 0);
+  EXPECT_EQ(place_fixation(L, 79, 220, rs).region, -1);
+}
+
 // A proportional font from an advance table, worked by hand: 'm' 16 px, 'i' 4 px,
 // others 10 px, margin 0, lines 50 px wide. "mim / iii": m 0-16, i 16-20, m 20-36,
 // the space 36-46; "iii" (12 px) would end at 58 > 50, so it wraps: 0-4, 4-8, 8-12 on line 2.
