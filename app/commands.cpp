@@ -76,10 +76,14 @@ void log_counts(const StudyRunReport& r) {
 
 // Runs one stage (or, for `run`, the whole study) and logs what happened.
 // The study's report, OUTDIR/report.html, written again whenever the store
-// changed (or the page is missing); a report of an older store is never left beside a newer one.
+// changed (or the page is missing or older than the store); a report of an
+// older store is never left beside a newer one.
 std::string refresh_report(const std::string& store_path, const std::string& folder, bool store_written) {
   const std::string html = (fs::path(folder) / "report.html").string();
-  if (store_written || !fs::exists(html)) {
+  std::error_code ec;
+  // A run killed between its store and its report leaves an older page: the dates tell.
+  const bool older = fs::exists(html, ec) && fs::last_write_time(html, ec) < fs::last_write_time(store_path, ec);
+  if (store_written || !fs::exists(html, ec) || older) {
     write_study_report(store_path, html);
     spdlog::info("report: {}", html);
   }

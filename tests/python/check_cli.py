@@ -120,6 +120,9 @@ with tempfile.TemporaryDirectory() as tmp:
     r = run("run", proto, "-o", out)
     check(r.returncode == 0 and os.stat(html).st_mtime_ns != first and "brief" in open(html).read(),
           "a run that changed the store writes the report again, with the new rule in it", r)
+    os.utime(html, ns=(first - 10**9, first - 10**9))  # as if a run had been killed after its store, before its report
+    r = run("run", proto, "-o", out)
+    check(r.returncode == 0 and os.stat(html).st_mtime_ns > first, "a report older than its store is written again", r)
     out2 = os.path.join(tmp, "out2")
     r = run("run", proto, "-o", out2, "--no-report")
     check(r.returncode == 0 and not os.path.exists(os.path.join(out2, "report.html")), "run --no-report writes none", r)
