@@ -26,7 +26,8 @@ using Attrs = std::vector<std::pair<std::string, std::string>>;
 
 // --- an HTML writer that escapes every text and attribute --------------------------
 
-std::string escape_text(std::string_view s) {
+// Text needs &, < and > escaped; an attribute value also its quotes.
+std::string escape_html(std::string_view s, bool quotes) {
   std::string out;
   out.reserve(s.size());
   for (char c : s) {
@@ -34,27 +35,16 @@ std::string escape_text(std::string_view s) {
       case '&': out += "&amp;"; break;
       case '<': out += "&lt;"; break;
       case '>': out += "&gt;"; break;
+      case '"': out += quotes ? "&quot;" : "\""; break;
+      case '\'': out += quotes ? "&#39;" : "'"; break;
       default: out += c;
     }
   }
   return out;
 }
 
-std::string escape_attribute(std::string_view s) {
-  std::string out;
-  out.reserve(s.size());
-  for (char c : s) {
-    switch (c) {
-      case '&': out += "&amp;"; break;
-      case '<': out += "&lt;"; break;
-      case '>': out += "&gt;"; break;
-      case '"': out += "&quot;"; break;
-      case '\'': out += "&#39;"; break;
-      default: out += c;
-    }
-  }
-  return out;
-}
+std::string escape_text(std::string_view s) { return escape_html(s, false); }
+std::string escape_attribute(std::string_view s) { return escape_html(s, true); }
 
 // Script text can end its element only by "</script" and can open an
 // escaped state by "<!--" (HTML, "Restrictions for contents of script
