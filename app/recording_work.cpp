@@ -8,6 +8,7 @@
 
 #include <spdlog/spdlog.h>
 
+#include "app/sample_digest.h"
 #include "app/table_trials.h"
 #include "detectors/fixation_import.h"
 #include "detectors/recording_detection.h"
@@ -229,6 +230,15 @@ void detect_events(RecordingOutput& out, const EventDetector& detector, const De
   std::vector<std::uint8_t> codes(samples.size(), static_cast<std::uint8_t>(SampleLabel::other));
   DetectedEvents& ev = out.events;
   ev = DetectedEvents{};
+  SampleDigest& digest = out.digest;
+  digest = SampleDigest{};
+  const DigestSettings digest_settings{spec.eye, kTimeCoursePoints};
+  digest.max_points_per_trial = digest_settings.max_points_per_trial;
+  digest.samples = samples.size();
+  const std::size_t step = std::max<std::size_t>(options.chunk_rows, 1);
+  for (std::size_t from = 0; from < samples.size(); from += step) {
+    digest.missing_samples += samples_without_gaze(samples.slice(from, std::min<std::size_t>(samples.size(), from + step)));
+  }
   for (const Trial& trial : rec.trials) {
     const auto [first, last] = samples.range(trial.start_us, trial.end_us);
     // One trial at a time: a long recording never needs all its samples decoded at once.
@@ -251,6 +261,7 @@ void detect_events(RecordingOutput& out, const EventDetector& detector, const De
       else ev.losses.push_back({trial.id, s.time_us[i], s.time_us[i]});
     }
     ev.trials.push_back(std::move(td));
+    digest_trial(digest, s, 0, s.size(), trial, rec.screen, rec.sample_rate_hz, &d.events.fixations, digest_settings);
     auto move_all = [](auto& to, auto& from) { to.insert(to.end(), std::make_move_iterator(from.begin()), std::make_move_iterator(from.end())); };
     move_all(ev.fixations, d.events.fixations);
     move_all(ev.saccades, d.events.saccades);

@@ -18,6 +18,7 @@
 #include "pipeline/protocol.h"
 #include "pipeline/provenance.h"
 #include "pipeline/recording.h"
+#include "pipeline/sample_digest.h"
 #include "pipeline/trial_segmenter.h"
 
 namespace gazemill {
@@ -46,6 +47,7 @@ struct RecordingOutput {
   std::size_t other_eye_rows = 0;            // fixation list: rows of the eye the protocol leaves out
   DetectedEvents events;
   CompressedColumn labels;  // one per sample: the codes of SampleLabel
+  SampleDigest digest;      // detected this run: what the report needs from the samples
   std::string detect_key;
 };
 
@@ -55,7 +57,8 @@ struct RecordingOutput {
 RecordingOutput ingest_recording(const RecordingInputs& inputs, const Protocol& protocol,
                                  const std::vector<InputFileRecord>& known, const RecordingWorkOptions& options);
 
-/// Detects events in every trial of `out` (its samples must be present).
+/// Detects events in every trial of `out` (its samples must be present), and
+/// digests its samples for the report while each trial is decoded.
 void detect_events(RecordingOutput& out, const EventDetector& detector, const DetectionSpec& spec,
                    const RecordingWorkOptions& options);
 

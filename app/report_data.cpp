@@ -16,14 +16,14 @@
 #include <fmt/format.h>
 
 #include "app/protocol_parser.h"
-#include "detectors/gaze_trace.h"
-#include "detectors/visual_angle.h"
+#include "app/sample_digest.h"
 #include "gazemill/version.h"
 #include "io/alignment_io.h"
 #include "io/cleaning_io.h"
 #include "io/compressed_samples.h"
 #include "io/region_files.h"
 #include "io/report_store.h"
+#include "io/sample_digest_io.h"
 #include "io/sha256.h"
 #include "io/study_store.h"
 #include "measures/data_quality.h"
@@ -104,110 +104,26 @@ struct Gathered {
   std::vector<double> fixation_ms, kept_fixation_ms, amplitude_deg, peak_velocity;
 };
 
-Eye eye_for(EyeChoice choice, const FixationEvent& f) {
-  if (choice == EyeChoice::left) return Eye::left;
-  if (choice == EyeChoice::right) return Eye::right;
-  return f.eye;
-}
-
-// Rows [first, last) of the samples that fall in [from, to).
-std::pair<std::size_t, std::size_t> sample_range(const std::vector<Microseconds>& t, Microseconds from, Microseconds to) {
-  const auto a = std::lower_bound(t.begin(), t.end(), from);
-  const auto b = std::lower_bound(a, t.end(), to);
-  return {static_cast<std::size_t>(a - t.begin()), static_cast<std::size_t>(b - t.begin())};
-}
-
-// Precision of every fixation of one recording, by the eye it was detected in
-// (both averaged where detection averaged them).
-void gather_precision(const Recording& rec, const DetectedEvents& ev, std::optional<EyeChoice> choice, ParticipantAccumulator& acc) {
-  const VisualAngle angle(rec.screen);
-  const auto& t = rec.samples.time_us;
-  for (const auto& f : ev.fixations) {
-    const auto [first, last] = sample_range(t, f.start_us, f.end_us);
-    if (last <= first + 1) continue;
-    GazeTrace trace;
-    if (choice == EyeChoice::average && rec.samples.has_left && rec.samples.has_right) {
-      trace = average_eyes(make_gaze_trace(rec.samples, Eye::left, first, last, angle), make_gaze_trace(rec.samples, Eye::right, first, last, angle),
-                           angle);
-    } else {
-      Eye eye = eye_for(choice.value_or(EyeChoice::best), f);
-      if (eye == Eye::left && !rec.samples.has_left) eye = Eye::right;
-      if (eye == Eye::right && !rec.samples.has_right) eye = Eye::left;
-      trace = make_gaze_trace(rec.samples, eye, first, last, angle);
-    }
-    const FixationPrecision p = fixation_precision(trace.x_deg, trace.y_deg, trace.valid);
-    if (p.intervals == 0) continue;
-    acc.rms.push_back(p.rms_s2s_deg);
-    acc.stds.push_back(p.std_deg);
-  }
-}
-
-void gather_quality(const Recording& rec, const DetectedEvents* ev, std::optional<EyeChoice> choice, ParticipantAccumulator& acc) {
-  ParticipantQuality& q = acc.quality;
+// One recording's signal quality (its sample digest) added to its participant's.
+void add_quality(const Recording& rec, const SampleDigest& d, ParticipantAccumulator& to) {
+  ParticipantQuality& q = to.quality;
   ++q.recordings;
   q.trials += rec.trials.size();
-  const auto& s = rec.samples;
-  q.samples += s.size();
-  for (std::size_t i = 0; i < s.size(); ++i) {
-    const bool any = (s.has_left && s.left.valid[i]) || (s.has_right && s.right.valid[i]);
-    if (!any) ++q.missing_samples;
-  }
-  if (ev) {
-    for (const auto& td : ev->trials) {
-      q.trial_samples += td.samples;
-      q.trial_missing_samples += td.missing_samples;
-    }
-  } else {
-    for (const auto& tr : rec.trials) {
-      const auto [a, b] = sample_range(s.time_us, tr.start_us, tr.end_us + 1);
-      q.trial_samples += b - a;
-      for (std::size_t i = a; i < b; ++i) {
-        if (!((s.has_left && s.left.valid[i]) || (s.has_right && s.right.valid[i]))) ++q.trial_missing_samples;
-      }
-    }
-  }
-  // Regularity inside the trials: the pauses between trials are the experiment's, not the tracker's.
-  for (const auto& tr : rec.trials) {
-    const auto [a, b] = sample_range(s.time_us, tr.start_us, tr.end_us + 1);
-    if (b < a + 2) continue;
-    const SamplingRegularity r = sampling_regularity(std::span<const Microseconds>(s.time_us.data() + a, b - a));
-    q.intervals += r.intervals;
-    q.irregular_intervals += r.irregular_intervals;
-    q.gaps += r.gaps;
-    q.non_increasing += r.non_increasing;
-    q.longest_gap_us = std::max(q.longest_gap_us, r.longest_gap_us);
-    if (std::isfinite(r.measured_rate_hz)) acc.rates.push_back(r.measured_rate_hz);
-    if (std::isfinite(r.interval_sd_us)) {
-      const std::uint64_t regular = r.intervals - r.gaps - r.non_increasing;
-      acc.interval_sd_weighted += r.interval_sd_us * r.interval_sd_us * static_cast<double>(regular);
-      acc.regular_intervals += regular;
-    }
-  }
+  q.samples += d.samples;
+  q.missing_samples += d.missing_samples;
+  q.trial_samples += d.trial_samples;
+  q.trial_missing_samples += d.trial_missing_samples;
+  q.intervals += d.intervals;
+  q.irregular_intervals += d.irregular_intervals;
+  q.gaps += d.gaps;
+  q.non_increasing += d.non_increasing;
+  q.longest_gap_us = std::max(q.longest_gap_us, d.longest_gap_us);
   q.nominal_rate_hz = rec.sample_rate_hz;
-  if (ev) gather_precision(rec, *ev, choice, acc);
-}
-
-// One recording's signal quality added to its participant's.
-void add_quality(const ParticipantAccumulator& from, ParticipantAccumulator& to) {
-  const ParticipantQuality& a = from.quality;
-  ParticipantQuality& q = to.quality;
-  q.recordings += a.recordings;
-  q.trials += a.trials;
-  q.samples += a.samples;
-  q.missing_samples += a.missing_samples;
-  q.trial_samples += a.trial_samples;
-  q.trial_missing_samples += a.trial_missing_samples;
-  q.intervals += a.intervals;
-  q.irregular_intervals += a.irregular_intervals;
-  q.gaps += a.gaps;
-  q.non_increasing += a.non_increasing;
-  q.longest_gap_us = std::max(q.longest_gap_us, a.longest_gap_us);
-  q.nominal_rate_hz = a.nominal_rate_hz;
-  to.rates.insert(to.rates.end(), from.rates.begin(), from.rates.end());
-  to.interval_sd_weighted += from.interval_sd_weighted;
-  to.regular_intervals += from.regular_intervals;
-  to.rms.insert(to.rms.end(), from.rms.begin(), from.rms.end());
-  to.stds.insert(to.stds.end(), from.stds.begin(), from.stds.end());
+  to.rates.insert(to.rates.end(), d.trial_rates_hz.begin(), d.trial_rates_hz.end());
+  to.interval_sd_weighted += d.interval_variance_sum_us2;
+  to.regular_intervals += d.regular_intervals;
+  to.rms.insert(to.rms.end(), d.fixation_rms_s2s_deg.begin(), d.fixation_rms_s2s_deg.end());
+  to.stds.insert(to.stds.end(), d.fixation_std_deg.begin(), d.fixation_std_deg.end());
 }
 
 void finish_quality(ParticipantAccumulator& acc) {
@@ -396,27 +312,25 @@ class Assembler {
   }
 
   // What one recording contributes, read from the store on this thread (HDF5
-  // is not thread-safe) and worked out from its samples on a worker.
+  // is not thread-safe). Its sample digest comes with its events; only a
+  // store without one (or one made for another number of points) needs the
+  // samples, decoded and digested on a worker.
   struct RecordingWork {
-    Recording rec;  // metadata; samples decoded on the worker, released after
+    Recording rec;  // metadata; samples decoded on the worker when needed, released after
     std::vector<CompressedColumn> sample_chunks;
     std::optional<DetectedEvents> ev;
     std::vector<CleanFixation> kept;
     std::vector<RemovedFixationRow> removed;
     std::vector<TrialVerdictRow> verdicts;
     bool cleaned = false;
-    ParticipantAccumulator quality;       // this recording's part of its participant's signal quality
-    std::vector<ViewerTrial> time_courses;  // per trial, in rec.trials order: bin_ms, x_px, y_px
+    std::optional<SampleDigest> digest;
   };
 
-  // The sample-heavy part, on a worker: decode, signal quality, time courses.
   void work_on_samples(RecordingWork& w) const {
+    if (w.digest) return;
     w.rec.samples = decode_samples(w.rec.samples.has_left, w.rec.samples.has_right, std::move(w.sample_chunks));
     w.sample_chunks.clear();
-    gather_quality(w.rec, w.ev ? &*w.ev : nullptr, eye_choice_, w.quality);
-    const double interval_us = w.rec.sample_rate_hz > 0 ? 1e6 / w.rec.sample_rate_hz : 1000.0;
-    w.time_courses.resize(w.rec.trials.size());
-    for (std::size_t i = 0; i < w.rec.trials.size(); ++i) time_course(w.rec, w.rec.trials[i], interval_us, w.time_courses[i]);
+    w.digest = digest_recording(w.rec, w.ev ? &*w.ev : nullptr, {eye_choice_.value_or(EyeChoice::best), o_.max_points_per_trial});
     w.rec.samples = SampleColumns{};
   }
 
@@ -435,8 +349,12 @@ class Assembler {
         RecordingWork& w = batch[i - from];
         const std::string& id = ids_[i];
         w.rec = store_.read_recording(id, false);
-        w.sample_chunks = store_.read_sample_chunks(id);
-        if (store_.has_events(id)) w.ev = store_.read_events(id);
+        if (store_.has_events(id)) {
+          w.ev = store_.read_events(id);
+          w.digest = read_sample_digest(store_, id);
+          if (w.digest && w.digest->max_points_per_trial != o_.max_points_per_trial) w.digest.reset();
+        }
+        if (!w.digest) w.sample_chunks = store_.read_sample_chunks(id);
         w.cleaned = have_clean && store_.exists("recordings/" + id + "/clean");
         if (w.cleaned) {
           w.kept = read_clean_fixations(store_, id);
@@ -477,7 +395,7 @@ class Assembler {
           v.screen_height_px = rec.screen.height_px;
         }
         m_.run.trials += rec.trials.size();
-        m_.run.samples += w.quality.quality.samples;
+        m_.run.samples += w.digest->samples;
         ParticipantAccumulator& acc = gathered_.participants[rec.participant];
         acc.quality.participant = rec.participant;
         acc.events.participant = rec.participant;
@@ -485,13 +403,13 @@ class Assembler {
           acc.quality.repairs += rp.count;
           acc.quality.repair_kinds[rp.kind] += rp.count;
         }
-        add_quality(w.quality, acc);
+        add_quality(rec, *w.digest, acc);
         if (w.ev) {
           events_seen = true;
           gather_events(rec, *w.ev, acc);
         }
         for (const auto& f : w.kept) gathered_.kept_fixation_ms.push_back(f.duration_ms);
-        v.recordings.push_back(viewer_recording(rec, w.ev ? &*w.ev : nullptr, w.cleaned, w.kept, w.removed, w.verdicts, w.time_courses));
+        v.recordings.push_back(viewer_recording(rec, w.ev ? &*w.ev : nullptr, w.cleaned, w.kept, w.removed, w.verdicts, w.digest->time_courses));
       }
     }
     m_.run.participants = participants.size();
@@ -526,7 +444,7 @@ class Assembler {
 
   ViewerRecording viewer_recording(const Recording& rec, const DetectedEvents* ev, bool cleaned, const std::vector<CleanFixation>& kept,
                                    const std::vector<RemovedFixationRow>& removed, const std::vector<TrialVerdictRow>& verdicts,
-                                   std::vector<ViewerTrial>& time_courses) {
+                                   std::vector<TrialTimeCourse>& time_courses) {
     ViewerRecording out{rec.id, rec.participant, rec.session, {}};
     std::map<std::string, TrialSources> by_trial;
     for (const auto& t : rec.trials) by_trial[t.id].trial = &t;
@@ -598,25 +516,6 @@ class Assembler {
       out.trials.push_back(std::move(vt));
     }
     return out;
-  }
-
-  void time_course(const Recording& rec, const Trial& t, double interval_us, ViewerTrial& vt) const {
-    const auto span = static_cast<double>(t.end_us - t.start_us);
-    if (span <= 0) return;
-    double bin_us = std::max(interval_us, span / static_cast<double>(std::max<std::size_t>(o_.max_points_per_trial, 1)));
-    bin_us = std::ceil(bin_us / 1000.0) * 1000.0;
-    vt.bin_ms = bin_us / 1000.0;
-    const auto& s = rec.samples;
-    const Eye eye = s.has_left ? Eye::left : Eye::right;
-    // The eye drawn: the one detection used for this trial where both were recorded.
-    Eye shown = eye;
-    if (s.has_left && s.has_right && eye_choice_ == EyeChoice::right) shown = Eye::right;
-    const auto& e = s.eye(shown);
-    const auto b = static_cast<Microseconds>(bin_us);
-    const auto xs = bin_means(s.time_us, e.x_px, e.valid, t.start_us, t.end_us + 1, b);
-    const auto ys = bin_means(s.time_us, e.y_px, e.valid, t.start_us, t.end_us + 1, b);
-    vt.x_px.assign(xs.begin(), xs.end());
-    vt.y_px.assign(ys.begin(), ys.end());
   }
 
   int layout_index(const std::string& item, const std::map<std::string, std::string>& variables) {

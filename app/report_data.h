@@ -9,13 +9,14 @@
 #include <string>
 
 #include "pipeline/report_model.h"
+#include "pipeline/sample_digest.h"
 
 namespace gazemill {
 
 struct ReportDataOptions {
   /// The viewer's time course: at most this many points per trial (bins of
   /// at least one sample interval, widened to a whole millisecond).
-  std::size_t max_points_per_trial = 400;
+  std::size_t max_points_per_trial = kTimeCoursePoints;
   /// Recordings worked on at once (0: one per core).
   std::size_t threads = 0;
   /// A participant stands apart in detection when a figure's |robust z| is

@@ -10,6 +10,7 @@
 #include <ctime>
 #include <exception>
 #include <filesystem>
+#include <future>
 #include <memory>
 #include <mutex>
 #include <set>
@@ -33,6 +34,7 @@
 #include "io/measures_io.h"
 #include "io/region_files.h"
 #include "io/review_file.h"
+#include "io/sample_digest_io.h"
 #include "io/sha256.h"
 #include "io/study_store.h"
 #include "io/table_set.h"
@@ -344,6 +346,7 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
       if (r.other_eye_rows) spdlog::info("{}: {} fixation(s) of the other eye left out (input.fixations.eye)", id, r.other_eye_rows);
     } else {
       out.write_events(id, r.events, r.labels, p_.detection.method, nlohmann::json(detector_->parameters()).dump(), r.detect_key);
+      write_sample_digest(out, id, r.digest);
     }
     ++report_.recordings_detected;
     report_.samples_detected += r.samples ? r.samples->size() : 0;
@@ -795,7 +798,7 @@ StudyRunReport StudyRun::execute() {
     spdlog::debug("store written after {:.2f} s", since());
   }
   if (!o_.tables_folder.empty()) {
-    const auto written = write_study_tables(o_.store_path, o_.tables_folder, p_, &report_);
+    const auto written = write_study_tables(o_.store_path, o_.tables_folder, p_, &report_, o_.jobs);
     report_.tables = written;
     report_.tables_folder = o_.tables_folder;
   }
@@ -807,7 +810,7 @@ StudyRunReport StudyRun::execute() {
 }  // namespace
 
 std::vector<std::string> write_study_tables(const std::string& store_path, const std::string& folder, const Protocol& p,
-                                            StudyRunReport* fresh) {
+                                            StudyRunReport* fresh, unsigned jobs) {
   StudyStoreReader store(store_path);
   nlohmann::json manifest;
   manifest["store"] = fs::absolute(store_path).lexically_normal().string();
@@ -825,40 +828,61 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   TableSet set(folder);
   std::optional<RegionCatalogue> regions;
   if (p.regions.present()) regions = load_regions(p);
+  // The store is read on this thread (HDF5 is not thread-safe); the tables
+  // are formatted on threads of their own and added in a fixed order.
+  StudyRunReport again;  // before the tables: their threads may read its rows until they are joined
+  std::vector<std::pair<std::string, std::future<std::string>>> tables;
+  const auto policy = jobs == 1 ? std::launch::deferred : std::launch::async;  // -j1: formatted in turn on this thread
+  auto format = [&tables, policy](std::string name, auto make) { tables.emplace_back(std::move(name), std::async(policy, std::move(make))); };
+  std::shared_ptr<const EventTables> events;
   if (current(Stage::detect)) {
-    const EventTables events = event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align));
-    set.add("fixations.tsv", fixations_tsv(events, p.design));
-    set.add("saccades.tsv", saccades_tsv(events, p.design));
-    set.add("blinks.tsv", blinks_tsv(events, p.design));
+    events = std::make_shared<const EventTables>(event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align)));
+    format("fixations.tsv", [events, &p] { return fixations_tsv(*events, p.design); });
+    format("saccades.tsv", [events, &p] { return saccades_tsv(*events, p.design); });
+    format("blinks.tsv", [events, &p] { return blinks_tsv(*events, p.design); });
   }
   if (current(Stage::clean)) {
-    const AuditReport audit = fresh && fresh->audit ? *fresh->audit : read_audit(store);
-    set.add("audit.tsv", audit_tsv(audit));
-    set.add("audit_totals.tsv", audit_totals_tsv(audit));
-    set.add("audit.json", audit_json(audit));
+    auto audit = std::make_shared<const AuditReport>(fresh && fresh->audit ? *fresh->audit : read_audit(store));
+    format("audit.tsv", [audit] { return audit_tsv(*audit); });
+    format("audit_totals.tsv", [audit] { return audit_totals_tsv(*audit); });
+    format("audit.json", [audit] { return audit_json(*audit); });
   }
+  std::vector<std::pair<std::string, std::string>> drawings;
   if (current(Stage::align) && regions) {
-    const auto alignment = read_alignment(store);
-    set.add("alignment_trials.tsv", alignment_trials_tsv(alignment));
-    for (const auto& [name, svg] : flagged_trial_drawings(p, *regions, cleaned_recordings(store), alignment)) {
-      set.add("flagged_trials/" + name, svg);
+    auto alignment = std::make_shared<const std::vector<RecordingAlignment>>(read_alignment(store));
+    format("alignment_trials.tsv", [alignment] { return alignment_trials_tsv(*alignment); });
+    for (auto& [name, svg] : flagged_trial_drawings(p, *regions, cleaned_recordings(store), *alignment)) {
+      drawings.emplace_back("flagged_trials/" + name, std::move(svg));
     }
   }
   if (current(Stage::measure) && regions) {
-    StudyRunReport again;
     StudyRunReport& r = fresh ? *fresh : again;
     if (r.rows.empty()) {
       // Measured before: the same rows again from the store's cleaned fixations and lines.
       r.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions, p.regions, p.design, &r.placement);
     }
     const auto& rows = r.rows;
-    set.add("measures.tsv", measures_long_tsv(rows, p.design));
-    set.add("measures_wide.tsv", measures_wide_tsv(rows, p.design));
-    set.add("measures_by_item_region.tsv", aggregates_tsv(aggregate_by_item_region(rows), p.design.factors));
-    set.add("measures_by_role.tsv", aggregates_tsv(aggregate_by_role(rows), p.design.factors));
-    set.add("measures_by_participant.tsv", aggregates_tsv(aggregate_by_participant(rows), p.design.factors));
-    set.add("fixation_placement.tsv", placement_tsv(r.placement, p.design.factors));
+    format("measures.tsv", [&rows, &p] { return measures_long_tsv(rows, p.design); });
+    format("measures_wide.tsv", [&rows, &p] { return measures_wide_tsv(rows, p.design); });
+    format("measures_by_item_region.tsv", [&rows, &p] { return aggregates_tsv(aggregate_by_item_region(rows), p.design.factors); });
+    format("measures_by_role.tsv", [&rows, &p] { return aggregates_tsv(aggregate_by_role(rows), p.design.factors); });
+    format("measures_by_participant.tsv", [&rows, &p] { return aggregates_tsv(aggregate_by_participant(rows), p.design.factors); });
+    format("fixation_placement.tsv", [&r, &p] { return placement_tsv(r.placement, p.design.factors); });
   }
+  // In the order the set always had: events, audit, alignment and its drawings, measures.
+  std::size_t next = 0;
+  auto add_until = [&](const char* last) {
+    for (; next < tables.size(); ++next) {
+      set.add(tables[next].first, tables[next].second.get());
+      if (tables[next].first == last) {
+        ++next;
+        return;
+      }
+    }
+  };
+  add_until("alignment_trials.tsv");
+  for (const auto& [name, svg] : drawings) set.add(name, svg);
+  add_until("");
   set.commit(manifest.dump(2));
   return set.names();
 }

@@ -63,9 +63,10 @@ StudyRunReport run_study(const Protocol& protocol, const StudyRunOptions& option
 /// a manifest: the event lists once detected, the audit once cleaned, the
 /// measures once measured. Skipped when the folder already holds this very
 /// set. `fresh` lends what a run has in memory (and takes the rows computed
-/// here). Returns the files written.
+/// here). Tables are formatted on threads of their own unless `jobs` is 1.
+/// Returns the files written.
 std::vector<std::string> write_study_tables(const std::string& store_path, const std::string& folder, const Protocol& protocol,
-                                            StudyRunReport* fresh = nullptr);
+                                            StudyRunReport* fresh = nullptr, unsigned jobs = 0);
 
 /// The study-level keys of ingest and detect from the recordings' own keys
 /// (by recording id), as every run and a merge of shards compute them.

@@ -1,12 +1,12 @@
 #include "io/alignment_io.h"
 
-#include <fmt/format.h>
 
 #include <cmath>
 #include <limits>
 #include <set>
 
 #include "io/hdf5_util.h"
+#include "io/number_text.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
@@ -75,7 +75,7 @@ std::string alignment_trials_tsv(const std::vector<RecordingAlignment>& alignmen
   std::string out = "recording\ttrial\tmethod\tconfidence\tflagged\texcluded\treview";
   for (const auto& n : names) out += "\t" + n;
   out += "\n";
-  auto num = [](double v) { return std::isfinite(v) ? fmt::format("{:.6g}", v) : std::string("NA"); };
+  auto num = [](double v) { return std::isfinite(v) ? general_text(v, 6) : std::string("NA"); };
   for (const auto& a : alignment) {
     for (const auto& t : a.trials) {
       out += a.recording + "\t" + t.trial + "\t" + t.method + "\t" + num(t.confidence) + "\t" + (t.flagged ? "1" : "0") + "\t" +

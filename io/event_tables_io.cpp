@@ -1,24 +1,24 @@
 #include "io/event_tables_io.h"
 
-#include <fmt/format.h>
-
 #include <algorithm>
 #include <cmath>
 #include <set>
+
+#include "io/number_text.h"
 
 namespace gazemill {
 namespace {
 
 // Milliseconds to the microsecond, without trailing zeros.
 std::string ms(double v) {
-  std::string s = fmt::format("{:.3f}", v);
+  std::string s = fixed_text(v, 3);
   while (s.back() == '0') s.pop_back();
   if (s.back() == '.') s.pop_back();
   return s;
 }
 std::string num(double v, int decimals) {
   if (!std::isfinite(v)) return "NA";
-  return fmt::format("{:.{}f}", v, decimals);
+  return fixed_text(v, decimals);
 }
 template <typename T>
 std::string opt(const std::optional<T>& v, int decimals = 2) {

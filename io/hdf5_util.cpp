@@ -1,6 +1,7 @@
 #include "io/hdf5_util.h"
 
 #include <algorithm>
+#include <cstring>
 
 namespace gazemill::h5 {
 
@@ -148,6 +149,16 @@ void write_column(H5::Group& group, const std::string& name, const std::vector<T
   if (!unit.empty()) set_attr(ds, "unit", unit);
 }
 
+// A type-conversion buffer sized to the strings: by default HDF5 zero-fills
+// 1 MiB for every read or write that converts (a third of an ingest's page
+// faults once, and of `export`'s instructions).
+H5::DSetMemXferPropList small_conversion_buffer(hsize_t n) {
+  H5::DSetMemXferPropList xfer;
+  const std::size_t bytes = std::max<std::size_t>(4096, static_cast<std::size_t>(n) * 32);
+  H5Pset_buffer(xfer.getId(), std::min<std::size_t>(bytes, std::size_t{1} << 20), nullptr, nullptr);
+  return xfer;
+}
+
 void write_strings(H5::Group& group, const std::string& name, const std::vector<std::string>& values) {
   const hsize_t n = values.size();
   const hsize_t maxdims = H5S_UNLIMITED;
@@ -157,20 +168,31 @@ void write_strings(H5::Group& group, const std::string& name, const std::vector<
   p.setChunk(1, &chunk);
   p.setDeflate(4);
   H5Pset_obj_track_times(p.getId(), 0);
+  // Fixed-length (null-padded) when the longest value is not far beyond the
+  // rest: read back with one copy, where variable-length strings cost a heap
+  // lookup each (most of what reading a store's tables took). Columns with
+  // a few long values (message texts) stay variable-length.
+  std::size_t longest = 1, total = 0;
+  for (const auto& v : values) {
+    longest = std::max(longest, v.size());
+    total += v.size();
+  }
+  if (static_cast<std::size_t>(n) * longest <= 8 * total + (std::size_t{1} << 16)) {
+    H5::StrType t(H5::PredType::C_S1, longest);
+    t.setCset(H5T_CSET_UTF8);
+    t.setStrpad(H5T_STR_NULLPAD);
+    H5::DataSet ds = group.createDataSet(name, t, space, p);
+    std::vector<char> packed(static_cast<std::size_t>(n) * longest, '\0');
+    for (std::size_t i = 0; i < values.size(); ++i) std::memcpy(packed.data() + i * longest, values[i].data(), values[i].size());
+    if (n > 0) ds.write(packed.data(), t);
+    return;
+  }
   const H5::StrType t = utf8_string();
   H5::DataSet ds = group.createDataSet(name, t, space, p);
   std::vector<const char*> ptrs;
   ptrs.reserve(values.size());
   for (const auto& v : values) ptrs.push_back(v.c_str());
-  if (n > 0) {
-    // By default HDF5 zero-fills a 1 MiB type-conversion buffer for every
-    // write; these writes made about a third of an ingest's page faults. A
-    // few bytes per string are plenty.
-    H5::DSetMemXferPropList xfer;
-    const std::size_t bytes = std::max<std::size_t>(4096, static_cast<std::size_t>(n) * 32);
-    H5Pset_buffer(xfer.getId(), std::min<std::size_t>(bytes, std::size_t{1} << 20), nullptr, nullptr);
-    ds.write(ptrs.data(), t, H5::DataSpace::ALL, H5::DataSpace::ALL, xfer);
-  }
+  if (n > 0) ds.write(ptrs.data(), t, H5::DataSpace::ALL, H5::DataSpace::ALL, small_conversion_buffer(n));
 }
 
 template <typename T>
@@ -195,15 +217,27 @@ std::vector<T> read_column_range(const H5::Group& group, const std::string& name
   return out;
 }
 
-std::vector<std::string> read_strings(const H5::Group& group, const std::string& name) {
-  H5::DataSet ds = group.openDataSet(name);
-  hsize_t n = 0;
-  ds.getSpace().getSimpleExtentDims(&n);
-  std::vector<char*> ptrs(n, nullptr);
-  const H5::StrType t = utf8_string();
-  if (n > 0) ds.read(ptrs.data(), t);
+std::vector<std::string> read_strings(const H5::DataSet& ds) {
+  const auto n = static_cast<hsize_t>(ds.getSpace().getSimpleExtentNpoints());
   std::vector<std::string> out;
   out.reserve(n);
+  const H5::StrType file_type = ds.getStrType();
+  if (!file_type.isVariableStr()) {
+    const std::size_t size = file_type.getSize();
+    H5::StrType t(H5::PredType::C_S1, size);
+    t.setCset(file_type.getCset());
+    t.setStrpad(file_type.getStrpad());
+    std::vector<char> packed(static_cast<std::size_t>(n) * size);
+    if (n > 0) ds.read(packed.data(), t);
+    for (std::size_t i = 0; i < n; ++i) {
+      const char* p = packed.data() + i * size;
+      out.emplace_back(p, strnlen(p, size));
+    }
+    return out;
+  }
+  std::vector<char*> ptrs(n, nullptr);
+  const H5::StrType t = utf8_string();
+  if (n > 0) ds.read(ptrs.data(), t, H5::DataSpace::ALL, H5::DataSpace::ALL, small_conversion_buffer(n));
   for (char* p : ptrs) out.emplace_back(p ? p : "");
   if (n > 0) {
     H5::DataSpace space = ds.getSpace();
@@ -211,6 +245,8 @@ std::vector<std::string> read_strings(const H5::Group& group, const std::string&
   }
   return out;
 }
+
+std::vector<std::string> read_strings(const H5::Group& group, const std::string& name) { return read_strings(group.openDataSet(name)); }
 
 std::vector<std::string> child_names(const H5::Group& group) {
   std::vector<std::string> out;

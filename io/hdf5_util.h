@@ -64,7 +64,9 @@ std::vector<T> read_column(const H5::Group& group, const std::string& name);
 /// Reads rows [first, first + count) of a 1-D dataset.
 template <typename T>
 std::vector<T> read_column_range(const H5::Group& group, const std::string& name, hsize_t first, hsize_t count);
+/// A 1-D string dataset, fixed-length or variable-length, as text.
 std::vector<std::string> read_strings(const H5::Group& group, const std::string& name);
+std::vector<std::string> read_strings(const H5::DataSet& dataset);
 std::vector<std::string> child_names(const H5::Group& group);
 
 }  // namespace gazemill::h5

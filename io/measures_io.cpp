@@ -9,6 +9,7 @@
 #include <set>
 
 #include "io/hdf5_util.h"
+#include "io/number_text.h"
 #include "pipeline/design.h"
 
 namespace gazemill {
@@ -16,7 +17,7 @@ namespace {
 
 std::string na(const std::optional<double>& v) {
   if (!v) return "NA";
-  return fmt::format("{:.6g}", *v);
+  return general_text(*v, 6);
 }
 
 std::string text_or_na(const std::string& s) { return s.empty() ? "NA" : s; }

@@ -41,22 +41,17 @@ std::set<std::string> dataset_paths(const H5::H5File& f) {
   return out;
 }
 
-// The dataset's values as bytes; variable-length strings as their text.
+// The dataset's values as bytes; strings as their text.
 std::string content(const H5::DataSet& ds) {
   const H5::DataType type = ds.getDataType();
   H5::DataSpace space = ds.getSpace();
   const hssize_t n = space.getSimpleExtentNpoints();
-  if (type.getClass() == H5T_STRING && H5Tis_variable_str(type.getId()) > 0) {
-    std::vector<char*> ptrs(static_cast<std::size_t>(n), nullptr);
-    H5::StrType st(H5::PredType::C_S1, H5T_VARIABLE);
-    st.setCset(H5T_CSET_UTF8);
-    if (n > 0) ds.read(ptrs.data(), st);
+  if (type.getClass() == H5T_STRING) {  // by text: fixed- and variable-length alike
     std::string out;
-    for (char* p : ptrs) {
-      out += p ? p : "";
+    for (const auto& v : h5::read_strings(ds)) {
+      out += v;
       out.push_back('\0');
     }
-    if (n > 0) H5Dvlen_reclaim(st.getId(), space.getId(), H5P_DEFAULT, ptrs.data());
     return out;
   }
   const hid_t mem = H5Tget_native_type(type.getId(), H5T_DIR_DEFAULT);

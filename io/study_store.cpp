@@ -143,6 +143,8 @@ std::unique_ptr<StudyStoreWriter> StudyStoreWriter::update(const std::string& pa
     w->impl_->options = options;
     w->impl_->file = H5::H5File(w->temp_path_, H5F_ACC_RDWR, H5::FileCreatPropList::DEFAULT, access_properties());
     w->impl_->recordings = w->impl_->file.openGroup("/recordings");
+    H5::Group root = w->impl_->file.openGroup("/");
+    h5::set_attr(root, "format_version", kStoreFormatVersion);  // what it gains now is written as this version writes
   } catch (const H5::Exception& e) {
     w->impl_.reset();
     std::remove(w->temp_path_.c_str());
@@ -577,10 +579,10 @@ StudyStoreReader::StudyStoreReader(const std::string& path) : impl_(std::make_un
     throw InputError({path, 0, "/"}, std::string("not a gazemill study store (attribute format != ") + kStoreFormat + ")");
   }
   const auto version = h5::get_int_attr(root, "format_version");
-  if (version != kStoreFormatVersion) {
-    throw InputError({path, 0, "/"}, "store format version " + std::to_string(version) + " is not the version " +
-                                         std::to_string(kStoreFormatVersion) + " this gazemill reads; run the study again (gazemill run) "
-                                         "to make a store of this version");
+  if (version < kOldestReadableStoreFormat || version > kStoreFormatVersion) {
+    throw InputError({path, 0, "/"}, "store format version " + std::to_string(version) + " is not one of the versions " +
+                                         std::to_string(kOldestReadableStoreFormat) + " to " + std::to_string(kStoreFormatVersion) +
+                                         " this gazemill reads; run the study again with this gazemill to make a store it reads");
   }
 }
 

@@ -1,7 +1,7 @@
 #pragma once
 // The HDF5 study store: one file per study, a group per recording.
 //
-// Layout (format "gazemill-study-store", version 2):
+// Layout (format "gazemill-study-store", version 3; version 2 is read too):
 //   /                                  attrs format, format_version
 //   /provenance                        attrs gazemill_version, protocol_path, protocol_text,
 //                                      protocol_sha256, created_utc (of the ingest)
@@ -41,7 +41,8 @@
 //                                                  detection, never replacing it. attrs source ("BIDS physio events")
 //   /recordings/<id>/tracker_events/{fixations,saccades,blinks}/{eye,start_us,end_us}   one row per event as the
 //                                                  tracker's physio events file gives it (end = onset + duration)
-// Sample columns and labels are chunked (65 536 rows), shuffled and deflated; every numeric dataset
+// String columns are UTF-8, fixed-length and null-padded, or variable-length where a few values are
+// far longer than the rest. Sample columns and labels are chunked (65 536 rows), shuffled and deflated; every numeric dataset
 // has a "unit" attribute. The file keeps its free-space map, so a run that replaces results in
 // place reuses their space instead of growing the file.
 
@@ -62,7 +63,10 @@
 namespace gazemill {
 
 inline constexpr const char* kStoreFormat = "gazemill-study-store";
-inline constexpr std::int64_t kStoreFormatVersion = 2;
+inline constexpr std::int64_t kStoreFormatVersion = 3;
+/// Version 2 differs only in keeping every string column variable-length
+/// (version 3 keeps most fixed-length); both read alike.
+inline constexpr std::int64_t kOldestReadableStoreFormat = 2;
 /// Marker times absent from a trial are stored as this value.
 inline constexpr Microseconds kMissingTime = INT64_MIN;
 

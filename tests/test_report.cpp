@@ -190,6 +190,45 @@ TEST(ReportData, PrecisionMeasuresTheSimulatedNoise) {
   }
 }
 
+// The report's sample figures come from the digest detect keeps with its
+// events; a store without digests (or a report asked for another number of
+// points) makes them from the samples instead. Both must give one page: the
+// digest is only where the figures are computed, never what they are.
+// (Consistency of two ways, no outside source; the figures themselves are
+// checked against the simulator above and in tests/python/check_report_figures.py.)
+TEST(ReportData, FiguresFromTheStoredDigestEqualThoseFromTheSamples) {
+  TempDir dir;
+  const std::string copy = (dir.path() / "no-digest.gzm.h5").string();
+  fs::copy_file(demo().store, copy);
+  {
+    H5::H5File f(copy, H5F_ACC_RDWR);
+    H5::Group recordings = f.openGroup("/recordings");
+    std::size_t removed = 0;
+    for (hsize_t i = 0; i < recordings.getNumObjs(); ++i) {
+      const std::string path = recordings.getObjnameByIdx(i) + "/events/sample_digest";
+      if (H5Lexists(recordings.getId(), path.c_str(), H5P_DEFAULT) > 0) {
+        recordings.unlink(path);
+        ++removed;
+      }
+    }
+    ASSERT_EQ(removed, 4u) << "detect keeps a digest per recording";
+  }
+  ReportModel with = assemble_report(demo().store), without = assemble_report(copy);
+  with.run.store_path = without.run.store_path = "";
+  with.run.report_created_utc = without.run.report_created_utc = "";
+  EXPECT_EQ(report_html(with), report_html(without));
+  ReportDataOptions other;
+  other.max_points_per_trial = 123;  // not the digest's: made from the samples
+  const ReportModel coarse = assemble_report(demo().store, other);
+  ASSERT_FALSE(coarse.viewer.recordings.empty());
+  std::size_t longest = 0;
+  for (const auto& r : coarse.viewer.recordings) {
+    for (const auto& t : r.trials) longest = std::max(longest, t.x_px.size());
+  }
+  EXPECT_LE(longest, 123u);
+  EXPECT_GT(longest, 60u);
+}
+
 // The viewer's text is the protocol's layout: every word of an item's text at
 // the left edge pipeline/text_layout computes for it (here: monospaced 12 px
 // from the 100 px margin).

@@ -108,10 +108,10 @@ with tempfile.TemporaryDirectory() as tmp:
                 entry["detected_ms"] = detected_ms[j]
                 stored[(rec, text(cols["trial"][i]), int(detected_start[j]))] = entry
             first_id += len(detected_start)
-        wide = pd.DataFrame({k: ([text(x) for x in v[:]] if v.dtype == object else v[:]) for k, v in h["measures/wide"].items()})
+        wide = pd.DataFrame({k: ([text(x) for x in v[:]] if v.dtype.kind in "OS" else v[:]) for k, v in h["measures/wide"].items()})
         aggregates = {}
         for name in ("by_item_region", "by_role", "by_participant"):
-            aggregates[name] = pd.DataFrame({k: ([text(x) for x in v[:]] if v.dtype == object else v[:])
+            aggregates[name] = pd.DataFrame({k: ([text(x) for x in v[:]] if v.dtype.kind in "OS" else v[:])
                                              for k, v in h["measures"][name].items() if isinstance(v, h5py.Dataset)})
 
 # ---------------------------------------------------------------------------

@@ -1,0 +1,121 @@
+#include "app/sample_digest.h"
+
+#include <algorithm>
+#include <cmath>
+#include <span>
+
+#include "detectors/gaze_trace.h"
+#include "detectors/visual_angle.h"
+#include "measures/data_quality.h"
+
+namespace gazemill {
+namespace {
+
+// Rows [first, last) of the samples that fall in [from, to), within [lo, hi).
+std::pair<std::size_t, std::size_t> sample_range(const std::vector<Microseconds>& t, std::size_t lo, std::size_t hi, Microseconds from,
+                                                 Microseconds to) {
+  const auto a = std::lower_bound(t.begin() + static_cast<std::ptrdiff_t>(lo), t.begin() + static_cast<std::ptrdiff_t>(hi), from);
+  const auto b = std::lower_bound(a, t.begin() + static_cast<std::ptrdiff_t>(hi), to);
+  return {static_cast<std::size_t>(a - t.begin()), static_cast<std::size_t>(b - t.begin())};
+}
+
+// Precision of each fixation, in the eye it was detected in (both averaged
+// where detection averaged them).
+void add_precision(SampleDigest& d, const SampleColumns& s, std::size_t lo, std::size_t hi, const ScreenGeometry& screen,
+                   const std::vector<FixationEvent>& fixations, EyeChoice choice) {
+  const VisualAngle angle(screen);
+  for (const auto& f : fixations) {
+    const auto [first, last] = sample_range(s.time_us, lo, hi, f.start_us, f.end_us);
+    if (last <= first + 1) continue;
+    GazeTrace trace;
+    if (choice == EyeChoice::average && s.has_left && s.has_right) {
+      trace = average_eyes(make_gaze_trace(s, Eye::left, first, last, angle), make_gaze_trace(s, Eye::right, first, last, angle), angle);
+    } else {
+      Eye eye = choice == EyeChoice::left ? Eye::left : choice == EyeChoice::right ? Eye::right : f.eye;
+      if (eye == Eye::left && !s.has_left) eye = Eye::right;
+      if (eye == Eye::right && !s.has_right) eye = Eye::left;
+      trace = make_gaze_trace(s, eye, first, last, angle);
+    }
+    const FixationPrecision p = fixation_precision(trace.x_deg, trace.y_deg, trace.valid);
+    if (p.intervals == 0) continue;
+    d.fixation_rms_s2s_deg.push_back(p.rms_s2s_deg);
+    d.fixation_std_deg.push_back(p.std_deg);
+  }
+}
+
+TrialTimeCourse time_course(const SampleColumns& s, std::size_t lo, std::size_t hi, const Trial& t, double interval_us,
+                            const DigestSettings& settings) {
+  TrialTimeCourse out;
+  const auto span = static_cast<double>(t.end_us - t.start_us);
+  if (span <= 0) return out;
+  double bin_us = std::max(interval_us, span / static_cast<double>(std::max<std::size_t>(settings.max_points_per_trial, 1)));
+  bin_us = std::ceil(bin_us / 1000.0) * 1000.0;  // whole milliseconds
+  out.bin_ms = bin_us / 1000.0;
+  // The eye drawn: the one detection used where both were recorded.
+  Eye shown = s.has_left ? Eye::left : Eye::right;
+  if (s.has_left && s.has_right && settings.eye == EyeChoice::right) shown = Eye::right;
+  const auto& e = s.eye(shown);
+  const auto b = static_cast<Microseconds>(bin_us);
+  const std::span<const Microseconds> time(s.time_us.data() + lo, hi - lo);
+  const auto xs = bin_means(time, std::span<const float>(e.x_px.data() + lo, hi - lo), std::span<const std::uint8_t>(e.valid.data() + lo, hi - lo),
+                            t.start_us, t.end_us + 1, b);
+  const auto ys = bin_means(time, std::span<const float>(e.y_px.data() + lo, hi - lo), std::span<const std::uint8_t>(e.valid.data() + lo, hi - lo),
+                            t.start_us, t.end_us + 1, b);
+  out.x_px.assign(xs.begin(), xs.end());
+  out.y_px.assign(ys.begin(), ys.end());
+  return out;
+}
+
+}  // namespace
+
+std::uint64_t samples_without_gaze(const SampleColumns& s) {
+  std::uint64_t n = 0;
+  for (std::size_t i = 0; i < s.size(); ++i) n += !((s.has_left && s.left.valid[i]) || (s.has_right && s.right.valid[i]));
+  return n;
+}
+
+void digest_trial(SampleDigest& d, const SampleColumns& s, std::size_t first, std::size_t last, const Trial& trial, const ScreenGeometry& screen,
+                  double sample_rate_hz, const std::vector<FixationEvent>* fixations, const DigestSettings& settings) {
+  d.max_points_per_trial = settings.max_points_per_trial;
+  d.trial_samples += last - first;
+  for (std::size_t i = first; i < last; ++i) d.trial_missing_samples += !((s.has_left && s.left.valid[i]) || (s.has_right && s.right.valid[i]));
+  if (last >= first + 2) {
+    const SamplingRegularity r = sampling_regularity(std::span<const Microseconds>(s.time_us.data() + first, last - first));
+    d.intervals += r.intervals;
+    d.irregular_intervals += r.irregular_intervals;
+    d.gaps += r.gaps;
+    d.non_increasing += r.non_increasing;
+    d.longest_gap_us = std::max(d.longest_gap_us, r.longest_gap_us);
+    if (std::isfinite(r.measured_rate_hz)) d.trial_rates_hz.push_back(r.measured_rate_hz);
+    if (std::isfinite(r.interval_sd_us)) {
+      const std::uint64_t regular = r.intervals - r.gaps - r.non_increasing;
+      d.interval_variance_sum_us2 += r.interval_sd_us * r.interval_sd_us * static_cast<double>(regular);
+      d.regular_intervals += regular;
+    }
+  }
+  if (fixations) add_precision(d, s, first, last, screen, *fixations, settings.eye);
+  const double interval_us = sample_rate_hz > 0 ? 1e6 / sample_rate_hz : 1000.0;
+  d.time_courses.push_back(time_course(s, first, last, trial, interval_us, settings));
+}
+
+SampleDigest digest_recording(const Recording& rec, const DetectedEvents* events, const DigestSettings& settings) {
+  SampleDigest d;
+  d.max_points_per_trial = settings.max_points_per_trial;
+  const SampleColumns& s = rec.samples;
+  d.samples = s.size();
+  d.missing_samples = samples_without_gaze(s);
+  std::vector<FixationEvent> of_trial;
+  for (const Trial& trial : rec.trials) {
+    const auto [first, last] = sample_range(s.time_us, 0, s.size(), trial.start_us, trial.end_us + 1);
+    if (events) {
+      of_trial.clear();
+      for (const auto& f : events->fixations) {
+        if (f.trial == trial.id) of_trial.push_back(f);
+      }
+    }
+    digest_trial(d, s, first, last, trial, rec.screen, rec.sample_rate_hz, events ? &of_trial : nullptr, settings);
+  }
+  return d;
+}
+
+}  // namespace gazemill
