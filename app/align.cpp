@@ -3,11 +3,14 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <atomic>
 #include <cmath>
+#include <exception>
 #include <filesystem>
 #include <limits>
 #include <map>
 #include <set>
+#include <thread>
 
 #include "alignment/drift_registry.h"
 #include "io/review_file.h"
@@ -36,7 +39,7 @@ DriftText text_of(const RegionLayout& layout, const AlignmentSpec& spec) {
 }  // namespace
 
 std::vector<RecordingAlignment> align_study(const Protocol& protocol, const RegionCatalogue& regions,
-                                            const std::vector<CleanedRecording>& recordings) {
+                                            const std::vector<CleanedRecording>& recordings, unsigned threads) {
   const AlignmentSpec& spec = protocol.alignment;
   // A person's decisions, checked against the study before any work.
   std::map<std::pair<std::string, std::string>, const TrialReview*> review_of;
@@ -71,8 +74,7 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
   // line (max_line_distance_px, default one line height), whatever the method.
   RegionSpec reach = protocol.regions;
   reach.off_line_nearest = true;
-  std::vector<RecordingAlignment> out;
-  for (const CleanedRecording& rec : recordings) {
+  auto align_recording = [&](const CleanedRecording& rec) {
     RecordingAlignment a;
     a.recording = rec.meta.id;
     std::size_t k = 0;
@@ -137,7 +139,29 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
       for (std::size_t i = 0; i < ids.size(); ++i) a.fixations[ids[i]] = {result.line[i], result.corrected_y_px[i]};
       a.trials.push_back(std::move(trial));
     }
-    out.push_back(std::move(a));
+    return a;
+  };
+  // Recordings are independent and the correctors pure: one per thread, the
+  // results in study order, the first recording's error (in that order) thrown.
+  std::vector<RecordingAlignment> out(recordings.size());
+  std::vector<std::exception_ptr> errors(recordings.size());
+  std::atomic<std::size_t> next{0};
+  auto worker = [&] {
+    for (std::size_t k; (k = next++) < recordings.size();) {
+      try {
+        out[k] = align_recording(recordings[k]);
+      } catch (...) {
+        errors[k] = std::current_exception();
+      }
+    }
+  };
+  const std::size_t workers = std::min<std::size_t>(std::max(1u, threads ? threads : std::thread::hardware_concurrency()), recordings.size());
+  std::vector<std::thread> pool;
+  for (std::size_t t = 1; t < workers; ++t) pool.emplace_back(worker);
+  worker();
+  for (auto& t : pool) t.join();
+  for (auto& e : errors) {
+    if (e) std::rethrow_exception(e);
   }
   return out;
 }

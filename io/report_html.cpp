@@ -2,13 +2,14 @@
 
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
-#include <zlib.h>
+#include <libdeflate.h>
 
 #include <algorithm>
 #include <cmath>
 #include <cctype>
 #include <cstring>
 #include <map>
+#include <memory>
 #include <stdexcept>
 #include <utility>
 #include <vector>
@@ -360,11 +361,13 @@ std::string pack(const json& j, const std::vector<unsigned char>& bytes) {
   for (int k = 0; k < 4; ++k) plain.push_back(static_cast<unsigned char>((n >> (8 * k)) & 0xff));
   plain.insert(plain.end(), text.begin(), text.end());
   plain.insert(plain.end(), bytes.begin(), bytes.end());
-  uLongf size = compressBound(static_cast<uLong>(plain.size()));
-  std::vector<unsigned char> packed(size);
-  if (compress2(packed.data(), &size, plain.data(), static_cast<uLong>(plain.size()), 6) != Z_OK) {
-    throw std::runtime_error("report: the viewer's data could not be compressed");
-  }
+  // The zlib format the page inflates, written by libdeflate (several times
+  // quicker than zlib at the same level; a fifth of a report's time before).
+  std::unique_ptr<libdeflate_compressor, void (*)(libdeflate_compressor*)> compressor(libdeflate_alloc_compressor(6), libdeflate_free_compressor);
+  if (!compressor) throw std::runtime_error("report: no deflate compressor");
+  std::vector<unsigned char> packed(libdeflate_zlib_compress_bound(compressor.get(), plain.size()));
+  const std::size_t size = libdeflate_zlib_compress(compressor.get(), plain.data(), plain.size(), packed.data(), packed.size());
+  if (size == 0) throw std::runtime_error("report: the viewer's data could not be compressed");
   packed.resize(size);
   return base64(packed);
 }
