@@ -267,7 +267,7 @@ struct ViewerTrial {
   bool align_flagged = false;
   std::vector<ViewerFixation> fixations;  // kept and removed, in time order
   double bin_ms = 0;                       // the time course: one value per bin from the trial's start
-  std::vector<float> x_px, y_px;           // NaN where a bin had no valid sample
+  std::vector<float> x_px, y_px;           // whole pixels, NaN where a bin had no valid sample
 };
 
 struct ViewerRecording {

@@ -16,7 +16,8 @@ namespace gazemill {
 inline constexpr std::size_t kTimeCoursePoints = 400;
 
 /// A trial's gaze drawn at a fixed budget of points: the mean of the valid
-/// samples in each bin of bin_ms from the trial's start, NaN for a bin without one.
+/// samples in each bin of bin_ms from the trial's start, rounded to a whole
+/// pixel (as drawn), NaN for a bin without one.
 struct TrialTimeCourse {
   double bin_ms = 0;
   std::vector<float> x_px, y_px;
