@@ -6,6 +6,8 @@
 #include <cmath>
 #include <filesystem>
 
+#include "io/hdf5_util.h"
+#include "io/store_compare.h"
 #include "io/study_store.h"
 #include "pipeline/input_error.h"
 #include "test_support.h"
@@ -166,3 +168,40 @@ TEST(StudyStore, RejectsFilesThatAreNotStores) {
   EXPECT_THROW(StudyStoreReader(dir.file("absent.h5")), InputError);
   EXPECT_THROW(StudyStoreReader(dir.write("text.h5", "hello")), InputError);
 }
+
+namespace gazemill {
+namespace {
+
+// Strings are written fixed-length where they fit (format 3) and were
+// variable-length before (format 2): both read back as the same text, and
+// comparing two stores (verify) looks at the text, not the representation.
+// The variable-length column is written here with the HDF5 C++ API directly.
+TEST(StudyStore, StringColumnsReadAlikeFixedOrVariable) {
+  TempDir d;
+  const std::vector<std::string> values = {"p01", "", "a longer value with spaces", "ü-umlaut", "p01"};
+  for (const char* name : {"fixed.h5", "variable.h5"}) {
+    H5::H5File f(d.file(name), H5F_ACC_TRUNC);
+    H5::Group root = f.openGroup("/");
+    if (std::string(name) == "fixed.h5") {
+      h5::write_strings(root, "column", values);
+    } else {
+      H5::StrType t(H5::PredType::C_S1, H5T_VARIABLE);
+      t.setCset(H5T_CSET_UTF8);
+      const hsize_t n = values.size();
+      H5::DataSet ds = root.createDataSet("column", t, H5::DataSpace(1, &n));
+      std::vector<const char*> ptrs;
+      for (const auto& v : values) ptrs.push_back(v.c_str());
+      ds.write(ptrs.data(), t);
+    }
+  }
+  {
+    H5::H5File fixed(d.file("fixed.h5"), H5F_ACC_RDONLY), variable(d.file("variable.h5"), H5F_ACC_RDONLY);
+    EXPECT_FALSE(fixed.openDataSet("column").getStrType().isVariableStr());
+    EXPECT_EQ(h5::read_strings(fixed.openGroup("/"), "column"), values);
+    EXPECT_EQ(h5::read_strings(variable.openGroup("/"), "column"), values);
+  }
+  EXPECT_TRUE(compare_store_datasets(d.file("fixed.h5"), d.file("variable.h5")).empty());
+}
+
+}  // namespace
+}  // namespace gazemill
