@@ -78,13 +78,14 @@ void log_counts(const StudyRunReport& r) {
 // The study's report, OUTDIR/report.html, written again whenever the store
 // changed (or the page is missing or older than the store); a report of an
 // older store is never left beside a newer one.
-std::string refresh_report(const std::string& store_path, const std::string& folder, bool store_written) {
+std::string refresh_report(const std::string& store_path, const std::string& folder, bool store_written,
+                           const std::vector<RecordingEvents>* events = nullptr) {
   const std::string html = (fs::path(folder) / "report.html").string();
   std::error_code ec;
   // A run killed between its store and its report leaves an older page: the dates tell.
   const bool older = fs::exists(html, ec) && fs::last_write_time(html, ec) < fs::last_write_time(store_path, ec);
   if (store_written || !fs::exists(html, ec) || older) {
-    write_study_report(store_path, html);
+    write_study_report(store_path, html, events);
     spdlog::info("report: {}", html);
   }
   return html;
@@ -136,7 +137,7 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   const StudyRunReport r = run_study(protocol, opt);
   log_counts(r);
   std::string report_path;
-  if (!only && o.shard.empty() && !o.no_report) report_path = refresh_report(opt.store_path, folder, r.store_written);
+  if (!only && o.shard.empty() && !o.no_report) report_path = refresh_report(opt.store_path, folder, r.store_written, r.events.get());
   const std::string timing = clock.summary(r.input_bytes);
   spdlog::info("{}: {}", opt.store_path, stage_summary(r));
   if (!only && o.shard.empty()) {

@@ -1,6 +1,7 @@
 #include "app/event_tables.h"
 
 #include <map>
+#include <optional>
 
 #include "io/alignment_io.h"
 #include "io/cleaning_io.h"
@@ -10,24 +11,34 @@
 
 namespace gazemill {
 
-EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol, const RegionCatalogue* regions, bool cleaned, bool aligned) {
+EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol, const RegionCatalogue* regions, bool cleaned, bool aligned,
+                         KnownResults known) {
   EventTables out;
-  std::map<std::string, RecordingAlignment> alignment;
+  std::map<std::string, const RecordingAlignment*> alignment;
+  std::vector<RecordingAlignment> read;
   if (aligned) {
-    for (auto& a : read_alignment(store)) alignment.emplace(a.recording, std::move(a));
+    if (!known.alignment) read = read_alignment(store);
+    for (const auto& a : known.alignment ? *known.alignment : read) alignment.emplace(a.recording, &a);
+  }
+  std::map<std::string, const RecordingEvents*> known_events;
+  if (known.events) {
+    for (const auto& r : *known.events) known_events.emplace(r.meta.id, &r);
   }
   // Input ids as cleaning gave them: every fixation of every trial, recording by recording, in order.
   std::uint32_t next_id = 0;
   for (const auto& id : store.recording_ids()) {
-    const Recording rec = store.read_recording(id, false);
-    const DetectedEvents ev = store.read_events(id);
+    const auto k = known_events.find(id);
+    std::optional<RecordingEvents> from_store;
+    if (k == known_events.end()) from_store = RecordingEvents{store.read_recording(id, false), store.read_events(id)};
+    const Recording& rec = from_store ? from_store->meta : k->second->meta;
+    const DetectedEvents& ev = from_store ? from_store->events : k->second->events;
     std::map<std::uint32_t, CleanFixation> kept;
     std::map<std::uint32_t, RemovedFixation> removed;
     if (cleaned) {
       for (auto& f : read_clean_fixations(store, id)) kept.emplace(f.id, f);
       for (auto& r : read_removed_fixations(store, id)) removed.emplace(r.input_id, r);
     }
-    const RecordingAlignment* lines = aligned ? &alignment.at(id) : nullptr;
+    const RecordingAlignment* lines = aligned ? alignment.at(id) : nullptr;
     std::size_t fx = 0, sc = 0, bl = 0;
     for (const Trial& t : rec.trials) {
       auto trial = std::make_unique<EventTrial>();

@@ -2,7 +2,11 @@
 // The event tables of a store: every detected fixation with what cleaning,
 // drift correction and region mapping made of it, and every saccade and blink.
 
+#include <vector>
+
+#include "pipeline/cleaning_state.h"
 #include "pipeline/event_table.h"
+#include "pipeline/line_assignment.h"
 #include "pipeline/protocol.h"
 
 namespace gazemill {
@@ -10,8 +14,17 @@ namespace gazemill {
 class StudyStoreReader;
 class RegionCatalogue;
 
+/// What a run still holds in memory and the store also has, so that it need
+/// not be read back: every recording's metadata and events, the line
+/// assignments (either may be null).
+struct KnownResults {
+  const std::vector<RecordingEvents>* events = nullptr;
+  const std::vector<RecordingAlignment>* alignment = nullptr;
+};
+
 /// Needs detected events; cleaning, line assignments and regions add their
 /// columns where the store has them current (`regions` may be null).
-EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol, const RegionCatalogue* regions, bool cleaned, bool aligned);
+EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol, const RegionCatalogue* regions, bool cleaned, bool aligned,
+                         KnownResults known = {});
 
 }  // namespace gazemill

@@ -5,6 +5,9 @@
 
 #include <CLI/CLI.hpp>
 #include <string>
+#include <vector>
+
+#include "pipeline/cleaning_state.h"
 
 namespace gazemill {
 
@@ -20,8 +23,9 @@ void register_report_command(CLI::App& app, ReportOptions& options);
 int run_report(const ReportOptions& options);
 
 /// The report of the store at `store_path`, written to `html_path` (through a
-/// temporary file renamed into place), for `gazemill run` to write beside its store.
-void write_study_report(const std::string& store_path, const std::string& html_path);
+/// temporary file renamed into place), for `gazemill run` to write beside its
+/// store; `events`, when given, are the store's own, lent by the run.
+void write_study_report(const std::string& store_path, const std::string& html_path, const std::vector<RecordingEvents>* events = nullptr);
 
 /// Where `report` writes by default: beside the store, "<name>-report.html".
 std::string default_report_path(const std::string& store_path);

@@ -154,7 +154,11 @@ namespace {
 
 class Assembler {
  public:
-  Assembler(const std::string& path, const ReportDataOptions& o) : store_path_(path), store_(path), o_(o) {}
+  Assembler(const std::string& path, const ReportDataOptions& o) : store_path_(path), store_(path), o_(o) {
+    if (o.events) {
+      for (const auto& r : *o.events) known_.emplace(r.meta.id, &r);
+    }
+  }
 
   ReportModel run() {
     run_summary();
@@ -348,13 +352,22 @@ class Assembler {
       for (std::size_t i = from; i < to; ++i) {
         RecordingWork& w = batch[i - from];
         const std::string& id = ids_[i];
-        w.rec = store_.read_recording(id, false);
-        if (store_.has_events(id)) {
-          w.ev = store_.read_events(id);
+        const auto known = known_.find(id);
+        if (known != known_.end()) {
+          w.rec = known->second->meta;
+          w.ev = known->second->events;
+        } else {
+          w.rec = store_.read_recording(id, false);
+          if (store_.has_events(id)) w.ev = store_.read_events(id);
+        }
+        if (w.ev) {
           w.digest = read_sample_digest(store_, id);
           if (w.digest && w.digest->max_points_per_trial != o_.max_points_per_trial) w.digest.reset();
         }
-        if (!w.digest) w.sample_chunks = store_.read_sample_chunks(id);
+        if (!w.digest) {
+          if (known != known_.end()) w.rec = store_.read_recording(id, false);  // as stored, with its sample columns named
+          w.sample_chunks = store_.read_sample_chunks(id);
+        }
         w.cleaned = have_clean && store_.exists("recordings/" + id + "/clean");
         if (w.cleaned) {
           w.kept = read_clean_fixations(store_, id);
@@ -752,6 +765,7 @@ class Assembler {
 
   std::string store_path_;
   StudyStoreReader store_;
+  std::map<std::string, const RecordingEvents*> known_;  // lent by a run, by recording id
   ReportDataOptions o_;
   ReportModel m_;
   std::vector<std::string> ids_;

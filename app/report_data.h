@@ -7,7 +7,9 @@
 
 #include <cstddef>
 #include <string>
+#include <vector>
 
+#include "pipeline/cleaning_state.h"
 #include "pipeline/report_model.h"
 #include "pipeline/sample_digest.h"
 
@@ -19,6 +21,9 @@ struct ReportDataOptions {
   std::size_t max_points_per_trial = kTimeCoursePoints;
   /// Recordings worked on at once (0: one per core).
   std::size_t threads = 0;
+  /// Every recording's metadata and events as a run holds them (the store's
+  /// own), so that they need not be read back; null: read from the store.
+  const std::vector<RecordingEvents>* events = nullptr;
   /// A participant stands apart in detection when a figure's |robust z| is
   /// above outlier_z and the figure is also more than outlier_relative (a
   /// fraction) from the participants' median (our rule, no source).

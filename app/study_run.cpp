@@ -797,6 +797,11 @@ StudyRunReport StudyRun::execute() {
     report_.store_written = true;
     spdlog::debug("store written after {:.2f} s", since());
   }
+  // Only whole-study results (a shard or a single stage holds less, or other).
+  if (!o_.only && !o_.shard_count) {
+    if (!events_.empty()) report_.events = std::make_shared<const std::vector<RecordingEvents>>(std::move(events_));
+    if (alignment_) report_.alignment = std::make_shared<const std::vector<RecordingAlignment>>(std::move(*alignment_));
+  }
   if (!o_.tables_folder.empty()) {
     const auto written = write_study_tables(o_.store_path, o_.tables_folder, p_, &report_, o_.jobs);
     report_.tables = written;
@@ -836,7 +841,10 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   auto format = [&tables, policy](std::string name, auto make) { tables.emplace_back(std::move(name), std::async(policy, std::move(make))); };
   std::shared_ptr<const EventTables> events;
   if (current(Stage::detect)) {
-    events = std::make_shared<const EventTables>(event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align)));
+    KnownResults known;
+    if (fresh) known = {fresh->events.get(), fresh->alignment.get()};
+    events = std::make_shared<const EventTables>(
+        event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align), known));
     format("fixations.tsv", [events, &p] { return fixations_tsv(*events, p.design); });
     format("saccades.tsv", [events, &p] { return saccades_tsv(*events, p.design); });
     format("blinks.tsv", [events, &p] { return blinks_tsv(*events, p.design); });
@@ -849,7 +857,7 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   }
   std::vector<std::pair<std::string, std::string>> drawings;
   if (current(Stage::align) && regions) {
-    auto alignment = std::make_shared<const std::vector<RecordingAlignment>>(read_alignment(store));
+    auto alignment = fresh && fresh->alignment ? fresh->alignment : std::make_shared<const std::vector<RecordingAlignment>>(read_alignment(store));
     format("alignment_trials.tsv", [alignment] { return alignment_trials_tsv(*alignment); });
     for (auto& [name, svg] : flagged_trial_drawings(p, *regions, cleaned_recordings(store), *alignment)) {
       drawings.emplace_back("flagged_trials/" + name, std::move(svg));

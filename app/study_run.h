@@ -14,11 +14,14 @@
 
 #include <cstdint>
 #include <map>
+#include <memory>
 #include <optional>
 #include <string>
 #include <vector>
 
 #include "pipeline/audit.h"
+#include "pipeline/cleaning_state.h"
+#include "pipeline/line_assignment.h"
 #include "pipeline/measure_table.h"
 #include "pipeline/protocol.h"
 #include "pipeline/stage.h"
@@ -51,6 +54,10 @@ struct StudyRunReport {
   PlacementCounts placement;         // where measure placed the kept fixations
   bool store_written = false;
   std::string store_path;            // the study store the run wrote or read
+  // What the run read or made and the store now holds, lent to the tables and
+  // the report so they need not read it back (null when the run did not hold it).
+  std::shared_ptr<const std::vector<RecordingEvents>> events;
+  std::shared_ptr<const std::vector<RecordingAlignment>> alignment;
   std::vector<std::string> tables;   // written this run
   std::string tables_folder;
 };

@@ -61,13 +61,14 @@ max_missing_percent = 2
 struct DemoStudy {
   TempDir dir;
   std::string store;
+  StudyRunReport run;  // what the run lends the report
   DemoStudy() {
     fs::copy(std::string(GAZEMILL_FIXTURES) + "/demo-study", dir.path() / "study", fs::copy_options::recursive);
     const std::string proto = (dir.path() / "study" / "gazemill.toml").string();
     std::ofstream(proto, std::ios::app) << kRules;
     StudyRunOptions o;
     o.store_path = store = (dir.path() / "s.gzm.h5").string();
-    run_study(parse_protocol_file(proto), o);
+    run = run_study(parse_protocol_file(proto), o);
   }
 };
 
@@ -223,6 +224,14 @@ TEST(ReportData, FiguresFromTheStoredDigestEqualThoseFromTheSamples) {
   with.run.store_path = without.run.store_path = "";
   with.run.report_created_utc = without.run.report_created_utc = "";
   EXPECT_EQ(report_html(with), report_html(without));
+  // A run lends the report the events it holds; the page is the one made from the store alone.
+  ASSERT_TRUE(demo().run.events);
+  ReportDataOptions lent;
+  lent.events = demo().run.events.get();
+  ReportModel from_run = assemble_report(demo().store, lent);
+  from_run.run.store_path = "";
+  from_run.run.report_created_utc = "";
+  EXPECT_EQ(report_html(from_run), report_html(with));
   ReportDataOptions other;
   other.max_points_per_trial = 123;  // not the digest's: made from the samples
   const ReportModel coarse = assemble_report(demo().store, other);
