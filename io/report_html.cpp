@@ -5,12 +5,15 @@
 #include <libdeflate.h>
 
 #include <algorithm>
+#include <atomic>
 #include <cmath>
 #include <cctype>
 #include <cstring>
+#include <exception>
 #include <map>
 #include <memory>
 #include <stdexcept>
+#include <thread>
 #include <utility>
 #include <vector>
 
@@ -993,10 +996,30 @@ std::string report_html(const ReportModel& m) {
   w.script(json_for_script(data), {{"type", "application/json"}, {"id", "gazemill-data"}});
   if (m.viewer.present) {
     w.script(pack(layouts_json(m.viewer), {}), {{"type", "application/octet-stream"}, {"id", "gazemill-viewer-layouts"}});
-    for (std::size_t i = 0; i < m.viewer.recordings.size(); ++i) {
-      std::vector<unsigned char> samples;
-      const json r = recording_json(m.viewer.recordings[i], samples);
-      w.script(pack(r, samples), {{"type", "application/octet-stream"}, {"id", "gazemill-viewer-r" + std::to_string(i)}});
+    // Each recording packs on its own (JSON, deflate, base64): on every core, written in order.
+    const auto& recs = m.viewer.recordings;
+    std::vector<std::string> packed(recs.size());
+    std::atomic<std::size_t> next{0};
+    std::vector<std::exception_ptr> errors(recs.size());
+    auto worker = [&] {
+      for (std::size_t i; (i = next++) < recs.size();) {
+        try {
+          std::vector<unsigned char> samples;
+          const json r = recording_json(recs[i], samples);
+          packed[i] = pack(r, samples);
+        } catch (...) {
+          errors[i] = std::current_exception();
+        }
+      }
+    };
+    std::vector<std::thread> pool;
+    const std::size_t threads = std::min<std::size_t>(std::max(1u, std::thread::hardware_concurrency()), recs.size());
+    for (std::size_t t = 1; t < threads; ++t) pool.emplace_back(worker);
+    worker();
+    for (auto& t : pool) t.join();
+    for (std::size_t i = 0; i < recs.size(); ++i) {
+      if (errors[i]) std::rethrow_exception(errors[i]);
+      w.script(packed[i], {{"type", "application/octet-stream"}, {"id", "gazemill-viewer-r" + std::to_string(i)}});
     }
   }
   w.comment(" Vega and topojson-client, from Debian's libjs-vega:\n" + report_asset("vega-copyright"));
