@@ -587,9 +587,11 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
       if (!alignment_) alignment_ = read_alignment(*old_);
       report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design, &report_.placement);
-      const AggregateTable a = aggregate_by_item_region(report_.rows), b = aggregate_by_role(report_.rows),
-                           c = aggregate_by_participant(report_.rows);
-      write_measures(out, report_.rows, p_.design, {&a, &b, &c}, {"by_item_region", "by_role", "by_participant"});
+      report_.by_item_region = std::make_shared<const AggregateTable>(aggregate_by_item_region(report_.rows));
+      report_.by_role = std::make_shared<const AggregateTable>(aggregate_by_role(report_.rows));
+      report_.by_participant = std::make_shared<const AggregateTable>(aggregate_by_participant(report_.rows));
+      write_measures(out, report_.rows, p_.design, {report_.by_item_region.get(), report_.by_role.get(), report_.by_participant.get()},
+                     {"by_item_region", "by_role", "by_participant"});
       write_placement(out, report_.placement, p_.design.factors);
     }
     out.write_stage_record(record_for(s, keys_.at(s), keys_.at(*upstream_of(s)), settings_of(s)));
@@ -872,9 +874,13 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
     const auto& rows = r.rows;
     format("measures.tsv", [&rows, &p] { return measures_long_tsv(rows, p.design); });
     format("measures_wide.tsv", [&rows, &p] { return measures_wide_tsv(rows, p.design); });
-    format("measures_by_item_region.tsv", [&rows, &p] { return aggregates_tsv(aggregate_by_item_region(rows), p.design.factors); });
-    format("measures_by_role.tsv", [&rows, &p] { return aggregates_tsv(aggregate_by_role(rows), p.design.factors); });
-    format("measures_by_participant.tsv", [&rows, &p] { return aggregates_tsv(aggregate_by_participant(rows), p.design.factors); });
+    // The run's own aggregates where it made them, else made here from the rows.
+    auto aggregates = [&rows, &p](std::shared_ptr<const AggregateTable> made, AggregateTable (*make)(const std::vector<MeasureRow>&)) {
+      return [&rows, &p, made, make] { return aggregates_tsv(made ? *made : make(rows), p.design.factors); };
+    };
+    format("measures_by_item_region.tsv", aggregates(r.by_item_region, aggregate_by_item_region));
+    format("measures_by_role.tsv", aggregates(r.by_role, aggregate_by_role));
+    format("measures_by_participant.tsv", aggregates(r.by_participant, aggregate_by_participant));
     format("fixation_placement.tsv", [&r, &p] { return placement_tsv(r.placement, p.design.factors); });
   }
   // In the order the set always had: events, audit, alignment and its drawings, measures.

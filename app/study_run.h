@@ -51,6 +51,7 @@ struct StudyRunReport {
   bool events_imported = false;      // the events came from fixation lists, not from detection
   std::optional<AuditReport> audit;  // when clean ran
   std::vector<MeasureRow> rows;      // when measure ran
+  std::shared_ptr<const AggregateTable> by_item_region, by_role, by_participant;  // ... and their aggregates
   PlacementCounts placement;         // where measure placed the kept fixations
   bool store_written = false;
   std::string store_path;            // the study store the run wrote or read
