@@ -158,6 +158,7 @@ EventParams event_params(const DetectionSpec& s) {
   p.max_fixation_gap_ms = s.max_fixation_gap_ms;
   p.max_fixation_gap_shift_deg = s.max_fixation_gap_shift_deg;
   p.pso = s.pso;
+  p.pursuit = {s.pursuit_dispersion_deg, s.pursuit_window_ms};
   return p;
 }
 
