@@ -77,7 +77,7 @@ TEST(SmoothPursuit, OffByDefaultAndOnlyFixationSamples) {
   EXPECT_EQ(label_pursuit(g, PursuitParams{}, labels), 0u);
   EXPECT_EQ(letters(labels), std::string(100, 'F'));
   for (int k = 34; k < 55; ++k) labels[k] = SampleLabel::saccade;
-  EXPECT_EQ(label_pursuit(g, {0.5, 10.0}, labels), 0u) << "both runs are still";
+  EXPECT_EQ(label_pursuit(g, {0.5, 10.0}, labels), 0u) << "both runs stay within 0.5 deg (the first exactly)";
   EXPECT_EQ(DetectionSpec{}.pursuit_dispersion_deg, 0.0);
 }
 
