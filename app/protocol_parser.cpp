@@ -415,6 +415,12 @@ void parse_detection(TomlSection& d, Protocol& p) {
     b->finish();
     if (spec.blink_max_ms < spec.blink_min_ms) b->fail("max_ms", "must not be below detection.blinks.min_ms");
   }
+  if (auto s = d.table("pursuit")) {
+    non_negative(*s, "dispersion_deg", spec.pursuit_dispersion_deg);
+    non_negative(*s, "window_ms", spec.pursuit_window_ms);
+    s->finish();
+    if (spec.pursuit_dispersion_deg > 0 && !(spec.pursuit_window_ms > 0)) s->fail("window_ms", "must be above 0 when dispersion_deg is");
+  }
   if (auto e = d.table("events")) {
     non_negative(*e, "min_fixation_ms", spec.min_fixation_ms);
     non_negative(*e, "min_saccade_ms", spec.min_saccade_ms);

@@ -36,7 +36,7 @@ namespace {
 
 std::optional<SampleLabel> label_named(const std::string& s) {
   for (SampleLabel l : {SampleLabel::fixation, SampleLabel::saccade, SampleLabel::pso, SampleLabel::blink, SampleLabel::loss,
-                        SampleLabel::other}) {
+                        SampleLabel::other, SampleLabel::pursuit}) {
     if (s == to_string(l)) return l;
   }
   return std::nullopt;
@@ -432,6 +432,12 @@ int run_score(const ScoreOptions& so) {
       throw InputError({"", 0, "--param"}, "expected NAME=VALUE with a number, found \"" + p + "\"");
     }
   }
+  if (so.pursuit_dispersion_deg) detection.pursuit_dispersion_deg = *so.pursuit_dispersion_deg;
+  if (so.pursuit_window_ms) detection.pursuit_window_ms = *so.pursuit_window_ms;
+  if (!(detection.pursuit_dispersion_deg >= 0 && detection.pursuit_dispersion_deg <= 100) ||
+      !(detection.pursuit_window_ms > 0 && detection.pursuit_window_ms <= 1000)) {
+    throw InputError({"", 0, "--pursuit-dispersion-deg/--pursuit-window-ms"}, "expected 0..100 deg and above 0 up to 1000 ms");
+  }
   if (!so.pso.empty()) {
     if (so.pso == "separate") detection.pso = PsoHandling::separate;
     else if (so.pso == "fixation") detection.pso = PsoHandling::fixation;
@@ -541,6 +547,9 @@ void register_score_command(CLI::App& app, ScoreOptions& so) {
                     "Take the detection settings, the [input.table] reading settings and the screen from this protocol");
   score->add_option("--method", so.method, "Detection method: ivt, idt, engbert_kliegl, nystrom_holmqvist");
   score->add_option("--param", so.params, "Method parameter NAME=VALUE (repeatable)");
+  score->add_option("--pursuit-dispersion-deg", so.pursuit_dispersion_deg,
+                    "Smooth pursuit apart from fixations (I-VDT's dispersion stage) at this dispersion; 0 = off (default: the protocol's, else 0)");
+  score->add_option("--pursuit-window-ms", so.pursuit_window_ms, "The pursuit stage's temporal window (default: the protocol's, else 100)");
   score->add_option("--pso", so.pso, "Post-saccadic oscillation: separate, fixation or saccade (default: the protocol's, else separate)");
   auto* codes_opt = score->add_option("--codes", so.codes,
                                       "Label codes of the labelled files, e.g. 1=fixation,2=saccade,3=pso,4=blink; "

@@ -7,6 +7,7 @@
 
 #include <cstdint>
 #include <map>
+#include <optional>
 #include <ostream>
 #include <string>
 #include <vector>
@@ -24,6 +25,7 @@ struct ScoreOptions {
   std::string protocol;           // detection settings, [input.table] reading settings and screen from a protocol
   std::string method;             // or from the command line
   std::vector<std::string> params;  // NAME=VALUE
+  std::optional<double> pursuit_dispersion_deg, pursuit_window_ms;  // [detection.pursuit] from the command line
   std::string pso;                // how post-saccadic oscillation is reported: separate, fixation, saccade
   std::string codes;              // CODE=CLASS,...
   std::string codes_file;         // or a TOML file with a [codes] table

@@ -131,6 +131,10 @@ std::string detection_settings_json(const DetectionSpec& spec) {
   j["events"] = {{"min_fixation_ms", spec.min_fixation_ms}, {"min_saccade_ms", spec.min_saccade_ms},
                  {"max_velocity_deg_s", spec.max_velocity_deg_s}, {"max_fixation_gap_ms", spec.max_fixation_gap_ms},
                  {"max_fixation_gap_shift_deg", spec.max_fixation_gap_shift_deg}, {"spike_deg", spec.spike_deg}};
+  // Only when asked for, so that the keys of studies without it stay as they were.
+  if (spec.pursuit_dispersion_deg > 0) {
+    j["pursuit"] = {{"dispersion_deg", spec.pursuit_dispersion_deg}, {"window_ms", spec.pursuit_window_ms}};
+  }
   return j.dump();
 }
 

@@ -71,6 +71,11 @@ VelocityMethod velocity_method(const std::string& name) {
   throw std::invalid_argument("velocity must be savitzky_golay, moving_average_5 or two_point, not " + name);
 }
 
+// A parameter that turns a rule on (1) or off (0).
+void check_switch(const std::string& name, double v) {
+  if (v != 0 && v != 1) throw std::invalid_argument("parameter " + name + " must be 0 (off) or 1 (on)");
+}
+
 }  // namespace
 
 std::vector<std::string> detector_names() { return {"ivt", "idt", "engbert_kliegl", "nystrom_holmqvist"}; }
@@ -86,8 +91,10 @@ std::unique_ptr<EventDetector> make_detector(const DetectionSpec& spec) {
         .non_negative("offset_onset_weight", p.offset_onset_weight)
         .positive("local_noise_window_ms", p.local_noise_window_ms)
         .non_negative("max_glissade_ms", p.max_glissade_ms)
+        .non_negative("glissades", p.glissades)
         .apply(spec.method, spec.parameters);
     if (p.offset_onset_weight > 1) throw std::invalid_argument("parameter offset_onset_weight must be between 0 and 1");
+    check_switch("glissades", p.glissades);
     return std::make_unique<VelocityThresholdDetector>(p);
   }
   if (spec.velocity != "savitzky_golay") {
@@ -111,8 +118,10 @@ std::unique_ptr<EventDetector> make_detector(const DetectionSpec& spec) {
         .non_negative("offset_onset_weight", p.offset_onset_weight)
         .positive("local_noise_window_ms", p.local_noise_window_ms)
         .non_negative("max_glissade_ms", p.max_glissade_ms)
+        .non_negative("glissades", p.glissades)
         .apply(spec.method, spec.parameters);
     if (p.offset_onset_weight > 1) throw std::invalid_argument("parameter offset_onset_weight must be between 0 and 1");
+    check_switch("glissades", p.glissades);
     return std::make_unique<EngbertKlieglDetector>(p);
   }
   if (spec.method == "nystrom_holmqvist") {
@@ -149,6 +158,7 @@ EventParams event_params(const DetectionSpec& s) {
   p.max_fixation_gap_ms = s.max_fixation_gap_ms;
   p.max_fixation_gap_shift_deg = s.max_fixation_gap_shift_deg;
   p.pso = s.pso;
+  p.pursuit = {s.pursuit_dispersion_deg, s.pursuit_window_ms};
   return p;
 }
 

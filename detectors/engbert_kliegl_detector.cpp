@@ -6,6 +6,7 @@
 #include <limits>
 
 #include "detectors/median.h"
+#include "detectors/nystrom_holmqvist_detector.h"
 #include "detectors/saccade_refinement.h"
 #include "detectors/velocity.h"
 
@@ -38,7 +39,8 @@ ParameterList EngbertKlieglDetector::parameters() const {
           {"onset_sd_factor", p_.onset_sd_factor},
           {"offset_onset_weight", p_.offset_onset_weight},
           {"local_noise_window_ms", p_.local_noise_window_ms},
-          {"max_glissade_ms", p_.max_glissade_ms}};
+          {"max_glissade_ms", p_.max_glissade_ms},
+          {"glissades", p_.glissades}};
 }
 
 ParameterList EngbertKlieglDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
@@ -76,7 +78,8 @@ ParameterList EngbertKlieglDetector::label(const GazeTrace& g, std::vector<Sampl
     }
     i = j;
   }
-  if (!(p_.onset_sd_factor > 0) || cores.empty()) return {{"threshold_x_deg_s", eta_x}, {"threshold_y_deg_s", eta_y}};
+  const bool refine = p_.onset_sd_factor > 0;
+  if ((!refine && !(p_.glissades > 0 && p_.max_glissade_ms > 0)) || cores.empty()) return {{"threshold_x_deg_s", eta_x}, {"threshold_y_deg_s", eta_y}};
   std::vector<double> speed(n, 0.0);
   std::vector<bool> usable(n, false), still(n, false);
   for (std::size_t k = 0; k < n; ++k) {
@@ -86,7 +89,8 @@ ParameterList EngbertKlieglDetector::label(const GazeTrace& g, std::vector<Sampl
   }
   const SpeedSpread fix = speed_spread_below(speed, still, std::numeric_limits<double>::infinity());
   SaccadeRefinementParams rp;
-  rp.onset_threshold_deg_s = fix.mean_deg_s + p_.onset_sd_factor * fix.sd_deg_s;
+  rp.onset_threshold_deg_s = fix.mean_deg_s + (refine ? p_.onset_sd_factor : NystromHolmqvistParams{}.onset_sd_factor) * fix.sd_deg_s;
+  rp.walk_boundaries = refine;
   rp.offset_onset_weight = p_.offset_onset_weight;
   rp.local_noise_window_ms = p_.local_noise_window_ms;
   rp.max_glissade_ms = p_.max_glissade_ms;

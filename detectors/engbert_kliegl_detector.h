@@ -33,6 +33,14 @@ struct EngbertKlieglParams {
   double offset_onset_weight = 0.7;
   double local_noise_window_ms = 40.0;
   double max_glissade_ms = 40.0;   // 0 = no glissades
+  // 1: glissades after the method's own saccades, as for I-VT
+  // (velocity_threshold_detector.h); the onset threshold is mean + 3 SD of
+  // the speeds inside the ellipse. Ignored when onset_sd_factor is above 0.
+  // Off by default: on the simulator without glissades the moving difference
+  // turned enough post-saccadic fixation samples into glissades to lower
+  // fixation kappa from 0.96 to 0.92-0.93 at 500-1000 Hz (DetectorDefaults),
+  // while on the development set it gained 0.01 (README, "Event detection").
+  double glissades = 0.0;
 };
 
 class EngbertKlieglDetector : public EventDetector {

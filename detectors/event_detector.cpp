@@ -122,6 +122,10 @@ std::vector<SampleLabel> label_missing(const GazeTrace& g, const BlinkParams& p)
 }
 
 void tidy_labels(const GazeTrace& g, const EventParams& p, std::vector<SampleLabel>& labels) {
+  // Pursuit is split off the detector's fixation samples before the
+  // fixation rules below see them: a pursuit sample is no fixation sample,
+  // neither for the minimum duration nor for bridging gaps.
+  label_pursuit(g, p.pursuit, labels);
   auto is_gap = [&](std::size_t i) { return labels[i] == SampleLabel::blink || labels[i] == SampleLabel::loss; };
   // A post-saccadic oscillation only follows a saccade.
   const auto orphan_pso = [&] {

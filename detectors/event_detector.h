@@ -9,6 +9,7 @@
 #include <vector>
 
 #include "detectors/gaze_trace.h"
+#include "detectors/smooth_pursuit.h"
 #include "pipeline/events.h"
 #include "pipeline/protocol.h"
 
@@ -55,6 +56,9 @@ struct EventParams {
   // fixation after them or the saccade before them (before any other
   // clean-up, so the saccade and fixation rules see the folded runs).
   PsoHandling pso = PsoHandling::separate;
+  // Smooth pursuit apart from fixations (detectors/smooth_pursuit.h), first
+  // of all; off (dispersion 0) by default.
+  PursuitParams pursuit;
 };
 
 /// Single-sample spikes (a sample far from both neighbours while they agree)

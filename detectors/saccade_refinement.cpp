@@ -65,7 +65,7 @@ void refine_saccades(const GazeTrace& g, const std::vector<double>& s, const std
     // (2017) that put onsets 5.3 ms early on average (0.0 ms this way); on the
     // simulator grid kappa rose in 16 of 20 cells.
     std::size_t a = core.first;
-    while (a > last_end && usable[a - 1] && s[a - 1] >= onset) --a;
+    while (p.walk_boundaries && a > last_end && usable[a - 1] && s[a - 1] >= onset) --a;
     const std::size_t first = a;
     // Offset threshold from the noise just before the saccade.
     double m = 0, m2 = 0;
@@ -88,7 +88,7 @@ void refine_saccades(const GazeTrace& g, const std::vector<double>& s, const std
     std::size_t b = peak_end;
     auto minimum_after = [&](std::size_t q) { return q + 1 < n && usable[q + 1] && s[q] < offset && s[q + 1] >= s[q]; };
     while (b + 1 < n && usable[b + 1] && !minimum_after(b)) ++b;
-    const std::size_t last = minimum_after(b) && b > first ? b - 1 : b;
+    const std::size_t last = !p.walk_boundaries ? peak_end : minimum_after(b) && b > first ? b - 1 : b;
     if ((static_cast<double>(g.time_us[last] - g.time_us[first]) + g.interval_us) / 1000.0 >= p.min_saccade_ms) {
       for (std::size_t q = first; q <= last; ++q) out[q] = SampleLabel::saccade;
       // Glissade: a velocity bump above the offset threshold soon after the
@@ -101,14 +101,21 @@ void refine_saccades(const GazeTrace& g, const std::vector<double>& s, const std
       for (std::size_t q = b + 1; q < n && q <= b + glissade_window && usable[q]; ++q) {
         if (s[q] > offset) last_above = q;
       }
+      bool glissade = false;
       if (last_above > b) {
         std::size_t e = last_above;
         while (e + 1 < n && usable[e + 1] && !minimum_after(e)) ++e;
         if (minimum_after(e)) {
           for (std::size_t q = last + 1; q < e; ++q) out[q] = SampleLabel::pso;  // e, the minimum, is at rest
           b = e;
+          glissade = true;
         }
       }
+      // Without a glissade the method's own saccade end stands, and the next
+      // saccade may start right after it.
+      if (!p.walk_boundaries && !glissade) b = peak_end;
+    } else if (!p.walk_boundaries) {
+      b = peak_end;
     }
     last_end = b + 1;
     next = std::max(peak_end, b) + 1;

@@ -35,6 +35,12 @@ struct SaccadeRefinementParams {
   double local_noise_window_ms = 40.0;
   double max_glissade_ms = 40.0;      // 0 = no glissades
   double min_saccade_ms = 0.0;        // shorter saccades are not labelled (0 = all)
+  // false: the method's own saccades (the cores) are kept as they are and
+  // only glissades are added after them: the offset walk still finds where
+  // the saccade comes to rest, and when a bump above the offset threshold
+  // follows within max_glissade_ms, every sample from the core's end to the
+  // bump's closing minimum is a glissade. Without a bump nothing changes.
+  bool walk_boundaries = true;
 };
 
 /// Runs of usable samples faster than `threshold_deg_s`, merged where they touch.

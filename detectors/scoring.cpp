@@ -99,7 +99,8 @@ AgreementReport AgreementScorer::report() const {
   for (const auto& row : confusion_) {
     for (auto v : row) rep.samples += v;
   }
-  for (SampleLabel l : {SampleLabel::fixation, SampleLabel::saccade, SampleLabel::pso, SampleLabel::blink, SampleLabel::loss}) {
+  for (SampleLabel l : {SampleLabel::fixation, SampleLabel::saccade, SampleLabel::pso, SampleLabel::blink, SampleLabel::loss,
+                        SampleLabel::pursuit}) {
     const std::size_t c = static_cast<std::size_t>(l);
     ClassAgreement a;
     a.label = l;

@@ -15,7 +15,7 @@
 
 namespace gazemill {
 
-inline constexpr std::size_t kLabelCount = 6;
+inline constexpr std::size_t kLabelCount = 7;
 
 /// Every figure that is undefined (a class never detected has no precision,
 /// one never in the reference no recall, no matched event no onset
@@ -38,10 +38,15 @@ struct ClassAgreement {
 };
 
 struct AgreementReport {
-  std::vector<ClassAgreement> classes;  // fixation, saccade, pso, blink, loss (indexed by SampleLabel)
+  std::vector<ClassAgreement> classes;  // fixation, saccade, pso, blink, loss, pursuit
   std::array<std::array<std::uint64_t, kLabelCount>, kLabelCount> confusion{};  // [reference][detected]
   std::uint64_t samples = 0;
-  const ClassAgreement& of(SampleLabel label) const { return classes[static_cast<std::size_t>(label)]; }
+  const ClassAgreement& of(SampleLabel label) const {
+    for (const auto& c : classes) {
+      if (c.label == label) return c;
+    }
+    return classes.front();  // "other" has no figures of its own
+  }
 };
 
 /// Collects labelled stretches (e.g. one per recording); events never span two stretches.

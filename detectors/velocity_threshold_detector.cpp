@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "detectors/nystrom_holmqvist_detector.h"
 #include "detectors/saccade_refinement.h"
 
 namespace gazemill {
@@ -14,7 +15,8 @@ ParameterList VelocityThresholdDetector::parameters() const {
           {"onset_sd_factor", p_.onset_sd_factor},
           {"offset_onset_weight", p_.offset_onset_weight},
           {"local_noise_window_ms", p_.local_noise_window_ms},
-          {"max_glissade_ms", p_.max_glissade_ms}};
+          {"max_glissade_ms", p_.max_glissade_ms},
+          {"glissades", p_.glissades}};
 }
 
 ParameterList VelocityThresholdDetector::label(const GazeTrace& g, std::vector<SampleLabel>& labels) const {
@@ -30,11 +32,14 @@ ParameterList VelocityThresholdDetector::label(const GazeTrace& g, std::vector<S
     // Below the threshold a fixation sample; at it or above, a saccade sample.
     labels[i] = v.speed[i] < threshold ? SampleLabel::fixation : SampleLabel::saccade;
   }
-  if (!(p_.onset_sd_factor > 0)) return {};  // a fixed threshold: nothing set from the data
+  const bool refine = p_.onset_sd_factor > 0;
+  if (!refine && !(p_.glissades > 0 && p_.max_glissade_ms > 0)) return {};  // a fixed threshold: nothing set from the data
   const SpeedSpread fix = speed_spread_below(v.speed, usable, threshold);
   if (fix.samples < 2) return {};
   SaccadeRefinementParams rp;
-  rp.onset_threshold_deg_s = std::min(threshold, fix.mean_deg_s + p_.onset_sd_factor * fix.sd_deg_s);
+  const double sd_factor = refine ? p_.onset_sd_factor : NystromHolmqvistParams{}.onset_sd_factor;
+  rp.onset_threshold_deg_s = std::min(threshold, fix.mean_deg_s + sd_factor * fix.sd_deg_s);
+  rp.walk_boundaries = refine;
   rp.offset_onset_weight = p_.offset_onset_weight;
   rp.local_noise_window_ms = p_.local_noise_window_ms;
   rp.max_glissade_ms = p_.max_glissade_ms;

@@ -30,6 +30,15 @@ struct VelocityThresholdParams {
   double offset_onset_weight = 0.7;   // as in Nystrom & Holmqvist (from memory)
   double local_noise_window_ms = 40.0;
   double max_glissade_ms = 40.0;      // 0 = no glissades
+  // 1: glissades (post-saccadic oscillations) after the method's own
+  // saccades, which keep their onsets and offsets, by Nystrom & Holmqvist's
+  // (2010) criterion: a velocity bump above the offset threshold within
+  // max_glissade_ms of the saccade's coming to rest; the onset threshold is
+  // theirs, mean + 3 SD of the speeds below the velocity threshold (from
+  // memory). 0 = none, as published for I-VT. Ignored when onset_sd_factor
+  // is above 0 (that labels glissades already). Default: see README,
+  // "Event detection", for the figures that chose it.
+  double glissades = 1.0;
 };
 
 class VelocityThresholdDetector : public EventDetector {

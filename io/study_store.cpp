@@ -646,7 +646,7 @@ std::vector<SampleLabel> StudyStoreReader::read_sample_labels(const std::string&
   H5::Group g = impl_->group(base);
   std::vector<SampleLabel> out;
   for (auto c : h5::read_column<std::uint8_t>(g, "sample_label")) {
-    if (c > static_cast<std::uint8_t>(SampleLabel::other)) impl_->fail(base + "/sample_label", "label code " + std::to_string(c) + " is not 0..5");
+    if (c > static_cast<std::uint8_t>(SampleLabel::pursuit)) impl_->fail(base + "/sample_label", "label code " + std::to_string(c) + " is not 0..6");
     out.push_back(static_cast<SampleLabel>(c));
   }
   return out;

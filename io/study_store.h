@@ -25,7 +25,8 @@
 //   /recordings/<id>/events                        written by detect; attrs method, parameters (JSON),
 //                                                  detect_key
 //   /recordings/<id>/events/sample_label           uint8 per sample: 0 fixation, 1 saccade, 2 pso,
-//                                                  3 blink, 4 loss, 5 other (outside trials, unclassified)
+//                                                  3 blink, 4 loss, 5 other (outside trials, unclassified),
+//                                                  6 smooth pursuit (only when [detection.pursuit] asks)
 //   /recordings/<id>/events/fixations/{trial,eye,start_us,end_us,duration_ms,x_px,y_px,x_median_px,
 //                                      y_median_px,x_deg,y_deg,dispersion_deg,pupil}
 //   /recordings/<id>/events/saccades/{trial,eye,start_us,end_us,start_x_px,start_y_px,end_x_px,end_y_px,

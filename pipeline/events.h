@@ -8,7 +8,9 @@
 
 namespace gazemill {
 
-enum class SampleLabel : unsigned char { fixation = 0, saccade = 1, pso = 2, blink = 3, loss = 4, other = 5 };
+// pursuit (smooth pursuit) comes last so that the codes of stores written
+// before it keep their meaning; only a study that asks for it has it.
+enum class SampleLabel : unsigned char { fixation = 0, saccade = 1, pso = 2, blink = 3, loss = 4, other = 5, pursuit = 6 };
 
 inline const char* to_string(SampleLabel l) {
   switch (l) {
@@ -18,6 +20,7 @@ inline const char* to_string(SampleLabel l) {
     case SampleLabel::blink: return "blink";
     case SampleLabel::loss: return "loss";
     case SampleLabel::other: return "other";
+    case SampleLabel::pursuit: return "pursuit";
   }
   return "other";
 }

@@ -176,6 +176,12 @@ struct DetectionSpec {
   double max_fixation_gap_shift_deg = 0.5;     // ... when the gaze on both sides is this close
   double spike_deg = 1.0;                      // single-sample spikes larger than this are removed; 0 = off
   PsoHandling pso = PsoHandling::separate;     // kept apart, as hand coders and Nystrom & Holmqvist (2010) do
+  // [detection.pursuit]: smooth pursuit apart from fixations by I-VDT's
+  // dispersion stage (Komogortsev & Karpov 2013); 0 = off, the default:
+  // readers rarely pursue, and every fixation sample it takes is lost to the
+  // reading measures (README, "Event detection").
+  double pursuit_dispersion_deg = 0.0;
+  double pursuit_window_ms = 100.0;
 };
 
 /// Where the regions of every item are, and how fixations are assigned to them.

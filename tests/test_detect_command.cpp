@@ -63,12 +63,15 @@ TEST(DetectCommand, WritesEventsAndKeepsTheRest) {
   EXPECT_EQ(stored.saccades.size(), expected.events.saccades.size());
   EXPECT_EQ(stored.blinks.size(), expected.events.blinks.size());
   EXPECT_EQ(r.read_sample_labels("p02_1"), expected.labels);
-  // One row per trial with the eye used; a fixed threshold sets nothing from the data.
+  // One row per trial with the eye used; the velocity threshold is fixed,
+  // and only the glissade criterion's onset threshold comes from the data.
   ASSERT_EQ(stored.trials.size(), rec.trials.size());
   for (std::size_t i = 0; i < rec.trials.size(); ++i) {
     EXPECT_EQ(stored.trials[i].trial, rec.trials[i].id);
     EXPECT_EQ(stored.trials[i].eye, expected.events.trials[i].eye);
-    EXPECT_TRUE(stored.trials[i].fitted.empty());
+    EXPECT_EQ(stored.trials[i].fitted, expected.events.trials[i].fitted);
+    EXPECT_EQ(stored.trials[i].fitted.count("velocity_threshold_deg_s"), 0u);
+    EXPECT_LE(stored.trials[i].fitted.size(), 1u);
   }
 
   // Running it again replaces the events rather than adding to them.

@@ -7,9 +7,11 @@
 
 #include <cmath>
 #include <limits>
+#include <stdexcept>
 #include <string>
 #include <vector>
 
+#include "detectors/detector_registry.h"
 #include "detectors/engbert_kliegl_detector.h"
 #include "detectors/event_detector.h"
 #include "detectors/nystrom_holmqvist_detector.h"
@@ -205,6 +207,57 @@ TEST(NystromHolmqvistRule, GlissadeWindowHoldsItsLastSample) {
   std::vector<SampleLabel> out(s.size(), SampleLabel::other);
   refine_saccades(g, s, usable, cores_above(s, usable, 45.0), p, out);
   EXPECT_EQ(letters(out, 8, 24), "oooSSSSSSPPPPooo");
+}
+
+// Glissades after a method's own saccades (walk_boundaries = false: I-VT and
+// Engbert & Kliegl with glissades = 1), by Nystrom & Holmqvist's (2010)
+// glissade criterion, worked by hand on the speeds of
+// OnsetOffsetAndGlissadeByHand with a velocity threshold of 45 deg/s:
+//  - Cores: 12-14 (80, 150, 90) and 19 (50); sample 15 (45) is not above 45.
+//    The saccade stays 12-14: no onset or offset walk.
+//  - Offset threshold: the local noise over the 4 samples before the core's
+//    own onset, 8-11 (18, 12, 18, 40): mean 22, SD sqrt(598 - 484) = 10.677,
+//    mean + 3 SD = 54.03; 0.7 x 30 + 0.3 x 54.03 = 37.21.
+//  - Coming to rest: the first local minimum below 37.21 after 14 is 17 (27,
+//    then 35); within 40 ms after it, 19 (50) is above 37.21: a glissade, up
+//    to the next local minimum below 37.21, 21 (26, then 27). Every sample
+//    from the saccade's end to that minimum, 15-20, is the glissade; core 19
+//    lies inside it.
+//  - With sample 19 at 36 (below 37.21) no bump follows: nothing is added,
+//    and the samples after the saccade keep the method's own labels.
+TEST(GlissadeAfterAnySaccade, MethodsOwnSaccadeKeptAndGlissadeByHand) {
+  std::vector<double> s;
+  for (int i = 0; i <= 10; ++i) s.push_back(i % 2 ? 12 : 18);
+  for (double v : {40, 80, 150, 90, 45, 29, 27, 35, 50, 33, 26, 27}) s.push_back(v);
+  for (int i = 23; i < 70; ++i) s.push_back(i % 2 ? 12 : 18);
+  const GazeTrace g = trace_of(std::vector<double>(s.size(), 0.0), std::vector<double>(s.size(), 0.0), 1000);
+  SaccadeRefinementParams p;
+  p.onset_threshold_deg_s = 30;
+  p.offset_onset_weight = 0.7;
+  p.local_noise_window_ms = 4;
+  p.max_glissade_ms = 40;
+  p.walk_boundaries = false;
+  const std::vector<bool> usable(s.size(), true);
+  std::vector<SampleLabel> out(s.size(), SampleLabel::other);
+  refine_saccades(g, s, usable, cores_above(s, usable, 45.0), p, out);
+  EXPECT_EQ(letters(out, 8, 24), "ooooSSSPPPPPPooo");
+
+  s[19] = 36;
+  std::vector<SampleLabel> none(s.size(), SampleLabel::other);
+  refine_saccades(g, s, usable, cores_above(s, usable, 45.0), p, none);
+  EXPECT_EQ(letters(none, 8, 24), "ooooSSSooooooooo");
+}
+
+// The switch is 0 or 1 (our rule): anything else is a typing slip.
+TEST(GlissadeAfterAnySaccade, SwitchIsZeroOrOne) {
+  for (const char* method : {"ivt", "engbert_kliegl"}) {
+    DetectionSpec spec;
+    spec.method = method;
+    spec.parameters = {{"glissades", 0.5}};
+    EXPECT_THROW(make_detector(spec), std::invalid_argument) << method;
+    spec.parameters = {{"glissades", 0}};
+    EXPECT_NO_THROW(make_detector(spec)) << method;
+  }
 }
 
 // Engbert & Kliegl (2003), section 2 (from memory): a saccade needs at

@@ -118,7 +118,7 @@ TEST(ScoreCorpus, UndefinedFiguresAreNullInJson) {
   std::set<std::string> keys;
   for (const auto& [k, v] : j["detection"]["parameters"].items()) keys.insert(k);
   EXPECT_EQ(keys, (std::set<std::string>{"velocity_threshold_deg_s", "sg_window_ms", "sg_order", "onset_sd_factor",
-                                         "offset_onset_weight", "local_noise_window_ms", "max_glissade_ms"}));
+                                         "offset_onset_weight", "local_noise_window_ms", "max_glissade_ms", "glissades"}));
   EXPECT_EQ(j["detection"]["pso"], "separate");
   EXPECT_TRUE(j["files"].is_array() && j["files"].empty());
   EXPECT_TRUE(j["unmapped_codes"].is_object() && j["unmapped_codes"].empty());
