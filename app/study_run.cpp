@@ -14,6 +14,7 @@
 #include <memory>
 #include <mutex>
 #include <set>
+#include <stdexcept>
 #include <thread>
 
 #include "app/align.h"
@@ -152,7 +153,10 @@ class StudyRun {
   // Work.
   void run_recordings(StudyStoreWriter& out);
   void write_recording(StudyStoreWriter& out, RecordingOutput& r);
-  std::vector<RecordingEvents> recording_events() const;
+  // Every recording's metadata and events for cleaning; those of recordings
+  // read or detected this run are moved out of fresh_, so it runs once.
+  std::vector<RecordingEvents> recording_events();
+  bool events_taken_ = false;
   void run_study_stages(StudyStoreWriter& out);
   void remove_results(StudyStoreWriter& out, Stage stage);
   StageRecord record_for(Stage stage, const std::string& key, const std::string& upstream, const std::string& settings) const;
@@ -354,9 +358,10 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
     report_.saccades += r.events.saccades.size();
     report_.blinks += r.events.blinks.size();
   }
-  // The samples and labels are in the store now; what cleaning needs stays.
+  // The samples, labels and digest are in the store now; what cleaning needs stays.
   r.samples.reset();
   r.labels.chunks = {};
+  r.digest = SampleDigest{};
 }
 
 // Reads and detects the recordings that need it on a pool of threads, and
@@ -507,12 +512,14 @@ void StudyRun::run_recordings(StudyStoreWriter& out) {
   bar.finish();
 }
 
-std::vector<RecordingEvents> StudyRun::recording_events() const {
+std::vector<RecordingEvents> StudyRun::recording_events() {
+  if (events_taken_) throw std::logic_error("recording_events: the fresh recordings' events were taken already");
+  events_taken_ = true;
   std::vector<RecordingEvents> out;
   for (const auto& plan : plans_) {
     const auto f = fresh_.find(plan.id);
     if (f != fresh_.end() && f->second.detected) {
-      out.push_back({f->second.recording, f->second.events});
+      out.push_back({std::move(f->second.recording), std::move(f->second.events)});
     } else {
       if (!old_->has_events(plan.id)) stale_upstream(Stage::detect, "recording " + plan.id + " has no detected events");
       out.push_back({old_->read_recording(plan.id, false), old_->read_events(plan.id)});
