@@ -66,7 +66,13 @@ std::function<void(std::uint64_t, std::uint64_t)> progress_of(const RecordingWor
   };
 }
 
-std::string milliseconds_text(Microseconds us) { return format_number(static_cast<double>(us) / 1000.0) + " ms"; }
+// Whole digits, never an exponent: these times are compared with a file's text.
+std::string milliseconds_text(Microseconds us) {
+  if (us % 1000 == 0) return std::to_string(us / 1000) + " ms";
+  char text[48];
+  std::snprintf(text, sizeof text, "%.3f ms", static_cast<double>(us) / 1000.0);
+  return text;
+}
 
 // A trial without a sample between its start and end cannot be detected,
 // cleaned or measured: unchecked, it gives zero fixations and no word. The
