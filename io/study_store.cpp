@@ -142,6 +142,7 @@ std::unique_ptr<StudyStoreWriter> StudyStoreWriter::update(const std::string& pa
   try {
     w->impl_ = std::make_unique<Impl>();
     w->impl_->options = options;
+    h5::note_file(path, "writing");
     w->impl_->file = H5::H5File(w->temp_path_, H5F_ACC_RDWR, H5::FileCreatPropList::DEFAULT, access_properties());
     w->impl_->recordings = w->impl_->file.openGroup("/recordings");
   } catch (const H5::Exception& e) {
