@@ -169,6 +169,13 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   }
   out.samples = std::make_shared<CompressedSamples>(left, right, options.chunk_rows, options.deflate_level, options.raw_budget_bytes);
   DelimitedReadResult result;
+  const bool check_margin = std::isfinite(protocol.input.offscreen_margin_px);
+  const auto count_offscreen = [](const ScreenMarginSink& margin, DelimitedReadResult& r) {
+    if (margin.offscreen_left + margin.offscreen_right == 0) return;
+    r.repairs["offscreen_gaze_read_as_missing"] += margin.offscreen_left + margin.offscreen_right;
+    r.missing_left += margin.offscreen_left;
+    r.missing_right += margin.offscreen_right;
+  };
   if (bids_input) {
     const BidsRecordingFiles& b = *in.bids;
     log_bids_sidecars(b);
@@ -176,14 +183,17 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     bopt.missing_values = protocol.input.table.missing_values;
     bopt.duplicates = protocol.input.repairs.duplicate_timestamps;
     bopt.names = protocol.input.bids;
-    result = read_bids_recording(b, bopt, *out.samples, &out.tracker_events);
-    out.keeps_tracker_events = protocol.input.bids.keeps_tracker_events();
-    rec.sample_rate_hz = b.eyes.front().sidecar.sampling_frequency_hz;
     // [screen] in the protocol replaces what the task events sidecar says.
     if (protocol.screen) rec.screen = *protocol.screen;
     else if (b.screen) rec.screen = *b.screen;
     else if (b.screen_error) throw *b.screen_error;
     else throw InputError({in.sample_file, 0, "StimulusPresentation"}, "no screen geometry: neither a task *_events.json with StimulusPresentation nor [screen] in the protocol");
+    // BIDS gaze is in screen pixels (the reader insists on it).
+    ScreenMarginSink margin(*out.samples, rec.screen.width_px, rec.screen.height_px, protocol.input.offscreen_margin_px);
+    result = read_bids_recording(b, bopt, check_margin ? static_cast<SampleSink&>(margin) : *out.samples, &out.tracker_events);
+    count_offscreen(margin, result);
+    out.keeps_tracker_events = protocol.input.bids.keeps_tracker_events();
+    rec.sample_rate_hz = b.eyes.front().sidecar.sampling_frequency_hz;
   } else if (fixation_input) {
     result.messages = std::move(list.messages);
     result.message_lines = std::move(list.message_lines);
@@ -198,13 +208,8 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     opt.progress = progress_of(options);
     rec.screen = *protocol.screen;
     ScreenMarginSink margin(*out.samples, rec.screen.width_px, rec.screen.height_px, protocol.input.offscreen_margin_px);
-    const bool check_margin = std::isfinite(protocol.input.offscreen_margin_px);
     result = read_delimited(in.sample_file, opt, check_margin ? static_cast<SampleSink&>(margin) : *out.samples);
-    if (margin.offscreen_left + margin.offscreen_right > 0) {
-      result.repairs["offscreen_gaze_read_as_missing"] += margin.offscreen_left + margin.offscreen_right;
-      result.missing_left += margin.offscreen_left;
-      result.missing_right += margin.offscreen_right;
-    }
+    count_offscreen(margin, result);
   }
   out.samples->finish();
   if (!in.message_file.empty()) {

@@ -134,7 +134,8 @@ struct InputSpec {
   // calibrated tracker, so gaze near an edge that calibration error puts just
   // outside is kept, while values hundreds of pixels off (track loss, lid
   // artefacts, placeholder values) are no look at the display (common
-  // practice, no source). Infinity turns the check off. Delimited input only.
+  // practice, no source). Infinity turns the check off. Sample input only
+  // (delimited and BIDS, whose gaze is in pixels); fixation lists are kept as they are.
   double offscreen_margin_px = 200.0;
   BidsInputSpec bids;                 // bids only
   FixationListSpec fixations;         // fixations only
