@@ -99,8 +99,18 @@ int main(int argc, char** argv) {
   } catch (const std::exception& e) {
     spdlog::error("{}", e.what());
   } catch (...) {
+    // A damaged store reaches here as an HDF5 exception from whatever read
+    // met the damage: name the file, say what probably happened.
     const std::string reason = h5::last_error_reason();
-    spdlog::error("an HDF5 operation failed{}", reason.empty() ? "" : ": " + reason);
+    const std::string file = h5::last_file();
+    if (file.empty()) {
+      spdlog::error("an HDF5 operation failed{}", reason.empty() ? "" : ": " + reason);
+    } else if (h5::last_file_purpose() == "reading") {
+      spdlog::error("{}: the store could not be read{}; it is damaged or cut short (an interrupted copy?). Copy it again, or make it "
+                    "again with gazemill run", file, reason.empty() ? "" : " (HDF5: " + reason + ")");
+    } else {
+      spdlog::error("{}: an HDF5 operation failed while writing it{}", file, reason.empty() ? "" : ": " + reason);
+    }
   }
   if (code == 0) {
     h5::library_finish();

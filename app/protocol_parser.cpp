@@ -136,6 +136,11 @@ void parse_input(TomlSection& in, Protocol& p) {
     spec.sample_rate_hz = *rate;
   }
 
+  if (auto margin = in.number("offscreen_margin_px")) {
+    if (!(*margin >= 0)) in.fail("offscreen_margin_px", "expected a distance in px of 0 or more (inf: no check)");
+    spec.offscreen_margin_px = *margin;
+  }
+
   if (spec.format == InputFormat::fixations) {
     if (in.has("table")) in.fail("table", "is for sample exports; a fixation list is mapped in [input.fixations]");
     if (in.has("sample_rate_hz")) in.fail("sample_rate_hz", "a fixation list has no samples");
@@ -158,6 +163,17 @@ void parse_input(TomlSection& in, Protocol& p) {
     L.message_column = t->string("message_column").value_or("");
     if (auto mv = t->strings("missing_values")) L.missing_values = *mv;
     L.zero_gaze_is_missing = t->boolean("zero_gaze_is_missing").value_or(false);
+    if (auto sc = t->string("status_column")) {
+      if (sc->empty()) t->fail("status_column", "expected the name of a column");
+      L.status_column = *sc;
+      auto invalid = t->strings("invalid_status");
+      if (!invalid || invalid->empty()) {
+        t->fail("status_column", "name the status values that mark a sample invalid: invalid_status = [\"...\"]");
+      }
+      L.invalid_status = *invalid;
+    } else if (t->has("invalid_status")) {
+      t->fail("invalid_status", "needs status_column, the column these values are found in");
+    }
     L.left = parse_eye(*t, "left");
     L.right = parse_eye(*t, "right");
     if (!L.left && !L.right) {
@@ -175,6 +191,11 @@ void parse_input(TomlSection& in, Protocol& p) {
     ms.delimiter = parse_delimiter(*m, "delimiter", '\t');
     ms.time_column = m->required_string("time_column");
     ms.text_column = m->required_string("text_column");
+    if (auto unit = m->string("time_unit")) {
+      const auto tu = parse_time_unit(*unit);
+      if (!tu) m->fail("time_unit", "expected \"s\", \"ms\", \"us\" or \"ns\", found \"" + *unit + "\"");
+      ms.time_unit = *tu;
+    }
     m->finish();
     if (!spec.table.message_column.empty() || !spec.fixations.message_column.empty()) {
       m->fail("file", std::string("messages come either from input.") + (spec.format == InputFormat::fixations ? "fixations" : "table") +
@@ -198,6 +219,11 @@ void parse_input(TomlSection& in, Protocol& p) {
       if (*u == "error") spec.repairs.unterminated_trials = UnterminatedTrialPolicy::error;
       else if (*u == "drop") spec.repairs.unterminated_trials = UnterminatedTrialPolicy::drop;
       else r->fail("unterminated_trials", "expected \"error\" or \"drop\", found \"" + *u + "\"");
+    }
+    if (auto u = r->string("trials_without_samples")) {
+      if (*u == "error") spec.repairs.trials_without_samples = TrialsWithoutSamplesPolicy::error;
+      else if (*u == "drop") spec.repairs.trials_without_samples = TrialsWithoutSamplesPolicy::drop;
+      else r->fail("trials_without_samples", "expected \"error\" or \"drop\", found \"" + *u + "\"");
     }
     r->finish();
   }

@@ -3,6 +3,7 @@
 #include <sys/stat.h>
 
 #include <algorithm>
+#include <cmath>
 #include <cstdio>
 #include <filesystem>
 
@@ -66,6 +67,62 @@ std::function<void(std::uint64_t, std::uint64_t)> progress_of(const RecordingWor
   };
 }
 
+// Whole digits, never an exponent: these times are compared with a file's text.
+std::string milliseconds_text(Microseconds us) {
+  if (us % 1000 == 0) return std::to_string(us / 1000) + " ms";
+  char text[48];
+  std::snprintf(text, sizeof text, "%.3f ms", static_cast<double>(us) / 1000.0);
+  return text;
+}
+
+// A trial without a sample between its start and end cannot be detected,
+// cleaned or measured: unchecked, it gives zero fixations and no word. The
+// usual cause is messages on another clock or in another unit than the
+// samples (common practice, no source). An error naming the first such trial
+// unless input.repairs.trials_without_samples = "drop", which leaves them out
+// and counts them.
+void drop_trials_without_samples(Recording& rec, const CompressedSamples& samples, DelimitedReadResult& result, const Protocol& protocol,
+                                 const RecordingInputs& in, const std::string& message_source, const std::vector<std::size_t>& lines) {
+  std::vector<Trial> kept;
+  kept.reserve(rec.trials.size());
+  for (Trial& trial : rec.trials) {
+    const auto [first, last] = samples.range(trial.start_us, trial.end_us);
+    if (last > first) {
+      kept.push_back(std::move(trial));
+      continue;
+    }
+    if (protocol.input.repairs.trials_without_samples == TrialsWithoutSamplesPolicy::drop) {
+      ++result.repairs["trial_without_samples_dropped"];
+      continue;
+    }
+    // The line of the trial's first message, when its messages are lines of a file.
+    std::size_t line = 0;
+    const bool from_messages = protocol.trials.source == TrialSource::messages;
+    if (from_messages) {
+      const auto it = std::lower_bound(rec.messages.begin(), rec.messages.end(), trial.start_us,
+                                       [](const Message& m, Microseconds t) { return m.time_us < t; });
+      const auto index = static_cast<std::size_t>(it - rec.messages.begin());
+      if (index < lines.size()) line = lines[index];
+    }
+    std::string recording = samples.size() == 0
+                                ? "the recording has no samples"
+                                : "the samples of " + in.sample_file + " run from " + milliseconds_text(result.first_time_us) + " to " +
+                                      milliseconds_text(result.last_time_us);
+    std::string hint;
+    if (in.message_file.empty()) {
+      hint = "are the messages on the samples' clock?";
+    } else {
+      const TimeUnit unit = protocol.input.message_file->time_unit.value_or(protocol.input.table.time_unit);
+      hint = "are the messages' times in " + to_string(unit) + "? If not, set input.messages.time_unit";
+    }
+    throw InputError({message_source, line, from_messages ? "trials.start" : "trials"},
+                     "trial '" + trial.id + "' runs from " + milliseconds_text(trial.start_us) + " to " + milliseconds_text(trial.end_us) +
+                         " and has no samples: " + recording + "; " + hint +
+                         " (or set input.repairs.trials_without_samples = \"drop\" to leave such trials out, counted)");
+  }
+  rec.trials = std::move(kept);
+}
+
 }  // namespace
 
 InputFileRecord describe_input(const std::string& path, const std::string& recording, const std::vector<InputFileRecord>& known) {
@@ -113,6 +170,13 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   }
   out.samples = std::make_shared<CompressedSamples>(left, right, options.chunk_rows, options.deflate_level, options.raw_budget_bytes);
   DelimitedReadResult result;
+  const bool check_margin = std::isfinite(protocol.input.offscreen_margin_px);
+  const auto count_offscreen = [](const ScreenMarginSink& margin, DelimitedReadResult& r) {
+    if (margin.offscreen_left + margin.offscreen_right == 0) return;
+    r.repairs["offscreen_gaze_read_as_missing"] += margin.offscreen_left + margin.offscreen_right;
+    r.missing_left += margin.offscreen_left;
+    r.missing_right += margin.offscreen_right;
+  };
   if (bids_input) {
     const BidsRecordingFiles& b = *in.bids;
     log_bids_sidecars(b);
@@ -120,14 +184,17 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     bopt.missing_values = protocol.input.table.missing_values;
     bopt.duplicates = protocol.input.repairs.duplicate_timestamps;
     bopt.names = protocol.input.bids;
-    result = read_bids_recording(b, bopt, *out.samples, &out.tracker_events);
-    out.keeps_tracker_events = protocol.input.bids.keeps_tracker_events();
-    rec.sample_rate_hz = b.eyes.front().sidecar.sampling_frequency_hz;
     // [screen] in the protocol replaces what the task events sidecar says.
     if (protocol.screen) rec.screen = *protocol.screen;
     else if (b.screen) rec.screen = *b.screen;
     else if (b.screen_error) throw *b.screen_error;
     else throw InputError({in.sample_file, 0, "StimulusPresentation"}, "no screen geometry: neither a task *_events.json with StimulusPresentation nor [screen] in the protocol");
+    // BIDS gaze is in screen pixels (the reader insists on it).
+    ScreenMarginSink margin(*out.samples, rec.screen.width_px, rec.screen.height_px, protocol.input.offscreen_margin_px);
+    result = read_bids_recording(b, bopt, check_margin ? static_cast<SampleSink&>(margin) : *out.samples, &out.tracker_events);
+    count_offscreen(margin, result);
+    out.keeps_tracker_events = protocol.input.bids.keeps_tracker_events();
+    rec.sample_rate_hz = b.eyes.front().sidecar.sampling_frequency_hz;
   } else if (fixation_input) {
     result.messages = std::move(list.messages);
     result.message_lines = std::move(list.message_lines);
@@ -140,15 +207,18 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     opt.duplicate_timestamps = protocol.input.repairs.duplicate_timestamps;
     opt.chunk_rows = options.chunk_rows;
     opt.progress = progress_of(options);
-    result = read_delimited(in.sample_file, opt, *out.samples);
     rec.screen = *protocol.screen;
+    ScreenMarginSink margin(*out.samples, rec.screen.width_px, rec.screen.height_px, protocol.input.offscreen_margin_px);
+    result = read_delimited(in.sample_file, opt, check_margin ? static_cast<SampleSink&>(margin) : *out.samples);
+    count_offscreen(margin, result);
   }
   out.samples->finish();
   if (!in.message_file.empty()) {
     DelimitedReadOptions mopt;
     mopt.layout.delimiter = protocol.input.message_file->delimiter;
     mopt.layout.time_column = protocol.input.message_file->time_column;
-    mopt.layout.time_unit = fixation_input ? protocol.input.fixations.time_unit : protocol.input.table.time_unit;
+    mopt.layout.time_unit = protocol.input.message_file->time_unit.value_or(fixation_input ? protocol.input.fixations.time_unit
+                                                                                           : protocol.input.table.time_unit);
     mopt.layout.message_column = protocol.input.message_file->text_column;
     mopt.layout.missing_values = fixation_input ? protocol.input.fixations.missing_values : protocol.input.table.missing_values;
     mopt.layout_key = "input.messages";
@@ -203,6 +273,7 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     }
     rec.trials = trials_from_table(in, protocol, {result.first_time_us, result.last_time_us}, rec.messages, message_source);
   }
+  if (!fixation_input) drop_trials_without_samples(rec, *out.samples, result, protocol, in, message_source, lines);
   if (fixation_input) {
     // The list's fixations are the recording's events: the detect stage has nothing to do.
     FixationImport imported = import_fixations(rec.trials, list.fixations, rec.screen);

@@ -1,5 +1,7 @@
 #include "app/stage_settings.h"
 
+#include <cmath>
+
 #include <nlohmann/json.hpp>
 
 #include <filesystem>
@@ -87,10 +89,17 @@ std::string ingest_settings_json(const Protocol& p) {
   if (in.message_file) {
     j["messages"] = {{"file", in.message_file->path_template}, {"delimiter", delimiter_text(in.message_file->delimiter)},
                      {"time_column", in.message_file->time_column}, {"text_column", in.message_file->text_column}};
+    // Only when set, so that the keys of stores ingested without it stay as they were.
+    if (in.message_file->time_unit) j["messages"]["time_unit"] = to_string(*in.message_file->time_unit);
   }
   j["repairs"] = {{"duplicate_timestamps", in.repairs.duplicate_timestamps == DuplicateTimestampPolicy::error ? "error" : "keep_first"},
                   {"unterminated_trials", in.repairs.unterminated_trials == UnterminatedTrialPolicy::error ? "error" : "drop"}};
+  if (in.repairs.trials_without_samples != TrialsWithoutSamplesPolicy::error) j["repairs"]["trials_without_samples"] = "drop";
   j["sample_rate_hz"] = in.sample_rate_hz;
+  // The off-screen margin is always part of the key: it changed what ingest
+  // gives for every store made before it.
+  j["offscreen_margin_px"] = std::isfinite(in.offscreen_margin_px) ? nlohmann::json(in.offscreen_margin_px) : nlohmann::json("inf");
+  if (!t.status_column.empty()) j["table"]["status"] = {{"column", t.status_column}, {"invalid", t.invalid_status}};
   if (p.screen) {
     j["screen"] = {{"width_px", p.screen->width_px}, {"height_px", p.screen->height_px}, {"width_mm", p.screen->width_mm},
                    {"height_mm", p.screen->height_mm}, {"viewing_distance_mm", p.screen->viewing_distance_mm}};

@@ -7,6 +7,7 @@
 #include <atomic>
 #include <chrono>
 #include <condition_variable>
+#include <cstdio>
 #include <ctime>
 #include <exception>
 #include <filesystem>
@@ -21,6 +22,7 @@
 #include "app/clean.h"
 #include "app/event_tables.h"
 #include "app/measure.h"
+#include "app/preflight.h"
 #include "app/progress_bar.h"
 #include "app/recording_work.h"
 #include "app/stage_settings.h"
@@ -30,6 +32,7 @@
 #include "gazemill/version.h"
 #include "io/alignment_io.h"
 #include "io/cleaning_io.h"
+#include "io/delimited_reader.h"
 #include "io/event_tables_io.h"
 #include "io/hdf5_util.h"
 #include "io/measures_io.h"
@@ -40,6 +43,7 @@
 #include "io/study_store.h"
 #include "io/table_set.h"
 #include "io/write_lock.h"
+#include "pipeline/named_regex.h"
 #include "measures/measure_aggregates.h"
 #include "pipeline/input_error.h"
 
@@ -146,6 +150,7 @@ class StudyRun {
   // Planning.
   void open_previous();
   void plan_recordings();
+  void preflight_inputs() const;
   void check_current_up_to(Stage stage);
   std::string study_key(Stage stage) const;
   [[noreturn]] void stale_upstream(Stage needed, const std::string& why) const;
@@ -217,6 +222,48 @@ void StudyRun::open_previous() {
 }
 
 // Decides, recording by recording, what must be read or detected again.
+// Before any work: what the protocol leaves to ingest to decide is said
+// once, every sample file's header is checked against the columns the
+// protocol names, and the disk is asked for room.
+void StudyRun::preflight_inputs() const {
+  const bool ingests = std::any_of(plans_.begin(), plans_.end(), [](const RecordingPlan& r) { return r.work == RecordingWork::ingest; });
+  if (!ingests) return;
+  if (p_.trials.source == TrialSource::messages) {
+    const NamedRegex start(p_.trials.start_pattern);
+    const auto& names = start.names();
+    if (std::find(names.begin(), names.end(), "trial") == names.end()) {
+      spdlog::info("trials.start has no (?<trial>...) capture: the trials of each recording are numbered 1, 2, 3, ... in the order "
+                   "their start messages come (a dropped unterminated trial takes no number); capture the id, e.g. "
+                   "'^begin trial (?<trial>\\d+)$', to take it from the messages");
+    }
+  }
+  std::uint64_t plain = 0, gzip = 0;
+  for (const auto& plan : plans_) {
+    if (plan.work != RecordingWork::ingest || !plan.inputs) continue;
+    if (p_.input.format == InputFormat::delimited) {
+      DelimitedReadOptions opt;
+      opt.layout = p_.input.table;
+      check_delimited_header(plan.inputs->sample_file, opt);
+    }
+    for (const auto& f : plan.inputs->files) {
+      std::error_code ec;
+      const std::uint64_t size = fs::file_size(f, ec);
+      if (ec) continue;  // the reader names it
+      unsigned char magic[2] = {0, 0};
+      if (std::FILE* in = std::fopen(f.c_str(), "rb")) {
+        if (std::fread(magic, 1, 2, in) != 2) magic[0] = 0;
+        std::fclose(in);
+      }
+      (magic[0] == 0x1f && magic[1] == 0x8b ? gzip : plain) += size;
+    }
+  }
+  std::uint64_t needed = estimated_store_bytes(plain, gzip);
+  std::error_code ec;
+  // An update copies the old store before changing it.
+  if (old_ && o_.only != Stage::ingest) needed += fs::file_size(o_.store_path, ec);
+  check_free_space(o_.store_path, needed);
+}
+
 void StudyRun::plan_recordings() {
   // Stage commands after ingest take the store's recordings as they are: the
   // raw files may be archived by then (a run checks them, and verify).
@@ -657,10 +704,7 @@ StudyRunReport StudyRun::execute() {
   if (p_.design.factors.empty()) {
     spdlog::debug("the protocol's [design] names no factors: audits and aggregates are not broken down by condition");
   }
-  fs::path store(o_.store_path);
-  if (store.has_parent_path() && !fs::is_directory(store.parent_path())) {
-    throw InputError({o_.store_path, 0, ""}, "the folder " + store.parent_path().string() + " does not exist");
-  }
+  check_store_folder(o_.store_path);
   WriteLock lock(o_.store_path);
   if (const int n = remove_leftover_temporaries(o_.store_path); n > 0) {
     spdlog::info("removed {} temporary file(s) that an interrupted run left beside {}", n, o_.store_path);
@@ -680,6 +724,7 @@ StudyRunReport StudyRun::execute() {
   }
   if (o_.only && *o_.only != Stage::ingest) check_current_up_to(*o_.only);
   report_.recordings = plans_.size();
+  preflight_inputs();
 
   // The store is rewritten only when something in it changes.
   const bool recordings_change =

@@ -185,6 +185,7 @@ class RowParser {
     time_ = find(layout_.time_column, "time_column");
     if (time_ == kNoColumn) throw InputError({path_, line, ""}, "no time column configured (" + opt_.layout_key + ".time_column)");
     message_ = find(layout_.message_column, "message_column");
+    status_ = find(layout_.status_column, "status_column");
     if (layout_.left) left_ = {find(layout_.left->x, "left.x_column"), find(layout_.left->y, "left.y_column"), find(layout_.left->pupil, "left.pupil_column")};
     if (layout_.right) right_ = {find(layout_.right->x, "right.x_column"), find(layout_.right->y, "right.y_column"), find(layout_.right->pupil, "right.pupil_column")};
     fields_.resize(names_.size());
@@ -199,7 +200,9 @@ class RowParser {
     set(right_.x, kRightX);
     set(right_.y, kRightY);
     set(right_.pupil, kRightPupil);
-    common_rows_ = opt_.common_row_path && (layout_.left || layout_.right);
+    // A status column is read on the careful path only: the quicker paths
+    // skip the columns they do not map.
+    common_rows_ = opt_.common_row_path && (layout_.left || layout_.right) && status_ == kNoColumn;
     group_layout_ = common_rows_ && opt_.row_groups ? row_group_layout_for_header() : RowGroupLayout{};
   }
 
@@ -311,8 +314,10 @@ class RowParser {
     last_time_ = t;
     ++result_.samples;
     chunk_.time_us[rows_in_chunk_] = t;
-    if (layout_.left) put_eye(chunk_.left, left_, line_no, result_.missing_left);
-    if (layout_.right) put_eye(chunk_.right, right_, line_no, result_.missing_right);
+    const bool invalid = status_ != kNoColumn && is_invalid_status(trim(fields_[status_]));
+    if (invalid) ++result_.repairs["status_invalid_read_as_missing"];
+    if (layout_.left) put_eye(chunk_.left, left_, line_no, result_.missing_left, invalid);
+    if (layout_.right) put_eye(chunk_.right, right_, line_no, result_.missing_right, invalid);
     if (++rows_in_chunk_ == capacity_) flush();
   }
 
@@ -588,9 +593,25 @@ class RowParser {
     return false;
   }
 
+  bool is_invalid_status(std::string_view f) const {
+    for (const auto& v : layout_.invalid_status) {
+      if (f == v) return true;
+    }
+    return false;
+  }
+
+  // A message row's gaze may be written as NaN when it is no token: the row
+  // stays a message row, as when NaN was one of the default tokens.
+  bool no_value(std::string_view f) const {
+    if (is_missing(f)) return true;
+    double v = 0.0;
+    const auto r = fast_float::from_chars(f.data(), f.data() + f.size(), v);
+    return r.ec == std::errc() && r.ptr == f.data() + f.size() && std::isnan(v);
+  }
+
   bool all_gaze_missing() const {
     auto eye_missing = [&](const EyeIndex& e) {
-      return is_missing(trim(fields_[e.x])) && is_missing(trim(fields_[e.y]));
+      return no_value(trim(fields_[e.x])) && no_value(trim(fields_[e.y]));
     };
     if (layout_.left && !eye_missing(left_)) return false;
     if (layout_.right && !eye_missing(right_)) return false;
@@ -661,14 +682,20 @@ class RowParser {
     float v = 0.0f;
     auto r = fast_float::from_chars(f.data(), f.data() + f.size(), v);
     if (r.ec != std::errc() || r.ptr != f.data() + f.size()) not_a_number(line_no, column, f);
+    // nan, inf and -inf only ever come here: the quicker paths hand any word
+    // that is no missing-value token to this one.
+    if (!std::isfinite(v)) non_finite_ = true;
     return v;
   }
 
-  void put_eye(EyeSamples& eye, const EyeIndex& idx, std::size_t line_no, std::uint64_t& missing) {
+  void put_eye(EyeSamples& eye, const EyeIndex& idx, std::size_t line_no, std::uint64_t& missing, bool invalid) {
+    non_finite_ = false;
     float x = parse_value(idx.x, line_no);
     float y = parse_value(idx.y, line_no);
+    if (non_finite_) ++result_.repairs["non_finite_gaze_read_as_missing"];
     const float pupil = parse_value(idx.pupil, line_no);
     if (layout_.zero_gaze_is_missing && x == 0.0f && y == 0.0f) x = y = kNaN;
+    if (invalid) x = y = kNaN;
     const bool ok = std::isfinite(x) && std::isfinite(y);
     if (!ok) {
       x = y = kNaN;  // half a coordinate is no position
@@ -698,7 +725,8 @@ class RowParser {
   RowGroupLayout group_layout_;       // time_column < 0: rows are not read in groups
   int left_slots_[3] = {-1, -1, -1};   // x, y, pupil: where in a RowGroup's values
   int right_slots_[3] = {-1, -1, -1};
-  std::size_t time_ = kNoColumn, message_ = kNoColumn;
+  std::size_t time_ = kNoColumn, message_ = kNoColumn, status_ = kNoColumn;
+  mutable bool non_finite_ = false;   // parse_value read nan or inf since put_eye cleared it
   EyeIndex left_, right_;
   std::size_t max_token_length_ = 0;
   SampleColumns chunk_;                // sized for capacity_ rows between flushes
@@ -888,6 +916,41 @@ class LineFeeder {
 };
 
 }  // namespace
+
+void check_delimited_header(const std::string& path, const DelimitedReadOptions& options) {
+  if (!options.column_names.empty()) return;
+  ByteSource source(path);
+  std::string text;
+  std::unique_ptr<char[]> buffer(new char[kBlockBytes]);
+  std::size_t line_no = 0;
+  // Whole lines up to the header; a header of over 16 MiB is no header.
+  for (std::size_t start = 0; text.size() < (std::size_t{16} << 20);) {
+    const std::size_t nl = text.find('\n', start);
+    if (nl == std::string::npos) {
+      const std::size_t n = source.read(buffer.get(), kBlockBytes);
+      if (n == 0) {
+        if (start == text.size()) return;  // no header at all: read_delimited says so
+        text += '\n';
+      } else {
+        text.append(buffer.get(), n);
+      }
+      continue;
+    }
+    std::string_view line(text.data() + start, nl - start);
+    start = nl + 1;
+    ++line_no;
+    if (line_no == 1 && line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
+    if (line_no == 1 && (line.substr(0, 2) == "\xFF\xFE" || line.substr(0, 2) == "\xFE\xFF")) return;  // read_delimited names it
+    if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+    if (line.empty()) continue;
+    const std::string& comment = options.layout.comment_prefix;
+    if (!comment.empty() && line.substr(0, comment.size()) == comment) continue;
+    NullSink none;
+    RowParser parser(path, options, none);
+    parser.parse_header(line, line_no);
+    return;
+  }
+}
 
 DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadOptions& options, SampleSink& sink) {
   ByteSource source(path);

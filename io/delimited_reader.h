@@ -67,4 +67,10 @@ struct DelimitedReadOptions {
 DelimitedReadResult read_delimited(const std::string& path, const DelimitedReadOptions& options,
                                    SampleSink& sink);
 
+/// Reads only the header of `path` and checks that every column the layout
+/// names is in it, so that a missing one is found before any work. Throws
+/// the InputError read_delimited would throw for the header; other problems
+/// are left for read_delimited.
+void check_delimited_header(const std::string& path, const DelimitedReadOptions& options);
+
 }  // namespace gazemill

@@ -36,6 +36,20 @@ herr_t innermost(unsigned n, const H5E_error2_t* e, void* out) {
 }
 }  // namespace
 
+namespace {
+// HDF5 is used from one thread at a time (it is not thread-safe), so a plain
+// pair suffices.
+std::string noted_path;
+const char* noted_purpose = "";
+}  // namespace
+
+void note_file(const std::string& path, const char* purpose) {
+  noted_path = path;
+  noted_purpose = purpose;
+}
+std::string last_file() { return noted_path; }
+std::string last_file_purpose() { return noted_purpose; }
+
 std::string last_error_reason() {
   std::string out;
   H5Ewalk2(H5E_DEFAULT, H5E_WALK_DOWNWARD, innermost, &out);

@@ -32,6 +32,12 @@ void library_finish();
 /// The operating system's reason for the error HDF5 last reported (e.g.
 /// "No space left on device"), or the innermost HDF5 message; "" if none.
 std::string last_error_reason();
+/// The HDF5 file the program last opened and what for ("reading",
+/// "writing"), so that an HDF5 failure that escapes as no typed error can
+/// still be reported with its file; empty before any.
+void note_file(const std::string& path, const char* purpose);
+std::string last_file();
+std::string last_file_purpose();
 
 template <typename T> H5::PredType native_type();
 

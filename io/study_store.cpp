@@ -119,6 +119,7 @@ StudyStoreWriter::StudyStoreWriter(std::string path, StoreWriteOptions options)
   try {
     impl_ = std::make_unique<Impl>();
     impl_->options = options;
+    h5::note_file(path_, "writing");
     impl_->file = H5::H5File(temp_path_, H5F_ACC_TRUNC, creation_properties(), access_properties());
     H5::Group root = impl_->file.openGroup("/");
     h5::set_attr(root, "format", std::string(kStoreFormat));
@@ -141,6 +142,7 @@ std::unique_ptr<StudyStoreWriter> StudyStoreWriter::update(const std::string& pa
   try {
     w->impl_ = std::make_unique<Impl>();
     w->impl_->options = options;
+    h5::note_file(path, "writing");
     w->impl_->file = H5::H5File(w->temp_path_, H5F_ACC_RDWR, H5::FileCreatPropList::DEFAULT, access_properties());
     w->impl_->recordings = w->impl_->file.openGroup("/recordings");
     H5::Group root = w->impl_->file.openGroup("/");
@@ -559,6 +561,7 @@ StudyStoreReader::StudyStoreReader(const std::string& path) : impl_(std::make_un
   impl_->path = path;
   h5::QuietErrors quiet;
   if (!fs::exists(path)) throw InputError({path, 0, ""}, "no such file");
+  h5::note_file(path, "reading");
   try {
     impl_->file = H5::H5File(path, H5F_ACC_RDONLY);
   } catch (const H5::Exception&) {

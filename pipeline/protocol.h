@@ -34,9 +34,17 @@ struct TableLayout {
   std::optional<EyeColumnNames> right;
   std::string message_column;  // a column holding message text; empty = none
   // Field texts read as "no value". Matched exactly, after trimming spaces.
-  std::vector<std::string> missing_values{"", "NaN", "nan", "NA", "."};
+  // "NaN", "nan" and "inf" are not among the defaults: they read as numbers
+  // that are not finite, are missing too, and are counted as a repair
+  // (non_finite_gaze_read_as_missing) so that a file full of them is noticed.
+  std::vector<std::string> missing_values{"", "NA", "."};
   // Some trackers write (0, 0) for lost gaze; when true such samples are missing.
   bool zero_gaze_is_missing = false;
+  // A column of the tracker's own judgement of each sample (a status or
+  // validity code); rows whose trimmed text is one of invalid_status are
+  // missing, counted as status_invalid_read_as_missing. "" = none.
+  std::string status_column;
+  std::vector<std::string> invalid_status;
 };
 
 /// Messages kept in a file of their own beside each sample file.
@@ -48,15 +56,23 @@ struct MessageFileSpec {
   char delimiter = '\t';
   std::string time_column;
   std::string text_column;
+  // The unit of time_column; unset = the samples' unit (input.table.time_unit,
+  // or input.fixations.time_unit for fixation lists).
+  std::optional<TimeUnit> time_unit;
 };
 
 enum class DuplicateTimestampPolicy { error, keep_first };
 enum class UnterminatedTrialPolicy { error, drop };
+enum class TrialsWithoutSamplesPolicy { error, drop };
 
 /// What ingest may repair instead of failing; every repair is counted and stored.
 struct RepairPolicy {
   DuplicateTimestampPolicy duplicate_timestamps = DuplicateTimestampPolicy::error;
   UnterminatedTrialPolicy unterminated_trials = UnterminatedTrialPolicy::error;
+  // A trial with no sample between its start and end (its messages outside
+  // the recording, e.g. read in the wrong time unit) is an error, or is left
+  // out and counted.
+  TrialsWithoutSamplesPolicy trials_without_samples = TrialsWithoutSamplesPolicy::error;
 };
 
 /// BIDS eye-tracking input: column names for datasets that depart from the
@@ -111,6 +127,16 @@ struct InputSpec {
   std::optional<MessageFileSpec> message_file;
   RepairPolicy repairs;
   double sample_rate_hz = 0.0;        // 0 = estimate from the median sample interval
+  // Gaze farther off the screen than this, in px beyond any edge, is read as
+  // missing and counted (offscreen_gaze_read_as_missing). 200 px is about
+  // 4.5 deg at 1920 px over 531 mm seen from 700 mm, and still about 2 deg on
+  // a 4K screen of that size: several times the 0.5-1 deg accuracy of a
+  // calibrated tracker, so gaze near an edge that calibration error puts just
+  // outside is kept, while values hundreds of pixels off (track loss, lid
+  // artefacts, placeholder values) are no look at the display (common
+  // practice, no source). Infinity turns the check off. Sample input only
+  // (delimited and BIDS, whose gaze is in pixels); fixation lists are kept as they are.
+  double offscreen_margin_px = 200.0;
   BidsInputSpec bids;                 // bids only
   FixationListSpec fixations;         // fixations only
 };

@@ -2,6 +2,8 @@
 // Readers push samples in chunks so that a recording of any length streams
 // through bounded memory; the store writer and test collectors are sinks.
 
+#include <cstdint>
+
 #include "pipeline/recording.h"
 
 namespace gazemill {
@@ -19,6 +21,23 @@ class CollectingSink : public SampleSink {
  public:
   void append(const SampleColumns& chunk) override;
   SampleColumns samples;
+};
+
+/// Sets gaze farther than `margin_px` off the screen missing, counts it per
+/// eye, and passes the chunks on. Such gaze is no look at the display: track
+/// loss, lid artefacts, a tracker's placeholder values (common practice, no source).
+class ScreenMarginSink : public SampleSink {
+ public:
+  ScreenMarginSink(SampleSink& next, int width_px, int height_px, double margin_px);
+  void append(const SampleColumns& chunk) override;
+  std::uint64_t offscreen_left = 0;   // samples of each eye set missing here
+  std::uint64_t offscreen_right = 0;
+
+ private:
+  bool outside(float x, float y) const;
+  SampleSink& next_;
+  double min_x_, max_x_, min_y_, max_y_;
+  SampleColumns copy_;
 };
 
 /// Drops everything (parse-only benchmarks).

@@ -534,3 +534,28 @@ trial_column = "trial"
   EXPECT_EQ(a.trials.back().end_us, b.trials.back().end_us);
   EXPECT_EQ(a.trials.back().variables, b.trials.back().variables);
 }
+
+// Issue 20: gaze beyond input.offscreen_margin_px off the screen is missing
+// and counted for BIDS input too, whose gaze is in pixels (common practice, no source).
+TEST(BidsExampleLayouts, OffscreenGazeIsMissingAndCounted) {
+  TempDir d;
+  write_binocular(d);
+  // The right eye of run 01 at x = 2300..2399 px, beyond 1919 + 200.
+  d.write_gz("sub-01/beh/sub-01_task-FreeView_run-01_recording-eye2_physio.tsv.gz", samples_ms(1785300, 2300));
+  const std::string text = binocular_protocol(R"(
+[trials]
+from = "events"
+trial_column = "trial_number"
+)");
+  const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+  const StudyRunReport r = ingest_study(p, d.file("s.gzm.h5"));
+  EXPECT_EQ(r.repairs, 97u);  // 100 samples, 3 of them n/a
+  StudyStoreReader store(d.file("s.gzm.h5"));
+  const auto prov = store.provenance();
+  ASSERT_EQ(prov.repairs.size(), 1u);
+  EXPECT_EQ(prov.repairs[0].recording_id, "01_run01");
+  EXPECT_EQ(prov.repairs[0].kind, "offscreen_gaze_read_as_missing");
+  const Recording rec = store.read_recording("01_run01", true);
+  EXPECT_EQ(rec.samples.right.valid[10], 0);
+  EXPECT_EQ(rec.samples.left.valid[10], 1);
+}

@@ -343,3 +343,66 @@ TEST(DelimitedReader, ByteOrderMarkIsNoPartOfTheHeader) {
     EXPECT_EQ(sink.samples.time_us.front(), 1000);
   }
 }
+
+// Issue 20: nan and inf in gaze were read as missing without a count. They
+// are now a named repair, on every path of the reader (common practice, no source).
+TEST(DelimitedReader, NonFiniteGazeIsMissingAndCounted) {
+  TempDir dir;
+  std::string text = "t\tx\ty\tmsg\n0\tNaN\tNaN\tSTART\n";  // a message row, not a sample, as before
+  for (int i = 1; i <= 40; ++i) {
+    const char* x = i == 5 ? "nan" : i == 6 ? "inf" : i == 7 ? "-inf" : "100.5";
+    text += std::to_string(i) + "\t" + x + "\t" + (i == 8 ? "NaN" : "200") + "\t\n";
+  }
+  const auto path = dir.write("a.tsv", text);
+  for (bool quick : {true, false}) {
+    DelimitedReadOptions o = gaze_options();
+    o.layout.message_column = "msg";
+    o.common_row_path = quick;
+    CollectingSink sink;
+    const auto r = read_delimited(path, o, sink);
+    EXPECT_EQ(r.samples, 40u);
+    EXPECT_EQ(r.messages.size(), 1u);
+    EXPECT_EQ(r.missing_left, 4u);
+    ASSERT_EQ(r.repairs.count("non_finite_gaze_read_as_missing"), 1u);
+    EXPECT_EQ(r.repairs.at("non_finite_gaze_read_as_missing"), 4u);
+    EXPECT_EQ(sink.samples.left.valid[5], 0);
+    // A token the protocol lists is missing by declaration: no repair.
+    o.layout.missing_values = {"", "nan", "NaN", "inf", "-inf"};
+    EXPECT_EQ(read_delimited(path, o, sink).repairs.count("non_finite_gaze_read_as_missing"), 0u);
+  }
+}
+
+// Issue 20: a status column's values mark samples invalid (common practice, no source).
+TEST(DelimitedReader, StatusColumnMarksSamplesInvalid) {
+  TempDir dir;
+  const auto path = dir.write("a.tsv", "t\tx\ty\tstate\n0\t1\t2\tok\n1\t1\t2\t 4 \n2\t1\t2\tlost\n3\t1\t2\tok\n");
+  DelimitedReadOptions o = gaze_options();
+  o.layout.status_column = "state";
+  o.layout.invalid_status = {"4", "lost"};
+  CollectingSink sink;
+  const auto r = read_delimited(path, o, sink);
+  EXPECT_EQ(sink.samples.left.valid, (std::vector<std::uint8_t>{1, 0, 0, 1}));
+  EXPECT_TRUE(std::isnan(sink.samples.left.x_px[1]));
+  EXPECT_EQ(r.missing_left, 2u);
+  EXPECT_EQ(r.repairs.at("status_invalid_read_as_missing"), 2u);
+  o.layout.status_column = "status";
+  expect_error(path, o, 1, "status", "input.table.status_column is not in the header");
+  EXPECT_THROW(check_delimited_header(path, o), InputError);
+}
+
+// Screen-margin sink: gaze beyond the margin off screen is missing and counted (issue 20).
+TEST(ScreenMarginSink, GazeBeyondTheMarginIsMissingAndCounted) {
+  CollectingSink inner;
+  ScreenMarginSink margin(inner, 1024, 768, 200);
+  SampleColumns c;
+  c.has_left = true;
+  c.time_us = {0, 1, 2, 3, 4};
+  c.left.x_px = {1560, 1224, -201, 500, 1225};
+  c.left.y_px = {300, 300, 300, 968.5f, 300};
+  c.left.pupil = {1, 1, 1, 1, 1};
+  c.left.valid = {1, 1, 1, 1, 1};
+  margin.append(c);
+  EXPECT_EQ(inner.samples.left.valid, (std::vector<std::uint8_t>{0, 1, 0, 0, 0}));
+  EXPECT_EQ(margin.offscreen_left, 4u);
+  EXPECT_FLOAT_EQ(inner.samples.left.pupil[0], 1.f);
+}

@@ -8,6 +8,7 @@
 #include <filesystem>
 
 #include "tests/stage_helpers.h"
+#include "app/preflight.h"
 #include "app/protocol_parser.h"
 #include "io/sha256.h"
 #include "io/study_store.h"
@@ -253,4 +254,165 @@ TEST(IngestErrors, PatternsThatMatchNothing) {
   q.trials.start_pattern = "^never$";
   EXPECT_THROW(ingest_study(q, d.file("x.gzm.h5")), InputError);
   expect_no_store(d);
+}
+
+namespace {
+
+// Samples in ms; the messages of the same trials written in us (issue 20's
+// repro). Common practice, no source.
+std::string messages_protocol(const std::string& extra_messages_keys, const std::string& repairs = "") {
+  std::string text = kProtocol;
+  text.replace(text.find("message_column = \"event\"\n"), 25, "");
+  text.replace(text.find("[screen]"), 0,
+               "[input.messages]\nfile = '{dir}/{participant}-{session}.msg'\ntime_column = 't'\ntext_column = 'what'\n" +
+                   extra_messages_keys + (repairs.empty() ? "" : "[input.repairs]\n" + repairs));
+  return text;
+}
+
+void write_messages_in_us(const TempDir& d) {
+  std::string s = "time\tx\ty\tpupil\n";
+  for (int t = 0; t < 300; ++t) s += std::to_string(t) + "\t100\t200\t1500\n";
+  d.write("raw/r01-a.tsv", s);
+  d.write("raw/r01-a.msg", "t\twhat\n0\tstart trial 1\n0\titem 5 rare\n99000\tstop trial 1\n"
+                           "100000\tstart trial 2\n100000\titem 6 frequent\n299000\tstop trial 2\n");
+}
+
+}  // namespace
+
+TEST(Ingest, MessagesFileWithItsOwnTimeUnit) {
+  TempDir d;
+  write_messages_in_us(d);
+  const std::string text = messages_protocol("time_unit = \"us\"\n");
+  const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+  ingest_study(p, d.file("s.gzm.h5"));
+  const Recording r = StudyStoreReader(d.file("s.gzm.h5")).read_recording("r01_a", false);
+  ASSERT_EQ(r.trials.size(), 2u);
+  EXPECT_EQ(r.trials[1].start_us, 100000);
+  EXPECT_EQ(r.trials[1].end_us, 299000);
+}
+
+// Issue 20: messages read in the wrong unit put every trial after the
+// recording; ingest reported the trials and detect found 0 fixations, both
+// exit 0. Now an error naming the file, the trial's first message line, the
+// recording's span and the key; or, when the protocol allows, a counted repair.
+TEST(IngestErrors, TrialsWithoutSamplesFailOrAreDroppedAndCounted) {
+  TempDir d;
+  write_messages_in_us(d);
+  {
+    const std::string text = messages_protocol("");
+    const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+    try {
+      ingest_study(p, d.file("s.gzm.h5"));
+      FAIL();
+    } catch (const InputError& e) {
+      EXPECT_EQ(e.where().file, d.file("raw/r01-a.msg"));
+      EXPECT_EQ(e.where().line, 5u) << e.what();  // trial 2 is the first past the samples' end (299 ms)
+      EXPECT_EQ(e.where().field, "trials.start");
+      const std::string what = e.what();
+      EXPECT_NE(what.find("trial '2' runs from 100000 ms to 299000 ms and has no samples"), std::string::npos) << what;
+      EXPECT_NE(what.find("run from 0 ms to 299 ms"), std::string::npos) << what;
+      EXPECT_NE(what.find("input.messages.time_unit"), std::string::npos) << what;
+      EXPECT_NE(what.find("input.repairs.trials_without_samples = \"drop\""), std::string::npos) << what;
+    }
+    expect_no_store(d);
+  }
+  const std::string text = messages_protocol("", "trials_without_samples = \"drop\"\n");
+  const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+  const auto report = ingest_study(p, d.file("s.gzm.h5"));
+  EXPECT_EQ(report.trials, 1u);
+  EXPECT_EQ(report.repairs, 1u);
+  StudyStoreReader store(d.file("s.gzm.h5"));
+  EXPECT_EQ(store.read_recording("r01_a", false).trials.size(), 1u);
+  const auto prov = store.provenance();
+  ASSERT_EQ(prov.repairs.size(), 1u);
+  EXPECT_EQ(prov.repairs[0].kind, "trial_without_samples_dropped");
+  EXPECT_EQ(prov.repairs[0].count, 1u);
+}
+
+// Issue 20: x = 1560 on a 1024 px screen was accepted without a note. Gaze
+// beyond input.offscreen_margin_px off the screen is missing and counted
+// (common practice, no source; the default's argument is in pipeline/protocol.h).
+TEST(Ingest, OffscreenGazeIsMissingAndCounted) {
+  TempDir d;
+  Protocol p = write_study(d);
+  std::string s = samples(1, 200);
+  const std::string row = "\n5\t105.5\t201\t";
+  s.replace(s.find(row), row.size(), "\n5\t1900.5\t201\t");  // 300 px right of the 1600 px screen
+  d.write("raw/r01-a.tsv", s);
+  auto report = ingest_study(p, d.file("a.gzm.h5"));
+  EXPECT_EQ(report.repairs, 1u);
+  {
+    StudyStoreReader store(d.file("a.gzm.h5"));
+    const auto prov = store.provenance();
+    ASSERT_EQ(prov.repairs.size(), 1u);
+    EXPECT_EQ(prov.repairs[0].kind, "offscreen_gaze_read_as_missing");
+    EXPECT_EQ(store.read_recording("r01_a", true).samples.left.valid[5], 0);
+  }
+  p.input.offscreen_margin_px = 400;
+  report = ingest_study(p, d.file("b.gzm.h5"));
+  EXPECT_EQ(report.repairs, 0u);
+}
+
+// Issue 20 (a status column): a column the protocol names is looked for in
+// every sample file's header before any recording is read, so a mistake in
+// the last file is not found after the others' work (common practice, no source).
+TEST(IngestErrors, StatusColumnIsCheckedInEveryHeaderBeforeWork) {
+  TempDir d;
+  Protocol p = write_study(d);
+  p.input.table.status_column = "pupil";
+  p.input.table.invalid_status = {"1500"};
+  d.write("raw/r01-a.tsv", samples(3, 200) + "nonsense\trow\n");  // read first, would fail on its last line
+  std::string s = samples(2, 150);
+  s.replace(0, s.find('\n'), "time\tx\ty\tpupil_size\tevent");
+  d.write("raw/r02-a.tsv", s);
+  try {
+    ingest_study(p, d.file("tiny.gzm.h5"));
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().file, d.file("raw/r02-a.tsv"));
+    EXPECT_EQ(e.where().line, 1u);
+    EXPECT_EQ(e.where().field, "pupil");
+    EXPECT_NE(std::string(e.what()).find("input.table.status_column is not in the header"), std::string::npos) << e.what();
+  }
+  expect_no_store(d);
+}
+
+// Preflight (issue 20: a read-only or missing output folder was found only
+// after the whole ingest, behind pages of HDF5 diagnostics). As root no
+// permission bits stop a write, so the unwritable folder is /proc, which no
+// one may create files in (common practice, no source).
+TEST(IngestErrors, OutputFolderIsCheckedBeforeWork) {
+  TempDir d;
+  const Protocol p = write_study(d);
+  auto expect_error = [&](const std::string& store, const std::string& part) {
+    try {
+      ingest_study(p, store);
+      FAIL() << store;
+    } catch (const InputError& e) {
+      EXPECT_EQ(e.where().file, store);
+      EXPECT_NE(std::string(e.what()).find(part), std::string::npos) << e.what();
+    }
+  };
+  expect_error("/proc/gazemill-test.gzm.h5", "cannot write in the folder /proc: ");
+  expect_error(d.file("raw"), "is a folder; name the store file");
+  expect_error(d.file("gazemill.toml") + "/s.gzm.h5", "does not exist (it is a file)");
+  expect_no_store(d);
+}
+
+TEST(IngestErrors, TooLittleFreeSpaceIsFoundBeforeWork) {
+  EXPECT_EQ(judge_free_space(150, 100), SpaceVerdict::enough);
+  EXPECT_EQ(judge_free_space(100, 100), SpaceVerdict::enough);
+  EXPECT_EQ(judge_free_space(99, 100), SpaceVerdict::tight);
+  EXPECT_EQ(judge_free_space(49, 100), SpaceVerdict::too_little);
+  EXPECT_EQ(estimated_store_bytes(40, 5), 15u);
+  // A sparse input of 8 TiB (an estimate of 2 TiB) holds no bytes on the disk, but asks for more than any test machine has free.
+  TempDir d;
+  const Protocol p = write_study(d);
+  fs::resize_file(d.file("raw/r02-a.tsv"), std::uint64_t{1} << 43);
+  try {
+    ingest_study(p, d.file("tiny.gzm.h5"));
+    FAIL();
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("not enough free space in " + d.path().string()), std::string::npos) << e.what();
+  }
 }

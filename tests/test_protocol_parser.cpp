@@ -1,5 +1,7 @@
 #include <gtest/gtest.h>
 
+#include <cmath>
+
 #include "app/protocol_parser.h"
 #include "pipeline/input_error.h"
 
@@ -116,4 +118,41 @@ TEST(ProtocolParser, MissingPiecesAreNamed) {
     EXPECT_NE(std::string(e.what()).find("at least one eye"), std::string::npos) << e.what();
   }
   expect_error_at("[input\n", 1, "", "not valid TOML");
+}
+
+// A messages file may be on another unit than the samples (issue 20: samples
+// in ms, messages in us); unset, it is the samples' unit. Common practice, no source.
+TEST(ProtocolParser, MessagesFileTakesItsOwnTimeUnit) {
+  const std::string with_file = replace(replace(kProtocol, "message_column = \"note\"\n", ""), "[input.repairs]",
+                                        "[input.messages]\nfile = '{dir}/{stem}.msg'\ntime_column = 't'\ntext_column = 'text'\n"
+                                        "time_unit = \"us\"\n\n[input.repairs]\ntrials_without_samples = \"drop\"");
+  const Protocol p = parse_protocol_text(with_file, "study.toml");
+  ASSERT_TRUE(p.input.message_file);
+  EXPECT_EQ(p.input.message_file->time_unit, TimeUnit::microseconds);
+  EXPECT_EQ(p.input.repairs.trials_without_samples, TrialsWithoutSamplesPolicy::drop);
+  const Protocol q = parse_protocol_text(replace(with_file, "time_unit = \"us\"\n\n", ""), "study.toml");
+  EXPECT_FALSE(q.input.message_file->time_unit);  // the samples' unit
+  EXPECT_EQ(parse_protocol_text(kProtocol, "study.toml").input.repairs.trials_without_samples, TrialsWithoutSamplesPolicy::error);
+  expect_error_at(replace(with_file, "time_unit = \"us\"\n\n", "time_unit = \"µs\"\n\n"), 24, "input.messages.time_unit",
+                  "expected \"s\", \"ms\", \"us\" or \"ns\", found \"µs\"");
+  expect_error_at(replace(with_file, "trials_without_samples = \"drop\"", "trials_without_samples = \"skip\""), 27,
+                  "input.repairs.trials_without_samples", "expected \"error\" or \"drop\"");
+}
+
+// Issue 20: the off-screen margin and the status column (common practice, no source).
+TEST(ProtocolParser, OffscreenMarginAndStatusColumn) {
+  EXPECT_EQ(parse_protocol_text(kProtocol, "study.toml").input.offscreen_margin_px, 200.0);
+  const Protocol p = parse_protocol_text(
+      replace(replace(kProtocol, "sample_rate_hz = 500", "sample_rate_hz = 500\noffscreen_margin_px = inf"), "missing_values = [\"\", \"-1\"]",
+              "missing_values = [\"\", \"-1\"]\nstatus_column = \"valid\"\ninvalid_status = [\"0\", \"lost\"]"),
+      "study.toml");
+  EXPECT_TRUE(std::isinf(p.input.offscreen_margin_px));
+  EXPECT_EQ(p.input.table.status_column, "valid");
+  EXPECT_EQ(p.input.table.invalid_status, (std::vector<std::string>{"0", "lost"}));
+  expect_error_at(replace(kProtocol, "sample_rate_hz = 500", "sample_rate_hz = 500\noffscreen_margin_px = -5"), 9,
+                  "input.offscreen_margin_px", "expected a distance in px of 0 or more");
+  expect_error_at(replace(kProtocol, "missing_values = [\"\", \"-1\"]", "missing_values = [\"\", \"-1\"]\nstatus_column = \"valid\""), 16,
+                  "input.table.status_column", "invalid_status = [");
+  expect_error_at(replace(kProtocol, "missing_values = [\"\", \"-1\"]", "missing_values = [\"\", \"-1\"]\ninvalid_status = [\"0\"]"), 16,
+                  "input.table.invalid_status", "needs status_column");
 }

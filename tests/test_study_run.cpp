@@ -244,3 +244,30 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
     EXPECT_EQ(read_text(d.file(std::string("one/tables/") + t)), read_text(d.file(std::string("merged/tables/") + t))) << t;
   }
 }
+
+// Issue 20's new ingest settings are in the ingest key: changing one reads
+// the inputs again and redoes every stage after (the stage model, no source).
+TEST(StudyRun, ChangingAnIngestRepairSettingRedoesIngestOnward) {
+  for (const std::string extra : {std::string("\n[input.repairs]\ntrials_without_samples = \"drop\"\n"),
+                                  std::string("\n[input.table]\nstatus_column = \"message\"\ninvalid_status = [\"lost\"]\n")}) {
+    TempDir d;
+    const std::string proto = study(d);
+    run(proto, d.file("out"));
+    std::string text = read_text(proto);
+    if (extra.find("[input.table]") != std::string::npos) {
+      text.replace(text.find("missing_values = [\"\", \".\"]"), 26, "missing_values = [\"\", \".\"]\n" + extra.substr(15));
+    } else {
+      text += extra;
+    }
+    std::ofstream(proto) << text;
+    const auto r = run(proto, d.file("out"));
+    for (Stage s : kStages) EXPECT_EQ(r.stages.at(s), "ran") << to_string(s) << " after " << extra;
+  }
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("out"));
+  std::string text = read_text(proto);
+  text.replace(text.find("format = \"delimited\""), 20, "format = \"delimited\"\noffscreen_margin_px = 300");
+  std::ofstream(proto) << text;
+  EXPECT_EQ(run(proto, d.file("out")).stages.at(Stage::ingest), "ran");
+}

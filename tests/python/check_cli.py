@@ -127,5 +127,22 @@ with tempfile.TemporaryDirectory() as tmp:
     r = run("run", proto, "-o", out2, "--no-report")
     check(r.returncode == 0 and not os.path.exists(os.path.join(out2, "report.html")), "run --no-report writes none", r)
 
+# Issue 20: a start pattern without a trial capture is explained, once
+# (common practice, no source).
+with tempfile.TemporaryDirectory() as tmp:
+    study = os.path.join(tmp, "study")
+    shutil.copytree(os.path.join(sys.argv[2], "demo-study"), study)
+    proto = os.path.join(study, "gazemill.toml")
+    text = open(proto).read()
+    with open(proto, "w") as f:
+        f.write(text.replace("start = '^begin trial (?<trial>\\d+)$'", "start = '^begin trial \\d+$'")
+                    .replace("end = '^end trial (?<trial>\\d+)$'", "end = '^end trial \\d+$'"))
+    r = run("ingest", proto, "-o", os.path.join(tmp, "s.gzm.h5"))
+    check(r.returncode == 0 and r.stderr.count("trials.start has no (?<trial>...) capture") == 1
+          and "numbered 1, 2, 3, ... in the order their start messages come" in r.stderr,
+          "a start pattern without a trial capture is explained once", r)
+    r = run("ingest", os.path.join(sys.argv[2], "demo-study", "gazemill.toml"), "-o", os.path.join(tmp, "t.gzm.h5"))
+    check(r.returncode == 0 and "no (?<trial>...) capture" not in r.stderr, "a start pattern with one is not", r)
+
 print(f"{passes} passed, {len(failures)} failed")
 sys.exit(1 if failures else 0)
