@@ -6,10 +6,11 @@ parses files users hand it). Common practice, no source.
 A store made by `gazemill run` on the fixture study is damaged in fixed,
 repeatable ways: cut short, bytes flipped in the superblock and in the data,
 and, written with h5py, datasets of the wrong type or shape and a missing
-group. `inspect`, `measure` and `report` on each must end with exit 1 and an
-`error:` line naming the store, or (where the damage misses what the command
-reads: inspect and measure read no samples) exit 0; never a signal, never
-another code.
+group. `inspect`, `measure`, `report` and `report --max-points 123` on each
+must end with exit 1 and an `error:` line naming the store, or (where the
+damage misses what the command reads: inspect, measure and report read no
+samples, the report taking detect's sample digest; another number of points
+makes it read the samples) exit 0; never a signal, never another code.
 
 usage: check_damaged_stores.py GAZEMILL_BINARY FIXTURES_DIR
 """
@@ -79,21 +80,22 @@ with tempfile.TemporaryDirectory() as tmp:
         "data-flipped": (damaged("data-flipped", flip(raw, size // 3, 8192)), False),
         "metadata-flipped": (damaged("metadata-flipped", flip(raw, 1024, 4096)), False),
         "time-as-text": (damaged("time-as-text", edit=lambda f: (f[rec + "/samples"].__delitem__("time_us"),
-                                                                  f[rec + "/samples"].create_dataset("time_us", data=np.array([b"x"] * 10)))), {"report"}),
+                                                                  f[rec + "/samples"].create_dataset("time_us", data=np.array([b"x"] * 10)))), {"report-from-samples"}),
         "time-2d": (damaged("time-2d", edit=lambda f: (f[rec + "/samples"].__delitem__("time_us"),
-                                                        f[rec + "/samples"].create_dataset("time_us", data=np.zeros((3, 4), "i8")))), {"report"}),
+                                                        f[rec + "/samples"].create_dataset("time_us", data=np.zeros((3, 4), "i8")))), {"report-from-samples"}),
         "trials-gone": (damaged("trials-gone", edit=lambda f: f[rec].__delitem__("trials")), True),
         "provenance-gone": (damaged("provenance-gone", edit=lambda f: f.__delitem__("provenance")), True),
         "short-column": (damaged("short-column", edit=lambda f: (f[rec + "/samples"].__delitem__("left_x_px"),
-                                                                  f[rec + "/samples"].create_dataset("left_x_px", data=np.zeros(5, "f4")))), {"report"}),
+                                                                  f[rec + "/samples"].create_dataset("left_x_px", data=np.zeros(5, "f4")))), {"report-from-samples"}),
     }
     for name, (path, must_fail) in cases.items():
-        for cmd in (["inspect", path], ["measure", proto, "-s", path, "-o", os.path.join(tmp, name + "-tables")],
-                    ["report", path, "-o", os.path.join(tmp, name + ".html")]):
+        for label, cmd in (("inspect", ["inspect", path]), ("measure", ["measure", proto, "-s", path, "-o", os.path.join(tmp, name + "-tables")]),
+                           ("report", ["report", path, "-o", os.path.join(tmp, name + ".html")]),
+                           ("report-from-samples", ["report", path, "--max-points", "123", "-o", os.path.join(tmp, name + "-s.html")])):
             r = run(*cmd)
-            what = f"{cmd[0]} on a store {name}"
+            what = f"{label} on a store {name}"
             check(r.returncode >= 0, what + ": no signal (got %d)" % r.returncode, r)
-            if must_fail is True or (must_fail and cmd[0] in must_fail):
+            if must_fail is True or (must_fail and label in must_fail):
                 check(r.returncode == 1, what + ": exit 1", r)
             else:
                 check(r.returncode in (0, 1), what + ": exit 0 or 1", r)
