@@ -362,7 +362,10 @@ class Assembler {
         }
         if (w.ev) {
           w.digest = read_sample_digest(store_, id);
-          if (w.digest && w.digest->max_points_per_trial != o_.max_points_per_trial) w.digest.reset();
+          // Made for another number of points, or not one time course per trial (a damaged store): from the samples.
+          if (w.digest && (w.digest->max_points_per_trial != o_.max_points_per_trial || w.digest->time_courses.size() != w.rec.trials.size())) {
+            w.digest.reset();
+          }
         }
         if (!w.digest) {
           if (known != known_.end()) w.rec = store_.read_recording(id, false);  // as stored, with its sample columns named

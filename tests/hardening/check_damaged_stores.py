@@ -85,6 +85,10 @@ with tempfile.TemporaryDirectory() as tmp:
                                                         f[rec + "/samples"].create_dataset("time_us", data=np.zeros((3, 4), "i8")))), {"report-from-samples"}),
         "trials-gone": (damaged("trials-gone", edit=lambda f: f[rec].__delitem__("trials")), True),
         "provenance-gone": (damaged("provenance-gone", edit=lambda f: f.__delitem__("provenance")), True),
+        "digest-short": (damaged("digest-short", edit=lambda f: (f[rec + "/events/sample_digest/time_courses"].__delitem__("bin_ms"),
+                                                                  f[rec + "/events/sample_digest/time_courses"].create_dataset("bin_ms", data=np.ones(1)),
+                                                                  f[rec + "/events/sample_digest/time_courses"].__delitem__("points"),
+                                                                  f[rec + "/events/sample_digest/time_courses"].create_dataset("points", data=np.ones(1, "u4")))), False),
         "short-column": (damaged("short-column", edit=lambda f: (f[rec + "/samples"].__delitem__("left_x_px"),
                                                                   f[rec + "/samples"].create_dataset("left_x_px", data=np.zeros(5, "f4")))), {"report-from-samples"}),
     }
