@@ -239,7 +239,9 @@ TEST(ReadingMeasures, InvariantsOverRandomScanpaths) {
         ASSERT_FALSE(m.first_fixation_ms || m.gaze_duration_ms || m.go_past_ms || m.single_fixation_ms || m.regression_out ||
                      m.landing_chars);
         ASSERT_EQ(m.first_pass_fixations, 0);
-        if (m.fixated) ASSERT_NEAR(*m.rereading_ms, *m.total_time_ms, 1e-9);  // all its time came later
+        if (m.fixated) {
+          ASSERT_NEAR(*m.rereading_ms, *m.total_time_ms, 1e-9);  // all its time came later
+        }
       } else {
         ASSERT_TRUE(m.fixated);
         ASSERT_GE(*m.total_time_ms + 1e-9, *m.gaze_duration_ms);
@@ -253,7 +255,9 @@ TEST(ReadingMeasures, InvariantsOverRandomScanpaths) {
       ASSERT_EQ(m.fixated, m.total_fixations > 0);
       ASSERT_EQ(m.fixated, m.regression_in.has_value());
       ASSERT_EQ(m.fixated, m.second_pass_ms.has_value());
-      if (m.fixated) ASSERT_LE(*m.second_pass_ms, *m.rereading_ms + 1e-9);
+      if (m.fixated) {
+        ASSERT_LE(*m.second_pass_ms, *m.rereading_ms + 1e-9);
+      }
     }
   }
 }

@@ -164,7 +164,9 @@ TEST(SmoothPursuit, CostOnSimulatedReading) {
     std::printf("pursuit at %.2f deg: fixation kappa %.3f, %llu of %llu samples labelled pursuit\n", dispersion,
                 r.of(SampleLabel::fixation).kappa, static_cast<unsigned long long>(r.of(SampleLabel::pursuit).detected_samples),
                 static_cast<unsigned long long>(r.samples));
-    if (dispersion == 0) EXPECT_EQ(r.of(SampleLabel::pursuit).detected_samples, 0u);
+    if (dispersion == 0) {
+      EXPECT_EQ(r.of(SampleLabel::pursuit).detected_samples, 0u);
+    }
   }
 }
 

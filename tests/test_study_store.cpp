@@ -145,7 +145,9 @@ TEST(StudyStore, RoundTripsEveryRecordType) {
   const SampleColumns middle = again.slice(1500, 2600);  // across chunk edges
   for (std::size_t i = 0; i < middle.size(); ++i) {
     EXPECT_EQ(middle.right.valid[i], r.samples.right.valid[1500 + i]);
-    if (!std::isnan(r.samples.left.y_px[1500 + i])) EXPECT_EQ(middle.left.y_px[i], r.samples.left.y_px[1500 + i]);
+    if (!std::isnan(r.samples.left.y_px[1500 + i])) {
+      EXPECT_EQ(middle.left.y_px[i], r.samples.left.y_px[1500 + i]);
+    }
   }
 }
 
