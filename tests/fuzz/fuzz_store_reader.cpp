@@ -17,6 +17,7 @@
 
 #include "app/inspect.h"
 #include "io/hdf5_util.h"
+#include "io/sample_digest_io.h"
 #include "io/study_store.h"
 #include "pipeline/input_error.h"
 
@@ -36,6 +37,7 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
     gazemill::StudyStoreReader store(path);
     for (const auto& id : store.recording_ids()) {
       (void)store.read_recording(id, true);
+      (void)gazemill::read_sample_digest(store, id);  // before the events: a store may have either alone
       (void)store.read_events(id);
       (void)store.read_sample_labels(id);
     }
