@@ -12,6 +12,8 @@
 namespace gazemill {
 namespace {
 
+bool without_gaze(const SampleColumns& s, std::size_t i) { return !((s.has_left && s.left.valid[i]) || (s.has_right && s.right.valid[i])); }
+
 // Rows [first, last) of the samples that fall in [from, to), within [lo, hi).
 std::pair<std::size_t, std::size_t> sample_range(const std::vector<Microseconds>& t, std::size_t lo, std::size_t hi, Microseconds from,
                                                  Microseconds to) {
@@ -64,7 +66,8 @@ TrialTimeCourse time_course(const SampleColumns& s, std::size_t lo, std::size_t 
                             t.start_us, t.end_us + 1, b);
   // Drawn at whole pixels: kept so, the stored digest is a fraction of the
   // size of the unrounded means and compresses several times quicker.
-  // (Rounded as the float it was kept as before, so the page stays the same.)
+  // Rounded as a float, as the page rounds it, so that the page is the same
+  // whether a digest or the samples drew it.
   auto whole_px = [](double v) {
     const auto f = static_cast<float>(v);
     return std::isfinite(f) ? std::round(f) : std::numeric_limits<float>::quiet_NaN();
@@ -80,7 +83,7 @@ TrialTimeCourse time_course(const SampleColumns& s, std::size_t lo, std::size_t 
 
 std::uint64_t samples_without_gaze(const SampleColumns& s) {
   std::uint64_t n = 0;
-  for (std::size_t i = 0; i < s.size(); ++i) n += !((s.has_left && s.left.valid[i]) || (s.has_right && s.right.valid[i]));
+  for (std::size_t i = 0; i < s.size(); ++i) n += without_gaze(s, i);
   return n;
 }
 
@@ -88,7 +91,7 @@ void digest_trial(SampleDigest& d, const SampleColumns& s, std::size_t first, st
                   double sample_rate_hz, const std::vector<FixationEvent>* fixations, const DigestSettings& settings) {
   d.max_points_per_trial = settings.max_points_per_trial;
   d.trial_samples += last - first;
-  for (std::size_t i = first; i < last; ++i) d.trial_missing_samples += !((s.has_left && s.left.valid[i]) || (s.has_right && s.right.valid[i]));
+  for (std::size_t i = first; i < last; ++i) d.trial_missing_samples += without_gaze(s, i);
   if (last >= first + 2) {
     const SamplingRegularity r = sampling_regularity(std::span<const Microseconds>(s.time_us.data() + first, last - first));
     d.intervals += r.intervals;
