@@ -24,9 +24,8 @@ std::pair<std::size_t, std::size_t> sample_range(const std::vector<Microseconds>
 
 // Precision of each fixation, in the eye it was detected in (both averaged
 // where detection averaged them).
-void add_precision(SampleDigest& d, const SampleColumns& s, std::size_t lo, std::size_t hi, const ScreenGeometry& screen,
+void add_precision(SampleDigest& d, const SampleColumns& s, std::size_t lo, std::size_t hi, const VisualAngle& angle,
                    const std::vector<FixationEvent>& fixations, EyeChoice choice) {
-  const VisualAngle angle(screen);
   for (const auto& f : fixations) {
     const auto [first, last] = sample_range(s.time_us, lo, hi, f.start_us, f.end_us);
     if (last <= first + 1) continue;
@@ -87,7 +86,7 @@ std::uint64_t samples_without_gaze(const SampleColumns& s) {
   return n;
 }
 
-void digest_trial(SampleDigest& d, const SampleColumns& s, std::size_t first, std::size_t last, const Trial& trial, const ScreenGeometry& screen,
+void digest_trial(SampleDigest& d, const SampleColumns& s, std::size_t first, std::size_t last, const Trial& trial, const VisualAngle& angle,
                   double sample_rate_hz, const std::vector<FixationEvent>* fixations, const DigestSettings& settings) {
   d.max_points_per_trial = settings.max_points_per_trial;
   d.trial_samples += last - first;
@@ -106,7 +105,7 @@ void digest_trial(SampleDigest& d, const SampleColumns& s, std::size_t first, st
       d.regular_intervals += regular;
     }
   }
-  if (fixations) add_precision(d, s, first, last, screen, *fixations, settings.eye);
+  if (fixations) add_precision(d, s, first, last, angle, *fixations, settings.eye);
   const double interval_us = sample_rate_hz > 0 ? 1e6 / sample_rate_hz : 1000.0;
   d.time_courses.push_back(time_course(s, first, last, trial, interval_us, settings));
 }
@@ -118,6 +117,7 @@ SampleDigest digest_recording(const Recording& rec, const DetectedEvents* events
   d.samples = s.size();
   d.missing_samples = samples_without_gaze(s);
   std::vector<FixationEvent> of_trial;
+  const VisualAngle angle(rec.screen);
   for (const Trial& trial : rec.trials) {
     const auto [first, last] = sample_range(s.time_us, 0, s.size(), trial.start_us, trial.end_us + 1);
     if (events) {
@@ -126,7 +126,7 @@ SampleDigest digest_recording(const Recording& rec, const DetectedEvents* events
         if (f.trial == trial.id) of_trial.push_back(f);
       }
     }
-    digest_trial(d, s, first, last, trial, rec.screen, rec.sample_rate_hz, events ? &of_trial : nullptr, settings);
+    digest_trial(d, s, first, last, trial, angle, rec.sample_rate_hz, events ? &of_trial : nullptr, settings);
   }
   return d;
 }

@@ -8,6 +8,7 @@
 #include <cstddef>
 #include <vector>
 
+#include "detectors/visual_angle.h"
 #include "pipeline/events.h"
 #include "pipeline/protocol.h"
 #include "pipeline/recording.h"
@@ -25,9 +26,10 @@ std::uint64_t samples_without_gaze(const SampleColumns& samples);
 
 /// Adds one trial: its samples are rows [first, last) of `samples` (those
 /// timed within the trial's start and end), `fixations` those detected in it
-/// (null when detection has not run: no precision then).
+/// (null when detection has not run: no precision then); `angle` converts
+/// the recording's screen.
 void digest_trial(SampleDigest& digest, const SampleColumns& samples, std::size_t first, std::size_t last, const Trial& trial,
-                  const ScreenGeometry& screen, double sample_rate_hz, const std::vector<FixationEvent>* fixations,
+                  const VisualAngle& angle, double sample_rate_hz, const std::vector<FixationEvent>* fixations,
                   const DigestSettings& settings);
 
 /// A whole recording whose samples are in memory; `events` null when detection has not run.

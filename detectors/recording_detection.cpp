@@ -34,9 +34,13 @@ std::pair<std::size_t, std::size_t> sample_range(const std::vector<Microseconds>
 }
 
 RecordingDetection detect_recording(const Recording& rec, const EventDetector& detector, const DetectionSpec& spec) {
+  return detect_recording(rec, detector, spec, VisualAngle(rec.screen));
+}
+
+RecordingDetection detect_recording(const Recording& rec, const EventDetector& detector, const DetectionSpec& spec,
+                                    const VisualAngle& angle) {
   RecordingDetection out;
   out.labels.assign(rec.samples.size(), SampleLabel::other);
-  const VisualAngle angle(rec.screen);
   const BlinkParams bp = blink_params(spec);
   const EventParams ep = event_params(spec);
   const bool both = rec.samples.has_left && rec.samples.has_right;

@@ -5,6 +5,7 @@
 #include <vector>
 
 #include "detectors/event_detector.h"
+#include "detectors/visual_angle.h"
 #include "pipeline/protocol.h"
 #include "pipeline/recording.h"
 
@@ -20,5 +21,9 @@ std::pair<std::size_t, std::size_t> sample_range(const std::vector<Microseconds>
                                                  Microseconds end_us);
 
 RecordingDetection detect_recording(const Recording& recording, const EventDetector& detector, const DetectionSpec& spec);
+/// The same with the recording screen's conversion already made (it is
+/// tabulated once per screen; callers that detect trial by trial keep one).
+RecordingDetection detect_recording(const Recording& recording, const EventDetector& detector, const DetectionSpec& spec,
+                                    const VisualAngle& angle);
 
 }  // namespace gazemill

@@ -9,20 +9,44 @@ namespace {
 constexpr double kDegPerRad = 180.0 / std::numbers::pi;
 }
 
-VisualAngle::VisualAngle(const ScreenGeometry& s)
-    : mm_per_px_x_(s.width_mm / s.width_px),
-      mm_per_px_y_(s.height_mm / s.height_px),
-      distance_mm_(s.viewing_distance_mm),
-      centre_x_px_(s.width_px / 2.0),
-      centre_y_px_(s.height_px / 2.0) {}
+VisualAngle::Axis::Axis(int size_px, double mm_per_px, double distance_mm)
+    : mm_per_px_(mm_per_px), distance_mm_(distance_mm), centre_px_(size_px / 2.0), first_px_(-static_cast<double>(size_px)) {
+  // One screen's width beyond either edge: gaze further off is rare and is
+  // still converted exactly.
+  if (size_px <= 0 || !(mm_per_px > 0) || !(distance_mm > 0)) return;
+  const std::size_t nodes = 3 * static_cast<std::size_t>(size_px) + 1;
+  value_deg_.resize(nodes);
+  slope_deg_per_px_.resize(nodes);
+  const double k = mm_per_px / distance_mm;  // tan(theta) per px from the centre
+  for (std::size_t i = 0; i < nodes; ++i) {
+    const double u = (first_px_ + static_cast<double>(i) - centre_px_) * k;
+    value_deg_[i] = std::atan(u) * kDegPerRad;
+    slope_deg_per_px_[i] = k / (1.0 + u * u) * kDegPerRad;  // d/dpx atan(k (px - c))
+  }
+}
 
-double VisualAngle::x_deg(double x_px) const { return std::atan((x_px - centre_x_px_) * mm_per_px_x_ / distance_mm_) * kDegPerRad; }
-double VisualAngle::y_deg(double y_px) const { return std::atan((y_px - centre_y_px_) * mm_per_px_y_ / distance_mm_) * kDegPerRad; }
-double VisualAngle::x_px(double x_deg) const { return centre_x_px_ + std::tan(x_deg / kDegPerRad) * distance_mm_ / mm_per_px_x_; }
-double VisualAngle::y_px(double y_deg) const { return centre_y_px_ + std::tan(y_deg / kDegPerRad) * distance_mm_ / mm_per_px_y_; }
+double VisualAngle::Axis::exact_deg(double px) const { return std::atan((px - centre_px_) * mm_per_px_ / distance_mm_) * kDegPerRad; }
+
+double VisualAngle::Axis::deg(double px) const {
+  const double u = px - first_px_;
+  // Written so that NaN fails the test and takes the exact path.
+  if (!(u >= 0.0 && u < static_cast<double>(value_deg_.size()) - 1.0)) return exact_deg(px);
+  const auto i = static_cast<std::size_t>(u);
+  const double t = u - static_cast<double>(i), t2 = t * t, t3 = t2 * t;
+  const double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = 3 * t2 - 2 * t3, h11 = t3 - t2;
+  return h00 * value_deg_[i] + h10 * slope_deg_per_px_[i] + h01 * value_deg_[i + 1] + h11 * slope_deg_per_px_[i + 1];
+}
+
+VisualAngle::VisualAngle(const ScreenGeometry& s)
+    : x_(s.width_px, s.width_mm / s.width_px, s.viewing_distance_mm),
+      y_(s.height_px, s.height_mm / s.height_px, s.viewing_distance_mm),
+      distance_mm_(s.viewing_distance_mm) {}
+
+double VisualAngle::x_px(double x_deg) const { return x_.centre_px() + std::tan(x_deg / kDegPerRad) * distance_mm_ / x_.mm_per_px(); }
+double VisualAngle::y_px(double y_deg) const { return y_.centre_px() + std::tan(y_deg / kDegPerRad) * distance_mm_ / y_.mm_per_px(); }
 
 double VisualAngle::pixels_per_degree_at_centre() const {
-  return 2.0 * distance_mm_ * std::tan(0.5 / kDegPerRad) / mm_per_px_x_;
+  return 2.0 * distance_mm_ * std::tan(0.5 / kDegPerRad) / x_.mm_per_px();
 }
 
 double visual_angle_deg(double size_mm, double distance_mm) { return 2.0 * std::atan(size_mm / (2.0 * distance_mm)) * kDegPerRad; }

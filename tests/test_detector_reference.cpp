@@ -192,6 +192,28 @@ TEST(VisualAngle, EachAxisUsesItsOwnPixelSize) {
   EXPECT_NEAR(a.y_px(5.710593137499643), 500.0, 1e-6);
 }
 
+
+// The conversion is tabulated per screen (detection converts every sample);
+// it must stay the exact formula atan((px - centre) * mm_per_px / d) from the
+// C library to far below any tracker's precision, on the screen, off it, at
+// whole and fractional pixels, and beyond the table.
+TEST(VisualAngle, TabulatedConversionEqualsTheFormula) {
+  for (const ScreenGeometry s : {ScreenGeometry{1920, 1080, 530.0, 300.0, 700.0}, ScreenGeometry{1024, 768, 380.0, 300.0, 670.0},
+                                 ScreenGeometry{1001, 333, 400.0, 100.0, 450.0}}) {
+    const VisualAngle a(s);
+    const double cx = s.width_px / 2.0, cy = s.height_px / 2.0;
+    double worst = 0;
+    for (double px = -3.0 * s.width_px; px <= 4.0 * s.width_px; px += 0.173) {
+      worst = std::max(worst, std::abs(a.x_deg(px) - std::atan((px - cx) * s.width_mm / s.width_px / s.viewing_distance_mm) * 180 / M_PI));
+    }
+    for (double px = -3.0 * s.height_px; px <= 4.0 * s.height_px; px += 0.0917) {
+      worst = std::max(worst, std::abs(a.y_deg(px) - std::atan((px - cy) * s.height_mm / s.height_px / s.viewing_distance_mm) * 180 / M_PI));
+    }
+    EXPECT_LT(worst, 1e-12) << s.width_px << " x " << s.height_px;
+    EXPECT_TRUE(std::isnan(a.x_deg(std::nan(""))));
+    EXPECT_TRUE(std::isnan(a.y_deg(std::nan(""))));
+  }
+}
 // Engbert & Kliegl (2003): the 5-point velocity is exact for a ramp; methods.md
 // section 2: x = 0.1 n deg at 250 Hz gives 25.0 deg/s.
 TEST(EngbertKliegl, RampVelocityAndMedianBasedSd) {
