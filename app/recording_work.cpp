@@ -306,9 +306,14 @@ void detect_events(RecordingOutput& out, const EventDetector& detector, const De
   const DigestSettings digest_settings{spec.eye, kTimeCoursePoints};
   digest.max_points_per_trial = digest_settings.max_points_per_trial;
   digest.samples = samples.size();
+  const VisualAngle angle(rec.screen);
   const std::size_t step = std::max<std::size_t>(options.chunk_rows, 1);
-  for (std::size_t from = 0; from < samples.size(); from += step) {
-    digest.missing_samples += samples_without_gaze(samples.slice(from, std::min<std::size_t>(samples.size(), from + step)));
+  if (samples.rows_without_gaze() >= 0) {
+    digest.missing_samples = static_cast<std::uint64_t>(samples.rows_without_gaze());
+  } else {
+    for (std::size_t from = 0; from < samples.size(); from += step) {
+      digest.missing_samples += samples_without_gaze(samples.slice(from, std::min<std::size_t>(samples.size(), from + step)));
+    }
   }
   for (const Trial& trial : rec.trials) {
     const auto [first, last] = samples.range(trial.start_us, trial.end_us);
@@ -318,7 +323,7 @@ void detect_events(RecordingOutput& out, const EventDetector& detector, const De
     one.screen = rec.screen;
     one.samples = samples.slice(first, last);
     one.trials = {trial};
-    RecordingDetection d = detect_recording(one, detector, spec);
+    RecordingDetection d = detect_recording(one, detector, spec, angle);
     for (std::size_t i = 0; i < d.labels.size(); ++i) codes[first + i] = static_cast<std::uint8_t>(d.labels[i]);
     TrialDetection td = d.events.trials.empty() ? TrialDetection{trial.id, rec.samples.has_left ? Eye::left : Eye::right, {}, 0, 0}
                                                 : std::move(d.events.trials.front());
@@ -332,7 +337,7 @@ void detect_events(RecordingOutput& out, const EventDetector& detector, const De
       else ev.losses.push_back({trial.id, s.time_us[i], s.time_us[i]});
     }
     ev.trials.push_back(std::move(td));
-    digest_trial(digest, s, 0, s.size(), trial, rec.screen, rec.sample_rate_hz, &d.events.fixations, digest_settings);
+    digest_trial(digest, s, 0, s.size(), trial, angle, rec.sample_rate_hz, &d.events.fixations, digest_settings);
     auto move_all = [](auto& to, auto& from) { to.insert(to.end(), std::make_move_iterator(from.begin()), std::make_move_iterator(from.end())); };
     move_all(ev.fixations, d.events.fixations);
     move_all(ev.saccades, d.events.saccades);

@@ -129,6 +129,7 @@ CompressedSamples::CompressedSamples(bool left, bool right, std::vector<Compress
       raw_budget_bytes_(raw_budget_bytes), columns_(std::move(columns)) {
   if (columns_.size() != empty_columns(left, right, chunk_rows_).size()) throw std::invalid_argument("wrong number of sample columns");
   rows_ = columns_.front().rows;
+  counted_ = false;
   std::vector<char> t;
   for (std::size_t k = 0; k < columns_.front().chunks.size(); ++k) {
     decode_chunk(columns_.front(), k, t);
@@ -186,6 +187,9 @@ void CompressedSamples::compress_staged() {
     col.chunks.push_back(std::move(part.chunks.front()));
   };
   add(staged_.time_us.data());
+  for (std::size_t i = 0; i < n; ++i) {
+    without_gaze_ += !((left_ && staged_.left.valid[i]) || (right_ && staged_.right.valid[i]));
+  }
   chunk_first_us_.push_back(staged_.time_us.front());
   chunk_last_us_.push_back(staged_.time_us.back());
   for (Eye eye : {Eye::left, Eye::right}) {

@@ -62,6 +62,9 @@ class CompressedSamples : public SampleSink {
   /// The columns in store order: time_us, then per recorded eye x_px, y_px, pupil, valid.
   const std::vector<CompressedColumn>& columns() const { return columns_; }
   std::uint64_t compressed_bytes() const;
+  /// Rows with no valid gaze in any recorded eye, counted as the samples
+  /// arrived; -1 for samples read back from a store (not counted).
+  std::int64_t rows_without_gaze() const { return counted_ ? static_cast<std::int64_t>(without_gaze_) : -1; }
   /// Releases the chunks once they are in the store (slice() keeps working while raw).
   void drop_chunks();
 
@@ -76,6 +79,8 @@ class CompressedSamples : public SampleSink {
   std::vector<SampleColumns> raw_chunks_;  // chunk k holds rows [k * chunk_rows, ...)
   SampleColumns staged_;     // rows waiting for a whole chunk
   std::uint64_t rows_ = 0;
+  bool counted_ = true;
+  std::uint64_t without_gaze_ = 0;
   // Each chunk's first and last time: trials are found by time without all
   // the times in memory (115 MB for two hours at 2000 Hz).
   std::vector<Microseconds> chunk_first_us_, chunk_last_us_;
