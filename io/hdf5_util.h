@@ -29,6 +29,12 @@ class QuietErrors {
 void library_start();
 /// At a successful end: closes the library (flushes nothing left open).
 void library_finish();
+/// Whether this HDF5 was built thread-safe (one global lock around every
+/// call), so that two threads may each read a store of their own.
+bool library_serialises_threads();
+/// Error printing off for the calling thread (HDF5 keeps it per thread);
+/// every thread that calls HDF5 calls this first, as library_start does.
+void quiet_this_thread();
 /// The operating system's reason for the error HDF5 last reported (e.g.
 /// "No space left on device"), or the innermost HDF5 message; "" if none.
 std::string last_error_reason();
