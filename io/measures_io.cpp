@@ -77,7 +77,7 @@ std::vector<Column> wide_columns(const std::vector<MeasureRow>& rows, const Desi
   num("region_words", [](const MeasureRow& r) { return r.region_words ? std::optional<double>(r.region_words) : std::nullopt; });
   num("region_line", [](const MeasureRow& r) { return r.region_line; });
   num("region_last_line", [](const MeasureRow& r) { return r.region_last_line; });
-  for (const auto& m : measure_names()) num(m, [m](const MeasureRow& r) { return measure_value(r, m); });
+  for (std::size_t k = 0; k < measure_names().size(); ++k) num(measure_names()[k], [k](const MeasureRow& r) { return measure_value(r, k); });
   for (const char* side : {"preceding", "following"}) {
     const bool before = std::string(side) == "preceding";
     auto nb = [before](const MeasureRow& r) -> const std::optional<NeighbourMeasures>& { return before ? r.before : r.after; };
@@ -209,14 +209,33 @@ void write_placement(StudyStoreWriter& store, const PlacementCounts& counts, con
 
 std::string measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
   const auto head_cols = trial_columns(rows, design);
+  const auto& names = measure_names();
   std::string out;
   for (const auto& c : head_cols) out += c.name + "\t";
   out += "region\tregion_label\tregion_role\tmeasure\tvalue\n";
+  // One line per measure of each row: the row's fields once, then appended in
+  // place (this table is the largest a run writes, 60 MB for 40 participants).
+  out.reserve(out.size() + rows.size() * names.size() * 72);
+  std::string head;
   for (const auto& r : rows) {
-    std::string head;
-    for (const auto& c : head_cols) head += text_or_na(c.text(r)) + "\t";
-    head += std::to_string(r.region) + "\t" + text_or_na(r.region_label) + "\t" + text_or_na(r.region_role) + "\t";
-    for (const auto& m : measure_names()) out += head + m + "\t" + na(measure_value(r, m)) + "\n";
+    head.clear();
+    for (const auto& c : head_cols) {
+      head += text_or_na(c.text(r));
+      head += '\t';
+    }
+    head += std::to_string(r.region);
+    head += '\t';
+    head += text_or_na(r.region_label);
+    head += '\t';
+    head += text_or_na(r.region_role);
+    head += '\t';
+    for (std::size_t k = 0; k < names.size(); ++k) {
+      out += head;
+      out += names[k];
+      out += '\t';
+      out += na(measure_value(r, k));
+      out += '\n';
+    }
   }
   return out;
 }

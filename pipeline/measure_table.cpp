@@ -1,5 +1,7 @@
 #include "pipeline/measure_table.h"
 
+#include <algorithm>
+
 namespace gazemill {
 
 const std::vector<std::string>& measure_names() {
@@ -17,26 +19,35 @@ const std::vector<std::string>& duration_measure_names() {
   return names;
 }
 
+std::optional<double> measure_value(const MeasureRow& r, std::size_t index) {
+  const auto flag = [](bool b) { return std::optional<double>(b ? 1.0 : 0.0); };
+  const auto maybe_flag = [](const std::optional<bool>& b) { return b ? std::optional<double>(*b ? 1.0 : 0.0) : std::nullopt; };
+  switch (index) {  // the order of measure_names()
+    case 0: return r.first_fixation_ms;
+    case 1: return r.single_fixation_ms;
+    case 2: return r.gaze_duration_ms;
+    case 3: return r.go_past_ms;
+    case 4: return r.selective_go_past_ms;
+    case 5: return r.total_time_ms;
+    case 6: return r.rereading_ms;
+    case 7: return r.second_pass_ms;
+    case 8: return flag(r.skipped);
+    case 9: return flag(r.fixated);
+    case 10: return static_cast<double>(r.first_pass_fixations);
+    case 11: return static_cast<double>(r.total_fixations);
+    case 12: return maybe_flag(r.regression_out);
+    case 13: return maybe_flag(r.regression_in);
+    case 14: return r.landing_chars;
+    case 15: return r.incoming_saccade_chars;
+    case 16: return r.incoming_saccade_deg;
+    default: return std::nullopt;
+  }
+}
+
 std::optional<double> measure_value(const MeasureRow& r, const std::string& n) {
-  auto opt = [](const std::optional<double>& v) { return v; };
-  if (n == "first_fixation_ms") return opt(r.first_fixation_ms);
-  if (n == "single_fixation_ms") return opt(r.single_fixation_ms);
-  if (n == "gaze_duration_ms") return opt(r.gaze_duration_ms);
-  if (n == "go_past_ms") return opt(r.go_past_ms);
-  if (n == "selective_go_past_ms") return opt(r.selective_go_past_ms);
-  if (n == "total_time_ms") return opt(r.total_time_ms);
-  if (n == "rereading_ms") return opt(r.rereading_ms);
-  if (n == "second_pass_ms") return opt(r.second_pass_ms);
-  if (n == "skipped_first_pass") return r.skipped ? 1.0 : 0.0;
-  if (n == "fixated") return r.fixated ? 1.0 : 0.0;
-  if (n == "first_pass_fixations") return static_cast<double>(r.first_pass_fixations);
-  if (n == "total_fixations") return static_cast<double>(r.total_fixations);
-  if (n == "regression_out") return r.regression_out ? std::optional<double>(*r.regression_out ? 1.0 : 0.0) : std::nullopt;
-  if (n == "regression_in") return r.regression_in ? std::optional<double>(*r.regression_in ? 1.0 : 0.0) : std::nullopt;
-  if (n == "landing_chars") return opt(r.landing_chars);
-  if (n == "incoming_saccade_chars") return opt(r.incoming_saccade_chars);
-  if (n == "incoming_saccade_deg") return opt(r.incoming_saccade_deg);
-  return std::nullopt;
+  const auto& names = measure_names();
+  const auto it = std::find(names.begin(), names.end(), n);
+  return it == names.end() ? std::nullopt : measure_value(r, static_cast<std::size_t>(it - names.begin()));
 }
 
 }  // namespace gazemill

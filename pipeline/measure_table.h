@@ -80,5 +80,8 @@ const std::vector<std::string>& measure_names();
 const std::vector<std::string>& duration_measure_names();
 /// A row's value of a named measure (booleans as 0/1), or nullopt for NA.
 std::optional<double> measure_value(const MeasureRow& row, const std::string& name);
+/// The same by position in measure_names(), for tables that write every
+/// measure of every row (no name comparisons per value).
+std::optional<double> measure_value(const MeasureRow& row, std::size_t index);
 
 }  // namespace gazemill

@@ -9,6 +9,7 @@
 
 #include "measures/reading_measures.h"
 #include "measures/region_mapper.h"
+#include "pipeline/measure_table.h"
 
 using namespace gazemill;
 
@@ -355,4 +356,42 @@ TEST(RegionMapper, ProportionalFontFromAnAdvanceTable) {
   EXPECT_EQ(place_fixation(L, 10, 45, rs).region, 1);
   EXPECT_EQ(place_fixation(L, 18, 15, rs).region, 0);
   EXPECT_THROW(lay_out_item("p", "mmmm", spec), std::invalid_argument);  // 64 px > 50 px
+}
+
+// Every measure column takes its value from the field of the same name (the
+// tables find values by position; a shifted position would put one measure's
+// values under another's name). Booleans as 0/1, absent as NA (the column
+// definitions in the README, no source).
+TEST(MeasureTable, EachMeasureNameReadsItsOwnField) {
+  MeasureRow r;
+  r.first_fixation_ms = 101;
+  r.single_fixation_ms = 102;
+  r.gaze_duration_ms = 103;
+  r.go_past_ms = 104;
+  r.selective_go_past_ms = 105;
+  r.total_time_ms = 106;
+  r.rereading_ms = 107;
+  r.second_pass_ms = 108;
+  r.skipped = false;
+  r.fixated = true;
+  r.first_pass_fixations = 111;
+  r.total_fixations = 112;
+  r.regression_out = true;
+  r.regression_in = std::nullopt;
+  r.landing_chars = 115;
+  r.incoming_saccade_chars = 116;
+  r.incoming_saccade_deg = 117;
+  const std::vector<std::pair<std::string, std::optional<double>>> expected = {
+      {"first_fixation_ms", 101},   {"single_fixation_ms", 102},   {"gaze_duration_ms", 103},     {"go_past_ms", 104},
+      {"selective_go_past_ms", 105}, {"total_time_ms", 106},        {"rereading_ms", 107},         {"second_pass_ms", 108},
+      {"skipped_first_pass", 0},     {"fixated", 1},                {"first_pass_fixations", 111}, {"total_fixations", 112},
+      {"regression_out", 1},         {"regression_in", std::nullopt}, {"landing_chars", 115},    {"incoming_saccade_chars", 116},
+      {"incoming_saccade_deg", 117}};
+  ASSERT_EQ(measure_names().size(), expected.size());
+  for (std::size_t k = 0; k < expected.size(); ++k) {
+    EXPECT_EQ(measure_names()[k], expected[k].first);
+    EXPECT_EQ(measure_value(r, k), expected[k].second) << expected[k].first;
+    EXPECT_EQ(measure_value(r, expected[k].first), expected[k].second) << expected[k].first;
+  }
+  EXPECT_EQ(measure_value(r, std::string("no_such_measure")), std::nullopt);
 }
