@@ -134,10 +134,15 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
                                            : (o.store_path.empty() ? default_store_path(protocol) : o.store_path);
     if (only == Stage::clean || only == Stage::measure) opt.tables_folder = o.output.empty() ? default_tables_folder(opt.store_path) : o.output;
   }
-  const StudyRunReport r = run_study(protocol, opt);
-  log_counts(r);
   std::string report_path;
-  if (!only && o.shard.empty() && !o.no_report) report_path = refresh_report(opt.store_path, folder, r.store_written, r.events.get());
+  if (!only && o.shard.empty() && !o.no_report) {
+    opt.beside_tables = [&](bool store_written, std::shared_ptr<const std::vector<RecordingEvents>> events) {
+      report_path = refresh_report(opt.store_path, folder, store_written, events.get());
+    };
+  }
+  const StudyRunReport r = run_study(protocol, opt);
+  if (r.beside_tables_error) std::rethrow_exception(r.beside_tables_error);
+  log_counts(r);
   const std::string timing = clock.summary(r.input_bytes);
   spdlog::info("{}: {}", opt.store_path, stage_summary(r));
   if (!only && o.shard.empty()) {

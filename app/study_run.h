@@ -13,6 +13,8 @@
 // of it becomes stale and is removed.
 
 #include <cstdint>
+#include <exception>
+#include <functional>
 #include <map>
 #include <memory>
 #include <optional>
@@ -40,6 +42,11 @@ struct StudyRunOptions {
   int deflate_level = 1;
   bool show_progress = false;
   std::uint64_t raw_budget_bytes = std::uint64_t{96} << 20;  // per recording, see RecordingWorkOptions
+  // Work on the finished store that may run while the tables are written (the
+  // report): called once after the store is committed, with whether this run
+  // wrote it and the events it lends; on a thread of its own when jobs > 1
+  // and HDF5 is thread-safe, else after the tables. Its exception is the run's.
+  std::function<void(bool store_written, std::shared_ptr<const std::vector<RecordingEvents>> events)> beside_tables;
 };
 
 /// What a run did, stage by stage, with the counts of what it read and made.
@@ -59,6 +66,7 @@ struct StudyRunReport {
   // the report so they need not read it back (null when the run did not hold it).
   std::shared_ptr<const std::vector<RecordingEvents>> events;
   std::shared_ptr<const std::vector<RecordingAlignment>> alignment;
+  std::exception_ptr beside_tables_error;  // what StudyRunOptions::beside_tables threw, if anything
   std::vector<std::string> tables;   // written this run
   std::string tables_folder;
 };

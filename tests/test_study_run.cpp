@@ -248,7 +248,7 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
 // Issue 20's new ingest settings are in the ingest key: changing one reads
 // the inputs again and redoes every stage after (the stage model, no source).
 TEST(StudyRun, ChangingAnIngestRepairSettingRedoesIngestOnward) {
-  for (const std::string extra : {std::string("\n[input.repairs]\ntrials_without_samples = \"drop\"\n"),
+  for (const std::string& extra : {std::string("\n[input.repairs]\ntrials_without_samples = \"drop\"\n"),
                                   std::string("\n[input.table]\nstatus_column = \"message\"\ninvalid_status = [\"lost\"]\n")}) {
     TempDir d;
     const std::string proto = study(d);
