@@ -51,8 +51,11 @@ int main(int argc, char** argv) {
   // maps each such buffer afresh and returns it on free, so every trial and
   // recording paid for its pages again (8 % of a study run's CPU time went
   // to page faults); these keep up to 128 MB of freed memory for the next.
-  mallopt(M_MMAP_THRESHOLD, 64 << 20);
-  mallopt(M_TRIM_THRESHOLD, 128 << 20);
+  // Settings of the user's own (GLIBC_TUNABLES) win.
+  if (!std::getenv("GLIBC_TUNABLES")) {
+    mallopt(M_MMAP_THRESHOLD, 64 << 20);
+    mallopt(M_TRIM_THRESHOLD, 128 << 20);
+  }
   h5::library_start();
   CLI::App app{"gazemill: from raw eye-tracking sample exports to reading-time measures"};
   app.set_version_flag("--version", std::string("gazemill ") + kVersion);

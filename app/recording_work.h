@@ -28,7 +28,7 @@ struct RecordingWorkOptions {
   std::size_t chunk_rows = std::size_t{1} << 16;
   // Samples are also kept as they are while a recording's fit in this; a
   // longer recording is decoded from its chunks trial by trial.
-  std::uint64_t raw_budget_bytes = std::uint64_t{96} << 20;
+  std::uint64_t raw_budget_bytes = std::uint64_t{48} << 20;
   std::function<void(std::uint64_t bytes)> progress;  // bytes of input read since the last call
 };
 

@@ -41,7 +41,7 @@ struct StudyRunOptions {
   unsigned shard_index = 0, shard_count = 0;  // shard_count 0 = the whole study
   int deflate_level = 1;
   bool show_progress = false;
-  std::uint64_t raw_budget_bytes = std::uint64_t{96} << 20;  // per recording, see RecordingWorkOptions
+  std::uint64_t raw_budget_bytes = std::uint64_t{48} << 20;  // per recording, see RecordingWorkOptions
   // Work on the finished store that may run while the tables are written (the
   // report): called once after the store is committed, with whether this run
   // wrote it and the events it lends; on a thread of its own when jobs > 1
