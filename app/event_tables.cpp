@@ -35,8 +35,20 @@ EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol
     std::map<std::uint32_t, CleanFixation> kept;
     std::map<std::uint32_t, RemovedFixation> removed;
     if (cleaned) {
-      for (auto& f : read_clean_fixations(store, id)) kept.emplace(f.id, f);
-      for (auto& r : read_removed_fixations(store, id)) removed.emplace(r.input_id, r);
+      const CleanedRecording* lent = nullptr;
+      if (known.cleaned) {
+        for (const auto& c : *known.cleaned) {
+          if (c.meta.id == id) lent = &c;
+        }
+      }
+      std::vector<CleanFixation> read_kept;
+      if (!lent) read_kept = read_clean_fixations(store, id);
+      for (const auto& f : lent ? lent->kept : read_kept) kept.emplace(f.id, f);
+      if (!known.removed) {
+        for (auto& x : read_removed_fixations(store, id)) removed.emplace(x.input_id, x);
+      } else if (const auto r = known.removed->find(id); r != known.removed->end()) {  // none: nothing removed
+        for (const auto& x : r->second) removed.emplace(x.input_id, x);
+      }
     }
     const RecordingAlignment* lines = aligned ? alignment.at(id) : nullptr;
     std::size_t fx = 0, sc = 0, bl = 0;

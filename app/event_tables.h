@@ -4,6 +4,7 @@
 
 #include <vector>
 
+#include "io/cleaning_io.h"
 #include "pipeline/cleaning_state.h"
 #include "pipeline/event_table.h"
 #include "pipeline/line_assignment.h"
@@ -20,6 +21,8 @@ class RegionCatalogue;
 struct KnownResults {
   const std::vector<RecordingEvents>* events = nullptr;
   const std::vector<RecordingAlignment>* alignment = nullptr;
+  const std::vector<CleanedRecording>* cleaned = nullptr;                           // the kept fixations
+  const std::map<std::string, std::vector<RemovedFixation>>* removed = nullptr;  // by recording
 };
 
 /// Needs detected events; cleaning, line assignments and regions add their

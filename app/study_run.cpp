@@ -857,6 +857,8 @@ StudyRunReport StudyRun::execute() {
   if (!o_.only && !o_.shard_count) {
     if (!events_.empty()) report_.events = std::make_shared<const std::vector<RecordingEvents>>(std::move(events_));
     if (alignment_) report_.alignment = std::make_shared<const std::vector<RecordingAlignment>>(std::move(*alignment_));
+    if (cleaned_recordings_) report_.cleaned = std::make_shared<const std::vector<CleanedRecording>>(std::move(*cleaned_recordings_));
+    if (cleaned_) report_.removed = std::make_shared<const std::map<std::string, std::vector<RemovedFixation>>>(removed_fixations(*cleaned_));
   }
   // The report beside the tables: each reads the store on a thread of its own.
   std::future<void> beside;
@@ -922,7 +924,7 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   std::shared_ptr<const EventTables> events;
   if (current(Stage::detect)) {
     KnownResults known;
-    if (fresh) known = {fresh->events.get(), fresh->alignment.get()};
+    if (fresh) known = {fresh->events.get(), fresh->alignment.get(), fresh->cleaned.get(), fresh->removed.get()};
     events = std::make_shared<const EventTables>(
         event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align), known));
     format("fixations.tsv", [events, &p] { return fixations_tsv(*events, p.design); });
@@ -940,7 +942,8 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   if (current(Stage::align) && regions) {
     auto alignment = fresh && fresh->alignment ? fresh->alignment : std::make_shared<const std::vector<RecordingAlignment>>(read_alignment(store));
     format("alignment_trials.tsv", [alignment] { return alignment_trials_tsv(*alignment); });
-    for (auto& [name, svg] : flagged_trial_drawings(p, *regions, cleaned_recordings(store), *alignment)) {
+    const auto cleaned = fresh && fresh->cleaned ? fresh->cleaned : std::make_shared<const std::vector<CleanedRecording>>(cleaned_recordings(store));
+    for (auto& [name, svg] : flagged_trial_drawings(p, *regions, *cleaned, *alignment)) {
       drawings.emplace_back("flagged_trials/" + name, std::move(svg));
     }
   }

@@ -21,6 +21,7 @@
 #include <string>
 #include <vector>
 
+#include "io/cleaning_io.h"
 #include "pipeline/audit.h"
 #include "pipeline/cleaning_state.h"
 #include "pipeline/line_assignment.h"
@@ -66,6 +67,8 @@ struct StudyRunReport {
   // the report so they need not read it back (null when the run did not hold it).
   std::shared_ptr<const std::vector<RecordingEvents>> events;
   std::shared_ptr<const std::vector<RecordingAlignment>> alignment;
+  std::shared_ptr<const std::vector<CleanedRecording>> cleaned;                          // kept fixations, trial verdicts
+  std::shared_ptr<const std::map<std::string, std::vector<RemovedFixation>>> removed;  // when clean ran
   std::exception_ptr beside_tables_error;  // what StudyRunOptions::beside_tables threw, if anything
   std::vector<std::string> tables;   // written this run
   std::string tables_folder;

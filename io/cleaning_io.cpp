@@ -379,6 +379,23 @@ std::vector<RemovedFixation> read_removed_fixations(const StudyStoreReader& stor
   return out;
 }
 
+std::map<std::string, std::vector<RemovedFixation>> removed_fixations(const CleaningOutcome& out) {
+  std::map<std::string, std::vector<RemovedFixation>> by_recording;
+  for (const auto& p : out.state.participants) {
+    for (const auto& t : p.trials) {
+      auto& list = by_recording[t.recording];
+      for (const auto& f : t.fixations) {
+        if (f.kept) continue;
+        const auto& why = out.fixation_removals.at(f.id);
+        RemovedFixation r{f.id, out.report.rules[why.first], why.second, std::nullopt};
+        if (f.merged_away) r.merged_into = f.merged_into;
+        list.push_back(std::move(r));
+      }
+    }
+  }
+  return by_recording;
+}
+
 std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& store, const std::string& rec) {
   const std::string base = "recordings/" + rec + "/clean/trials";
   if (!store.exists(base)) throw InputError({store.path(), 0, base}, "no cleaning verdicts; run gazemill clean first");

@@ -55,6 +55,9 @@ struct RemovedFixation {
   std::optional<std::uint32_t> merged_into;
 };
 std::vector<RemovedFixation> read_removed_fixations(const StudyStoreReader& store, const std::string& recording);
+/// The same for every recording, from the outcome write_cleaning stores (what
+/// a run lends its tables instead of their reading it back).
+std::map<std::string, std::vector<RemovedFixation>> removed_fixations(const CleaningOutcome& outcome);
 /// Whether each trial of a recording was kept by cleaning, by trial id.
 std::map<std::string, bool> read_clean_trial_verdicts(const StudyStoreReader& store, const std::string& recording);
 

@@ -160,7 +160,8 @@ TEST(StudyRun, OneChangedInputIsReadAgainAndANewOneAdded) {
 // store's datasets and the tables are the same for any number of threads.
 TEST(StudyRun, TheSameStoreAndTablesForAnyNumberOfThreads) {
   TempDir d;
-  const std::string proto = study(d);
+  // A strict confidence, so that some trials are flagged and drawn.
+  const std::string proto = study(d, std::string(kRules) + "\n[alignment]\nmin_confidence = 0.99\n");
   run(proto, d.file("one"), 1);
   run(proto, d.file("three"), 3);
   for (const auto& x : compare_store_datasets(d.file("one/s.gzm.h5"), d.file("three/s.gzm.h5"))) ADD_FAILURE() << x.path << ": " << x.what;
@@ -171,6 +172,19 @@ TEST(StudyRun, TheSameStoreAndTablesForAnyNumberOfThreads) {
     if (!fs::exists(d.file(std::string("one/tables/") + t))) continue;  // alignment only with passages
     EXPECT_EQ(read_text(d.file(std::string("one/tables/") + t)), read_text(d.file(std::string("three/tables/") + t))) << t;
     EXPECT_EQ(read_text(d.file(std::string("three/tables/") + t)), read_text(d.file(std::string("from-store/") + t))) << t;
+  }
+  // The drawings of flagged trials too (drawn from the run's kept fixations, or the store's).
+  const fs::path lent = d.file("three/tables/flagged_trials"), stored = d.file("from-store/flagged_trials");
+  ASSERT_TRUE(fs::exists(lent));
+  ASSERT_TRUE(fs::exists(stored));
+  {
+    std::size_t drawings = 0;
+    for (const auto& e : fs::directory_iterator(lent)) {
+      EXPECT_EQ(read_text(e.path().string()), read_text((stored / e.path().filename()).string())) << e.path();
+      ++drawings;
+    }
+    EXPECT_EQ(drawings, static_cast<std::size_t>(std::distance(fs::directory_iterator(stored), fs::directory_iterator{})));
+    EXPECT_GT(drawings, 0u);
   }
 }
 
