@@ -55,10 +55,56 @@ struct TrialColumns {
   }
 };
 
-std::string times(const EventTrial& t, Microseconds start, Microseconds end) {
-  return ms(static_cast<double>(start - t.start_us) / 1000.0) + "\t" + ms(static_cast<double>(end - t.start_us) / 1000.0) + "\t" +
-         std::to_string(start) + "\t" + std::to_string(end);
+// One table line, its fields appended in place and tab-separated (these
+// tables run to hundreds of thousands of lines; building each line from
+// temporaries was most of their cost).
+class Line {
+ public:
+  explicit Line(std::string& out) : out_(out) {}
+  ~Line() { out_ += '\n'; }
+  Line& operator<<(const std::string& field) {
+    if (!first_) out_ += '\t';
+    first_ = false;
+    out_ += field;
+    return *this;
+  }
+  // start_ms, end_ms (from the trial's start), start_us, end_us.
+  Line& times(const EventTrial& t, Microseconds start, Microseconds end) {
+    return *this << ms(static_cast<double>(start - t.start_us) / 1000.0) << ms(static_cast<double>(end - t.start_us) / 1000.0)
+                 << std::to_string(start) << std::to_string(end);
+  }
+
+ private:
+  std::string& out_;
+  bool first_ = true;
+};
+
+// The table's memory once a few hundred lines show its line length: growing
+// a string of tens of MB by doubling copies it again and again.
+void reserve_from_first_lines(std::string& out, std::size_t lines_done, std::size_t lines, std::size_t header_bytes) {
+  constexpr std::size_t kSample = 256;
+  if (lines_done != kSample || lines <= kSample) return;
+  const double per_line = static_cast<double>(out.size() - header_bytes) / kSample;
+  out.reserve(header_bytes + static_cast<std::size_t>(per_line * 1.05 * static_cast<double>(lines)));
 }
+
+// Each event's trial columns: the same for all the events of a trial.
+class TrialPart {
+ public:
+  explicit TrialPart(const TrialColumns& tc) : tc_(tc) {}
+  const std::string& of(const EventTrial* t) {
+    if (t != last_) {
+      text_ = tc_.row(*t);
+      last_ = t;
+    }
+    return text_;
+  }
+
+ private:
+  const TrialColumns& tc_;
+  const EventTrial* last_ = nullptr;
+  std::string text_;
+};
 
 }  // namespace
 
@@ -66,13 +112,17 @@ std::string fixations_tsv(const EventTables& t, const DesignSpec& design) {
   const TrialColumns tc(t, design);
   std::string out = tc.header + "\tfixation\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\tdetected_duration_ms\teye\tx_px\ty_px\t"
                     "corrected_y_px\tpupil\tkept\tremoved_by\tmerged_into\tline\tregion\tregion_label\tregion_role\tline_chars\tlanding_chars\n";
-  for (const auto& f : t.fixations) {
+  const std::size_t header = out.size();
+  TrialPart trial(tc);
+  for (std::size_t i = 0; i < t.fixations.size(); ++i) {
+    reserve_from_first_lines(out, i, t.fixations.size(), header);
+    const auto& f = t.fixations[i];
     const FixationEvent& e = f.event;
-    out += tc.row(*f.trial) + "\t" + std::to_string(f.number) + "\t" + times(*f.trial, e.start_us, e.end_us) + "\t" + ms(f.duration_ms) +
-           "\t" + ms(e.duration_ms()) + "\t" + to_string(e.eye) + "\t" + num(f.x_px, 2) + "\t" + num(f.y_px, 2) + "\t" +
-           opt(f.corrected_y_px) + "\t" + num(e.pupil, 3) + "\t" + (f.kept ? "1" : "0") + "\t" + text(f.removed_by) + "\t" +
-           opt(f.merged_into) + "\t" + opt(f.line) + "\t" + opt(f.region) + "\t" + text(f.region_label) + "\t" + text(f.region_role) +
-           "\t" + opt(f.line_chars) + "\t" + opt(f.landing_chars) + "\n";
+    Line line(out);
+    line << trial.of(f.trial) << std::to_string(f.number);
+    line.times(*f.trial, e.start_us, e.end_us) << ms(f.duration_ms) << ms(e.duration_ms()) << to_string(e.eye) << num(f.x_px, 2)
+              << num(f.y_px, 2) << opt(f.corrected_y_px) << num(e.pupil, 3) << (f.kept ? "1" : "0") << text(f.removed_by) << opt(f.merged_into)
+              << opt(f.line) << opt(f.region) << text(f.region_label) << text(f.region_role) << opt(f.line_chars) << opt(f.landing_chars);
   }
   return out;
 }
@@ -81,12 +131,17 @@ std::string saccades_tsv(const EventTables& t, const DesignSpec& design) {
   const TrialColumns tc(t, design);
   std::string out = tc.header + "\tsaccade\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\teye\tstart_x_px\tstart_y_px\tend_x_px\t"
                     "end_y_px\tamplitude_deg\tpeak_velocity_deg_s\tdirection_deg\n";
-  for (const auto& s : t.saccades) {
+  const std::size_t header = out.size();
+  TrialPart trial(tc);
+  for (std::size_t i = 0; i < t.saccades.size(); ++i) {
+    reserve_from_first_lines(out, i, t.saccades.size(), header);
+    const auto& s = t.saccades[i];
     const SaccadeEvent& e = s.event;
-    out += tc.row(*s.trial) + "\t" + std::to_string(s.number) + "\t" + times(*s.trial, e.start_us, e.end_us) + "\t" +
-           ms(static_cast<double>(e.end_us - e.start_us) / 1000.0) + "\t" + to_string(e.eye) + "\t" + num(e.start_x_px, 2) + "\t" +
-           num(e.start_y_px, 2) + "\t" + num(e.end_x_px, 2) + "\t" + num(e.end_y_px, 2) + "\t" + num(e.amplitude_deg, 3) + "\t" +
-           num(e.peak_velocity_deg_s, 1) + "\t" + num(e.direction_deg, 1) + "\n";
+    Line line(out);
+    line << trial.of(s.trial) << std::to_string(s.number);
+    line.times(*s.trial, e.start_us, e.end_us) << ms(static_cast<double>(e.end_us - e.start_us) / 1000.0) << to_string(e.eye)
+              << num(e.start_x_px, 2) << num(e.start_y_px, 2) << num(e.end_x_px, 2) << num(e.end_y_px, 2) << num(e.amplitude_deg, 3)
+              << num(e.peak_velocity_deg_s, 1) << num(e.direction_deg, 1);
   }
   return out;
 }
@@ -94,10 +149,12 @@ std::string saccades_tsv(const EventTables& t, const DesignSpec& design) {
 std::string blinks_tsv(const EventTables& t, const DesignSpec& design) {
   const TrialColumns tc(t, design);
   std::string out = tc.header + "\tblink\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\teye\n";
+  TrialPart trial(tc);
   for (const auto& b : t.blinks) {
     const BlinkEvent& e = b.event;
-    out += tc.row(*b.trial) + "\t" + std::to_string(b.number) + "\t" + times(*b.trial, e.start_us, e.end_us) + "\t" +
-           ms(static_cast<double>(e.end_us - e.start_us) / 1000.0) + "\t" + to_string(e.eye) + "\n";
+    Line line(out);
+    line << trial.of(b.trial) << std::to_string(b.number);
+    line.times(*b.trial, e.start_us, e.end_us) << ms(static_cast<double>(e.end_us - e.start_us) / 1000.0) << to_string(e.eye);
   }
   return out;
 }
