@@ -5,6 +5,7 @@
 
 #include <filesystem>
 #include <iostream>
+#include <optional>
 
 #include "app/audit_report.h"
 #include "app/inspect.h"
@@ -18,6 +19,7 @@
 #include "io/bids_writer.h"
 #include "gazemill/version.h"
 #include "io/cleaning_io.h"
+#include "io/measures_io.h"
 #include "io/study_store.h"
 #include "pipeline/input_error.h"
 
@@ -78,14 +80,13 @@ void log_counts(const StudyRunReport& r) {
 // The study's report, OUTDIR/report.html, written again whenever the store
 // changed (or the page is missing or older than the store); a report of an
 // older store is never left beside a newer one.
-std::string refresh_report(const std::string& store_path, const std::string& folder, bool store_written,
-                           const std::vector<RecordingEvents>* events = nullptr) {
+std::string refresh_report(const std::string& store_path, const std::string& folder, bool store_written, const LentToReport& lent = {}) {
   const std::string html = (fs::path(folder) / "report.html").string();
   std::error_code ec;
   // A run killed between its store and its report leaves an older page: the dates tell.
   const bool older = fs::exists(html, ec) && fs::last_write_time(html, ec) < fs::last_write_time(store_path, ec);
   if (store_written || !fs::exists(html, ec) || older) {
-    write_study_report(store_path, html, events);
+    write_study_report(store_path, html, lent);
     spdlog::info("report: {}", html);
   }
   return html;
@@ -136,8 +137,13 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   }
   std::string report_path;
   if (!only && o.shard.empty() && !o.no_report) {
-    opt.beside_tables = [&](bool store_written, std::shared_ptr<const std::vector<RecordingEvents>> events) {
-      report_path = refresh_report(opt.store_path, folder, store_written, events.get());
+    opt.beside_tables = [&](const RunResults& made) {
+      // The measures as the store holds them, from the rows the run made (cheaper than reading them back).
+      std::optional<StoredTable> wide, by_role;
+      if (made.rows) wide = measures_wide_table(*made.rows, protocol.design);
+      if (made.by_role) by_role = aggregate_table(*made.by_role, protocol.design.factors);
+      report_path = refresh_report(opt.store_path, folder, made.store_written,
+                                   {made.events.get(), wide ? &*wide : nullptr, by_role ? &*by_role : nullptr});
     };
   }
   const StudyRunReport r = run_study(protocol, opt);

@@ -1,7 +1,10 @@
 #include "app/measure.h"
 
 #include <algorithm>
+#include <atomic>
+#include <exception>
 #include <map>
+#include <thread>
 
 #include "measures/reading_measures.h"
 #include "measures/region_mapper.h"
@@ -11,13 +14,13 @@
 
 namespace gazemill {
 
-std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& recordings, const std::vector<RecordingAlignment>& alignment,
-                                     const RegionCatalogue& regions, const RegionSpec& spec, const DesignSpec& design,
-                                     PlacementCounts* placement) {
-  std::vector<MeasureRow> rows;
-  std::map<std::string, const RecordingAlignment*> aligned;
-  for (const auto& a : alignment) aligned[a.recording] = &a;
-  for (const CleanedRecording& cleaned : recordings) {
+namespace {
+
+// One recording's rows, appended to `rows`; its placements counted in `placement`.
+void measure_recording(const CleanedRecording& cleaned, const std::map<std::string, const RecordingAlignment*>& aligned,
+                       const RegionCatalogue& regions, const RegionSpec& spec, const DesignSpec& design, std::vector<MeasureRow>& rows,
+                       PlacementCounts* placement) {
+  {
     const Recording& rec = cleaned.meta;
     const std::string& id = rec.id;
     const std::vector<CleanFixation>& fixations = cleaned.kept;
@@ -107,7 +110,53 @@ std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& record
       }
     }
   }
-  return rows;
+}
+
+}  // namespace
+
+std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& recordings, const std::vector<RecordingAlignment>& alignment,
+                                     const RegionCatalogue& regions, const RegionSpec& spec, const DesignSpec& design,
+                                     PlacementCounts* placement, unsigned threads) {
+  std::map<std::string, const RecordingAlignment*> aligned;
+  for (const auto& a : alignment) aligned[a.recording] = &a;
+  // A recording per thread, joined in recording order: the same rows for any number of threads.
+  std::vector<std::vector<MeasureRow>> rows(recordings.size());
+  std::vector<PlacementCounts> placed(recordings.size());
+  std::vector<std::exception_ptr> errors(recordings.size());
+  std::atomic<std::size_t> next{0};
+  auto worker = [&] {
+    for (std::size_t k; (k = next++) < recordings.size();) {
+      try {
+        measure_recording(recordings[k], aligned, regions, spec, design, rows[k], placement ? &placed[k] : nullptr);
+      } catch (...) {
+        errors[k] = std::current_exception();
+      }
+    }
+  };
+  const std::size_t workers = std::min<std::size_t>(std::max(1u, threads ? threads : std::thread::hardware_concurrency()), recordings.size());
+  std::vector<std::thread> pool;
+  for (std::size_t t = 1; t < workers; ++t) pool.emplace_back(worker);
+  worker();
+  for (auto& t : pool) t.join();
+  for (auto& e : errors) {
+    if (e) std::rethrow_exception(e);
+  }
+  std::size_t total = 0;
+  for (const auto& r : rows) total += r.size();
+  std::vector<MeasureRow> out;
+  out.reserve(total);
+  for (auto& r : rows) out.insert(out.end(), std::make_move_iterator(r.begin()), std::make_move_iterator(r.end()));
+  if (placement) {
+    for (const auto& p : placed) {
+      for (const auto& [key, c] : p) {
+        FixationPlacement& sum = (*placement)[key];
+        sum.on_region += c.on_region;
+        sum.beside_text += c.beside_text;
+        sum.off_lines += c.off_lines;
+      }
+    }
+  }
+  return out;
 }
 
 }  // namespace gazemill

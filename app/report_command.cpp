@@ -34,19 +34,20 @@ void register_report_command(CLI::App& app, ReportOptions& o) {
 }
 
 namespace {
-void write_report(const std::string& store_path, const std::string& html_path, std::size_t max_points,
-                  const std::vector<RecordingEvents>* events = nullptr) {
+void write_report(const std::string& store_path, const std::string& html_path, std::size_t max_points, const LentToReport& lent = {}) {
   ReportDataOptions opt;
   opt.max_points_per_trial = max_points;
-  opt.events = events;
+  opt.events = lent.events;
+  opt.measures_wide = lent.measures_wide;
+  opt.measures_by_role = lent.measures_by_role;
   const ReportModel model = assemble_report(store_path, opt);
   write_report_html(model, html_path);
   for (const auto& note : model.run.notes) spdlog::warn("report: {}", note);
 }
 }  // namespace
 
-void write_study_report(const std::string& store_path, const std::string& html_path, const std::vector<RecordingEvents>* events) {
-  write_report(store_path, html_path, ReportOptions{}.max_points_per_trial, events);
+void write_study_report(const std::string& store_path, const std::string& html_path, const LentToReport& lent) {
+  write_report(store_path, html_path, ReportOptions{}.max_points_per_trial, lent);
 }
 
 int run_report(const ReportOptions& o) {

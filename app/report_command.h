@@ -7,6 +7,7 @@
 #include <string>
 #include <vector>
 
+#include "io/report_store.h"
 #include "pipeline/cleaning_state.h"
 
 namespace gazemill {
@@ -22,10 +23,17 @@ void register_report_command(CLI::App& app, ReportOptions& options);
 /// Runs it; returns the exit code. Throws InputError on a bad store.
 int run_report(const ReportOptions& options);
 
+/// What a run lends the report instead of its reading the store back (each
+/// may be null; see ReportDataOptions): the store's own events and measures.
+struct LentToReport {
+  const std::vector<RecordingEvents>* events = nullptr;
+  const StoredTable* measures_wide = nullptr;
+  const StoredTable* measures_by_role = nullptr;
+};
+
 /// The report of the store at `store_path`, written to `html_path` (through a
-/// temporary file renamed into place), for `gazemill run` to write beside its
-/// store; `events`, when given, are the store's own, lent by the run.
-void write_study_report(const std::string& store_path, const std::string& html_path, const std::vector<RecordingEvents>* events = nullptr);
+/// temporary file renamed into place), for `gazemill run` to write beside its store.
+void write_study_report(const std::string& store_path, const std::string& html_path, const LentToReport& lent = {});
 
 /// Where `report` writes by default: beside the store, "<name>-report.html".
 std::string default_report_path(const std::string& store_path);

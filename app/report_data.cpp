@@ -656,13 +656,14 @@ class Assembler {
   }
 
   void measures() {
-    StoredTable wide;
+    StoredTable read;
     try {
-      wide = read_stored_table(store_, "measures/wide");
+      if (!o_.measures_wide) read = read_stored_table(store_, "measures/wide");
     } catch (const InputError& e) {
       m_.run.notes.push_back(std::string("the measures could not be read: ") + e.what());
       return;
     }
+    const StoredTable& wide = o_.measures_wide ? *o_.measures_wide : read;
     MeasuresSummary& ms = m_.measures;
     ms.present = true;
     ms.rows = wide.rows;
@@ -739,13 +740,14 @@ class Assembler {
       }
     }
     if (!store_.exists("measures/by_role")) return;
-    StoredTable by_role;
+    StoredTable read_by_role;
     try {
-      by_role = read_stored_table(store_, "measures/by_role");
+      if (!o_.measures_by_role) read_by_role = read_stored_table(store_, "measures/by_role");
     } catch (const InputError& e) {
       m_.run.notes.push_back(std::string("the measures by region role could not be read: ") + e.what());
       return;
     }
+    const StoredTable& by_role = o_.measures_by_role ? *o_.measures_by_role : read_by_role;
     const auto rit = by_role.texts.find("region_role");
     if (rit == by_role.texts.end()) return;
     for (std::size_t r = 0; r < by_role.rows; ++r) {

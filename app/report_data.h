@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "io/report_store.h"
 #include "pipeline/cleaning_state.h"
 #include "pipeline/report_model.h"
 #include "pipeline/sample_digest.h"
@@ -24,6 +25,10 @@ struct ReportDataOptions {
   /// Every recording's metadata and events as a run holds them (the store's
   /// own), so that they need not be read back; null: read from the store.
   const std::vector<RecordingEvents>* events = nullptr;
+  /// The measures as the store holds them under /measures/wide and
+  /// /measures/by_role, lent by a run that made them; null: read from the store.
+  const StoredTable* measures_wide = nullptr;
+  const StoredTable* measures_by_role = nullptr;
   /// A participant stands apart in detection when a figure's |robust z| is
   /// above outlier_z and the figure is also more than outlier_relative (a
   /// fraction) from the participants' median (our rule, no source).

@@ -641,7 +641,7 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     } else {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
       if (!alignment_) alignment_ = read_alignment(*old_);
-      report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design, &report_.placement);
+      report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design, &report_.placement, o_.jobs);
       report_.by_item_region = std::make_shared<const AggregateTable>(aggregate_by_item_region(report_.rows));
       report_.by_role = std::make_shared<const AggregateTable>(aggregate_by_role(report_.rows));
       report_.by_participant = std::make_shared<const AggregateTable>(aggregate_by_participant(report_.rows));
@@ -863,10 +863,14 @@ StudyRunReport StudyRun::execute() {
   // The report beside the tables: each reads the store on a thread of its own.
   std::future<void> beside;
   const bool in_parallel = o_.jobs != 1 && h5::library_serialises_threads();
-  auto run_beside = [this, written = report_.store_written, events = report_.events, since] {
+  // The rows only when measure made them: the tables would fill them in otherwise, beside this thread.
+  const bool measured = ran_[Stage::measure] && !report_.rows.empty();
+  const RunResults made{report_.store_written, report_.events, measured ? &report_.rows : nullptr,
+                        measured ? report_.by_role : nullptr};
+  auto run_beside = [this, made, since] {
     h5::quiet_this_thread();
     try {
-      o_.beside_tables(written, events);
+      o_.beside_tables(made);
     } catch (...) {
       report_.beside_tables_error = std::current_exception();  // the caller's to throw, as if it had run there
     }

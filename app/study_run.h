@@ -31,6 +31,14 @@
 
 namespace gazemill {
 
+/// What a run made and still holds, the store's own, for work beside its tables.
+struct RunResults {
+  bool store_written = false;
+  std::shared_ptr<const std::vector<RecordingEvents>> events;
+  const std::vector<MeasureRow>* rows = nullptr;  // when measure ran in this run
+  std::shared_ptr<const AggregateTable> by_role;  // likewise
+};
+
 struct StudyRunOptions {
   std::string store_path;
   std::string tables_folder;          // "" = write no tables
@@ -44,10 +52,10 @@ struct StudyRunOptions {
   bool show_progress = false;
   std::uint64_t raw_budget_bytes = std::uint64_t{48} << 20;  // per recording, see RecordingWorkOptions
   // Work on the finished store that may run while the tables are written (the
-  // report): called once after the store is committed, with whether this run
-  // wrote it and the events it lends; on a thread of its own when jobs > 1
-  // and HDF5 is thread-safe, else after the tables. Its exception is the run's.
-  std::function<void(bool store_written, std::shared_ptr<const std::vector<RecordingEvents>> events)> beside_tables;
+  // report): called once after the store is committed, with what the run
+  // made and lends; on a thread of its own when jobs > 1 and HDF5 is
+  // thread-safe, else after the tables. Its exception is the run's.
+  std::function<void(const RunResults& made)> beside_tables;
 };
 
 /// What a run did, stage by stage, with the counts of what it read and made.

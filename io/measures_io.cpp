@@ -146,23 +146,36 @@ std::string tsv(const std::vector<Row>& rows, const std::vector<Col>& cols) {
   return out;
 }
 
+// The columns as the store holds them: numbers with NaN for NA, texts with "" for NA.
 template <typename Row, typename Col>
-void write_columns(H5::Group& g, const std::vector<Row>& rows, const std::vector<Col>& cols) {
+StoredTable stored_columns(const std::vector<Row>& rows, const std::vector<Col>& cols) {
   constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+  StoredTable t;
+  t.rows = rows.size();
   for (const auto& c : cols) {
     if (c.number) {
-      std::vector<double> v;
+      std::vector<double>& v = t.numbers[c.name];
+      v.reserve(rows.size());
       for (const auto& r : rows) v.push_back(c.number(r).value_or(kNaN));
-      h5::write_column(g, c.name, v, c.name.ends_with("_ms") ? "ms" : c.name.ends_with("_deg") ? "deg" : "");
-      H5::DataSet ds = g.openDataSet(c.name);
-      h5::set_attr(ds, "missing", std::string("NaN"));
     } else {
-      std::vector<std::string> v;
+      std::vector<std::string>& v = t.texts[c.name];
+      v.reserve(rows.size());
       for (const auto& r : rows) v.push_back(c.text(r));
-      h5::write_strings(g, c.name, v);
-      H5::DataSet ds = g.openDataSet(c.name);
-      h5::set_attr(ds, "missing", std::string(""));
     }
+  }
+  return t;
+}
+
+void write_columns(H5::Group& g, const StoredTable& t) {
+  for (const auto& [name, v] : t.numbers) {
+    h5::write_column(g, name, v, name.ends_with("_ms") ? "ms" : name.ends_with("_deg") ? "deg" : "");
+    H5::DataSet ds = g.openDataSet(name);
+    h5::set_attr(ds, "missing", std::string("NaN"));
+  }
+  for (const auto& [name, v] : t.texts) {
+    h5::write_strings(g, name, v);
+    H5::DataSet ds = g.openDataSet(name);
+    h5::set_attr(ds, "missing", std::string(""));
   }
 }
 
@@ -244,6 +257,14 @@ std::string measures_wide_tsv(const std::vector<MeasureRow>& rows, const DesignS
   return tsv(rows, wide_columns(rows, design));
 }
 
+StoredTable measures_wide_table(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
+  return stored_columns(rows, wide_columns(rows, design));
+}
+
+StoredTable aggregate_table(const AggregateTable& table, const std::vector<std::string>& factors) {
+  return stored_columns(table.rows, aggregate_columns(table, factors));
+}
+
 std::string aggregates_tsv(const AggregateTable& table, const std::vector<std::string>& factors) {
   return tsv(table.rows, aggregate_columns(table, factors));
 }
@@ -252,10 +273,10 @@ void write_measures(StudyStoreWriter& store, const std::vector<MeasureRow>& rows
                     const std::vector<const AggregateTable*>& aggregates, const std::vector<std::string>& aggregate_names) {
   H5::Group m = store.group("measures");
   H5::Group wide = h5::create_group(m, "wide");
-  write_columns(wide, rows, wide_columns(rows, design));
+  write_columns(wide, measures_wide_table(rows, design));
   for (std::size_t i = 0; i < aggregates.size(); ++i) {
     H5::Group g = h5::create_group(m, aggregate_names[i]);
-    write_columns(g, aggregates[i]->rows, aggregate_columns(*aggregates[i], design.factors));
+    write_columns(g, aggregate_table(*aggregates[i], design.factors));
   }
 }
 

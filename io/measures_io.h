@@ -10,6 +10,7 @@
 #include <string>
 #include <vector>
 
+#include "io/report_store.h"
 #include "io/study_store.h"
 #include "pipeline/measure_table.h"
 #include "pipeline/protocol.h"
@@ -24,6 +25,12 @@ std::string measures_wide_tsv(const std::vector<MeasureRow>& rows, const DesignS
 /// An aggregate table: its key columns, the factors, the denominators, the
 /// probabilities, and mean_*, sd_*, n_* of every duration measure.
 std::string aggregates_tsv(const AggregateTable& table, const std::vector<std::string>& factors);
+
+/// The columns write_measures stores under /measures/wide and under an
+/// aggregate's group, as read_stored_table reads them back (what a run lends
+/// its report instead of its reading them back).
+StoredTable measures_wide_table(const std::vector<MeasureRow>& rows, const DesignSpec& design);
+StoredTable aggregate_table(const AggregateTable& table, const std::vector<std::string>& factors);
 
 /// /measures/wide/<column>, and /measures/by_item_region, /measures/by_role,
 /// /measures/by_participant (their columns as in the TSV).

@@ -13,6 +13,8 @@
 
 #include "app/protocol_parser.h"
 #include "app/shard_merge.h"
+#include "io/measures_io.h"
+#include "io/report_store.h"
 #include "io/store_compare.h"
 #include "io/study_store.h"
 #include "io/table_set.h"
@@ -186,6 +188,35 @@ TEST(StudyRun, TheSameStoreAndTablesForAnyNumberOfThreads) {
     EXPECT_EQ(drawings, static_cast<std::size_t>(std::distance(fs::directory_iterator(stored), fs::directory_iterator{})));
     EXPECT_GT(drawings, 0u);
   }
+}
+
+// A run lends its report the measures as the store holds them, made from its
+// rows and aggregates; they must be what reading the store back gives (the
+// stage model, no source): every column, NA as NaN or "".
+TEST(StudyRun, MeasuresLentToTheReportEqualThoseReadFromTheStore) {
+  TempDir d;
+  const std::string proto = study(d);
+  const StudyRunReport r = run(proto, d.file("out"), 2);
+  ASSERT_FALSE(r.rows.empty());
+  ASSERT_TRUE(r.by_role);
+  const Protocol p = parse_protocol_file(proto);
+  const StudyStoreReader store(d.file("out/s.gzm.h5"));
+  auto same = [](const StoredTable& lent, const StoredTable& stored, const char* what) {
+    EXPECT_EQ(lent.rows, stored.rows) << what;
+    ASSERT_EQ(lent.texts.size(), stored.texts.size()) << what;
+    ASSERT_EQ(lent.numbers.size(), stored.numbers.size()) << what;
+    for (const auto& [name, v] : stored.texts) EXPECT_EQ(lent.texts.at(name), v) << what << " " << name;
+    for (const auto& [name, v] : stored.numbers) {
+      const auto& l = lent.numbers.at(name);
+      ASSERT_EQ(l.size(), v.size()) << name;
+      for (std::size_t i = 0; i < v.size(); ++i) {
+        if (std::isnan(v[i])) EXPECT_TRUE(std::isnan(l[i])) << what << " " << name << " row " << i;
+        else EXPECT_EQ(l[i], v[i]) << what << " " << name << " row " << i;
+      }
+    }
+  };
+  same(measures_wide_table(r.rows, p.design), read_stored_table(store, "measures/wide"), "wide");
+  same(aggregate_table(*r.by_role, p.design.factors), read_stored_table(store, "measures/by_role"), "by_role");
 }
 
 TEST(StudyRun, TablesNeverReplaceAFolderOfOtherFiles) {
