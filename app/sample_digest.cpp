@@ -5,7 +5,6 @@
 #include <limits>
 #include <span>
 
-#include "detectors/gaze_trace.h"
 #include "detectors/visual_angle.h"
 #include "measures/data_quality.h"
 
@@ -23,22 +22,41 @@ std::pair<std::size_t, std::size_t> sample_range(const std::vector<Microseconds>
 }
 
 // Precision of each fixation, in the eye it was detected in (both averaged
-// where detection averaged them).
+// where detection averaged them), from the samples converted as detection
+// converts them (average of the eyes in pixels, then degrees), into buffers
+// kept from fixation to fixation.
 void add_precision(SampleDigest& d, const SampleColumns& s, std::size_t lo, std::size_t hi, const VisualAngle& angle,
                    const std::vector<FixationEvent>& fixations, EyeChoice choice) {
+  constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+  std::vector<double> x_deg, y_deg;
+  std::vector<std::uint8_t> valid;
   for (const auto& f : fixations) {
     const auto [first, last] = sample_range(s.time_us, lo, hi, f.start_us, f.end_us);
     if (last <= first + 1) continue;
-    GazeTrace trace;
+    const std::size_t n = last - first;
+    x_deg.resize(n);
+    y_deg.resize(n);
+    valid.resize(n);
     if (choice == EyeChoice::average && s.has_left && s.has_right) {
-      trace = average_eyes(make_gaze_trace(s, Eye::left, first, last, angle), make_gaze_trace(s, Eye::right, first, last, angle), angle);
+      for (std::size_t i = 0; i < n; ++i) {
+        const std::size_t k = first + i;
+        valid[i] = s.left.valid[k] && s.right.valid[k];
+        x_deg[i] = valid[i] ? angle.x_deg(0.5 * (static_cast<double>(s.left.x_px[k]) + static_cast<double>(s.right.x_px[k]))) : kNaN;
+        y_deg[i] = valid[i] ? angle.y_deg(0.5 * (static_cast<double>(s.left.y_px[k]) + static_cast<double>(s.right.y_px[k]))) : kNaN;
+      }
     } else {
       Eye eye = choice == EyeChoice::left ? Eye::left : choice == EyeChoice::right ? Eye::right : f.eye;
       if (eye == Eye::left && !s.has_left) eye = Eye::right;
       if (eye == Eye::right && !s.has_right) eye = Eye::left;
-      trace = make_gaze_trace(s, eye, first, last, angle);
+      const EyeSamples& e = s.eye(eye);
+      for (std::size_t i = 0; i < n; ++i) {
+        const std::size_t k = first + i;
+        valid[i] = e.valid[k];
+        x_deg[i] = valid[i] ? angle.x_deg(e.x_px[k]) : kNaN;
+        y_deg[i] = valid[i] ? angle.y_deg(e.y_px[k]) : kNaN;
+      }
     }
-    const FixationPrecision p = fixation_precision(trace.x_deg, trace.y_deg, trace.valid);
+    const FixationPrecision p = fixation_precision(x_deg, y_deg, valid);
     if (p.intervals == 0) continue;
     d.fixation_rms_s2s_deg.push_back(p.rms_s2s_deg);
     d.fixation_std_deg.push_back(p.std_deg);
