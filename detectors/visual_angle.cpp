@@ -23,19 +23,10 @@ VisualAngle::Axis::Axis(int size_px, double mm_per_px, double distance_mm)
     value_deg_[i] = std::atan(u) * kDegPerRad;
     slope_deg_per_px_[i] = k / (1.0 + u * u) * kDegPerRad;  // d/dpx atan(k (px - c))
   }
+  last_node_ = static_cast<double>(nodes - 1);
 }
 
 double VisualAngle::Axis::exact_deg(double px) const { return std::atan((px - centre_px_) * mm_per_px_ / distance_mm_) * kDegPerRad; }
-
-double VisualAngle::Axis::deg(double px) const {
-  const double u = px - first_px_;
-  // Written so that NaN fails the test and takes the exact path.
-  if (!(u >= 0.0 && u < static_cast<double>(value_deg_.size()) - 1.0)) return exact_deg(px);
-  const auto i = static_cast<std::size_t>(u);
-  const double t = u - static_cast<double>(i), t2 = t * t, t3 = t2 * t;
-  const double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = 3 * t2 - 2 * t3, h11 = t3 - t2;
-  return h00 * value_deg_[i] + h10 * slope_deg_per_px_[i] + h01 * value_deg_[i + 1] + h11 * slope_deg_per_px_[i + 1];
-}
 
 VisualAngle::VisualAngle(const ScreenGeometry& s)
     : x_(s.width_px, s.width_mm / s.width_px, s.viewing_distance_mm),

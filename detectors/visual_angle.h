@@ -31,13 +31,22 @@ class VisualAngle {
   class Axis {
    public:
     Axis(int size_px, double mm_per_px, double distance_mm);
-    double deg(double px) const;
+    double deg(double px) const {  // inline: it runs for every sample
+      const double u = px - first_px_;
+      // Written so that NaN fails the test and takes the exact path.
+      if (!(u >= 0.0 && u < last_node_)) return exact_deg(px);
+      const auto i = static_cast<std::size_t>(u);
+      const double t = u - static_cast<double>(i), t2 = t * t, t3 = t2 * t;
+      const double h00 = 2 * t3 - 3 * t2 + 1, h10 = t3 - 2 * t2 + t, h01 = 3 * t2 - 2 * t3, h11 = t3 - t2;
+      return h00 * value_deg_[i] + h10 * slope_deg_per_px_[i] + h01 * value_deg_[i + 1] + h11 * slope_deg_per_px_[i + 1];
+    }
     double exact_deg(double px) const;
     double centre_px() const { return centre_px_; }
     double mm_per_px() const { return mm_per_px_; }
 
    private:
     double mm_per_px_, distance_mm_, centre_px_, first_px_;
+    double last_node_ = -1;  // the last node's offset from first_px_ (-1: no table)
     std::vector<double> value_deg_, slope_deg_per_px_;  // at first_px_ + k
   };
   Axis x_, y_;
