@@ -13,7 +13,9 @@ VisualAngle::Axis::Axis(int size_px, double mm_per_px, double distance_mm)
     : mm_per_px_(mm_per_px), distance_mm_(distance_mm), centre_px_(size_px / 2.0), first_px_(-static_cast<double>(size_px)) {
   // One screen's width beyond either edge: gaze further off is rare and is
   // still converted exactly.
-  if (size_px <= 0 || !(mm_per_px > 0) || !(distance_mm > 0)) return;
+  // No table for a screen no display has (a typing slip in a protocol): exact, and no giant table.
+  constexpr int kLargestTabulatedPx = 32768;
+  if (size_px <= 0 || size_px > kLargestTabulatedPx || !(mm_per_px > 0) || !(distance_mm > 0)) return;
   const std::size_t nodes = 3 * static_cast<std::size_t>(size_px) + 1;
   value_deg_.resize(nodes);
   slope_deg_per_px_.resize(nodes);

@@ -199,7 +199,7 @@ TEST(VisualAngle, EachAxisUsesItsOwnPixelSize) {
 // whole and fractional pixels, and beyond the table.
 TEST(VisualAngle, TabulatedConversionEqualsTheFormula) {
   for (const ScreenGeometry s : {ScreenGeometry{1920, 1080, 530.0, 300.0, 700.0}, ScreenGeometry{1024, 768, 380.0, 300.0, 670.0},
-                                 ScreenGeometry{1001, 333, 400.0, 100.0, 450.0}}) {
+                                 ScreenGeometry{1001, 333, 400.0, 100.0, 450.0}, ScreenGeometry{100000, 333, 40000.0, 100.0, 450.0}}) {
     const VisualAngle a(s);
     const double cx = s.width_px / 2.0, cy = s.height_px / 2.0;
     double worst = 0;
