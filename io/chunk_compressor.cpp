@@ -147,6 +147,44 @@ std::optional<std::vector<char>> isal_deflate_zlib(const char* input, std::size_
 
 }  // namespace
 
+namespace {
+template <std::size_t N>
+void unshuffle_fixed(const char* in, std::size_t n, char* out) {
+  for (std::size_t b = 0; b < N; ++b) {
+    const char* from = in + b * n;
+    for (std::size_t i = 0; i < n; ++i) out[i * N + b] = from[i];
+  }
+}
+}  // namespace
+
+bool inflate_and_unshuffle(const char* data, std::size_t bytes, char* out, std::size_t out_bytes, std::size_t element_size) {
+  thread_local std::unique_ptr<char[]> inflated;
+  thread_local std::size_t inflated_capacity = 0;
+  const bool shuffled = element_size > 1 && out_bytes / element_size > 1;
+  char* to = shuffled ? scratch(inflated, inflated_capacity, out_bytes) : out;
+  inflate_state s;
+  isal_inflate_init(&s);
+  s.crc_flag = ISAL_ZLIB;
+  s.next_in = reinterpret_cast<std::uint8_t*>(const_cast<char*>(data));
+  s.avail_in = static_cast<std::uint32_t>(bytes);
+  s.next_out = reinterpret_cast<std::uint8_t*>(to);
+  s.avail_out = static_cast<std::uint32_t>(out_bytes);
+  if (isal_inflate_stateless(&s) != ISAL_DECOMP_OK || s.total_out != out_bytes) return false;
+  if (!shuffled) return true;
+  const std::size_t n = out_bytes / element_size;
+  switch (element_size) {
+    case 8: unshuffle_fixed<8>(to, n, out); break;
+    case 4: unshuffle_fixed<4>(to, n, out); break;
+    default:
+      for (std::size_t b = 0; b < element_size; ++b) {
+        for (std::size_t i = 0; i < n; ++i) out[i * element_size + b] = to[b * n + i];
+      }
+  }
+  // Bytes beyond a whole number of elements were left unshuffled (see shuffle_and_deflate).
+  std::memcpy(out + n * element_size, to + n * element_size, out_bytes - n * element_size);
+  return true;
+}
+
 std::vector<char> shuffle_and_deflate(const char* data, std::size_t bytes, std::size_t element_size, int level) {
   thread_local std::unique_ptr<char[]> shuffled, packed;
   thread_local std::size_t shuffled_capacity = 0, packed_capacity = 0;

@@ -46,6 +46,10 @@ class CompressionPool {
 /// Shuffle, then deflate in the zlib format: what HDF5's H5Z_FILTER_SHUFFLE and
 /// H5Z_FILTER_DEFLATE read back (the bytes may differ from zlib's own output).
 std::vector<char> shuffle_and_deflate(const char* data, std::size_t bytes, std::size_t element_size, int level);
+/// Its inverse: inflates `bytes` of zlib data into exactly `out_bytes` at
+/// `out`, then unshuffles elements of `element_size` bytes (1: no shuffle).
+/// False when the data are damaged or inflate to another length.
+bool inflate_and_unshuffle(const char* data, std::size_t bytes, char* out, std::size_t out_bytes, std::size_t element_size);
 
 /// Compressed chunks waiting to be written, oldest first; bounded in number so
 /// memory stays flat however long the recording is.

@@ -1,7 +1,5 @@
 #include "io/compressed_samples.h"
 
-#include <isa-l/igzip_lib.h>
-
 #include <algorithm>
 #include <cstring>
 #include <stdexcept>
@@ -41,44 +39,16 @@ CompressedColumn compress_column(const std::string& name, ColumnType type, const
   return c;
 }
 
-namespace {
-
-template <std::size_t N>
-void unshuffle(const char* in, std::size_t n, char* out) {
-  for (std::size_t b = 0; b < N; ++b) {
-    const char* from = in + b * n;
-    for (std::size_t i = 0; i < n; ++i) out[i * N + b] = from[i];
-  }
-}
-
-}  // namespace
-
 void decode_chunk(const CompressedColumn& column, std::size_t k, std::vector<char>& out) {
   const std::size_t esize = element_size(column.type);
   const std::size_t whole = column.chunk_rows * esize;
-  thread_local std::vector<char> inflated;
-  inflated.resize(whole);
   const std::vector<char>& chunk = column.chunks.at(k);
-  inflate_state s;
-  isal_inflate_init(&s);
-  s.crc_flag = ISAL_ZLIB;
-  s.next_in = reinterpret_cast<std::uint8_t*>(const_cast<char*>(chunk.data()));
-  s.avail_in = static_cast<std::uint32_t>(chunk.size());
-  s.next_out = reinterpret_cast<std::uint8_t*>(inflated.data());
-  s.avail_out = static_cast<std::uint32_t>(whole);
-  if (isal_inflate_stateless(&s) != ISAL_DECOMP_OK || s.total_out != whole) {
+  out.resize(whole);
+  if (!inflate_and_unshuffle(chunk.data(), chunk.size(), out.data(), whole, esize)) {
     throw std::runtime_error("chunk " + std::to_string(k) + " of " + column.name + " is damaged");
   }
   const std::uint64_t first = static_cast<std::uint64_t>(k) * column.chunk_rows;
-  const std::size_t rows = static_cast<std::size_t>(std::min<std::uint64_t>(column.chunk_rows, column.rows - first));
-  out.resize(whole);
-  const std::size_t n = column.chunk_rows;
-  switch (esize) {
-    case 8: unshuffle<8>(inflated.data(), n, out.data()); break;
-    case 4: unshuffle<4>(inflated.data(), n, out.data()); break;
-    default: std::memcpy(out.data(), inflated.data(), whole);
-  }
-  out.resize(rows * esize);
+  out.resize(static_cast<std::size_t>(std::min<std::uint64_t>(column.chunk_rows, column.rows - first)) * esize);
 }
 
 std::vector<char> decode_column(const CompressedColumn& column) {
