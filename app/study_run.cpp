@@ -919,7 +919,7 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   };
   std::optional<RegionCatalogue> regions;
   if (p.regions.present()) regions = load_regions(p);
-  // The store is read on this thread (HDF5 is not thread-safe); the tables
+  // The store is read on this thread (the report may read it on another); the tables
   // are formatted on threads of their own and added in a fixed order.
   StudyRunReport again;  // before the tables: their threads may read its rows until they are joined
   std::vector<std::pair<std::string, std::future<std::string>>> tables;
