@@ -21,6 +21,7 @@
 #include "io/cleaning_io.h"
 #include "io/measures_io.h"
 #include "io/study_store.h"
+#include "io/write_lock.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
@@ -163,7 +164,9 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
     summary["samples_read"] = r.samples;
     summary["fixations_detected"] = r.fixations;
     summary["timing"] = timing;
-    write_file_atomically((fs::path(folder) / "run-summary.json").string(), summary.dump(2) + "\n");
+    const std::string summary_path = (fs::path(folder) / "run-summary.json").string();
+    remove_leftover_temporaries(summary_path);  // a killed run's
+    write_file_atomically(summary_path, summary.dump(2) + "\n");
   }
   spdlog::info("{}: {}", only ? to_string(*only) : "run", timing);
   return 0;

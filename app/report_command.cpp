@@ -8,6 +8,7 @@
 #include "app/report_data.h"
 #include "app/run_stats.h"
 #include "io/report_html.h"
+#include "io/write_lock.h"
 
 namespace gazemill {
 namespace fs = std::filesystem;
@@ -41,6 +42,8 @@ void write_report(const std::string& store_path, const std::string& html_path, s
   opt.measures_wide = lent.measures_wide;
   opt.measures_by_role = lent.measures_by_role;
   const ReportModel model = assemble_report(store_path, opt);
+  // A writer killed while writing this page left its temporary file: gone with the next page.
+  remove_leftover_temporaries(html_path);
   write_report_html(model, html_path);
   for (const auto& note : model.run.notes) spdlog::warn("report: {}", note);
 }
