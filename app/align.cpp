@@ -38,8 +38,29 @@ DriftText text_of(const RegionLayout& layout, const AlignmentSpec& spec) {
 
 }  // namespace
 
+namespace {
+
+// The same kept fixations, as drift correction sees them: ids, positions, durations.
+bool same_fixations(const CleanFixation* a, const CleanFixation* b, std::size_t n) {
+  for (std::size_t i = 0; i < n; ++i) {
+    if (a[i].id != b[i].id || a[i].fixation.x_px != b[i].fixation.x_px || a[i].fixation.y_px != b[i].fixation.y_px ||
+        a[i].duration_ms != b[i].duration_ms) {
+      return false;
+    }
+  }
+  return true;
+}
+
+bool trial_kept(const CleanedRecording& rec, const std::string& trial) {
+  const auto v = rec.trial_kept.find(trial);
+  return v == rec.trial_kept.end() || v->second;
+}
+
+}  // namespace
+
 std::vector<RecordingAlignment> align_study(const Protocol& protocol, const RegionCatalogue& regions,
-                                            const std::vector<CleanedRecording>& recordings, unsigned threads) {
+                                            const std::vector<CleanedRecording>& recordings, unsigned threads,
+                                            const PreviousAlignment* previous, std::size_t* trials_reused) {
   const AlignmentSpec& spec = protocol.alignment;
   // A person's decisions, checked against the study before any work.
   std::map<std::pair<std::string, std::string>, const TrialReview*> review_of;
@@ -74,15 +95,53 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
   // line (max_line_distance_px, default one line height), whatever the method.
   RegionSpec reach = protocol.regions;
   reach.off_line_nearest = true;
+  std::map<std::string, std::pair<const CleanedRecording*, const RecordingAlignment*>> before;
+  if (previous) {
+    for (const auto& c : previous->cleaned) before[c.meta.id].first = &c;
+    for (const auto& a : previous->alignment) before[a.recording].second = &a;
+  }
+  std::atomic<std::size_t> reused{0};
   auto align_recording = [&](const CleanedRecording& rec) {
     RecordingAlignment a;
     a.recording = rec.meta.id;
+    // The previous run's kept fixations of each trial, and its aligned trials, by trial id.
+    const auto was = before.find(rec.meta.id);
+    const CleanedRecording* old_rec = was == before.end() ? nullptr : was->second.first;
+    const RecordingAlignment* old_lines = was == before.end() ? nullptr : was->second.second;
+    std::map<std::string, std::pair<std::size_t, std::size_t>> old_range;
+    std::map<std::string, const AlignedTrial*> old_trial;
+    if (old_rec && old_lines) {
+      for (std::size_t i = 0; i < old_rec->kept.size();) {
+        std::size_t j = i;
+        while (j < old_rec->kept.size() && old_rec->kept[j].fixation.trial == old_rec->kept[i].fixation.trial) ++j;
+        old_range[old_rec->kept[i].fixation.trial] = {i, j};
+        i = j;
+      }
+      for (const auto& t : old_lines->trials) old_trial[t.trial] = &t;
+    }
+    // A trial kept before and now, with the same kept fixations: its lines as they were.
+    auto reuse = [&](const std::string& trial, std::size_t begin, std::size_t end) {
+      const auto t = old_trial.find(trial);
+      if (t == old_trial.end() || !trial_kept(*old_rec, trial)) return false;
+      const auto r = old_range.find(trial);
+      const std::size_t n = end - begin;
+      const std::size_t old_n = r == old_range.end() ? 0 : r->second.second - r->second.first;
+      if (n != old_n || (n > 0 && !same_fixations(&rec.kept[begin], &old_rec->kept[r->second.first], n))) return false;
+      for (std::size_t i = begin; i < end; ++i) {
+        if (!old_lines->fixations.count(rec.kept[i].id)) return false;
+      }
+      for (std::size_t i = begin; i < end; ++i) a.fixations[rec.kept[i].id] = old_lines->fixations.at(rec.kept[i].id);
+      a.trials.push_back(*t->second);
+      ++reused;
+      return true;
+    };
     std::size_t k = 0;
     for (const Trial& t : rec.meta.trials) {
       const std::size_t begin = k;
       while (k < rec.kept.size() && rec.kept[k].fixation.trial == t.id) ++k;
       const auto verdict = rec.trial_kept.find(t.id);
       if (verdict != rec.trial_kept.end() && !verdict->second) continue;
+      if (!old_trial.empty() && reuse(t.id, begin, k)) continue;
       const std::string& item = t.variable(protocol.design.item_variable);
       const RegionLayout* layout = regions.find(item, t.variables);
       if (!layout) {
@@ -160,6 +219,7 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
   for (std::size_t t = 1; t < workers; ++t) pool.emplace_back(worker);
   worker();
   for (auto& t : pool) t.join();
+  if (trials_reused) *trials_reused = reused;
   for (auto& e : errors) {
     if (e) std::rethrow_exception(e);
   }

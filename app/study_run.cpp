@@ -163,6 +163,7 @@ class StudyRun {
   std::vector<RecordingEvents> recording_events();
   bool events_taken_ = false;
   void run_study_stages(StudyStoreWriter& out);
+  std::optional<PreviousAlignment> previous_alignment() const;
   void remove_results(StudyStoreWriter& out, Stage stage);
   StageRecord record_for(Stage stage, const std::string& key, const std::string& upstream, const std::string& settings) const;
 
@@ -636,7 +637,9 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       report_.audit = cleaned_->report;
     } else if (s == Stage::align) {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
-      alignment_ = align_study(p_, *regions_, *cleaned_recordings_, o_.jobs);
+      const std::optional<PreviousAlignment> previous = previous_alignment();
+      alignment_ = align_study(p_, *regions_, *cleaned_recordings_, o_.jobs, previous ? &*previous : nullptr, &report_.aligned_trials_reused);
+      if (previous) spdlog::debug("align: {} trials kept their lines from the previous run", report_.aligned_trials_reused);
       write_alignment(out, *alignment_);
     } else {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
@@ -654,6 +657,20 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     report_.stages[s] = "ran";
     spdlog::debug("{} took {:.2f} s", to_string(s), std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count());
   }
+}
+
+// The old store's line assignments, when it holds them current and made
+// with this protocol's alignment settings and regions from its own current
+// cleaning (their key says so); nothing otherwise.
+std::optional<PreviousAlignment> StudyRun::previous_alignment() const {
+  if (!old_) return std::nullopt;
+  const auto a = old_records_.find(Stage::align), c = old_records_.find(Stage::clean);
+  if (a == old_records_.end() || c == old_records_.end()) return std::nullopt;
+  if (a->second.state != StageState::current || c->second.state != StageState::current) return std::nullopt;
+  if (a->second.upstream_key != c->second.key || a->second.key != make_key("align", {c->second.key, align_settings_, regions_settings_})) {
+    return std::nullopt;
+  }
+  return PreviousAlignment{cleaned_recordings(*old_), read_alignment(*old_)};
 }
 
 // Names the cleaning rules give to regions (a role, a number) must exist in

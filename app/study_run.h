@@ -69,6 +69,7 @@ struct StudyRunReport {
   std::vector<MeasureRow> rows;      // when measure ran
   std::shared_ptr<const AggregateTable> by_item_region, by_role, by_participant;  // ... and their aggregates
   PlacementCounts placement;         // where measure placed the kept fixations
+  std::size_t aligned_trials_reused = 0;  // trials whose kept fixations and lines were as in the previous run
   bool store_written = false;
   std::string store_path;            // the study store the run wrote or read
   // What the run read or made and the store now holds, lent to the tables and

@@ -124,6 +124,14 @@ TEST(StudyRun, ChangingOneCleaningRuleRedoesCleaningOnward) {
   EXPECT_EQ(r.stages.at(Stage::align), "ran");
   EXPECT_EQ(r.stages.at(Stage::measure), "ran");
   EXPECT_EQ(r.recordings_read, 0u);
+  // Drift correction is trial by trial: trials whose kept fixations the new
+  // threshold left alone keep their lines, the others are aligned again.
+  std::size_t trials = 0;
+  for (const auto& id : StudyStoreReader(d.file("out/s.gzm.h5")).recording_ids()) {
+    trials += StudyStoreReader(d.file("out/s.gzm.h5")).read_recording(id, false).trials.size();
+  }
+  EXPECT_GT(r.aligned_trials_reused, 0u);
+  EXPECT_LT(r.aligned_trials_reused, trials);
   // The result equals a fresh run of the changed protocol.
   TempDir e;
   const std::string fresh = study(e, "");
@@ -133,7 +141,39 @@ TEST(StudyRun, ChangingOneCleaningRuleRedoesCleaningOnward) {
     if (x.path.rfind("provenance/inputs/", 0) == 0) continue;  // the two studies' files have their own paths and times
     ADD_FAILURE() << x.path << ": " << x.what;
   }
-  EXPECT_EQ(read_text(d.file("out/tables/measures_wide.tsv")), read_text(e.file("out/tables/measures_wide.tsv")));
+  for (const char* t : {"measures_wide.tsv", "alignment_trials.tsv", "fixations.tsv", "measures.tsv"}) {
+    EXPECT_EQ(read_text(d.file(std::string("out/tables/") + t)), read_text(e.file(std::string("out/tables/") + t))) << t;
+  }
+}
+
+// A merge rule moves fixations: where a merged fixation now sits elsewhere
+// (the same fixations merged, placed at the duration-weighted mean instead of
+// the longer one's position), its trial is aligned again, not given its old
+// lines; the result equals a fresh run of the changed protocol (the stage
+// model, no source).
+TEST(StudyRun, ChangingAMergeRuleAlignsTheMovedFixationsAgain) {
+  const std::string merge = "\n[[cleaning]]\nname = \"merge\"\nkind = \"merge_short_fixations\"\nmax_duration_ms = 80\n"
+                            "max_distance_deg = 1.5\nposition = \"longer\"\nmax_gap_ms = 50\n";
+  TempDir d;
+  const std::string proto = study(d, merge);
+  run(proto, d.file("out"));
+  std::string text = read_text(proto);
+  text.replace(text.find("position = \"longer\""), 19, "position = \"weighted\"");
+  std::ofstream(proto) << text;
+  const auto r = run(proto, d.file("out"));
+  EXPECT_EQ(r.stages.at(Stage::align), "ran");
+  EXPECT_GT(r.aligned_trials_reused, 0u);
+  TempDir e;
+  const std::string fresh = study(e, "");
+  std::ofstream(fresh, std::ios::app) << text.substr(text.find("[[cleaning]]") - 1);
+  run(fresh, e.file("out"));
+  for (const auto& x : compare_store_datasets(d.file("out/s.gzm.h5"), e.file("out/s.gzm.h5"))) {
+    if (x.path.rfind("provenance/inputs/", 0) == 0) continue;  // the two studies' files have their own paths and times
+    ADD_FAILURE() << x.path << ": " << x.what;
+  }
+  for (const char* t : {"alignment_trials.tsv", "fixations.tsv", "measures.tsv"}) {
+    EXPECT_EQ(read_text(d.file(std::string("out/tables/") + t)), read_text(e.file(std::string("out/tables/") + t))) << t;
+  }
 }
 
 TEST(StudyRun, OneChangedInputIsReadAgainAndANewOneAdded) {
