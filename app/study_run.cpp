@@ -670,7 +670,17 @@ std::optional<PreviousAlignment> StudyRun::previous_alignment() const {
   if (a->second.upstream_key != c->second.key || a->second.key != make_key("align", {c->second.key, align_settings_, regions_settings_})) {
     return std::nullopt;
   }
-  return PreviousAlignment{cleaned_recordings(*old_), read_alignment(*old_)};
+  // Only what the comparison needs: each recording's kept fixations and trial verdicts.
+  PreviousAlignment previous;
+  for (const auto& id : old_->recording_ids()) {
+    CleanedRecording c;
+    c.meta.id = id;
+    c.kept = read_clean_fixations(*old_, id);
+    c.trial_kept = read_clean_trial_verdicts(*old_, id);
+    previous.cleaned.push_back(std::move(c));
+  }
+  previous.alignment = read_alignment(*old_);
+  return previous;
 }
 
 // Names the cleaning rules give to regions (a role, a number) must exist in
