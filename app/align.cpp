@@ -5,14 +5,13 @@
 #include <algorithm>
 #include <atomic>
 #include <cmath>
-#include <exception>
 #include <filesystem>
 #include <limits>
 #include <map>
 #include <set>
-#include <thread>
 
 #include "alignment/drift_registry.h"
+#include "app/parallel_recordings.h"
 #include "io/review_file.h"
 #include "io/trial_drawing.h"
 #include "measures/region_mapper.h"
@@ -203,26 +202,8 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
   // Recordings are independent and the correctors pure: one per thread, the
   // results in study order, the first recording's error (in that order) thrown.
   std::vector<RecordingAlignment> out(recordings.size());
-  std::vector<std::exception_ptr> errors(recordings.size());
-  std::atomic<std::size_t> next{0};
-  auto worker = [&] {
-    for (std::size_t k; (k = next++) < recordings.size();) {
-      try {
-        out[k] = align_recording(recordings[k]);
-      } catch (...) {
-        errors[k] = std::current_exception();
-      }
-    }
-  };
-  const std::size_t workers = std::min<std::size_t>(std::max(1u, threads ? threads : std::thread::hardware_concurrency()), recordings.size());
-  std::vector<std::thread> pool;
-  for (std::size_t t = 1; t < workers; ++t) pool.emplace_back(worker);
-  worker();
-  for (auto& t : pool) t.join();
+  for_each_recording(recordings.size(), threads, [&](std::size_t k) { out[k] = align_recording(recordings[k]); });
   if (trials_reused) *trials_reused = reused;
-  for (auto& e : errors) {
-    if (e) std::rethrow_exception(e);
-  }
   return out;
 }
 

@@ -1,11 +1,9 @@
 #include "app/measure.h"
 
 #include <algorithm>
-#include <atomic>
-#include <exception>
 #include <map>
-#include <thread>
 
+#include "app/parallel_recordings.h"
 #include "measures/reading_measures.h"
 #include "measures/region_mapper.h"
 #include "pipeline/design.h"
@@ -122,25 +120,9 @@ std::vector<MeasureRow> measure_rows(const std::vector<CleanedRecording>& record
   // A recording per thread, joined in recording order: the same rows for any number of threads.
   std::vector<std::vector<MeasureRow>> rows(recordings.size());
   std::vector<PlacementCounts> placed(recordings.size());
-  std::vector<std::exception_ptr> errors(recordings.size());
-  std::atomic<std::size_t> next{0};
-  auto worker = [&] {
-    for (std::size_t k; (k = next++) < recordings.size();) {
-      try {
-        measure_recording(recordings[k], aligned, regions, spec, design, rows[k], placement ? &placed[k] : nullptr);
-      } catch (...) {
-        errors[k] = std::current_exception();
-      }
-    }
-  };
-  const std::size_t workers = std::min<std::size_t>(std::max(1u, threads ? threads : std::thread::hardware_concurrency()), recordings.size());
-  std::vector<std::thread> pool;
-  for (std::size_t t = 1; t < workers; ++t) pool.emplace_back(worker);
-  worker();
-  for (auto& t : pool) t.join();
-  for (auto& e : errors) {
-    if (e) std::rethrow_exception(e);
-  }
+  for_each_recording(recordings.size(), threads, [&](std::size_t k) {
+    measure_recording(recordings[k], aligned, regions, spec, design, rows[k], placement ? &placed[k] : nullptr);
+  });
   std::size_t total = 0;
   for (const auto& r : rows) total += r.size();
   std::vector<MeasureRow> out;

@@ -59,6 +59,22 @@ std::string read_text(const std::string& path) {
   return s.str();
 }
 
+// The run in d/out (made by changing a study's protocol to `text`) holds the
+// same datasets and writes the same tables as a fresh run of `text`.
+void expect_equals_fresh_run(const TempDir& d, const std::string& text) {
+  TempDir e;
+  const std::string fresh = study(e, "");
+  std::ofstream(fresh, std::ios::app) << text.substr(text.find("[[cleaning]]") - 1);
+  run(fresh, e.file("out"));
+  for (const auto& x : compare_store_datasets(d.file("out/s.gzm.h5"), e.file("out/s.gzm.h5"))) {
+    if (x.path.rfind("provenance/inputs/", 0) == 0) continue;  // the two studies' files have their own paths and times
+    ADD_FAILURE() << x.path << ": " << x.what;
+  }
+  for (const char* t : {"measures_wide.tsv", "alignment_trials.tsv", "fixations.tsv", "measures.tsv"}) {
+    EXPECT_EQ(read_text(d.file(std::string("out/tables/") + t)), read_text(e.file(std::string("out/tables/") + t))) << t;
+  }
+}
+
 }  // namespace
 
 // The defect this model exists for: after detect ran again with another
@@ -133,17 +149,7 @@ TEST(StudyRun, ChangingOneCleaningRuleRedoesCleaningOnward) {
   EXPECT_GT(r.aligned_trials_reused, 0u);
   EXPECT_LT(r.aligned_trials_reused, trials);
   // The result equals a fresh run of the changed protocol.
-  TempDir e;
-  const std::string fresh = study(e, "");
-  std::ofstream(fresh, std::ios::app) << text.substr(text.find("[[cleaning]]") - 1);
-  run(fresh, e.file("out"));
-  for (const auto& x : compare_store_datasets(d.file("out/s.gzm.h5"), e.file("out/s.gzm.h5"))) {
-    if (x.path.rfind("provenance/inputs/", 0) == 0) continue;  // the two studies' files have their own paths and times
-    ADD_FAILURE() << x.path << ": " << x.what;
-  }
-  for (const char* t : {"measures_wide.tsv", "alignment_trials.tsv", "fixations.tsv", "measures.tsv"}) {
-    EXPECT_EQ(read_text(d.file(std::string("out/tables/") + t)), read_text(e.file(std::string("out/tables/") + t))) << t;
-  }
+  expect_equals_fresh_run(d, text);
 }
 
 // A merge rule moves fixations: where a merged fixation now sits elsewhere
@@ -163,17 +169,7 @@ TEST(StudyRun, ChangingAMergeRuleAlignsTheMovedFixationsAgain) {
   const auto r = run(proto, d.file("out"));
   EXPECT_EQ(r.stages.at(Stage::align), "ran");
   EXPECT_GT(r.aligned_trials_reused, 0u);
-  TempDir e;
-  const std::string fresh = study(e, "");
-  std::ofstream(fresh, std::ios::app) << text.substr(text.find("[[cleaning]]") - 1);
-  run(fresh, e.file("out"));
-  for (const auto& x : compare_store_datasets(d.file("out/s.gzm.h5"), e.file("out/s.gzm.h5"))) {
-    if (x.path.rfind("provenance/inputs/", 0) == 0) continue;  // the two studies' files have their own paths and times
-    ADD_FAILURE() << x.path << ": " << x.what;
-  }
-  for (const char* t : {"alignment_trials.tsv", "fixations.tsv", "measures.tsv"}) {
-    EXPECT_EQ(read_text(d.file(std::string("out/tables/") + t)), read_text(e.file(std::string("out/tables/") + t))) << t;
-  }
+  expect_equals_fresh_run(d, text);
 }
 
 TEST(StudyRun, OneChangedInputIsReadAgainAndANewOneAdded) {
