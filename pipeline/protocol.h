@@ -193,8 +193,10 @@ struct DetectionSpec {
   double interpolate_max_ms = 0.0;             // fill gaps up to this long before detection; 0 = never
   double blink_min_ms = 70.0;                  // blinks hide the pupil for 100-400 ms (common practice, no source)
   double blink_max_ms = 500.0;
+  // The lid artefacts join a blink as far as the gaze moves faster than in a
+  // fixation, no further than these (event_detector.h, BlinkParams).
   double blink_padding_before_ms = 50.0;
-  double blink_padding_after_ms = 50.0;
+  double blink_padding_after_ms = 100.0;
   double min_fixation_ms = 40.0;
   double min_saccade_ms = 10.0;
   double max_velocity_deg_s = 1000.0;

@@ -433,6 +433,32 @@ TEST(BlinkRule, PaddingBeforeAndAfterAreTheirOwn) {
   }
 }
 
+// The default paddings are limits, and the one after a blink is the longer
+// (event_detector.h, BlinkParams: the lid opens more slowly than it closes,
+// Evinger, Manning & Sibony 1991, from memory). At 1000 Hz the gaze sweeps
+// down for 60 ms before a 100 ms gap and comes back at 150 deg/s for 80 ms
+// after it, then rests. Before the gap the 50 ms limit stops the blink (the
+// sample 50 ms before the first lost one is in, 51 ms is not); after it the
+// whole 80 ms return is in (with 50 ms it was cut at sample 449), and the
+// speed, not the 100 ms limit, ends the blink: the samples 95-99 ms after
+// the gap are at rest and stay out. Worked from the trace by hand.
+TEST(BlinkRule, DefaultPaddingAfterTakesInTheSlowerReturn) {
+  for (bool pupil : {true, false}) {
+    std::vector<double> y(700, 0.0);
+    for (std::size_t i = 240; i < 300; ++i) y[i] = 0.2 * static_cast<double>(i - 239);
+    for (std::size_t i = 300; i < 400; ++i) y[i] = 12.0;
+    for (std::size_t i = 400; i < 480; ++i) y[i] = 0.15 * static_cast<double>(480 - i);
+    GazeTrace g = trace_of(std::vector<double>(700, 0.0), y, 1000, pupil);
+    lose(g, 300, 400);
+    const std::vector<SampleLabel> labels = label_missing(g, BlinkParams{});
+    EXPECT_EQ(labels[250], SampleLabel::blink) << "50 ms before, pupil " << pupil;
+    EXPECT_EQ(labels[249], SampleLabel::other) << "51 ms before, pupil " << pupil;
+    EXPECT_EQ(labels[450], SampleLabel::blink) << "51 ms after, pupil " << pupil;
+    EXPECT_EQ(labels[479], SampleLabel::blink) << "the return's last sample, pupil " << pupil;
+    for (std::size_t i = 495; i < 500; ++i) EXPECT_EQ(labels[i], SampleLabel::other) << i << ", pupil " << pupil;
+  }
+}
+
 // A saccade's direction, as pipeline/events.h defines it: 0 deg rightwards,
 // 90 deg downwards on the screen (y grows downwards), i.e. atan2(dy, dx) of
 // its first and last samples (common practice, no source). Worked by hand:
