@@ -144,7 +144,8 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
       if (made.rows) wide = measures_wide_table(*made.rows, protocol.design);
       if (made.by_role) by_role = aggregate_table(*made.by_role, protocol.design.factors);
       report_path = refresh_report(opt.store_path, folder, made.store_written,
-                                   {made.events.get(), wide ? &*wide : nullptr, by_role ? &*by_role : nullptr});
+                                   {made.events.get(), wide ? &*wide : nullptr, by_role ? &*by_role : nullptr, made.alignment.get(),
+                                    made.cleaned.get(), made.cleaning_rows.get(), made.audit});
     };
   }
   const StudyRunReport r = run_study(protocol, opt);

@@ -41,6 +41,10 @@ void write_report(const std::string& store_path, const std::string& html_path, s
   opt.events = lent.events;
   opt.measures_wide = lent.measures_wide;
   opt.measures_by_role = lent.measures_by_role;
+  opt.alignment = lent.alignment;
+  opt.cleaned = lent.cleaned;
+  opt.cleaning_rows = lent.cleaning_rows;
+  opt.audit = lent.audit;
   const ReportModel model = assemble_report(store_path, opt);
   // A writer killed while writing this page left its temporary file: gone with the next page.
   remove_leftover_temporaries(html_path);

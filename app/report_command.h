@@ -4,11 +4,13 @@
 // assignment, measures, and a trial viewer), written from its store.
 
 #include <CLI/CLI.hpp>
+#include <map>
 #include <string>
 #include <vector>
 
 #include "io/report_store.h"
 #include "pipeline/cleaning_state.h"
+#include "pipeline/line_assignment.h"
 
 namespace gazemill {
 
@@ -29,6 +31,10 @@ struct LentToReport {
   const std::vector<RecordingEvents>* events = nullptr;
   const StoredTable* measures_wide = nullptr;
   const StoredTable* measures_by_role = nullptr;
+  const std::vector<RecordingAlignment>* alignment = nullptr;
+  const std::vector<CleanedRecording>* cleaned = nullptr;
+  const std::map<std::string, RecordingCleaningRows>* cleaning_rows = nullptr;
+  const AuditReport* audit = nullptr;
 };
 
 /// The report of the store at `store_path`, written to `html_path` (through a

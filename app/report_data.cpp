@@ -158,6 +158,9 @@ class Assembler {
     if (o.events) {
       for (const auto& r : *o.events) known_.emplace(r.meta.id, &r);
     }
+    if (o.cleaned) {
+      for (const auto& r : *o.cleaned) cleaned_.emplace(r.meta.id, &r);
+    }
   }
 
   ReportModel run() {
@@ -166,15 +169,20 @@ class Assembler {
     const bool have_clean = store_.exists("audit");
     if (have_clean) cleaning();
     std::vector<RecordingAlignment> alignment;
+    const std::vector<RecordingAlignment>* lines = &alignment;
     if (store_.exists("recordings") && !ids_.empty() && stage_ran(Stage::align)) {
-      try {
-        alignment = read_alignment(store_);
-      } catch (const InputError& e) {
-        m_.run.notes.push_back(std::string("line assignments not shown: ") + e.what());
+      if (o_.alignment) {
+        lines = o_.alignment;
+      } else {
+        try {
+          alignment = read_alignment(store_);
+        } catch (const InputError& e) {
+          m_.run.notes.push_back(std::string("line assignments not shown: ") + e.what());
+        }
       }
     }
-    for (const auto& a : alignment) aligned_[a.recording] = a;
-    m_.drift.present = !alignment.empty();
+    for (const auto& a : *lines) aligned_[a.recording] = &a;
+    m_.drift.present = !lines->empty();
     recordings(have_clean);
     finish_participants();
     if (m_.drift.present) drift();
@@ -244,7 +252,7 @@ class Assembler {
   void cleaning() {
     AuditReport a;
     try {
-      a = read_audit(store_);
+      a = o_.audit ? *o_.audit : read_audit(store_);
     } catch (const InputError& e) {
       m_.run.notes.push_back(std::string("the cleaning audit could not be read: ") + e.what());
       return;
@@ -322,11 +330,18 @@ class Assembler {
   struct RecordingWork {
     Recording rec;  // metadata; samples decoded on the worker when needed, released after
     std::vector<CompressedColumn> sample_chunks;
-    std::optional<DetectedEvents> ev;
-    std::vector<CleanFixation> kept;
-    std::vector<RemovedFixationRow> removed;
-    std::vector<TrialVerdictRow> verdicts;
+    std::optional<DetectedEvents> read_ev;  // read from the store, or
+    const DetectedEvents* lent_ev = nullptr;  // ... lent by the run
+    const DetectedEvents* ev() const { return lent_ev ? lent_ev : read_ev ? &*read_ev : nullptr; }
+    std::vector<CleanFixation> read_kept;
+    std::vector<RemovedFixationRow> read_removed;
+    std::vector<TrialVerdictRow> read_verdicts;
+    const CleanedRecording* lent_kept = nullptr;  // the run's, when it lent them
+    const RecordingCleaningRows* lent_rows = nullptr;
     bool cleaned = false;
+    const std::vector<CleanFixation>& kept() const { return lent_kept ? lent_kept->kept : read_kept; }
+    const std::vector<RemovedFixationRow>& removed() const { return lent_rows ? lent_rows->removed : read_removed; }
+    const std::vector<TrialVerdictRow>& verdicts() const { return lent_rows ? lent_rows->verdicts : read_verdicts; }
     std::optional<SampleDigest> digest;
   };
 
@@ -334,7 +349,7 @@ class Assembler {
     if (w.digest) return;
     w.rec.samples = decode_samples(w.rec.samples.has_left, w.rec.samples.has_right, std::move(w.sample_chunks));
     w.sample_chunks.clear();
-    w.digest = digest_recording(w.rec, w.ev ? &*w.ev : nullptr, {eye_choice_.value_or(EyeChoice::best), o_.max_points_per_trial});
+    w.digest = digest_recording(w.rec, w.ev(), {eye_choice_.value_or(EyeChoice::best), o_.max_points_per_trial});
     w.rec.samples = SampleColumns{};
   }
 
@@ -355,12 +370,12 @@ class Assembler {
         const auto known = known_.find(id);
         if (known != known_.end()) {
           w.rec = known->second->meta;
-          w.ev = known->second->events;
+          w.lent_ev = &known->second->events;
         } else {
           w.rec = store_.read_recording(id, false);
-          if (store_.has_events(id)) w.ev = store_.read_events(id);
+          if (store_.has_events(id)) w.read_ev = store_.read_events(id);
         }
-        if (w.ev) {
+        if (w.ev()) {
           w.digest = read_sample_digest(store_, id);
           // Made for another number of points, or not one time course per trial (a damaged store): from the samples.
           if (w.digest && (w.digest->max_points_per_trial != o_.max_points_per_trial || w.digest->time_courses.size() != w.rec.trials.size())) {
@@ -373,9 +388,19 @@ class Assembler {
         }
         w.cleaned = have_clean && store_.exists("recordings/" + id + "/clean");
         if (w.cleaned) {
-          w.kept = read_clean_fixations(store_, id);
-          w.removed = read_removed_fixation_rows(store_, id);
-          w.verdicts = read_trial_verdicts(store_, id);
+          const auto kept = cleaned_.find(id);
+          const RecordingCleaningRows* rows = nullptr;
+          if (o_.cleaning_rows) {
+            if (const auto r = o_.cleaning_rows->find(id); r != o_.cleaning_rows->end()) rows = &r->second;
+          }
+          if (kept != cleaned_.end() && rows) {
+            w.lent_kept = kept->second;
+            w.lent_rows = rows;
+          } else {
+            w.read_kept = read_clean_fixations(store_, id);
+            w.read_removed = read_removed_fixation_rows(store_, id);
+            w.read_verdicts = read_trial_verdicts(store_, id);
+          }
         }
       }
       std::atomic<std::size_t> next{0};
@@ -420,12 +445,12 @@ class Assembler {
           acc.quality.repair_kinds[rp.kind] += rp.count;
         }
         add_quality(rec, *w.digest, acc);
-        if (w.ev) {
+        if (w.ev()) {
           events_seen = true;
-          gather_events(rec, *w.ev, acc);
+          gather_events(rec, *w.ev(), acc);
         }
-        for (const auto& f : w.kept) gathered_.kept_fixation_ms.push_back(f.duration_ms);
-        v.recordings.push_back(viewer_recording(rec, w.ev ? &*w.ev : nullptr, w.cleaned, w.kept, w.removed, w.verdicts, w.digest->time_courses));
+        for (const auto& f : w.kept()) gathered_.kept_fixation_ms.push_back(f.duration_ms);
+        v.recordings.push_back(viewer_recording(rec, w.ev(), w.cleaned, w.kept(), w.removed(), w.verdicts(), w.digest->time_courses));
       }
     }
     m_.run.participants = participants.size();
@@ -472,7 +497,7 @@ class Assembler {
     for (const auto& v : verdicts) by_trial[v.trial].verdict = &v;
     const RecordingAlignment* al = nullptr;
     if (const auto a = aligned_.find(rec.id); a != aligned_.end()) {
-      al = &a->second;
+      al = a->second;
       for (const auto& t : al->trials) by_trial[t.trial].aligned = &t;
     }
     for (std::size_t ti = 0; ti < rec.trials.size(); ++ti) {
@@ -782,7 +807,8 @@ class Assembler {
   std::map<std::pair<std::string, std::vector<std::string>>, LaidOutItem> item_texts_;
   std::map<std::pair<std::string, std::vector<std::string>>, int> layout_index_;
   std::map<std::string, int> viewer_rules_;
-  std::map<std::string, RecordingAlignment> aligned_;
+  std::map<std::string, const RecordingAlignment*> aligned_;  // into the lent or read alignment, alive for run()
+  std::map<std::string, const CleanedRecording*> cleaned_;    // lent by a run, by recording id
   std::vector<AlignedTrialRow> drift_rows_;
   Gathered gathered_;
 };

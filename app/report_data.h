@@ -6,10 +6,12 @@
 // made yet is left out and named in ReportRun::notes.
 
 #include <cstddef>
+#include <map>
 #include <string>
 #include <vector>
 
 #include "io/report_store.h"
+#include "pipeline/line_assignment.h"
 #include "pipeline/cleaning_state.h"
 #include "pipeline/report_model.h"
 #include "pipeline/sample_digest.h"
@@ -29,6 +31,13 @@ struct ReportDataOptions {
   /// /measures/by_role, lent by a run that made them; null: read from the store.
   const StoredTable* measures_wide = nullptr;
   const StoredTable* measures_by_role = nullptr;
+  /// Likewise the line assignments, the kept fixations and trial verdicts,
+  /// the removed fixations with their rules, and the audit, as a run that
+  /// made or read them holds them (the store's own); null: read from the store.
+  const std::vector<RecordingAlignment>* alignment = nullptr;
+  const std::vector<CleanedRecording>* cleaned = nullptr;
+  const std::map<std::string, RecordingCleaningRows>* cleaning_rows = nullptr;
+  const AuditReport* audit = nullptr;
   /// A participant stands apart in detection when a figure's |robust z| is
   /// above outlier_z and the figure is also more than outlier_relative (a
   /// fraction) from the participants' median (our rule, no source).

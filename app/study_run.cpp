@@ -885,15 +885,18 @@ StudyRunReport StudyRun::execute() {
     if (!events_.empty()) report_.events = std::make_shared<const std::vector<RecordingEvents>>(std::move(events_));
     if (alignment_) report_.alignment = std::make_shared<const std::vector<RecordingAlignment>>(std::move(*alignment_));
     if (cleaned_recordings_) report_.cleaned = std::make_shared<const std::vector<CleanedRecording>>(std::move(*cleaned_recordings_));
-    if (cleaned_) report_.removed = std::make_shared<const std::map<std::string, std::vector<RemovedFixation>>>(removed_fixations(*cleaned_));
+    if (cleaned_) {
+      report_.removed = std::make_shared<const std::map<std::string, std::vector<RemovedFixation>>>(removed_fixations(*cleaned_));
+      report_.cleaning_rows = std::make_shared<const std::map<std::string, RecordingCleaningRows>>(cleaning_rows(*cleaned_));
+    }
   }
   // The report beside the tables: each reads the store on a thread of its own.
   std::future<void> beside;
   const bool in_parallel = o_.jobs != 1 && h5::library_serialises_threads();
   // The rows only when measure made them: the tables would fill them in otherwise, beside this thread.
   const bool measured = ran_[Stage::measure] && !report_.rows.empty();
-  const RunResults made{report_.store_written, report_.events, measured ? &report_.rows : nullptr,
-                        measured ? report_.by_role : nullptr};
+  const RunResults made{report_.store_written, report_.events, measured ? &report_.rows : nullptr, measured ? report_.by_role : nullptr,
+                        report_.alignment, report_.cleaned, report_.cleaning_rows, report_.audit ? &*report_.audit : nullptr};
   auto run_beside = [this, made, since] {
     h5::quiet_this_thread();
     try {
@@ -950,6 +953,7 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   // are formatted on threads of their own and added in a fixed order.
   StudyRunReport again;  // before the tables: their threads may read its rows until they are joined
   std::vector<std::pair<std::string, std::future<std::string>>> tables;
+  std::set<std::string> written_in_pieces;  // by their own threads: their futures hold no text
   const auto policy = jobs == 1 ? std::launch::deferred : std::launch::async;  // -j1: formatted in turn on this thread
   auto format = [&tables, policy](std::string name, auto make) { tables.emplace_back(std::move(name), std::async(policy, std::move(make))); };
   std::shared_ptr<const EventTables> events;
@@ -986,7 +990,12 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
       r.rows = measure_rows(cleaned_recordings(store), read_alignment(store), *regions, p.regions, p.design, &r.placement);
     }
     const auto& rows = r.rows;
-    format("measures.tsv", [&rows, &p] { return measures_long_tsv(rows, p.design); });
+    // The largest table goes to its file a piece at a time, from its own thread.
+    format("measures.tsv", [&rows, &p, &set] {
+      set.write_in_pieces("measures.tsv", [&](const TextPieces& pieces) { measures_long_tsv(rows, p.design, pieces); });
+      return std::string();
+    });
+    written_in_pieces.insert("measures.tsv");
     format("measures_wide.tsv", [&rows, &p] { return measures_wide_tsv(rows, p.design); });
     // The run's own aggregates where it made them, else made here from the rows.
     auto aggregates = [&rows, &p](std::shared_ptr<const AggregateTable> made, AggregateTable (*make)(const std::vector<MeasureRow>&)) {
@@ -1001,7 +1010,12 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   std::size_t next = 0;
   auto add_until = [&](const char* last) {
     for (; next < tables.size(); ++next) {
-      set.add(tables[next].first, tables[next].second.get());
+      std::string text = tables[next].second.get();
+      if (written_in_pieces.count(tables[next].first)) {
+        set.added(tables[next].first);
+      } else {
+        set.add(tables[next].first, text);
+      }
       if (tables[next].first == last) {
         ++next;
         return;

@@ -22,6 +22,7 @@
 #include <vector>
 
 #include "io/cleaning_io.h"
+#include "io/report_store.h"
 #include "pipeline/audit.h"
 #include "pipeline/cleaning_state.h"
 #include "pipeline/line_assignment.h"
@@ -37,6 +38,11 @@ struct RunResults {
   std::shared_ptr<const std::vector<RecordingEvents>> events;
   const std::vector<MeasureRow>* rows = nullptr;  // when measure ran in this run
   std::shared_ptr<const AggregateTable> by_role;  // likewise
+  // What the store holds and the run holds too (null where it does not): see StudyRunReport.
+  std::shared_ptr<const std::vector<RecordingAlignment>> alignment;
+  std::shared_ptr<const std::vector<CleanedRecording>> cleaned;
+  std::shared_ptr<const std::map<std::string, RecordingCleaningRows>> cleaning_rows;
+  const AuditReport* audit = nullptr;  // when clean ran
 };
 
 struct StudyRunOptions {
@@ -78,6 +84,7 @@ struct StudyRunReport {
   std::shared_ptr<const std::vector<RecordingAlignment>> alignment;
   std::shared_ptr<const std::vector<CleanedRecording>> cleaned;                          // kept fixations, trial verdicts
   std::shared_ptr<const std::map<std::string, std::vector<RemovedFixation>>> removed;  // when clean ran
+  std::shared_ptr<const std::map<std::string, RecordingCleaningRows>> cleaning_rows;   // likewise, as the report reads them
   std::exception_ptr beside_tables_error;  // what StudyRunOptions::beside_tables threw, if anything
   std::vector<std::string> tables;   // written this run
   std::string tables_folder;

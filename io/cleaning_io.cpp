@@ -10,6 +10,7 @@
 #include <nlohmann/json.hpp>
 
 #include "io/hdf5_util.h"
+#include "io/report_store.h"
 #include "pipeline/design.h"
 #include "pipeline/input_error.h"
 
@@ -78,6 +79,8 @@ void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& out) {
   for (const auto& p : out.state.participants) {
     for (const auto& t : p.trials) by_recording[t.recording].push_back(&t);
   }
+  // Removed fixations and verdicts as the report is lent them (one source for both).
+  const std::map<std::string, RecordingCleaningRows> rows = cleaning_rows(out);
   for (const auto& [rec, trials] : by_recording) {
     H5::Group g = store.group("recordings/" + rec + "/clean");
     std::vector<std::uint32_t> in_id, rm_id;
@@ -88,39 +91,34 @@ void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& out) {
     std::vector<std::uint8_t> t_kept;
     for (const CleanTrial* t : trials) {
       for (const auto& f : t->fixations) {
-        if (f.kept) {
-          in_id.push_back(f.id);
-          in_trial.push_back(t->trial);
-          in_start.push_back(f.fixation.start_us);
-          in_end.push_back(f.fixation.end_us);
-          in_dur.push_back(f.duration_ms);
-          in_x.push_back(f.fixation.x_px);
-          in_y.push_back(f.fixation.y_px);
-          in_xd.push_back(f.fixation.x_deg);
-          in_yd.push_back(f.fixation.y_deg);
-          in_merged.push_back(f.merged_count);
-        } else {
-          const auto& why = out.fixation_removals.at(f.id);
-          rm_id.push_back(f.id);
-          rm_trial.push_back(t->trial);
-          rm_start.push_back(f.fixation.start_us);
-          rm_end.push_back(f.fixation.end_us);
-          rm_dur.push_back(f.duration_ms);
-          rm_rule.push_back(out.report.rules[why.first]);
-          rm_reason.push_back(why.second);
-          rm_into.push_back(f.merged_away ? static_cast<std::int64_t>(f.merged_into) : -1);
-        }
+        if (!f.kept) continue;
+        in_id.push_back(f.id);
+        in_trial.push_back(t->trial);
+        in_start.push_back(f.fixation.start_us);
+        in_end.push_back(f.fixation.end_us);
+        in_dur.push_back(f.duration_ms);
+        in_x.push_back(f.fixation.x_px);
+        in_y.push_back(f.fixation.y_px);
+        in_xd.push_back(f.fixation.x_deg);
+        in_yd.push_back(f.fixation.y_deg);
+        in_merged.push_back(f.merged_count);
       }
-      t_trial.push_back(t->trial);
-      t_kept.push_back(t->kept);
-      if (t->kept) {
-        t_rule.emplace_back();
-        t_reason.emplace_back();
-      } else {
-        const auto& why = out.trial_removals.at(t->id);
-        t_rule.push_back(out.report.rules[why.first]);
-        t_reason.push_back(why.second);
-      }
+    }
+    for (const RemovedFixationRow& r : rows.at(rec).removed) {
+      rm_id.push_back(r.input_id);
+      rm_trial.push_back(r.trial);
+      rm_start.push_back(r.start_us);
+      rm_end.push_back(r.end_us);
+      rm_dur.push_back(r.duration_ms);
+      rm_rule.push_back(r.rule);
+      rm_reason.push_back(r.reason);
+      rm_into.push_back(r.merged_into);
+    }
+    for (const TrialVerdictRow& v : rows.at(rec).verdicts) {
+      t_trial.push_back(v.trial);
+      t_kept.push_back(v.kept);
+      t_rule.push_back(v.rule);
+      t_reason.push_back(v.reason);
     }
     H5::Group f = h5::create_group(g, "fixations");
     h5::write_column(f, "input_id", in_id);

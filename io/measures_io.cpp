@@ -6,7 +6,10 @@
 #include <cmath>
 #include <functional>
 #include <limits>
+#include <map>
+#include <memory>
 #include <set>
+#include <string_view>
 
 #include "io/hdf5_util.h"
 #include "io/number_text.h"
@@ -20,7 +23,8 @@ std::string na(const std::optional<double>& v) {
   return general_text(*v, 6);
 }
 
-std::string text_or_na(const std::string& s) { return s.empty() ? "NA" : s; }
+// A view of s, or of "NA": valid as long as s (a getter's result lives to the end of its statement).
+std::string_view text_or_na(const std::string& s) { return s.empty() ? std::string_view("NA") : std::string_view(s); }
 
 // The trial variables that are neither the item nor a factor, by name.
 std::vector<std::string> other_variables(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
@@ -51,8 +55,17 @@ std::vector<Column> trial_columns(const std::vector<MeasureRow>& rows, const Des
   text("session", [](const MeasureRow& r) { return r.session; });
   text("trial", [](const MeasureRow& r) { return r.trial; });
   text("item", [](const MeasureRow& r) { return r.item; });
+  // Each cell's levels split once: a study has a handful of cells and 50 000 rows.
+  auto levels_of = std::make_shared<std::map<std::string, std::vector<std::string>, std::less<>>>();
+  if (!factors.empty()) {
+    for (const auto& r : rows) {
+      if (!levels_of->count(r.cell)) levels_of->emplace(r.cell, cell_levels(r.cell));
+    }
+  }
   for (std::size_t f = 0; f < factors.size(); ++f) {
-    text(factors[f], [f](const MeasureRow& r) {
+    text(factors[f], [f, levels_of](const MeasureRow& r) {
+      const auto it = levels_of->find(r.cell);
+      if (it != levels_of->end()) return f < it->second.size() ? it->second[f] : std::string();
       const auto levels = cell_levels(r.cell);
       return f < levels.size() ? levels[f] : std::string();
     });
@@ -139,7 +152,11 @@ std::string tsv(const std::vector<Row>& rows, const std::vector<Col>& cols) {
   for (const auto& r : rows) {
     for (std::size_t i = 0; i < cols.size(); ++i) {
       if (i) out += "\t";
-      out += cols[i].number ? na(cols[i].number(r)) : text_or_na(cols[i].text(r));
+      if (cols[i].number) {
+        out += na(cols[i].number(r));
+      } else {
+        out += text_or_na(cols[i].text(r));
+      }
     }
     out += "\n";
   }
@@ -193,7 +210,10 @@ std::string placement_tsv(const PlacementCounts& counts, const std::vector<std::
   out += "\ton_region\tbeside_text\toff_lines\n";
   for (const auto& [key, c] : counts) {
     out += key.first;
-    for (const auto& l : level_fields(key.second, factors.size())) out += "\t" + text_or_na(l);
+    for (const auto& l : level_fields(key.second, factors.size())) {
+      out += '\t';
+      out += text_or_na(l);
+    }
     out += fmt::format("\t{}\t{}\t{}\n", c.on_region, c.beside_text, c.off_lines);
   }
   return out;
@@ -221,14 +241,21 @@ void write_placement(StudyStoreWriter& store, const PlacementCounts& counts, con
 }
 
 std::string measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
+  std::string out;
+  out.reserve(rows.size() * measure_names().size() * 72);
+  measures_long_tsv(rows, design, [&out](std::string_view piece) { out += piece; });
+  return out;
+}
+
+void measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design, const TextPieces& pieces) {
+  constexpr std::size_t kPiece = std::size_t{1} << 20;
   const auto head_cols = trial_columns(rows, design);
   const auto& names = measure_names();
   std::string out;
+  out.reserve(kPiece + 4096);
   for (const auto& c : head_cols) out += c.name + "\t";
   out += "region\tregion_label\tregion_role\tmeasure\tvalue\n";
-  // One line per measure of each row: the row's fields once, then appended in
-  // place (this table is the largest a run writes, 60 MB for 40 participants).
-  out.reserve(out.size() + rows.size() * names.size() * 72);
+  // One line per measure of each row: the row's fields once, then appended in place.
   std::string head;
   for (const auto& r : rows) {
     head.clear();
@@ -249,8 +276,12 @@ std::string measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignS
       out += na(measure_value(r, k));
       out += '\n';
     }
+    if (out.size() >= kPiece) {
+      pieces(out);
+      out.clear();
+    }
   }
-  return out;
+  if (!out.empty()) pieces(out);
 }
 
 std::string measures_wide_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design) {

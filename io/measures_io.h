@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "io/report_store.h"
+#include "io/table_set.h"
 #include "io/study_store.h"
 #include "pipeline/measure_table.h"
 #include "pipeline/protocol.h"
@@ -19,6 +20,9 @@ namespace gazemill {
 
 /// Long: the columns above, region, region_label, region_role, measure, value.
 std::string measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design);
+/// The same text handed to `pieces` a megabyte at a time (whole lines): the
+/// largest table a run writes (60 MB for 40 participants) never whole in memory.
+void measures_long_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design, const TextPieces& pieces);
 /// Wide: one row per participant x trial x region, every measure a column,
 /// and the preceding_* and following_* columns of the regions either side.
 std::string measures_wide_tsv(const std::vector<MeasureRow>& rows, const DesignSpec& design);

@@ -70,6 +70,13 @@ std::string general_text(double v, int significant) {
   const double a = std::fabs(v);
   if (significant >= 1 && significant <= 15 && std::isfinite(v)) {
     if (a == 0) return std::signbit(v) ? "-0" : "0";
+    // Whole numbers with at most P digits (most table values: milliseconds,
+    // counts) print as the integer itself: no exponent, no point.
+    if (a < kPowersOfTen[significant] && a == std::floor(a)) {
+      char digits[24];
+      const auto r = std::to_chars(digits, digits + sizeof digits, static_cast<std::int64_t>(v));
+      return std::string(digits, r.ptr);
+    }
     if (a >= 1e-4 && a < kPowersOfTen[significant]) {
       const int exponent = static_cast<int>(std::floor(std::log10(a)));
       const int decimals = significant - 1 - exponent;

@@ -72,6 +72,28 @@ std::vector<TrialVerdictRow> read_trial_verdicts(const StudyStoreReader& store, 
   });
 }
 
+std::map<std::string, RecordingCleaningRows> cleaning_rows(const CleaningOutcome& outcome) {
+  std::map<std::string, RecordingCleaningRows> out;
+  for (const auto& p : outcome.state.participants) {
+    for (const auto& t : p.trials) {
+      RecordingCleaningRows& rows = out[t.recording];
+      for (const auto& f : t.fixations) {
+        if (f.kept) continue;
+        const auto& why = outcome.fixation_removals.at(f.id);
+        rows.removed.push_back({f.id, t.trial, f.fixation.start_us, f.fixation.end_us, f.duration_ms, outcome.report.rules.at(why.first),
+                                why.second, f.merged_away ? static_cast<std::int64_t>(f.merged_into) : -1});
+      }
+      if (t.kept) {
+        rows.verdicts.push_back({t.trial, true, "", ""});
+      } else {
+        const auto& why = outcome.trial_removals.at(t.id);
+        rows.verdicts.push_back({t.trial, false, outcome.report.rules.at(why.first), why.second});
+      }
+    }
+  }
+  return out;
+}
+
 StoredTable read_stored_table(const StudyStoreReader& store, const std::string& group_path) {
   return reading(store, group_path, [&](const H5::Group& g) {
     StoredTable t;

@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "io/study_store.h"
+#include "pipeline/cleaning_state.h"
 
 namespace gazemill {
 
@@ -32,6 +33,16 @@ struct TrialVerdictRow {
   std::string rule, reason;
 };
 std::vector<TrialVerdictRow> read_trial_verdicts(const StudyStoreReader& store, const std::string& recording);
+
+/// A recording's removed fixations and trial verdicts as write_cleaning
+/// stores them, in the same order.
+struct RecordingCleaningRows {
+  std::vector<RemovedFixationRow> removed;
+  std::vector<TrialVerdictRow> verdicts;
+};
+/// Those rows of every recording, from the outcome itself: what write_cleaning
+/// stores, and what a run lends its report instead of its reading them back.
+std::map<std::string, RecordingCleaningRows> cleaning_rows(const CleaningOutcome& outcome);
 
 /// A stored table (a group of equally long 1-D columns): numeric columns as
 /// doubles (NaN stays NaN), string columns as text; factor levels kept under

@@ -59,6 +59,17 @@ void TableSet::add(const std::string& name, const std::string& text) {
   names_.push_back(name);
 }
 
+void TableSet::write_in_pieces(const std::string& name, const std::function<void(const TextPieces&)>& make) const {
+  const fs::path path = fs::path(temp_) / name;
+  std::error_code ec;
+  fs::create_directories(path.parent_path(), ec);
+  errno = 0;
+  std::ofstream out(path, std::ios::binary);
+  make([&out](std::string_view piece) { out.write(piece.data(), static_cast<std::streamsize>(piece.size())); });
+  out.flush();
+  if (!out) throw InputError({path.string(), 0, ""}, std::string("cannot write: ") + (errno ? std::strerror(errno) : "the write failed"));
+}
+
 void TableSet::commit(const std::string& manifest_json) {
   write_file((fs::path(temp_) / kManifestName).string(), manifest_json + "\n");
   std::error_code ec;

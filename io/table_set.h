@@ -5,12 +5,17 @@
 // of the old one in one rename. A half-written set is never in place, and
 // tables that no longer match their store can be told by their manifest.
 
+#include <functional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 namespace gazemill {
 
 inline constexpr const char* kManifestName = "manifest.json";
+
+/// Takes a table's text a piece at a time (see TableSet::write_in_pieces).
+using TextPieces = std::function<void(std::string_view)>;
 
 class TableSet {
  public:
@@ -22,6 +27,12 @@ class TableSet {
 
   /// Writes one file of the set. Throws InputError naming it when it cannot be written.
   void add(const std::string& name, const std::string& text);
+  /// Writes one file of the set from text that `make` hands over in pieces,
+  /// so that a large table never sits whole in memory. Safe on any thread
+  /// for distinct names; the file joins the set when `added` names it (on
+  /// the set's own thread, in the set's order).
+  void write_in_pieces(const std::string& name, const std::function<void(const TextPieces&)>& make) const;
+  void added(const std::string& name) { names_.push_back(name); }
   /// Writes the manifest and puts the set in place of the folder.
   void commit(const std::string& manifest_json);
   const std::vector<std::string>& names() const { return names_; }

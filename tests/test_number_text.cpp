@@ -56,6 +56,8 @@ TEST(NumberText, GeneralMatchesPrintf) {
   std::vector<double> values = awkward_values();
   for (int i = 0; i < 300000; ++i) values.push_back(unit(rng) * std::pow(10.0, exponent(rng)));
   for (int i = 0; i < 100000; ++i) values.push_back(std::round(unit(rng) * 1e5) / 100);  // two-decimal figures
+  for (int i = 0; i < 100000; ++i) values.push_back(std::round(unit(rng) * std::pow(10.0, exponent(rng) + 7)));  // whole numbers, up to 1e16
+  for (double p = 1; p < 1e17; p *= 10) values.insert(values.end(), {p - 1, p, p + 1, -(p - 1), -p});  // around each power of ten
   for (int significant : {1, 3, 6, 9, 15}) {
     for (double v : values) ASSERT_EQ(general_text(v, significant), printf_text("%.*g", significant, v)) << v << " to " << significant;
   }

@@ -224,14 +224,39 @@ TEST(ReportData, FiguresFromTheStoredDigestEqualThoseFromTheSamples) {
   with.run.store_path = without.run.store_path = "";
   with.run.report_created_utc = without.run.report_created_utc = "";
   EXPECT_EQ(report_html(with), report_html(without));
-  // A run lends the report the events it holds; the page is the one made from the store alone.
-  ASSERT_TRUE(demo().run.events);
-  ReportDataOptions lent;
-  lent.events = demo().run.events.get();
-  ReportModel from_run = assemble_report(demo().store, lent);
-  from_run.run.store_path = "";
-  from_run.run.report_created_utc = "";
-  EXPECT_EQ(report_html(from_run), report_html(with));
+  // A run lends the report the events, lines, cleaning and audit it holds;
+  // the page is the one made from the store alone, whichever it lends.
+  const StudyRunReport& run = demo().run;
+  ASSERT_TRUE(run.events && run.alignment && run.cleaned && run.cleaning_rows && run.audit);
+  ReportDataOptions all;
+  all.events = run.events.get();
+  all.alignment = run.alignment.get();
+  all.cleaned = run.cleaned.get();
+  all.cleaning_rows = run.cleaning_rows.get();
+  all.audit = &*run.audit;
+  ReportDataOptions events_only;
+  events_only.events = run.events.get();
+  ReportDataOptions cleaning_only;
+  cleaning_only.cleaned = run.cleaned.get();
+  cleaning_only.cleaning_rows = run.cleaning_rows.get();
+  for (const ReportDataOptions* lent : {&all, &events_only, &cleaning_only}) {
+    ReportModel from_run = assemble_report(demo().store, *lent);
+    from_run.run.store_path = "";
+    from_run.run.report_created_utc = "";
+    EXPECT_EQ(report_html(from_run), report_html(with));
+  }
+  // What is lent is what the page shows: lines lent without a trial's
+  // assignments leave that trial without them on the page.
+  std::vector<RecordingAlignment> fewer = *run.alignment;
+  ASSERT_FALSE(fewer.empty());
+  fewer.front().trials.clear();
+  fewer.front().fixations.clear();
+  ReportDataOptions other_lines = all;
+  other_lines.alignment = &fewer;
+  ReportModel differs = assemble_report(demo().store, other_lines);
+  differs.run.store_path = "";
+  differs.run.report_created_utc = "";
+  EXPECT_NE(report_html(differs), report_html(with));
   ReportDataOptions other;
   other.max_points_per_trial = 123;  // not the digest's: made from the samples
   const ReportModel coarse = assemble_report(demo().store, other);
