@@ -139,12 +139,9 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   std::string report_path;
   if (!only && o.shard.empty() && !o.no_report) {
     opt.beside_tables = [&](const RunResults& made) {
-      // The measures as the store holds them, from the rows the run made (cheaper than reading them back).
-      std::optional<StoredTable> wide, by_role;
-      if (made.rows) wide = measures_wide_table(*made.rows, protocol.design);
-      if (made.by_role) by_role = aggregate_table(*made.by_role, protocol.design.factors);
+      // The measures as the store holds them, as the run made them (cheaper than reading them back).
       report_path = refresh_report(opt.store_path, folder, made.store_written,
-                                   {made.events.get(), wide ? &*wide : nullptr, by_role ? &*by_role : nullptr, made.alignment.get(),
+                                   {made.events.get(), made.measures_wide.get(), made.measures_by_role.get(), made.alignment.get(),
                                     made.cleaned.get(), made.cleaning_rows.get(), made.audit});
     };
   }

@@ -12,6 +12,7 @@
 #include <exception>
 #include <filesystem>
 #include <future>
+#include <tuple>
 #include <memory>
 #include <mutex>
 #include <set>
@@ -645,10 +646,24 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
       if (!alignment_) alignment_ = read_alignment(*old_);
       report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design, &report_.placement, o_.jobs);
-      report_.by_item_region = std::make_shared<const AggregateTable>(aggregate_by_item_region(report_.rows));
-      report_.by_role = std::make_shared<const AggregateTable>(aggregate_by_role(report_.rows));
-      report_.by_participant = std::make_shared<const AggregateTable>(aggregate_by_participant(report_.rows));
-      write_measures(out, report_.rows, p_.design, {report_.by_item_region.get(), report_.by_role.get(), report_.by_participant.get()},
+      // The aggregates and the tables the store holds, made side by side (the report is lent the wide one and by_role).
+      const auto policy = o_.jobs == 1 ? std::launch::deferred : std::launch::async;
+      const std::vector<MeasureRow>& rows = report_.rows;
+      const auto& factors = p_.design.factors;
+      auto aggregated = [&](AggregateTable (*make)(const std::vector<MeasureRow>&)) {
+        return std::async(policy, [&rows, &factors, make] {
+          auto a = std::make_shared<const AggregateTable>(make(rows));
+          auto t = std::make_shared<const StoredTable>(aggregate_table(*a, factors));
+          return std::make_pair(a, t);
+        });
+      };
+      auto item_region = aggregated(aggregate_by_item_region), role = aggregated(aggregate_by_role), participant = aggregated(aggregate_by_participant);
+      report_.measures_wide = std::make_shared<const StoredTable>(measures_wide_table(rows, p_.design));
+      std::shared_ptr<const StoredTable> item_region_table, participant_table;
+      std::tie(report_.by_item_region, item_region_table) = item_region.get();
+      std::tie(report_.by_role, report_.measures_by_role) = role.get();
+      std::tie(report_.by_participant, participant_table) = participant.get();
+      write_measures(out, *report_.measures_wide, {item_region_table.get(), report_.measures_by_role.get(), participant_table.get()},
                      {"by_item_region", "by_role", "by_participant"});
       write_placement(out, report_.placement, p_.design.factors);
     }
@@ -896,7 +911,7 @@ StudyRunReport StudyRun::execute() {
   // The rows only when measure made them: the tables would fill them in otherwise, beside this thread.
   const bool measured = ran_[Stage::measure] && !report_.rows.empty();
   const RunResults made{report_.store_written, report_.events, measured ? &report_.rows : nullptr, measured ? report_.by_role : nullptr,
-                        report_.alignment, report_.cleaned, report_.cleaning_rows, report_.audit ? &*report_.audit : nullptr};
+                        measured ? report_.measures_wide : nullptr, measured ? report_.measures_by_role : nullptr, report_.alignment, report_.cleaned, report_.cleaning_rows, report_.audit ? &*report_.audit : nullptr};
   auto run_beside = [this, made, since] {
     h5::quiet_this_thread();
     try {

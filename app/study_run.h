@@ -38,6 +38,7 @@ struct RunResults {
   std::shared_ptr<const std::vector<RecordingEvents>> events;
   const std::vector<MeasureRow>* rows = nullptr;  // when measure ran in this run
   std::shared_ptr<const AggregateTable> by_role;  // likewise
+  std::shared_ptr<const StoredTable> measures_wide, measures_by_role;  // likewise, as the store holds them
   // What the store holds and the run holds too (null where it does not): see StudyRunReport.
   std::shared_ptr<const std::vector<RecordingAlignment>> alignment;
   std::shared_ptr<const std::vector<CleanedRecording>> cleaned;
@@ -74,6 +75,7 @@ struct StudyRunReport {
   std::optional<AuditReport> audit;  // when clean ran
   std::vector<MeasureRow> rows;      // when measure ran
   std::shared_ptr<const AggregateTable> by_item_region, by_role, by_participant;  // ... and their aggregates
+  std::shared_ptr<const StoredTable> measures_wide, measures_by_role;               // ... as the store holds them
   PlacementCounts placement;         // where measure placed the kept fixations
   std::size_t aligned_trials_reused = 0;  // trials whose kept fixations and lines were as in the previous run
   bool store_written = false;

@@ -300,14 +300,14 @@ std::string aggregates_tsv(const AggregateTable& table, const std::vector<std::s
   return tsv(table.rows, aggregate_columns(table, factors));
 }
 
-void write_measures(StudyStoreWriter& store, const std::vector<MeasureRow>& rows, const DesignSpec& design,
-                    const std::vector<const AggregateTable*>& aggregates, const std::vector<std::string>& aggregate_names) {
+void write_measures(StudyStoreWriter& store, const StoredTable& wide, const std::vector<const StoredTable*>& aggregates,
+                    const std::vector<std::string>& aggregate_names) {
   H5::Group m = store.group("measures");
-  H5::Group wide = h5::create_group(m, "wide");
-  write_columns(wide, measures_wide_table(rows, design));
+  H5::Group w = h5::create_group(m, "wide");
+  write_columns(w, wide);
   for (std::size_t i = 0; i < aggregates.size(); ++i) {
-    H5::Group g = h5::create_group(m, aggregate_names[i]);
-    write_columns(g, aggregate_table(*aggregates[i], design.factors));
+    H5::Group g = h5::create_group(m, aggregate_names.at(i));
+    write_columns(g, *aggregates[i]);
   }
 }
 

@@ -38,8 +38,9 @@ StoredTable aggregate_table(const AggregateTable& table, const std::vector<std::
 
 /// /measures/wide/<column>, and /measures/by_item_region, /measures/by_role,
 /// /measures/by_participant (their columns as in the TSV).
-void write_measures(StudyStoreWriter& store, const std::vector<MeasureRow>& rows, const DesignSpec& design,
-                    const std::vector<const AggregateTable*>& aggregates, const std::vector<std::string>& aggregate_names);
+/// Each from its table as measures_wide_table and aggregate_table make it.
+void write_measures(StudyStoreWriter& store, const StoredTable& wide, const std::vector<const StoredTable*>& aggregates,
+                    const std::vector<std::string>& aggregate_names);
 
 /// Where the kept fixations were placed, per participant and design cell:
 /// participant, <factors>, on_region, beside_text, off_lines.

@@ -251,8 +251,11 @@ TEST(StudyRun, MeasuresLentToTheReportEqualThoseReadFromTheStore) {
       }
     }
   };
-  same(measures_wide_table(r.rows, p.design), read_stored_table(store, "measures/wide"), "wide");
-  same(aggregate_table(*r.by_role, p.design.factors), read_stored_table(store, "measures/by_role"), "by_role");
+  ASSERT_TRUE(r.measures_wide && r.measures_by_role);
+  same(*r.measures_wide, read_stored_table(store, "measures/wide"), "wide");
+  same(*r.measures_by_role, read_stored_table(store, "measures/by_role"), "by_role");
+  same(measures_wide_table(r.rows, p.design), read_stored_table(store, "measures/wide"), "wide from the rows");
+  same(aggregate_table(*r.by_role, p.design.factors), read_stored_table(store, "measures/by_role"), "by_role from the aggregate");
 }
 
 TEST(StudyRun, TablesNeverReplaceAFolderOfOtherFiles) {
