@@ -56,23 +56,36 @@ CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<Clean
   }
   out.report.sequential = ledger.counts();
 
-  // Alone: each rule on its own copy of the input.
+  // Alone: each rule on its own copy of the input. The first rule met the
+  // input itself in the sequential pass: what it removed there is what it
+  // removes alone, so its records are taken from there (one copy of the
+  // whole study fewer).
   std::vector<AuditLedger> alone;
+  alone.reserve(rules.size());
+  std::vector<const AuditLedger*> alone_of;
   for (std::size_t r = 0; r < rules.size(); ++r) {
+    if (r == 0) {
+      for (const auto& [key, c] : ledger.counts()) {
+        if (key.rule == 0) out.report.alone[key] = c;
+      }
+      alone_of.push_back(&ledger);
+      continue;
+    }
     CleaningState copy = input;
     alone.emplace_back(names);
     AuditChannel ch;
     auto connection = alone.back().subscribe(ch);
     rules[r]->apply(copy, r, ch);
     for (const auto& [key, c] : alone.back().counts()) out.report.alone[key] = c;
+    alone_of.push_back(&alone.back());
   }
   for (std::size_t level = 1; level < kAuditLevels; ++level) {  // samples are counted, not identified
     auto& m = out.report.overlap[level];
     m.assign(rules.size(), std::vector<std::uint64_t>(rules.size(), 0));
     for (std::size_t a = 0; a < rules.size(); ++a) {
-      const auto& ia = alone[a].ids(a, static_cast<AuditLevel>(level));
+      const auto& ia = alone_of[a]->ids(a, static_cast<AuditLevel>(level));
       for (std::size_t b = 0; b < rules.size(); ++b) {
-        const auto& ib = alone[b].ids(b, static_cast<AuditLevel>(level));
+        const auto& ib = alone_of[b]->ids(b, static_cast<AuditLevel>(level));
         std::uint64_t both = 0;
         for (auto id : ia) both += ib.count(id);
         m[a][b] = both;
