@@ -168,9 +168,19 @@ std::vector<double> bin_means(std::span<const Microseconds> t, std::span<const f
   std::vector<std::uint32_t> count(bins, 0);
   const std::size_t n = std::min({t.size(), values.size(), valid.size()});
   auto i = static_cast<std::size_t>(std::lower_bound(t.begin(), t.begin() + static_cast<std::ptrdiff_t>(n), from_us) - t.begin());
+  // The bin of the last sample's time is kept with its edges: times rise, so
+  // a division (slow, and once per sample before) is needed only on entering
+  // another bin. A time that went back before from_us has no bin.
+  std::size_t b = 0;
+  Microseconds lo = from_us, hi = from_us + bin_us;
   for (; i < n && t[i] < to_us; ++i) {
     if (!valid[i] || !std::isfinite(values[i])) continue;
-    const auto b = static_cast<std::size_t>((t[i] - from_us) / bin_us);
+    if (t[i] < lo || t[i] >= hi) {
+      if (t[i] < from_us) continue;
+      b = static_cast<std::size_t>((t[i] - from_us) / bin_us);
+      lo = from_us + static_cast<Microseconds>(b) * bin_us;
+      hi = lo + bin_us;
+    }
     sum[b] += values[i];
     ++count[b];
   }

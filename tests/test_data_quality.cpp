@@ -151,6 +151,18 @@ TEST(DataQuality, BinMeansByHand) {
   const auto empty = bin_means(t, v, ok, 30000, 40000, 5000);
   ASSERT_EQ(empty.size(), 2u);
   EXPECT_TRUE(std::isnan(empty[0]));
+  // A bin with no sample between two with some; a time that steps back into
+  // an earlier bin joins that bin; one that steps back before the start has none.
+  const std::vector<Microseconds> jumpy = {0, 1000, 2500, 1500, -7000, 9000, 9500};
+  const std::vector<float> w = {5, 2, 4, 6, 100, 8, 10};
+  const std::vector<std::uint8_t> all(jumpy.size(), 1);
+  const auto j = bin_means(jumpy, w, all, 1000, 10000, 2000);  // bins [1,3) [3,5) [5,7) [7,9) [9,10)
+  ASSERT_EQ(j.size(), 5u);
+  EXPECT_DOUBLE_EQ(j[0], 4.0);  // 2, 4 and 6 (stepped back from 2500 to 1500)
+  EXPECT_TRUE(std::isnan(j[1]));
+  EXPECT_TRUE(std::isnan(j[2]));
+  EXPECT_TRUE(std::isnan(j[3]));
+  EXPECT_DOUBLE_EQ(j[4], 9.0);  // 8 and 10; the -7000 sample is in no bin
 }
 
 }  // namespace
