@@ -5,6 +5,7 @@
 #include <map>
 #include <set>
 
+#include "io/global_heap_check.h"
 #include "io/hdf5_util.h"
 #include "pipeline/input_error.h"
 
@@ -66,6 +67,8 @@ std::string content(const H5::DataSet& ds) {
 std::vector<DatasetDifference> compare_store_datasets(const std::string& expected, const std::string& actual) {
   h5::QuietErrors quiet;
   H5::H5File a, b;
+  check_global_heaps(expected);
+  check_global_heaps(actual);
   try {
     a = H5::H5File(expected, H5F_ACC_RDONLY);
   } catch (const H5::Exception&) {

@@ -20,6 +20,7 @@
 #include <stdexcept>
 
 #include "io/atomic_file.h"
+#include "io/global_heap_check.h"
 #include "io/hdf5_util.h"
 #include "pipeline/input_error.h"
 
@@ -207,6 +208,7 @@ void StudyStoreWriter::add_linked_recording(const std::string& shard_path, const
   const fs::path shard = fs::absolute(shard_path).lexically_normal();
   const std::string rel = shard.lexically_relative(here).string();
   const std::string target = rel.empty() || rel.rfind("../../", 0) == 0 ? shard.string() : rel;
+  check_global_heaps(shard_path);
   try {
     H5::H5File src(shard_path, H5F_ACC_RDONLY);
     H5::Group from = src.openGroup("/recordings/" + id);
@@ -540,6 +542,7 @@ void StudyStoreWriter::commit() {
     throw InputError({path_, 0, ""}, "cannot move the finished store into place: " + ec.message());
   }
   committed_ = true;
+  trust_global_heaps(path_);  // written here, from stores read through check_global_heaps
 }
 
 // ---------------------------------------------------------------- reader ---
@@ -562,6 +565,7 @@ StudyStoreReader::StudyStoreReader(const std::string& path) : impl_(std::make_un
   h5::QuietErrors quiet;
   if (!fs::exists(path)) throw InputError({path, 0, ""}, "no such file");
   h5::note_file(path, "reading");
+  check_global_heaps(path);  // HDF5 would crash on a damaged one instead of saying so
   try {
     impl_->file = H5::H5File(path, H5F_ACC_RDONLY);
   } catch (const H5::Exception&) {

@@ -69,8 +69,23 @@ with tempfile.TemporaryDirectory() as tmp:
             b[i] ^= 0xA5
         return bytes(b)
 
+    def long_heap_object(data):
+        # The first object of the first global heap collection claims far more
+        # bytes than its collection holds (HDF5 File Format Specification,
+        # "Global Heap": "GCOL", version 1, 3 reserved bytes, 8-byte size,
+        # then objects of index, references, reserved, 8-byte size).
+        b = bytearray(data)
+        at = b.find(b"GCOL\x01\x00\x00\x00")
+        assert at > 0, "the store has a global heap collection"
+        b[at + 16 + 8: at + 16 + 16] = (1 << 40).to_bytes(8, "little")
+        return bytes(b)
+
     rec = "recordings/p01_1"
     cases = {
+        # found by scripts/fuzz: HDF5 1.10.8 crashed reading it (tests/hardening/stores/README.md)
+        "fuzz-heap-length": (damaged("fuzz-heap-length", open(os.path.join(os.path.dirname(os.path.abspath(__file__)), "stores",
+                                                                           "hdf5-global-heap-length.gzm.h5"), "rb").read()), True),
+        "heap-object-too-long": (damaged("heap-object-too-long", long_heap_object(raw)), True),
         # name: (file, which commands must fail: True = all; a set = those that read what is damaged)
         "empty": (damaged("empty", b""), True),
         "cut-at-1k": (damaged("cut-at-1k", raw[:1024]), True),
