@@ -382,3 +382,34 @@ TEST(DriftInputErrors, BadTextsAreNamed) {
   EXPECT_THROW(make_drift_corrector("compare")->correct(no_words), std::invalid_argument);
   EXPECT_NO_THROW(make_drift_corrector("attach")->correct(no_words));
 }
+
+// NearestLine (the fitting methods' repeated look-up) gives nearest_line's
+// answer for every y: evenly and unevenly spaced lines, one line, exact
+// halfway points and centres, values far outside the text, infinities and
+// NaN (nearest_line: line 0, as std::lower_bound finds no centre below NaN).
+TEST(DriftMethods, RepeatedNearestLineLookUpAgreesWithNearestLine) {
+  const std::vector<std::vector<double>> pages{
+      {100},           {100, 160, 200}, {100, 150, 200, 250, 300}, {0.1, 0.2, 0.3, 0.4, 0.7, 5.0, 5.05},
+      {-50, -10, 400}, {1e-300, 1e300},
+  };
+  const double inf = std::numeric_limits<double>::infinity();
+  for (const auto& ly : pages) {
+    std::vector<double> ys{-inf, inf, std::numeric_limits<double>::quiet_NaN(), -1e308, 1e308, 0.0, -0.0};
+    for (std::size_t i = 0; i < ly.size(); ++i) {
+      ys.push_back(ly[i]);
+      ys.push_back(std::nextafter(ly[i], -inf));
+      ys.push_back(std::nextafter(ly[i], inf));
+      if (i > 0) {
+        const double half = ly[i - 1] + (ly[i] - ly[i - 1]) / 2;
+        ys.push_back(half);
+        ys.push_back(std::nextafter(half, -inf));
+        ys.push_back(std::nextafter(half, inf));
+      }
+    }
+    if (ly.back() - ly.front() < 1000) {
+      for (double y = ly.front() - 500; y <= ly.back() + 500; y += 0.37) ys.push_back(y);
+    }
+    const NearestLine nearest(ly);
+    for (double y : ys) EXPECT_EQ(nearest(y), nearest_line(ly, y)) << "y = " << y << " with " << ly.size() << " lines";
+  }
+}
