@@ -49,7 +49,8 @@ class NearestLine {
  public:
   explicit NearestLine(const std::vector<double>& line_y_px)
       : ly_(line_y_px.data()), n_(line_y_px.size()),
-        per_px_(n_ > 1 ? static_cast<double>(n_ - 1) / (line_y_px.back() - line_y_px.front()) : 0.0) {}
+        per_px_(n_ > 1 ? static_cast<double>(n_ - 1) / (line_y_px.back() - line_y_px.front()) : 0.0),
+        last_gap_(static_cast<double>(n_ > 1 ? n_ - 1 : 0)) {}
 
   int operator()(double y_px) const {
     // The nearest centre is p (the first centre not below y, which
@@ -59,7 +60,8 @@ class NearestLine {
     // Now n >= 2 and 1 <= p <= n - 1. Guess p from the mean spacing, then
     // step to it; each loop stops by the two tests above.
     const double g = (y_px - ly_[0]) * per_px_;
-    std::size_t p = g < static_cast<double>(n_ - 1) ? static_cast<std::size_t>(g) + 1 : n_ - 1;
+    // 0 <= g here, so a signed conversion (one instruction) is exact.
+    std::size_t p = g < last_gap_ ? static_cast<std::size_t>(static_cast<std::ptrdiff_t>(g)) + 1 : n_ - 1;
     while (!(ly_[p - 1] < y_px)) --p;
     while (ly_[p] < y_px) ++p;
     const double d_below = ly_[p] - y_px;
@@ -71,7 +73,8 @@ class NearestLine {
  private:
   const double* ly_;
   std::size_t n_;
-  double per_px_;  // lines per px, from the first centre to the last
+  double per_px_;    // lines per px, from the first centre to the last
+  double last_gap_;  // n - 1
 };
 
 /// The x extent of the text's word centres (leftmost, rightmost); {0, 0}

@@ -2,6 +2,8 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstring>
+#include <vector>
 
 #include "alignment/grid_search.h"
 
@@ -9,13 +11,14 @@ namespace gazemill {
 namespace {
 
 // The sum of squared distances from each fixation, moved by slope and
-// offset, to its nearest line. Out of line on purpose: inlined into the grid
-// search, the compiler kept the sum in memory, which made it slower.
-[[gnu::noinline]] double squared_distance_sum(const std::vector<double>& fy, const std::vector<double>& fu, const std::vector<double>& ly,
-                                              const NearestLine& nearest, double slope, double offset) {
+// offset, to its nearest line, from base[i] = y_i - slope * (x_i - x0).
+// Out of line on purpose: inlined into the grid search, the compiler kept
+// the sum in memory, which made it slower.
+[[gnu::noinline]] double squared_distance_sum(const std::vector<double>& base, const std::vector<double>& ly, const NearestLine& nearest,
+                                              double offset) {
   double sum = 0;
-  for (std::size_t i = 0; i < fy.size(); ++i) {
-    const double y = fy[i] - slope * fu[i] - offset;
+  for (const double b : base) {
+    const double y = b - offset;
     const double d = y - ly[static_cast<std::size_t>(nearest(y))];
     sum += d * d;
   }
@@ -40,17 +43,28 @@ DriftCorrector::Assignment RegressCorrector::assign(const DriftInput& input) con
   // falls as the sum of squared distances to those lines rises. So maximising
   // the likelihood over slope and offset is minimising that sum.
   // Each fixation's x from the leftmost word centre does not depend on the
-  // fitted values: computed once. The sum is the same expression, in the
-  // same order, as written per fixation.
-  std::vector<double> fy, fu;
+  // fitted values: computed once. The grid visits 21 offsets per slope, so
+  // y - slope * (x - x0) is kept for the last slope asked. The sum is the
+  // same expression, in the same order, as written per fixation.
+  std::vector<double> fy, fu, base(fx.size());
   fy.reserve(fx.size());
   fu.reserve(fx.size());
   for (const auto& f : fx) {
     fy.push_back(f.y_px);
     fu.push_back(f.x_px - x0);
   }
+  double base_slope = 0;
+  bool have_base = false;
   const NearestLine nearest(ly);
-  auto squared_distance = [&](double slope, double offset) { return squared_distance_sum(fy, fu, ly, nearest, slope, offset); };
+  auto squared_distance = [&](double slope, double offset) {
+    // Bitwise the same slope (so 0 and -0 differ): the same products.
+    if (!have_base || std::memcmp(&slope, &base_slope, sizeof slope) != 0) {
+      for (std::size_t i = 0; i < fy.size(); ++i) base[i] = fy[i] - slope * fu[i];
+      base_slope = slope;
+      have_base = true;
+    }
+    return squared_distance_sum(base, ly, nearest, offset);
+  };
   const double max_offset = p_.max_offset_line_heights * input.text.line_height_px;
   const SearchResult best = minimise_on_grid(squared_distance, {-p_.max_slope, p_.max_slope, 20}, {-max_offset, max_offset, 20});
   std::vector<int> line;
