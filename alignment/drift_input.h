@@ -55,6 +55,7 @@ class NearestLine {
   int operator()(double y_px) const {
     // The nearest centre is p (the first centre not below y, which
     // std::lower_bound finds) or the one before it, as in nearest_line.
+    if (n_ == 1) return 0;
     if (!(ly_[0] < y_px)) return 0;  // p == 0; also a y that is NaN
     if (ly_[n_ - 1] < y_px) return static_cast<int>(n_) - 1;  // p == n
     // Now n >= 2 and 1 <= p <= n - 1. Guess p from the mean spacing, then

@@ -33,7 +33,9 @@ struct SearchResult {
 /// al. (2022) used a general bounded minimiser (from memory).
 ///
 /// A template so that the objective, called some 500 times per trial, is
-/// inlined; the std::function overload below gives the same answers.
+/// inlined; the std::function overload below gives the same answers. When f
+/// also has f.row(a, b_values, count, values), that evaluates a whole grid
+/// row at once: values[k] must be f(a, b_values[k]), bit for bit.
 template <class F>
 SearchResult minimise_on_grid(const F& f, SearchRange a, SearchRange b, int starts = 3);
 
@@ -66,10 +68,20 @@ SearchResult minimise_on_grid(const F& f, SearchRange a, SearchRange b, int star
   const double da = (a.high - a.low) / na, db = (b.high - b.low) / nb;
   std::vector<SearchResult> grid;
   grid.reserve(static_cast<std::size_t>((na + 1) * (nb + 1)));
-  for (int i = 0; i <= na; ++i) {
-    for (int j = 0; j <= nb; ++j) {
-      const double pa = a.low + da * i, pb = b.low + db * j;
-      grid.push_back({pa, pb, f(pa, pb)});
+  if constexpr (requires(const double* bs, double* vs) { f.row(0.0, bs, std::size_t{1}, vs); }) {
+    std::vector<double> pbs, values(static_cast<std::size_t>(nb + 1));
+    for (int j = 0; j <= nb; ++j) pbs.push_back(b.low + db * j);
+    for (int i = 0; i <= na; ++i) {
+      const double pa = a.low + da * i;
+      f.row(pa, pbs.data(), pbs.size(), values.data());
+      for (std::size_t j = 0; j < pbs.size(); ++j) grid.push_back({pa, pbs[j], values[j]});
+    }
+  } else {
+    for (int i = 0; i <= na; ++i) {
+      for (int j = 0; j <= nb; ++j) {
+        const double pa = a.low + da * i, pb = b.low + db * j;
+        grid.push_back({pa, pb, f(pa, pb)});
+      }
     }
   }
   const std::size_t n_starts = static_cast<std::size_t>(std::min<int>(std::max(1, starts), static_cast<int>(grid.size())));
