@@ -40,6 +40,44 @@ void validate(const DriftInput& input);
 /// our choice). Needs at least one line.
 int nearest_line(const std::vector<double>& line_y_px, double y_px);
 
+/// nearest_line for many y against the same lines (the fitting methods ask
+/// it for every fixation hundreds of times per trial): the same answer for
+/// every y, found from a guess that is right at once for evenly spaced
+/// lines. Keeps a reference to the centres, which must outlive it and not
+/// change.
+class NearestLine {
+ public:
+  explicit NearestLine(const std::vector<double>& line_y_px)
+      : ly_(line_y_px.data()), n_(line_y_px.size()),
+        per_px_(n_ > 1 ? static_cast<double>(n_ - 1) / (line_y_px.back() - line_y_px.front()) : 0.0),
+        last_gap_(static_cast<double>(n_ > 1 ? n_ - 1 : 0)) {}
+
+  int operator()(double y_px) const {
+    // The nearest centre is p (the first centre not below y, which
+    // std::lower_bound finds) or the one before it, as in nearest_line.
+    if (n_ == 1) return 0;
+    if (!(ly_[0] < y_px)) return 0;  // p == 0; also a y that is NaN
+    if (ly_[n_ - 1] < y_px) return static_cast<int>(n_) - 1;  // p == n
+    // Now n >= 2 and 1 <= p <= n - 1. Guess p from the mean spacing, then
+    // step to it; each loop stops by the two tests above.
+    const double g = (y_px - ly_[0]) * per_px_;
+    // 0 <= g here, so a signed conversion (one instruction) is exact.
+    std::size_t p = g < last_gap_ ? static_cast<std::size_t>(static_cast<std::ptrdiff_t>(g)) + 1 : n_ - 1;
+    while (!(ly_[p - 1] < y_px)) --p;
+    while (ly_[p] < y_px) ++p;
+    const double d_below = ly_[p] - y_px;
+    const double d_above = y_px - ly_[p - 1];
+    // Which neighbour is nearer is a coin toss to the branch predictor: no branch.
+    return static_cast<int>(p) - static_cast<int>(d_above <= d_below);
+  }
+
+ private:
+  const double* ly_;
+  std::size_t n_;
+  double per_px_;    // lines per px, from the first centre to the last
+  double last_gap_;  // n - 1
+};
+
 /// The x extent of the text's word centres (leftmost, rightmost); {0, 0}
 /// when no line has words.
 struct TextSpan {

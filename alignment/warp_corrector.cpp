@@ -20,9 +20,11 @@ DriftCorrector::Assignment WarpCorrector::assign(const DriftInput& input) const 
     }
   }
   if (word_x.empty()) throw std::invalid_argument("warp needs the word centres of the text's lines");
+  const double* wx = word_x.data();
+  const double* wy = word_y.data();
+  const DriftFixation* f = fx.data();
   const WarpingPath path = dynamic_time_warping(
-      fx.size(), word_x.size(),
-      [&](std::size_t i, std::size_t j) { return std::hypot(fx[i].x_px - word_x[j], fx[i].y_px - word_y[j]); }, true);
+      fx.size(), word_x.size(), [&](std::size_t i, std::size_t j) { return std::hypot(f[i].x_px - wx[j], f[i].y_px - wy[j]); }, true);
 
   // The path visits each fixation's words as one contiguous run, and along it
   // lines never decrease, so the most frequent line is found in one pass.

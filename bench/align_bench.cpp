@@ -5,10 +5,13 @@
 // align every trial of a 40-participant x 30-passage study. Prints the
 // figures measured in this run; never fails on them.
 //
-//   gazemill_bench_align [--trials N] [--seed S] [--repeats R] [--majority a,b,c ...] [--combined-only]
+//   gazemill_bench_align [--trials N] [--seed S] [--repeats R] [--majority a,b,c ...] [--combined-only] [--dump FILE]
 //
 // --majority adds a column for a majority of other members (repeatable);
-// --combined-only skips the sweeps and the timing.
+// --combined-only skips the sweeps and the timing; --dump writes every
+// method's full output (lines and fit values, in exact hexadecimal) for the
+// mixed and the timed trials to FILE, so that two builds can be compared
+// byte for byte.
 
 #include <algorithm>
 #include <chrono>
@@ -100,12 +103,30 @@ std::string format(double v) {
   return buf;
 }
 
+// Every method's lines and fit values for every trial, doubles in %a so that
+// equal files mean equal bits.
+void dump_outputs(std::FILE* out, const char* set, const std::vector<Method>& methods, const std::vector<Trial>& trials) {
+  for (const auto& m : methods) {
+    for (std::size_t t = 0; t < trials.size(); ++t) {
+      const DriftOutput o = m.corrector->correct(trials[t].input);
+      std::fprintf(out, "%s %s %zu lines", set, m.label.c_str(), t);
+      for (int l : o.line) std::fprintf(out, " %d", l);
+      std::fprintf(out, "\n%s %s %zu y", set, m.label.c_str(), t);
+      for (double y : o.corrected_y_px) std::fprintf(out, " %a", y);
+      std::fprintf(out, "\n%s %s %zu fit", set, m.label.c_str(), t);
+      for (const auto& [k, v] : o.fit) std::fprintf(out, " %s=%a", k.c_str(), v);
+      std::fprintf(out, "\n");
+    }
+  }
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
   int trials_per_level = 200, repeats = 5;
   std::uint64_t seed = 2022;
   bool combined_only = false;
+  const char* dump_path = nullptr;
   std::vector<std::vector<std::string>> extra_majorities;
   for (int i = 1; i < argc; ++i) {
     const bool has_value = i + 1 < argc;
@@ -115,6 +136,8 @@ int main(int argc, char** argv) {
       trials_per_level = std::max(1, std::atoi(argv[++i]));
     } else if (has_value && !std::strcmp(argv[i], "--seed")) {
       seed = std::strtoull(argv[++i], nullptr, 10);
+    } else if (has_value && !std::strcmp(argv[i], "--dump")) {
+      dump_path = argv[++i];
     } else if (has_value && !std::strcmp(argv[i], "--repeats")) {
       repeats = std::max(1, std::atoi(argv[++i]));
     } else if (has_value && !std::strcmp(argv[i], "--majority")) {
@@ -127,7 +150,7 @@ int main(int argc, char** argv) {
       }
       extra_majorities.push_back(std::move(members));
     } else {
-      std::fprintf(stderr, "usage: gazemill_bench_align [--trials N] [--seed S] [--repeats R] [--majority a,b,c ...] [--combined-only]\n");
+      std::fprintf(stderr, "usage: gazemill_bench_align [--trials N] [--seed S] [--repeats R] [--majority a,b,c ...] [--combined-only] [--dump FILE]\n");
       return 2;
     }
   }
@@ -247,9 +270,19 @@ int main(int argc, char** argv) {
     }
   }
 
-  if (combined_only) return 0;
   // Speed: every trial of a 40-participant x 30-passage study, moderate drift.
   const auto study = make_trials(passages, 40 * 30, moderate, trial_seed++);
+  if (dump_path) {
+    std::FILE* out = std::fopen(dump_path, "w");
+    if (!out) {
+      std::fprintf(stderr, "cannot write %s\n", dump_path);
+      return 2;
+    }
+    dump_outputs(out, "mixed", methods, mixed_trials);
+    dump_outputs(out, "study", methods, study);
+    std::fclose(out);
+  }
+  if (combined_only) return 0;
   std::size_t fixations = 0;
   for (const auto& t : study) fixations += t.input.fixations.size();
   std::printf("\nTime to align a 40 x 30 study (%zu trials, %zu fixations), median of %d runs:\n", study.size(), fixations, repeats);

@@ -7,11 +7,16 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
+#include <array>
 #include <cmath>
+#include <cstring>
+#include <functional>
 #include <limits>
 
 #include "alignment/chain_corrector.h"
 #include "alignment/drift_registry.h"
+#include "alignment/grid_search.h"
 #include "alignment_fixtures.h"
 
 using namespace gazemill;
@@ -381,4 +386,119 @@ TEST(DriftInputErrors, BadTextsAreNamed) {
   EXPECT_THROW(make_drift_corrector("warp")->correct(no_words), std::invalid_argument);
   EXPECT_THROW(make_drift_corrector("compare")->correct(no_words), std::invalid_argument);
   EXPECT_NO_THROW(make_drift_corrector("attach")->correct(no_words));
+}
+
+// NearestLine (the fitting methods' repeated look-up) gives nearest_line's
+// answer for every y: evenly and unevenly spaced lines, one line, exact
+// halfway points and centres, values far outside the text, infinities and
+// NaN (nearest_line: line 0, as std::lower_bound finds no centre below NaN).
+TEST(DriftMethods, RepeatedNearestLineLookUpAgreesWithNearestLine) {
+  const std::vector<std::vector<double>> pages{
+      {100},           {100, 160, 200}, {100, 150, 200, 250, 300}, {0.1, 0.2, 0.3, 0.4, 0.7, 5.0, 5.05},
+      {-50, -10, 400}, {1e-300, 1e300},
+  };
+  const double inf = std::numeric_limits<double>::infinity();
+  for (const auto& ly : pages) {
+    std::vector<double> ys{-inf, inf, std::numeric_limits<double>::quiet_NaN(), -1e308, 1e308, 0.0, -0.0};
+    for (std::size_t i = 0; i < ly.size(); ++i) {
+      ys.push_back(ly[i]);
+      ys.push_back(std::nextafter(ly[i], -inf));
+      ys.push_back(std::nextafter(ly[i], inf));
+      if (i > 0) {
+        const double half = ly[i - 1] + (ly[i] - ly[i - 1]) / 2;
+        ys.push_back(half);
+        ys.push_back(std::nextafter(half, -inf));
+        ys.push_back(std::nextafter(half, inf));
+      }
+    }
+    if (ly.back() - ly.front() < 1000) {
+      for (double y = ly.front() - 500; y <= ly.back() + 500; y += 0.37) ys.push_back(y);
+    }
+    const NearestLine nearest(ly);
+    for (double y : ys) EXPECT_EQ(nearest(y), nearest_line(ly, y)) << "y = " << y << " with " << ly.size() << " lines";
+  }
+}
+
+// minimise_on_grid keeps only its best starts instead of sorting the whole
+// grid, and may evaluate a grid row at once: neither may change an answer.
+// The reference is the search as first written (stable sort of every grid
+// point); objectives with plateaus (many equal values, so the tie rule
+// decides), a NaN in the grid, and a row() that must match the calls.
+namespace {
+
+SearchResult reference_minimise(const std::function<double(double, double)>& f, SearchRange a, SearchRange b, int starts) {
+  const int na = std::max(1, a.steps), nb = std::max(1, b.steps);
+  const double da = (a.high - a.low) / na, db = (b.high - b.low) / nb;
+  std::vector<SearchResult> grid;
+  for (int i = 0; i <= na; ++i) {
+    for (int j = 0; j <= nb; ++j) {
+      const double pa = a.low + da * i, pb = b.low + db * j;
+      grid.push_back({pa, pb, f(pa, pb)});
+    }
+  }
+  std::stable_sort(grid.begin(), grid.end(), [](const SearchResult& x, const SearchResult& y) { return x.value < y.value; });
+  SearchResult best = grid.front();
+  const int n_starts = std::min<int>(std::max(1, starts), static_cast<int>(grid.size()));
+  for (int s = 0; s < n_starts; ++s) {
+    SearchResult cur = grid[static_cast<std::size_t>(s)];
+    double sa = da / 2, sb = db / 2;
+    while (sa > da / 64 || sb > db / 64) {
+      bool moved = false;
+      const std::array<std::array<double, 2>, 4> moves{{{sa, 0}, {-sa, 0}, {0, sb}, {0, -sb}}};
+      for (const auto& mv : moves) {
+        const double pa = std::clamp(cur.a + mv[0], std::min(a.low, a.high), std::max(a.low, a.high));
+        const double pb = std::clamp(cur.b + mv[1], std::min(b.low, b.high), std::max(b.low, b.high));
+        const double v = f(pa, pb);
+        if (v < cur.value) {
+          cur = {pa, pb, v};
+          moved = true;
+          break;
+        }
+      }
+      if (!moved) {
+        sa /= 2;
+        sb /= 2;
+      }
+    }
+    if (cur.value < best.value) best = cur;
+  }
+  return best;
+}
+
+struct WithRow {
+  std::function<double(double, double)> f;
+  double operator()(double a, double b) const { return f(a, b); }
+  void row(double a, const double* b, std::size_t count, double* out) const {
+    for (std::size_t k = 0; k < count; ++k) out[k] = f(a, b[k]);
+  }
+};
+
+bool same_bits(const SearchResult& x, const SearchResult& y) {
+  return std::memcmp(&x.a, &y.a, sizeof x.a) == 0 && std::memcmp(&x.b, &y.b, sizeof x.b) == 0 &&
+         std::memcmp(&x.value, &y.value, sizeof x.value) == 0;
+}
+
+}  // namespace
+
+TEST(DriftMethods, GridSearchAnswersAsAFullStableSortWould) {
+  const double nan = std::numeric_limits<double>::quiet_NaN();
+  const std::vector<std::function<double(double, double)>> objectives{
+      [](double a, double b) { return std::floor(std::abs(a) * 3) + std::floor(std::abs(b) / 7); },  // plateaus
+      [](double, double) { return 1.0; },                                                             // all equal
+      [](double a, double b) { return std::abs(std::sin(a * 40) + std::cos(b / 3)); },
+      [](double a, double b) { return std::round((a * a + b * b) * 0.01); },
+      [nan](double a, double b) { return a > 0.04 && b < 0 ? nan : std::floor(std::abs(b)); },  // NaN in the grid
+  };
+  const std::vector<std::pair<SearchRange, SearchRange>> ranges{
+      {{-0.1, 0.1, 20}, {-25, 25, 20}}, {{0.9, 1.1, 20}, {-10, 10, 20}}, {{-1, 1, 3}, {-1, 1, 1}}, {{0.2, -0.2, 5}, {3, -3, 4}}};
+  for (const auto& f : objectives) {
+    for (const auto& [ra, rb] : ranges) {
+      for (int starts : {1, 3, 7}) {
+        const SearchResult want = reference_minimise(f, ra, rb, starts);
+        EXPECT_TRUE(same_bits(minimise_on_grid(f, ra, rb, starts), want));
+        EXPECT_TRUE(same_bits(minimise_on_grid([&](double a, double b) { return f(a, b); }, ra, rb, starts), want));
+        EXPECT_TRUE(same_bits(minimise_on_grid(WithRow{f}, ra, rb, starts), want));
+      }
+    }
+  }
 }
