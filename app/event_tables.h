@@ -26,8 +26,10 @@ struct KnownResults {
 };
 
 /// Needs detected events; cleaning, line assignments and regions add their
-/// columns where the store has them current (`regions` may be null).
+/// columns where the store has them current (`regions` may be null). The
+/// store is read on the calling thread; the rows are made `jobs` recordings
+/// at a time (0: one per core), the same for any number.
 EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol, const RegionCatalogue* regions, bool cleaned, bool aligned,
-                         KnownResults known = {});
+                         KnownResults known = {}, unsigned jobs = 1);
 
 }  // namespace gazemill

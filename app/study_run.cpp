@@ -976,7 +976,7 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
     KnownResults known;
     if (fresh) known = {fresh->events.get(), fresh->alignment.get(), fresh->cleaned.get(), fresh->removed.get()};
     events = std::make_shared<const EventTables>(
-        event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align), known));
+        event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align), known, jobs));
     format("fixations.tsv", [events, &p] { return fixations_tsv(*events, p.design); });
     format("saccades.tsv", [events, &p] { return saccades_tsv(*events, p.design); });
     format("blinks.tsv", [events, &p] { return blinks_tsv(*events, p.design); });
