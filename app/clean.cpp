@@ -1,6 +1,7 @@
 #include "app/clean.h"
 
 #include <map>
+#include <utility>
 
 #include "filters/cleaning_engine.h"
 #include "io/cleaning_io.h"
@@ -87,7 +88,7 @@ CleaningOutcome clean_events(const Protocol& protocol, const std::vector<Recordi
   CleaningState input = cleaning_state_from(recordings, protocol.design);
   if (protocol.regions.present()) map_regions(input, load_regions(protocol), protocol.regions);
   try {
-    return run_cleaning(input, protocol.cleaning);
+    return run_cleaning(std::move(input), protocol.cleaning);
   } catch (const std::invalid_argument& e) {
     throw InputError({protocol.path, 0, "cleaning"}, e.what());
   }

@@ -1,6 +1,7 @@
 #include "filters/cleaning_engine.h"
 
 #include <algorithm>
+#include <utility>
 
 namespace gazemill {
 namespace {
@@ -23,7 +24,7 @@ std::map<std::pair<std::string, std::string>, std::array<std::uint64_t, kAuditLe
 
 }  // namespace
 
-CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<CleaningRuleSpec>& specs) {
+CleaningOutcome run_cleaning(CleaningState input, const std::vector<CleaningRuleSpec>& specs) {
   std::vector<std::unique_ptr<CleaningRule>> rules;
   CleaningOutcome out;
   out.report.factors = input.factors;
@@ -36,8 +37,14 @@ CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<Clean
     out.report.rule_levels.push_back(rules.back()->level());
   }
 
-  // Sequential: the rules in order on one state; the first to remove an item has it.
-  out.state = input;
+  const auto in = count(input, false);  // before the input itself is handed to a rule below
+  // Sequential: the rules in order on one state; the first to remove an item
+  // has it. With one rule nothing else needs the input: it becomes that state.
+  if (rules.size() <= 1) {
+    out.state = std::move(input);
+  } else {
+    out.state = input;
+  }
   AuditLedger ledger(names);
   AuditChannel channel;
   std::map<std::uint32_t, std::pair<std::size_t, std::string>>* fix_log = &out.fixation_removals;
@@ -59,7 +66,7 @@ CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<Clean
   // Alone: each rule on its own copy of the input. The first rule met the
   // input itself in the sequential pass: what it removed there is what it
   // removes alone, so its records are taken from there (one copy of the
-  // whole study fewer).
+  // whole study fewer); the last rule alone is given the input itself.
   std::vector<AuditLedger> alone;
   alone.reserve(rules.size());
   std::vector<const AuditLedger*> alone_of;
@@ -71,7 +78,7 @@ CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<Clean
       alone_of.push_back(&ledger);
       continue;
     }
-    CleaningState copy = input;
+    CleaningState copy = r + 1 == rules.size() ? std::move(input) : input;
     alone.emplace_back(names);
     AuditChannel ch;
     auto connection = alone.back().subscribe(ch);
@@ -95,7 +102,7 @@ CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<Clean
   out.report.overlap[0].assign(rules.size(), std::vector<std::uint64_t>(rules.size(), 0));
 
   // Every rule x participant x cell row exists, zero when nothing happened.
-  const auto in = count(input, false), kept = count(out.state, true);
+  const auto kept = count(out.state, true);
   for (const auto& [group, c] : in) {
     AuditTotals& t = out.report.totals[group];
     t.input = c;

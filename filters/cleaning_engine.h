@@ -14,7 +14,9 @@
 
 namespace gazemill {
 
-/// Throws RuleParameterError for a bad rule; std::logic_error if the audit does not balance.
-CleaningOutcome run_cleaning(const CleaningState& input, const std::vector<CleaningRuleSpec>& rules);
+/// Throws RuleParameterError for a bad rule; std::logic_error if the audit
+/// does not balance. Takes the input by value: the last copy the rules need
+/// is the input itself, so a caller done with it moves it in.
+CleaningOutcome run_cleaning(CleaningState input, const std::vector<CleaningRuleSpec>& rules);
 
 }  // namespace gazemill
