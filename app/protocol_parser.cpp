@@ -328,6 +328,7 @@ void parse_trials(TomlSection& t, Protocol& p) {
         if (NamedRegex(v).names().empty()) t.fail("variables", "pattern \"" + v + "\" has no named capture (?<name>...) to set a variable");
       }
       spec.variable_patterns = *vars;
+      spec.variables_line = t.line_of("variables");
     }
   } else {
     parse_trial_table(t, p);
@@ -337,6 +338,7 @@ void parse_trials(TomlSection& t, Protocol& p) {
       const auto pattern = m->string(name);
       check_regex(*m, name, *pattern);
       spec.marker_patterns[name] = *pattern;
+      spec.marker_lines[name] = m->line_of(name);
     }
   }
   t.finish();

@@ -245,7 +245,7 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   const bool from_messages = protocol.trials.source == TrialSource::messages;
   if (from_messages) {
     const TrialSegmenter segmenter(protocol.trials, protocol.input.repairs.unterminated_trials);
-    rec.trials = segmenter.segment(rec.messages, lines, message_source, result.repairs);
+    rec.trials = segmenter.segment(rec.messages, lines, message_source, result.repairs, &out.pattern_use);
   }
   if (from_messages && rec.trials.empty()) {
     throw InputError({message_source, 0, "trials.start"}, "no trial found: no message matches the start pattern \"" +
@@ -273,6 +273,7 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     }
     rec.trials = trials_from_table(in, protocol, {result.first_time_us, result.last_time_us}, rec.messages, message_source);
   }
+  count_marker_use(rec.trials, protocol.trials.marker_patterns, out.pattern_use);
   if (!fixation_input) drop_trials_without_samples(rec, *out.samples, result, protocol, in, message_source, lines);
   if (fixation_input) {
     // The list's fixations are the recording's events: the detect stage has nothing to do.

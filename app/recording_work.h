@@ -39,6 +39,7 @@ struct RecordingOutput {
   std::shared_ptr<CompressedSamples> samples;  // null when the samples stay as they are in the store
   std::vector<InputFileRecord> inputs;         // files read (ingest only)
   RepairCounts repairs;
+  TrialPatternUse pattern_use;  // ingest only: what the [trials] patterns found
   bool keeps_tracker_events = false;         // the protocol maps the tracker's own events (ingest)
   std::vector<TrackerEvent> tracker_events;  // ... as the BIDS physio events files give them
   std::string ingest_key;

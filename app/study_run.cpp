@@ -21,6 +21,7 @@
 
 #include "app/align.h"
 #include "app/clean.h"
+#include "app/cleaning_outcome_check.h"
 #include "app/event_tables.h"
 #include "app/measure.h"
 #include "app/preflight.h"
@@ -28,6 +29,7 @@
 #include "app/recording_work.h"
 #include "app/stage_settings.h"
 #include "app/table_trials.h"
+#include "app/trial_pattern_check.h"
 #include "app/study_inputs.h"
 #include "detectors/detector_registry.h"
 #include "gazemill/version.h"
@@ -632,6 +634,7 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     if (s == Stage::clean) {
       events_ = recording_events();
       cleaned_ = clean_events(p_, events_);
+      check_cleaning_outcome(p_, cleaned_->report);
       write_cleaning(out, *cleaned_);
       write_audit(out, cleaned_->report);
       cleaned_recordings_ = cleaned_recordings(*cleaned_, events_);
@@ -789,6 +792,11 @@ StudyRunReport StudyRun::execute() {
     for (const auto& id : removed_recordings_) w.remove("/recordings/" + id);
     run_recordings(w);
     spdlog::debug("recordings done after {:.2f} s", since());
+    std::vector<std::pair<std::string, const TrialPatternUse*>> read;
+    for (const auto& [id, r] : fresh_) {
+      if (!r.inputs.empty()) read.emplace_back(id, &r.pattern_use);
+    }
+    check_trial_patterns(p_, read, read.size() == plans_.size() && !o_.shard_count);
   }
   keys_[Stage::ingest] = study_key(Stage::ingest);
   const bool ingest_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work == RecordingWork::ingest; }) ||

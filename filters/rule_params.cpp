@@ -1,6 +1,8 @@
 #include "filters/rule_params.h"
 
+#include <algorithm>
 #include <cmath>
+#include <vector>
 
 namespace gazemill {
 
@@ -27,7 +29,7 @@ double RuleParams::required(const std::string& key, double min, double max) {
         throw RuleParameterError(given, rule() + ": parameter " + given + " needs its unit in the name, e.g. " + key);
       }
     }
-    throw RuleParameterError("", rule() + ": required parameter " + key + " is missing");
+    missing(key);
   }
   return *v;
 }
@@ -53,8 +55,40 @@ std::string RuleParams::choice(const std::string& key, const std::vector<std::st
 std::string RuleParams::required_text(const std::string& key) {
   known_.insert(key);
   auto it = spec_.texts.find(key);
-  if (it == spec_.texts.end()) throw RuleParameterError(key, rule() + ": required parameter " + key + " (text) is missing");
+  if (it == spec_.texts.end()) missing(key, " (text)");
   return it->second;
+}
+
+namespace {
+
+// Edits (insert, delete, replace) between two names, for "did you mean".
+std::size_t edit_distance(const std::string& a, const std::string& b) {
+  std::vector<std::size_t> row(b.size() + 1);
+  for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;
+  for (std::size_t i = 1; i <= a.size(); ++i) {
+    std::size_t diagonal = row[0];
+    row[0] = i;
+    for (std::size_t j = 1; j <= b.size(); ++j) {
+      const std::size_t up = row[j];
+      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diagonal + (a[i - 1] == b[j - 1] ? 0 : 1)});
+      diagonal = up;
+    }
+  }
+  return row[b.size()];
+}
+
+}  // namespace
+
+void RuleParams::missing(const std::string& key, const std::string& what) const {
+  // A misspelt name is the likelier story than a forgotten one: say which was given.
+  auto near = [&](const std::string& given) { return !known_.count(given) && edit_distance(given, key) <= 3; };
+  for (const auto& [given, value] : spec_.numbers) {
+    if (near(given)) throw RuleParameterError(given, rule() + ": unknown parameter " + given + "; did you mean " + key + "?");
+  }
+  for (const auto& [given, value] : spec_.texts) {
+    if (near(given)) throw RuleParameterError(given, rule() + ": unknown parameter " + given + "; did you mean " + key + "?");
+  }
+  throw RuleParameterError("", rule() + ": required parameter " + key + what + " is missing");
 }
 
 void RuleParams::finish() const {

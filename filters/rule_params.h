@@ -24,6 +24,7 @@ class RuleParams {
   void finish() const;
 
  private:
+  [[noreturn]] void missing(const std::string& key, const std::string& what = "") const;
   std::string rule() const { return "rule '" + spec_.name + "' (" + spec_.kind + ")"; }
   const CleaningRuleSpec& spec_;
   std::set<std::string> known_;

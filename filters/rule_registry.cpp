@@ -97,6 +97,9 @@ std::unique_ptr<CleaningRule> make_cleaning_rule(const CleaningRuleSpec& spec) {
   } else if (k == "exclude_trials_by_duration") {
     const double lo = p.optional("min_duration_ms", 0, 0), hi = p.optional("max_duration_ms", 0, 0);
     if (lo == 0 && hi == 0) throw RuleParameterError("", "rule '" + spec.name + "' (" + k + "): give min_duration_ms, max_duration_ms or both");
+    if (lo > 0 && hi > 0 && hi <= lo) {
+      throw RuleParameterError("max_duration_ms", "rule '" + spec.name + "' (" + k + "): max_duration_ms must be above min_duration_ms, or no trial could be kept");
+    }
     rule = std::make_unique<ExcludeTrialsByDuration>(lo, hi);
   } else if (k == "exclude_trials_with_gap_in_window") {
     const std::string marker = p.required_text("marker");

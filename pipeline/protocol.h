@@ -157,6 +157,8 @@ struct TrialSegmentationSpec {
   std::vector<std::string> variable_patterns;
   // Named time points: the first message of a trial matching the pattern sets it.
   std::map<std::string, std::string> marker_patterns;
+  std::size_t variables_line = 0;                    // where each is in the protocol file, for errors
+  std::map<std::string, std::size_t> marker_lines;
 
   // from = "events" or "table": each row a trial, every other column a trial variable.
   std::string trial_type_pattern;    // events: only rows whose trial_type matches; "" = every row

@@ -1,5 +1,6 @@
 #include "pipeline/trial_segmenter.h"
 
+#include <algorithm>
 #include <optional>
 #include <set>
 #include <stdexcept>
@@ -29,7 +30,8 @@ TrialSegmenter::TrialSegmenter(const TrialSegmentationSpec& spec, UnterminatedTr
 
 std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
                                            const std::vector<std::size_t>& message_lines,
-                                           const std::string& source_file, RepairCounts& repairs) const {
+                                           const std::string& source_file, RepairCounts& repairs,
+                                           TrialPatternUse* use) const {
   auto line_of = [&](std::size_t i) { return i < message_lines.size() ? message_lines[i] : 0; };
   auto fail = [&](std::size_t i, const std::string& what) {
     throw InputError({source_file, line_of(i), "message"}, what);
@@ -45,9 +47,14 @@ std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
       if (name != "trial") t.variables[name] = value;
     }
   };
+  std::vector<char> variable_matched(variables_.size(), 0);  // in the open trial
+  if (use) use->variable_trials.resize(variables_.size(), 0);
   auto absorb = [&](Trial& t, const Message& m) {
-    for (const auto& re : variables_) {
-      if (auto caps = re.search(m.text)) set_captures(t, *caps);
+    for (std::size_t k = 0; k < variables_.size(); ++k) {
+      if (auto caps = variables_[k].search(m.text)) {
+        set_captures(t, *caps);
+        variable_matched[k] = 1;
+      }
     }
     for (const auto& [name, re] : markers_) {
       if (!t.markers.count(name) && re.search(m.text)) t.markers[name] = m.time_us;
@@ -70,6 +77,7 @@ std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
         }
         open = Trial{};
         open_index = i;
+        std::fill(variable_matched.begin(), variable_matched.end(), 0);
         auto id = caps->find("trial");
         open->id = id != caps->end() ? id->second : std::to_string(trials.size() + 1);
         open->start_us = m.time_us;
@@ -95,6 +103,12 @@ std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
         if (!seen_ids.insert(open->id).second) {
           fail(open_index, "trial id '" + open->id + "' appears more than once; trial ids must be unique within a recording");
         }
+        if (use) {
+          for (std::size_t k = 0; k < variable_matched.size(); ++k) use->variable_trials[k] += variable_matched[k];
+          if (trials.empty()) {
+            for (std::size_t j = open_index; j <= i; ++j) use->first_trial_messages.push_back(messages[j].text);
+          }
+        }
         trials.push_back(std::move(*open));
         open.reset();
         continue;
@@ -112,6 +126,14 @@ std::vector<Trial> TrialSegmenter::segment(const std::vector<Message>& messages,
     }
   }
   return trials;
+}
+
+void count_marker_use(const std::vector<Trial>& trials, const std::map<std::string, std::string>& marker_patterns, TrialPatternUse& use) {
+  use.trials += trials.size();
+  for (const auto& [name, pattern] : marker_patterns) {
+    std::size_t& n = use.marker_trials[name];
+    for (const auto& t : trials) n += t.markers.count(name);
+  }
 }
 
 }  // namespace gazemill

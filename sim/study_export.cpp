@@ -121,10 +121,7 @@ std::string trials_section(const StudyDesign& design) {
   return fmt::format(R"([trials]
 start = '^begin trial (?<trial>\d+)$'
 end = '^end trial (?<trial>\d+)$'
-variables = [
-  '{}',
-  '^show (?<block>passage) (?<item>\S+) list (?<list>\d+)$',
-  '^answer (?<answer_correct>[01])$',
+variables = [{}{}{}
 ]
 
 [trials.markers]
@@ -136,7 +133,10 @@ boundary = '^boundary crossed$'
 item = "item"
 factors = [{}]
 )",
-                     sentence, factors);
+                     // A pattern only for a kind of trial the study has: one that finds nothing is an error.
+                     design.items.empty() ? "" : "\n  '" + sentence + "',",
+                     design.passages.empty() ? "" : "\n  '^show (?<block>passage) (?<item>\\S+) list (?<list>\\d+)$',",
+                     design.question_share > 0 ? "\n  '^answer (?<answer_correct>[01])$'," : "", factors);
 }
 
 std::string regions_section(const TextLayoutSpec& l) {

@@ -395,6 +395,17 @@ TEST(CleaningRules, BadParametersNameTheProblem) {
   EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}})).find("max_gap_ms"), std::string::npos);
   EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gap_ms", 50}}, {{"prefer", "left"}})).find("must be one of \"nearer\""), std::string::npos);
   EXPECT_NE(error(rule("x", "exclude_trials_with_data_loss", {{"max_missing_percent", 140}})).find("at most 100"), std::string::npos);
+  // A misspelt name is reported as such, not as a missing one (a newcomer's trial: common practice, no source).
+  EXPECT_NE(error(rule("x", "merge_short_fixations", {{"max_duration_ms", 80}, {"max_distance_deg", 0.5}, {"max_gapms", 50}}))
+                .find("unknown parameter max_gapms; did you mean max_gap_ms? [max_gapms]"),
+            std::string::npos);
+  EXPECT_NE(error(rule("x", "exclude_participants_by_variable", {{"min_mean", 0.7}}, {{"varaible", "correct"}})).find("did you mean variable?"),
+            std::string::npos);
+  // Limits no trial could meet at once.
+  EXPECT_NE(error(rule("x", "exclude_trials_by_duration", {{"min_duration_ms", 8000}, {"max_duration_ms", 500}}))
+                .find("max_duration_ms must be above min_duration_ms, or no trial could be kept [max_duration_ms]"),
+            std::string::npos);
+  EXPECT_EQ(error(rule("x", "exclude_trials_by_duration", {{"min_duration_ms", 500}, {"max_duration_ms", 8000}})), "no error");
 }
 
 // Region rules, by hand. Regions (0-based) of the fixations, in time order:

@@ -118,7 +118,7 @@ TEST(Ingest, MessagesFromASeparateFile) {
   text.replace(text.find("[screen]"), 0,
                "[input.messages]\nfile = '{dir}/{participant}-{session}.msg'\ntime_column = 't'\ntext_column = 'what'\n");
   d.write("raw/r01-a.tsv", "time\tx\ty\tpupil\n0\t1\t2\t3\n1\t1\t2\t3\n2\t1\t2\t3\n");
-  d.write("raw/r01-a.msg", "t\twhat\n0\tstart trial 1\n0\titem 5 rare\n2\tstop trial 1\n");
+  d.write("raw/r01-a.msg", "t\twhat\n0\tstart trial 1\n0\titem 5 rare\n1\ttext on\n2\tstop trial 1\n");
   const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
   ingest_study(p, d.file("s.gzm.h5"));
   StudyStoreReader store(d.file("s.gzm.h5"));
@@ -273,7 +273,7 @@ void write_messages_in_us(const TempDir& d) {
   std::string s = "time\tx\ty\tpupil\n";
   for (int t = 0; t < 300; ++t) s += std::to_string(t) + "\t100\t200\t1500\n";
   d.write("raw/r01-a.tsv", s);
-  d.write("raw/r01-a.msg", "t\twhat\n0\tstart trial 1\n0\titem 5 rare\n99000\tstop trial 1\n"
+  d.write("raw/r01-a.msg", "t\twhat\n0\tstart trial 1\n0\titem 5 rare\n1000\ttext on\n99000\tstop trial 1\n"
                            "100000\tstart trial 2\n100000\titem 6 frequent\n299000\tstop trial 2\n");
 }
 
@@ -306,7 +306,7 @@ TEST(IngestErrors, TrialsWithoutSamplesFailOrAreDroppedAndCounted) {
       FAIL();
     } catch (const InputError& e) {
       EXPECT_EQ(e.where().file, d.file("raw/r01-a.msg"));
-      EXPECT_EQ(e.where().line, 5u) << e.what();  // trial 2 is the first past the samples' end (299 ms)
+      EXPECT_EQ(e.where().line, 6u) << e.what();  // line 6 of the file above: trial 2, the first past the samples' end (299 ms)
       EXPECT_EQ(e.where().field, "trials.start");
       const std::string what = e.what();
       EXPECT_NE(what.find("trial '2' runs from 100000 ms to 299000 ms and has no samples"), std::string::npos) << what;

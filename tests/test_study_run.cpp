@@ -7,6 +7,7 @@
 #include <gtest/gtest.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
@@ -354,4 +355,61 @@ TEST(StudyRun, ChangingAnIngestRepairSettingRedoesIngestOnward) {
   text.replace(text.find("format = \"delimited\""), 20, "format = \"delimited\"\noffscreen_margin_px = 300");
   std::ofstream(proto) << text;
   EXPECT_EQ(run(proto, d.file("out")).stages.at(Stage::ingest), "ran");
+}
+
+// A misspelt marker pattern used to end in exit 0 with every trial removed by
+// the rule anchored on it (found by a newcomer's trial). Now the run stops
+// before the store is written, naming the protocol's line and key. Expected
+// outcome: common practice, no source.
+TEST(StudyRun, AMisspeltTrialPatternStopsTheRunNamingItsLine) {
+  struct Case {
+    std::string right, wrong, field;
+  };
+  for (const Case& c : {Case{"text_shown = '^text shown$'", "text_shown = '^text shwon$'", "trials.markers.text_shown"},
+                        Case{"'^answer (?<answer_correct>", "'^anwser (?<answer_correct>", "trials.variables"}}) {
+    TempDir d;
+    const std::string proto = study(d);
+    std::string text = read_text(proto);
+    const auto at = text.find(c.right);
+    ASSERT_NE(at, std::string::npos) << c.right;
+    text.replace(at, c.right.size(), c.wrong);
+    std::ofstream(proto) << text;
+    std::size_t line = 1 + std::count(text.begin(), text.begin() + static_cast<std::ptrdiff_t>(at), '\n');
+    if (c.field == "trials.variables") line = 1 + std::count(text.begin(), text.begin() + static_cast<std::ptrdiff_t>(text.find("variables =")), '\n');
+    try {
+      run(proto, d.file("out"));
+      ADD_FAILURE() << c.wrong << " passed";
+    } catch (const InputError& e) {
+      EXPECT_EQ(e.where().field, c.field) << e.what();
+      EXPECT_EQ(e.where().line, line) << e.what();
+      EXPECT_NE(std::string(e.what()).find("matches no message"), std::string::npos) << e.what();
+    }
+    EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5"))) << c.wrong;
+    EXPECT_FALSE(fs::exists(d.file("out/tables"))) << c.wrong;
+  }
+}
+
+// Rules that keep no trial are a mistake far more often than a finding (a
+// duration in seconds where the name says ms): the run stops before the
+// store is written and says what each rule removed. Expected outcome: common
+// practice, no source; the fixture study's 4 recordings and their trials all
+// last longer than 2 ms.
+TEST(StudyRun, RulesThatKeepNoTrialStopTheRunSayingWhatEachRemoved) {
+  TempDir d;
+  const std::string proto = study(d, R"(
+[[cleaning]]
+name = "trial at most 2 s"
+kind = "exclude_trials_by_duration"
+max_duration_ms = 2
+)");
+  try {
+    run(proto, d.file("out"));
+    ADD_FAILURE() << "a run that kept no trial passed";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().field, "cleaning");
+    EXPECT_NE(std::string(e.what()).find("keep none of the"), std::string::npos) << e.what();
+    EXPECT_NE(std::string(e.what()).find("rule 1 'trial at most 2 s' removed"), std::string::npos) << e.what();
+  }
+  EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
+  EXPECT_FALSE(fs::exists(d.file("out/tables")));
 }
