@@ -144,7 +144,7 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
       const std::string& item = t.variable(protocol.design.item_variable);
       const RegionLayout* layout = regions.find(item, t.variables);
       if (!layout) {
-        throw InputError({protocol.path, 0, "regions"}, "no regions for " + regions.describe(item, t.variables) + " (recording " +
+        throw InputError({regions.source(), 0, "item"}, "no regions for " + regions.describe(item, t.variables) + " (recording " +
                                                              rec.meta.id + ", trial " + t.id + ")");
       }
       DriftInput input;

@@ -72,7 +72,7 @@ void map_regions(CleaningState& state, const RegionCatalogue& regions, const Reg
     for (auto& t : p.trials) {
       const RegionLayout* layout = regions.find(t.item, t.variables);
       if (!layout) {
-        throw InputError({"", 0, "regions"}, "no regions for " + regions.describe(t.item, t.variables) + " (participant " + t.participant +
+        throw InputError({regions.source(), 0, "item"}, "no regions for " + regions.describe(t.item, t.variables) + " (participant " + t.participant +
                                                  ", trial " + t.trial + ")");
       }
       for (auto& f : t.fixations) f.region = place_fixation(*layout, f.fixation.x_px, f.fixation.y_px, spec).region;

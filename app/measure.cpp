@@ -39,7 +39,7 @@ void measure_recording(const CleanedRecording& cleaned, const std::map<std::stri
       const std::string cell = cell_key(design_levels(design, t.variables));
       const RegionLayout* layout = regions.find(item, t.variables);
       if (!layout) {
-        throw InputError({"", 0, "regions"}, "no regions for " + regions.describe(item, t.variables) + " (recording " + id + ", trial " +
+        throw InputError({regions.source(), 0, "item"}, "no regions for " + regions.describe(item, t.variables) + " (recording " + id + ", trial " +
                                                  t.id + ")");
       }
       std::vector<PlacedFixation> placed;

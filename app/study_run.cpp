@@ -729,6 +729,27 @@ void check_region_references(const Protocol& p, const RegionCatalogue& regions) 
   }
 }
 
+// Every trial read this run must find its item's regions: said once, naming
+// the region file and the first few trials, before anything is written
+// (otherwise cleaning stops at the first such trial, naming no file).
+void check_items_have_regions(const Protocol& p, const RegionCatalogue& regions, const std::map<std::string, RecordingOutput>& read) {
+  std::size_t missing = 0;
+  std::string examples;
+  std::set<std::string> described;
+  for (const auto& [id, r] : read) {
+    for (const auto& t : r.recording.trials) {
+      const std::string& item = t.variable(p.design.item_variable);
+      if (regions.find(item, t.variables)) continue;
+      ++missing;
+      const std::string what = regions.describe(item, t.variables);
+      if (described.size() < 5 && described.insert(what).second) examples += "; " + what + " (recording " + id + ", trial " + t.id + ")";
+    }
+  }
+  if (missing == 0) return;
+  throw InputError({regions_file(p), 0, "item"}, std::to_string(missing) + " trial(s) show an item this file has no regions for" + examples +
+                                                     "; is the file complete, and are the item and design variables spelt as the trials give them?");
+}
+
 StudyRunReport StudyRun::execute() {
   // Everything the protocol refers to is read and checked before any work.
   if (regions_present()) {
@@ -797,6 +818,7 @@ StudyRunReport StudyRun::execute() {
       if (!r.inputs.empty()) read.emplace_back(id, &r.pattern_use);
     }
     check_trial_patterns(p_, read, read.size() == plans_.size() && !o_.shard_count);
+    if (regions_ && !o_.only && static_cast<int>(o_.until) >= static_cast<int>(Stage::clean)) check_items_have_regions(p_, *regions_, fresh_);
   }
   keys_[Stage::ingest] = study_key(Stage::ingest);
   const bool ingest_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work == RecordingWork::ingest; }) ||

@@ -48,6 +48,8 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px,
   const auto factors = factor_columns(
       t, {"item", "region", "label", "left_px", "top_px", "right_px", "bottom_px", "line", "role", "letters", "words"}, design_factors);
   std::map<std::pair<std::string, std::vector<std::string>>, RegionLayout> layouts;
+  // Each box's row line, to name both rows of two boxes that overlap.
+  std::map<std::pair<std::string, std::vector<std::string>>, std::vector<std::pair<RegionBox, std::size_t>>> placed;
   for (std::size_t r = 0; r < t.rows(); ++r) {
     const std::string item = t.text(r, "item");
     const std::vector<std::string> levels = levels_of(t, r, factors);
@@ -81,6 +83,17 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px,
     for (const RegionBox& earlier : info.boxes) {
       box.chars_before += char_width_px > 0 ? (earlier.right_px - earlier.left_px) / char_width_px : 0;
     }
+    // Boxes that overlap would give a fixation two regions; a duplicated row is such a box.
+    auto& boxes = placed[{item, levels}];
+    for (const auto& [other, other_line] : boxes) {
+      if (other.line == box.line && box.left_px < other.right_px && other.left_px < box.right_px && box.top_px < other.bottom_px &&
+          other.top_px < box.bottom_px) {
+        throw InputError({path, t.line_of(r), "left_px"}, "this box of item " + item + ", region " + std::to_string(region + 1) +
+                                                              ", overlaps the box of line " + std::to_string(other_line) +
+                                                              " of this file; a fixation there would be in two regions");
+      }
+    }
+    boxes.emplace_back(box, t.line_of(r));
     info.boxes.push_back(box);
     info.last_line = std::max(info.last_line, line);
     if (static_cast<int>(L.lines.size()) <= line) L.lines.resize(static_cast<std::size_t>(line) + 1, {1e300, -1e300});
@@ -88,7 +101,7 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px,
     li.top_px = std::min(li.top_px, box.top_px);
     li.bottom_px = std::max(li.bottom_px, box.bottom_px);
   }
-  RegionCatalogue cat(factors);
+  RegionCatalogue cat(factors, path);
   for (auto& [key, L] : layouts) {
     // Words are unknown in a boxes file: each box stands for the words it holds.
     L.word_centre_x_px.assign(L.lines.size(), {});
@@ -96,9 +109,16 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px,
       for (const auto& b : r.boxes) L.word_centre_x_px[static_cast<std::size_t>(b.line)].push_back(0.5 * (b.left_px + b.right_px));
     }
     for (auto& line : L.word_centre_x_px) std::sort(line.begin(), line.end());
+    std::map<std::string, std::size_t> role_region;
     for (std::size_t i = 0; i < L.regions.size(); ++i) {
       if (L.regions[i].boxes.empty()) {
         throw InputError({path, 0, "region"}, "item " + key.first + " has no row for region " + std::to_string(i + 1));
+      }
+      const std::string& role = L.regions[i].role;
+      if (role.empty()) continue;
+      if (const auto [at, fresh] = role_region.emplace(role, i); !fresh) {
+        throw InputError({path, 0, "role"}, "item " + key.first + " gives the role '" + role + "' to regions " + std::to_string(at->second + 1) +
+                                                " and " + std::to_string(i + 1) + "; a role names one region of an item");
       }
     }
     cat.add(std::move(L));
@@ -109,19 +129,40 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px,
 RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& layout, const std::vector<std::string>& design_factors) {
   TsvTable t(path);
   const auto factors = factor_columns(t, {"item", "text", "roles"}, design_factors);
-  RegionCatalogue cat(factors);
+  RegionCatalogue cat(factors, path);
+  std::map<std::pair<std::string, std::vector<std::string>>, std::size_t> seen;  // item and levels -> line
   for (std::size_t r = 0; r < t.rows(); ++r) {
+    const auto [first, fresh] = seen.emplace(std::make_pair(t.text(r, "item"), levels_of(t, r, factors)), t.line_of(r));
+    if (!fresh) {
+      std::string cell;
+      for (const auto& level : first->first.second) cell += (cell.empty() ? " in cell " : "/") + level;
+      throw InputError({path, t.line_of(r), "item"}, "item " + first->first.first + cell + " has a row already, at line " +
+                                                         std::to_string(first->second) + "; each item (and design cell) has one text");
+    }
     std::map<int, std::string> roles;
+    std::map<std::string, int> role_region;
     std::istringstream in(t.text_or(r, "roles", ""));
     std::string pair;
     while (in >> pair) {
       const auto eq = pair.find('=');
+      int region = 0;
       try {
         if (eq == std::string::npos) throw std::invalid_argument("no =");
-        roles[std::stoi(pair.substr(0, eq)) - 1] = pair.substr(eq + 1);
+        region = std::stoi(pair.substr(0, eq)) - 1;
       } catch (const std::exception&) {
         throw InputError({path, t.line_of(r), "roles"}, "expected REGION=ROLE pairs separated by spaces, e.g. \"3=target 4=spillover\"");
       }
+      const std::string role = pair.substr(eq + 1);
+      if (roles.count(region)) {
+        throw InputError({path, t.line_of(r), "roles"}, "region " + std::to_string(region + 1) + " is given two roles, '" + roles[region] + "' and '" +
+                                                            role + "'");
+      }
+      if (role_region.count(role)) {
+        throw InputError({path, t.line_of(r), "roles"}, "the role '" + role + "' is given to regions " + std::to_string(role_region[role] + 1) +
+                                                            " and " + std::to_string(region + 1) + "; a role names one region of an item");
+      }
+      roles[region] = role;
+      role_region[role] = region;
     }
     LaidOutItem item;
     try {
@@ -158,6 +199,12 @@ std::vector<ItemText> read_item_texts(const std::string& path, const std::vector
 std::vector<ItemText> load_item_texts(const Protocol& p) {
   if (!p.regions.boxes_file.empty() || p.regions.items_file.empty()) return {};
   return read_item_texts(resolve_beside(p, p.regions.items_file), p.design.factors);
+}
+
+std::string regions_file(const Protocol& p) {
+  if (!p.regions.boxes_file.empty()) return resolve_beside(p, p.regions.boxes_file);
+  if (!p.regions.items_file.empty()) return resolve_beside(p, p.regions.items_file);
+  return "";
 }
 
 RegionCatalogue load_regions(const Protocol& p) {

@@ -21,6 +21,10 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px,
 /// the texts differ by. Any other column is an error naming it.
 RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& layout, const std::vector<std::string>& factors);
 
+/// The file the protocol's regions come from (boxes_file or items_file),
+/// relative to the protocol's folder; "" without a [regions] section.
+std::string regions_file(const Protocol& protocol);
+
 /// The protocol's regions, with file names relative to the protocol's folder.
 RegionCatalogue load_regions(const Protocol& protocol);
 

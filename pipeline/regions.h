@@ -59,7 +59,10 @@ RegionLayout region_layout_from_text(const LaidOutItem& item, const TextLayoutSp
 /// factors the region file names (a layout may differ by any of them, or by none).
 class RegionCatalogue {
  public:
-  explicit RegionCatalogue(std::vector<std::string> factors = {}) : factors_(std::move(factors)) {}
+  explicit RegionCatalogue(std::vector<std::string> factors = {}, std::string source = "")
+      : factors_(std::move(factors)), source_(std::move(source)) {}
+  /// The file the layouts were read from ("" when made otherwise), for messages.
+  const std::string& source() const { return source_; }
   /// The design factors the layouts differ by (the region file's factor columns).
   const std::vector<std::string>& factors() const { return factors_; }
   void add(RegionLayout layout);
@@ -73,6 +76,7 @@ class RegionCatalogue {
 
  private:
   std::vector<std::string> factors_;
+  std::string source_;
   std::map<std::pair<std::string, std::vector<std::string>>, RegionLayout> layouts_;
 };
 

@@ -164,6 +164,15 @@ TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
   // (a misspelt factor would otherwise give every trial the same regions).
   expect("item\tfrequncy\tregion\tlabel\tleft_px\ttop_px\tright_px\tbottom_px\tline\n1\trare\t1\tThe\t100\t200\t150\t240\t1\n", 1,
          "frequncy");
+  // Boxes that overlap (a row given twice, a box reaching into the next) would
+  // put a fixation in two regions; boxes that only touch are the usual layout
+  // (a newcomer's trial; common practice, no source).
+  expect(head + "1\t1\tThe\t100\t200\t150\t240\t1\n1\t2\tdog\t150\t200\t190\t240\t1\n1\t2\tdog\t150\t200\t190\t240\t1\n", 4,
+         "left_px");
+  expect(head + "1\t1\tThe\t100\t200\t160\t240\t1\n1\t2\tdog\t150\t200\t190\t240\t1\n", 3, "left_px");
+  // A role names one region of an item.
+  const std::string roles = "item\tregion\tlabel\trole\tleft_px\ttop_px\tright_px\tbottom_px\tline\n";
+  expect(roles + "1\t1\tThe\ttarget\t100\t200\t150\t240\t1\n1\t2\tdog\ttarget\t150\t200\t190\t240\t1\n", 0, "role");
 }
 
 // What a boxes file gives the drift methods and the landing positions,
@@ -205,6 +214,22 @@ TEST(MeasureCommand, ARoleOnARegionTheItemLacksIsAnError) {
     EXPECT_EQ(e.where().field, "roles");
     EXPECT_NE(std::string(e.what()).find("has 3 regions"), std::string::npos) << e.what();
   }
+  // One text per item and design cell, one role per region, one region per
+  // role: a second row or role would silently replace the first (a
+  // newcomer's trial; common practice, no source).
+  auto error_line = [&](const std::string& text) -> std::string {
+    try {
+      read_items_file(d.write("items.tsv", text), layout, {});
+    } catch (const InputError& e) {
+      return std::to_string(e.where().line) + " " + e.where().field + ": " + e.what();
+    }
+    return "no error";
+  };
+  EXPECT_NE(error_line("item\ttext\n1\tThe / fox\n2\tA / dog\n1\tThe / cat\n").find("4 item: "), std::string::npos);
+  EXPECT_NE(error_line("item\ttext\n1\tThe / fox\n2\tA / dog\n1\tThe / cat\n").find("at line 2"), std::string::npos);
+  EXPECT_NE(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 3=target\n").find("2 roles: "), std::string::npos);
+  EXPECT_NE(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 2=spillover\n").find("two roles"), std::string::npos);
+  EXPECT_EQ(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 3=spillover\n"), "no error");
 }
 
 // Every kept fixation the measures do not credit to a region is counted by

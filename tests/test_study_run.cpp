@@ -413,3 +413,33 @@ max_duration_ms = 2
   EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
   EXPECT_FALSE(fs::exists(d.file("out/tables")));
 }
+
+// An item the trials show but the region file lacks is named with the file,
+// once, before the store is written (it was "<input>" and came from cleaning's
+// first such trial; a newcomer's trial; common practice, no source).
+TEST(StudyRun, AnItemWithoutRegionsIsNamedWithTheRegionFile) {
+  TempDir d;
+  const std::string proto = study(d);
+  const std::string items = (fs::path(proto).parent_path() / "items.tsv").string();
+  std::istringstream in(read_text(items));
+  std::string line, kept;
+  std::size_t dropped = 0;
+  while (std::getline(in, line)) {
+    if (line.rfind("7\t", 0) == 0) {
+      ++dropped;
+      continue;
+    }
+    kept += line + "\n";
+  }
+  ASSERT_GT(dropped, 0u) << "the fixture has no item 7";
+  std::ofstream(items) << kept;
+  try {
+    run(proto, d.file("out"));
+    ADD_FAILURE() << "trials of an item without regions passed";
+  } catch (const InputError& e) {
+    EXPECT_EQ(fs::path(e.where().file).lexically_normal(), fs::path(items).lexically_normal()) << e.what();
+    EXPECT_EQ(e.where().field, "item");
+    EXPECT_NE(std::string(e.what()).find("item 7 with frequency="), std::string::npos) << e.what();
+  }
+  EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
+}
