@@ -13,6 +13,7 @@
 #include "app/report_command.h"
 #include "app/run_stats.h"
 #include "app/shard_merge.h"
+#include "app/stale_outputs.h"
 #include "app/study_run.h"
 #include "app/verify.h"
 #include "io/atomic_file.h"
@@ -147,6 +148,14 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   }
   const StudyRunReport r = run_study(protocol, opt);
   if (r.beside_tables_error) std::rethrow_exception(r.beside_tables_error);
+  if (r.store_written) {
+    for (const auto& aside : set_aside_stale_outputs(opt.store_path, opt.tables_folder)) {
+      spdlog::warn("renamed to {}: it was made from results the store no longer holds as current, and nothing should read it "
+                   "unawares (gazemill run {} makes the tables and the report again)",
+                   aside, o.protocol_path);
+    }
+  }
+  if (!only && o.shard.empty()) remove_stale_outputs(folder);
   log_counts(r);
   const std::string timing = clock.summary(r.input_bytes);
   spdlog::info("{}: {}", opt.store_path, stage_summary(r));

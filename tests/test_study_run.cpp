@@ -14,6 +14,7 @@
 
 #include "app/protocol_parser.h"
 #include "app/shard_merge.h"
+#include "app/stale_outputs.h"
 #include "io/measures_io.h"
 #include "io/report_store.h"
 #include "io/store_compare.h"
@@ -442,4 +443,40 @@ TEST(StudyRun, AnItemWithoutRegionsIsNamedWithTheRegionFile) {
     EXPECT_NE(std::string(e.what()).find("item 7 with frequency="), std::string::npos) << e.what();
   }
   EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
+}
+
+// A stage command that makes the run's later results stale must not leave
+// the run's tables and report where a lab's script reads them (a newcomer's
+// trial: `clean` again left the old measures in OUT/tables, unmarked). They
+// are renamed to *.stale; a whole run removes those (the stage model, no source).
+TEST(StudyRun, TablesOfResultsNoLongerCurrentAreSetAside) {
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("out"));
+  std::ofstream(d.file("out/report.html")) << "<html></html>";
+  // Nothing changed: nothing set aside.
+  EXPECT_TRUE(set_aside_stale_outputs(d.file("out/s.gzm.h5"), "").empty());
+
+  std::string text = read_text(proto);
+  text.replace(text.find("min_duration_ms = 80"), 20, "min_duration_ms = 95");
+  std::ofstream(proto) << text;
+  StudyRunOptions o;
+  o.store_path = d.file("out/s.gzm.h5");
+  o.only = Stage::clean;
+  o.tables_folder = d.file("out/s-tables");
+  run_study(parse_protocol_file(proto), o);
+  const auto aside = set_aside_stale_outputs(o.store_path, o.tables_folder);
+  EXPECT_EQ(aside.size(), 2u);
+  EXPECT_FALSE(fs::exists(d.file("out/tables")));
+  EXPECT_TRUE(fs::exists(d.file("out/tables.stale/measures.tsv")));
+  EXPECT_FALSE(fs::exists(d.file("out/report.html")));
+  EXPECT_TRUE(fs::exists(d.file("out/report.stale.html")));
+  EXPECT_TRUE(fs::exists(d.file("out/s-tables/fixations.tsv")));  // the clean command's own, current
+
+  run(proto, d.file("out"));
+  remove_stale_outputs(d.file("out"));
+  EXPECT_FALSE(fs::exists(d.file("out/tables.stale")));
+  EXPECT_FALSE(fs::exists(d.file("out/report.stale.html")));
+  EXPECT_TRUE(fs::exists(d.file("out/tables/measures.tsv")));
+  EXPECT_TRUE(set_aside_stale_outputs(d.file("out/s.gzm.h5"), "").empty());
 }
