@@ -400,6 +400,22 @@ void parse_design(std::optional<TomlSection> d, Protocol& p) {
     }
     p.design.factors = *factors;
   }
+  if (auto levels = d->table("levels")) {
+    for (const auto& factor : levels->keys()) {
+      if (std::find(p.design.factors.begin(), p.design.factors.end(), factor) == p.design.factors.end()) {
+        levels->fail(factor, "'" + factor + "' is not one of the design's factors (" + listing({p.design.factors.begin(), p.design.factors.end()}) + ")");
+      }
+      const auto list = levels->strings(factor);
+      if (!list || list->empty()) levels->fail(factor, "expected the factor's levels as a list of strings, e.g. [\"frequent\", \"rare\"]");
+      std::set<std::string> seen;
+      for (const auto& level : *list) {
+        if (!seen.insert(level).second) levels->fail(factor, "the level '" + level + "' is listed twice");
+      }
+      p.design.levels[factor] = *list;
+      p.design.levels_lines[factor] = levels->line_of(factor);
+    }
+    levels->finish();
+  }
   d->finish();
 }
 

@@ -160,10 +160,17 @@ std::string imported_events_settings_json(const Protocol& p) {
   return j.dump();
 }
 
+namespace {
+nlohmann::json design_json(const DesignSpec& d) {
+  return {{"item", d.item_variable}, {"factors", d.factors}, {"levels", d.levels}};
+}
+}  // namespace
+
 std::string cleaning_settings_json(const Protocol& p) {
   nlohmann::json rules = nlohmann::json::array();
   for (const auto& r : p.cleaning) rules.push_back({{"name", r.name}, {"kind", r.kind}, {"numbers", r.numbers}, {"texts", r.texts}});
-  return rules.dump();
+  // The audit counts by design cell: another design is another cleaning result.
+  return nlohmann::json{{"rules", rules}, {"design", design_json(p.design)}}.dump();
 }
 
 std::string regions_settings_json(const Protocol& p) {
@@ -206,9 +213,9 @@ std::string align_settings_json(const Protocol& p) {
   return j.dump();
 }
 
-std::string measure_settings_json(const Protocol&) {
-  nlohmann::json j = nlohmann::json::object();
-  return j.dump();
+std::string measure_settings_json(const Protocol& p) {
+  // The item names each trial's regions; the factors make the aggregates' cells.
+  return nlohmann::json{{"design", design_json(p.design)}}.dump();
 }
 
 }  // namespace gazemill

@@ -21,6 +21,7 @@
 
 #include "app/align.h"
 #include "app/clean.h"
+#include "app/design_level_check.h"
 #include "app/cleaning_outcome_check.h"
 #include "app/event_tables.h"
 #include "app/measure.h"
@@ -633,6 +634,7 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     if ((s == Stage::align || s == Stage::measure) && !regions_) regions_ = load_regions(p_);
     if (s == Stage::clean) {
       events_ = recording_events();
+      check_design_levels(p_, events_);
       cleaned_ = clean_events(p_, events_);
       check_cleaning_outcome(p_, cleaned_->report);
       write_cleaning(out, *cleaned_);

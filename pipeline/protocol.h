@@ -254,6 +254,10 @@ struct CleaningRuleSpec {
 struct DesignSpec {
   std::string item_variable = "item";
   std::vector<std::string> factors;
+  // A factor's levels, when the protocol lists them ([design.levels]): a trial
+  // with another value is an error, not a new design cell (a typo would be one).
+  std::map<std::string, std::vector<std::string>> levels;
+  std::map<std::string, std::size_t> levels_lines;  // where each list is in the protocol file
 };
 
 struct Protocol {

@@ -118,6 +118,13 @@ std::string trials_section(const StudyDesign& design) {
     factors += (factors.empty() ? "\"" : ", \"") + f.name + "\"";
   }
   sentence += " list (?<list>\\d+)$";
+  // The levels, so that a trial with another value is an error, not a cell of its own.
+  std::string levels = design.factors.empty() ? "" : "\n[design.levels]\n";
+  for (const auto& f : design.factors) {
+    std::string list;
+    for (const auto& l : f.levels) list += (list.empty() ? "\"" : ", \"") + l.name + "\"";
+    levels += f.name + " = [" + list + "]\n";
+  }
   return fmt::format(R"([trials]
 start = '^begin trial (?<trial>\d+)$'
 end = '^end trial (?<trial>\d+)$'
@@ -132,11 +139,11 @@ boundary = '^boundary crossed$'
 [design]
 item = "item"
 factors = [{}]
-)",
+{})",
                      // A pattern only for a kind of trial the study has: one that finds nothing is an error.
                      design.items.empty() ? "" : "\n  '" + sentence + "',",
                      design.passages.empty() ? "" : "\n  '^show (?<block>passage) (?<item>\\S+) list (?<list>\\d+)$',",
-                     design.question_share > 0 ? "\n  '^answer (?<answer_correct>[01])$'," : "", factors);
+                     design.question_share > 0 ? "\n  '^answer (?<answer_correct>[01])$'," : "", factors, levels);
 }
 
 std::string regions_section(const TextLayoutSpec& l) {

@@ -1,5 +1,6 @@
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 
 #include "app/protocol_parser.h"
@@ -155,4 +156,17 @@ TEST(ProtocolParser, OffscreenMarginAndStatusColumn) {
                   "input.table.status_column", "invalid_status = [");
   expect_error_at(replace(kProtocol, "missing_values = [\"\", \"-1\"]", "missing_values = [\"\", \"-1\"]\ninvalid_status = [\"0\"]"), 16,
                   "input.table.invalid_status", "needs status_column");
+}
+
+// [design.levels] lists a factor's levels so that a typo in one trial's
+// message is an error, not a design cell of its own (common practice, no source).
+TEST(ProtocolParser, DesignLevelsBelongToFactorsOfTheDesign) {
+  const std::string base = kProtocol + "\n[design]\nfactors = [\"condition\"]\n\n[design.levels]\n";
+  const std::size_t line = 1 + static_cast<std::size_t>(std::count(base.begin(), base.end(), '\n'));  // the line after the header
+  const Protocol p = parse_protocol_text(base + "condition = [\"easy\", \"hard\"]\n", "study.toml");
+  EXPECT_EQ(p.design.levels.at("condition"), (std::vector<std::string>{"easy", "hard"}));
+  EXPECT_EQ(p.design.levels_lines.at("condition"), line);
+  expect_error_at(base + "cond = [\"easy\", \"hard\"]\n", line, "design.levels.cond", "not one of the design's factors");
+  expect_error_at(base + "condition = [\"easy\", \"easy\"]\n", line, "design.levels.condition", "listed twice");
+  expect_error_at(base + "condition = []\n", line, "design.levels.condition", "expected the factor's levels");
 }

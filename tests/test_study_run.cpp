@@ -480,3 +480,25 @@ TEST(StudyRun, TablesOfResultsNoLongerCurrentAreSetAside) {
   EXPECT_TRUE(fs::exists(d.file("out/tables/measures.tsv")));
   EXPECT_TRUE(set_aside_stale_outputs(d.file("out/s.gzm.h5"), "").empty());
 }
+
+// The audit counts and the aggregates are by design cell: another [design]
+// is another cleaning and measure result (found by trying it: a run with
+// one factor fewer reused everything and kept the old cells).
+TEST(StudyRun, ChangingTheDesignRedoesCleaningOnward) {
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("out"));
+  std::string text = read_text(proto);
+  const std::string both = "factors = [\"frequency\", \"preview\"]";
+  ASSERT_NE(text.find(both), std::string::npos);
+  text.replace(text.find(both), both.size(), "factors = [\"frequency\"]");
+  std::ofstream(proto) << text;
+  const auto r = run(proto, d.file("out"));
+  EXPECT_EQ(r.stages.at(Stage::detect), "reused");
+  EXPECT_EQ(r.stages.at(Stage::clean), "ran");
+  EXPECT_EQ(r.stages.at(Stage::measure), "ran");
+  const std::string by_role = read_text(d.file("out/tables/measures_by_role.tsv"));
+  const std::string header = by_role.substr(0, by_role.find('\n'));
+  EXPECT_NE(header.find("frequency"), std::string::npos) << header;
+  EXPECT_EQ(header.find("preview"), std::string::npos) << header;
+}
