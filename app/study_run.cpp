@@ -752,6 +752,28 @@ void check_items_have_regions(const Protocol& p, const RegionCatalogue& regions,
                                                      "; is the file complete, and are the item and design variables spelt as the trials give them?");
 }
 
+// Two recordings whose sample files are byte for byte the same are one
+// recording under two names (a file copied to the next participant's name):
+// analysed twice, it would count a reader twice. Other files (a messages
+// file, a trial table) may well be shared.
+void check_distinct_recordings(const std::vector<RecordingPlan>& plans, const std::map<std::string, RecordingOutput>& read) {
+  std::map<std::string, std::pair<std::string, std::string>> by_hash;  // SHA-256 -> sample file, recording
+  for (const auto& plan : plans) {
+    if (!plan.inputs) continue;
+    const std::string& file = plan.inputs->sample_file;
+    const auto r = read.find(plan.id);
+    const auto& records = r != read.end() && !r->second.inputs.empty() ? r->second.inputs : plan.known;
+    const auto record = std::find_if(records.begin(), records.end(), [&](const InputFileRecord& f) { return f.path == file; });
+    if (record == records.end() || record->sha256.empty()) continue;
+    const auto [first, fresh] = by_hash.emplace(record->sha256, std::make_pair(file, plan.id));
+    if (!fresh && first->second.first != file) {
+      throw InputError({file, 0, ""}, "has the same content (SHA-256 " + record->sha256.substr(0, 12) + "…) as " + first->second.first +
+                                          " (recording " + first->second.second + "), yet is read as recording " + plan.id +
+                                          ": the same recording under two names? Remove the copy");
+    }
+  }
+}
+
 StudyRunReport StudyRun::execute() {
   // Everything the protocol refers to is read and checked before any work.
   if (regions_present()) {
@@ -822,6 +844,7 @@ StudyRunReport StudyRun::execute() {
     check_trial_patterns(p_, read, read.size() == plans_.size() && !o_.shard_count);
     if (regions_ && !o_.only && static_cast<int>(o_.until) >= static_cast<int>(Stage::clean)) check_items_have_regions(p_, *regions_, fresh_);
   }
+  check_distinct_recordings(plans_, fresh_);
   keys_[Stage::ingest] = study_key(Stage::ingest);
   const bool ingest_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work == RecordingWork::ingest; }) ||
                           !removed_recordings_.empty() || o_.only == Stage::ingest || !old_;  // a new store, even of no recordings

@@ -358,7 +358,7 @@ TEST(BidsExampleLayouts, FmriLayoutWithAnEmptyEventsFileSegmentsByMessages) {
   for (const char* run : {"01", "02"}) {
     const std::string base = std::string("sub-01/ses-01/func/sub-01_ses-01_task-rest_run-") + run + "_recording-eye1";
     d.write(base + "_physio.json", R"({"PupilFitMethod": "CENTROID", "StartTime": 45446, "RecordedEye": "left"})");
-    d.write_gz(base + "_physio.tsv.gz", samples_ms(45446, 700));
+    d.write_gz(base + "_physio.tsv.gz", samples_ms(45446, std::string(run) == "01" ? 690 : 700));  // two runs, not one file twice
     d.write_gz(base + "_physioevents.tsv.gz", "45450\tn/a\tn/a\t0\tstart rest\n45470\t12\tfixation\t0\tn/a\n45540\tn/a\tn/a\t0\tstop rest\n");
   }
   const std::string text = R"([input]

@@ -8,6 +8,7 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <cstdio>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
@@ -181,8 +182,17 @@ TEST(StudyRun, OneChangedInputIsReadAgainAndANewOneAdded) {
   // Same bytes, newer time: hashed again, found unchanged, not read again.
   fs::last_write_time(d.file("study/raw/p02_s1.tsv.gz"), fs::file_time_type::clock::now());
   EXPECT_EQ(run(proto, d.file("out")).recordings_read, 0u);
-  // A new participant: only that recording is read.
-  fs::copy_file(d.file("study/raw/p02_s1.tsv.gz"), d.file("study/raw/p05_s1.tsv.gz"));
+  // A new participant (p02's samples with one message more, so not a copy of a file): only that recording is read.
+  std::string samples;
+  {
+    FILE* in = popen(("gzip -dc '" + d.file("study/raw/p02_s1.tsv.gz") + "'").c_str(), "r");
+    ASSERT_NE(in, nullptr);
+    char buffer[1 << 16];
+    for (std::size_t n; (n = fread(buffer, 1, sizeof buffer, in)) > 0;) samples.append(buffer, n);
+    ASSERT_EQ(pclose(in), 0);
+  }
+  samples.insert(samples.find('\n') + 1, "1000000\t\t\t\tcalibration checked\n");
+  d.write_gz("study/raw/p05_s1.tsv.gz", samples);
   const auto r = run(proto, d.file("out"));
   EXPECT_EQ(r.recordings_read, 1u);
   EXPECT_EQ(r.recordings_detected, 1u);
@@ -501,4 +511,22 @@ TEST(StudyRun, ChangingTheDesignRedoesCleaningOnward) {
   const std::string header = by_role.substr(0, by_role.find('\n'));
   EXPECT_NE(header.find("frequency"), std::string::npos) << header;
   EXPECT_EQ(header.find("preview"), std::string::npos) << header;
+}
+
+// A sample file copied to another participant's name is one recording under
+// two names: read twice, it would count one reader twice (a newcomer's
+// trial; common practice, no source). Shared files of other kinds may be legitimate.
+TEST(StudyRun, TheSameSampleFileUnderTwoNamesIsAnError) {
+  TempDir d;
+  const std::string proto = study(d);
+  const fs::path raw = fs::path(proto).parent_path() / "raw";
+  fs::copy_file(raw / "p01_s1.tsv.gz", raw / "p09_s1.tsv.gz");
+  try {
+    run(proto, d.file("out"));
+    ADD_FAILURE() << "a copied recording passed";
+  } catch (const InputError& e) {
+    EXPECT_EQ(fs::path(e.where().file).filename(), "p09_s1.tsv.gz") << e.what();
+    EXPECT_NE(std::string(e.what()).find("p01_s1.tsv.gz (recording p01_1)"), std::string::npos) << e.what();
+  }
+  EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
 }
