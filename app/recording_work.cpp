@@ -190,9 +190,11 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     else if (b.screen_error) throw *b.screen_error;
     else throw InputError({in.sample_file, 0, "StimulusPresentation"}, "no screen geometry: neither a task *_events.json with StimulusPresentation nor [screen] in the protocol");
     // BIDS gaze is in screen pixels (the reader insists on it).
-    ScreenMarginSink margin(*out.samples, rec.screen.width_px, rec.screen.height_px, protocol.input.offscreen_margin_px);
-    result = read_bids_recording(b, bopt, check_margin ? static_cast<SampleSink&>(margin) : *out.samples, &out.tracker_events);
+    ZeroGazeCountingSink zeros(*out.samples);
+    ScreenMarginSink margin(zeros, rec.screen.width_px, rec.screen.height_px, protocol.input.offscreen_margin_px);
+    result = read_bids_recording(b, bopt, check_margin ? static_cast<SampleSink&>(margin) : zeros, &out.tracker_events);
     count_offscreen(margin, result);
+    out.zero_gaze_samples = zeros.zero_gaze;
     out.keeps_tracker_events = protocol.input.bids.keeps_tracker_events();
     rec.sample_rate_hz = b.eyes.front().sidecar.sampling_frequency_hz;
   } else if (fixation_input) {
@@ -208,9 +210,11 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     opt.chunk_rows = options.chunk_rows;
     opt.progress = progress_of(options);
     rec.screen = *protocol.screen;
-    ScreenMarginSink margin(*out.samples, rec.screen.width_px, rec.screen.height_px, protocol.input.offscreen_margin_px);
-    result = read_delimited(in.sample_file, opt, check_margin ? static_cast<SampleSink&>(margin) : *out.samples);
+    ZeroGazeCountingSink zeros(*out.samples);
+    ScreenMarginSink margin(zeros, rec.screen.width_px, rec.screen.height_px, protocol.input.offscreen_margin_px);
+    result = read_delimited(in.sample_file, opt, check_margin ? static_cast<SampleSink&>(margin) : zeros);
     count_offscreen(margin, result);
+    out.zero_gaze_samples = zeros.zero_gaze;
   }
   out.samples->finish();
   if (!in.message_file.empty()) {

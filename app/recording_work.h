@@ -40,6 +40,7 @@ struct RecordingOutput {
   std::vector<InputFileRecord> inputs;         // files read (ingest only)
   RepairCounts repairs;
   TrialPatternUse pattern_use;  // ingest only: what the [trials] patterns found
+  std::uint64_t zero_gaze_samples = 0;  // ingest only: gaze read at exactly (0, 0) px
   bool keeps_tracker_events = false;         // the protocol maps the tracker's own events (ingest)
   std::vector<TrackerEvent> tracker_events;  // ... as the BIDS physio events files give them
   std::string ingest_key;

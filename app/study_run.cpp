@@ -377,6 +377,8 @@ void StudyRun::check_current_up_to(Stage stage) {
   }
 }
 
+constexpr std::uint64_t kZeroGazeWarning = 5;
+
 void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
   const std::string& id = r.recording.id;
   if (r.samples && !r.inputs.empty()) {  // read from its files this run
@@ -391,6 +393,13 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
     for (const auto& [kind, n] : r.repairs) {
       report_.repairs += n;
       spdlog::warn("{}: repaired {} x {}", id, n, kind);
+    }
+    // Gaze at exactly (0, 0) is no look at the screen's corner but a tracker's
+    // way of writing lost tracking; a few samples there could be chance.
+    if (r.zero_gaze_samples >= kZeroGazeWarning) {
+      spdlog::warn("{}: {} samples of gaze at exactly (0, 0) px are read as gaze; if the tracker writes lost tracking so, set "
+                   "zero_gaze_is_missing = true in [input.table] (or [input.bids])",
+                   id, r.zero_gaze_samples);
     }
   }
   if (r.detected) {

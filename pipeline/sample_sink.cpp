@@ -55,4 +55,16 @@ void ScreenMarginSink::append(const SampleColumns& chunk) {
   next_.append(copy_);
 }
 
+void ZeroGazeCountingSink::append(const SampleColumns& chunk) {
+  const auto count = [&](const EyeSamples& e) {
+    std::uint64_t n = 0;
+    for (std::size_t i = 0; i < e.x_px.size(); ++i) n += (e.valid[i] != 0) & (e.x_px[i] == 0.0f) & (e.y_px[i] == 0.0f);
+    return n;
+  };
+  if (chunk.has_left) zero_gaze += count(chunk.left);
+  if (chunk.has_right) zero_gaze += count(chunk.right);
+  samples += chunk.size();
+  next_.append(chunk);
+}
+
 }  // namespace gazemill

@@ -40,6 +40,20 @@ class ScreenMarginSink : public SampleSink {
   SampleColumns copy_;
 };
 
+/// Counts samples whose gaze is exactly (0, 0) px and passes the chunks on.
+/// Some trackers write lost tracking so; read as gaze, it makes fixations in
+/// the screen's corner. Counted only, for a warning: the protocol decides.
+class ZeroGazeCountingSink : public SampleSink {
+ public:
+  explicit ZeroGazeCountingSink(SampleSink& next) : next_(next) {}
+  void append(const SampleColumns& chunk) override;
+  std::uint64_t zero_gaze = 0;  // samples of either eye
+  std::uint64_t samples = 0;
+
+ private:
+  SampleSink& next_;
+};
+
 /// Drops everything (parse-only benchmarks).
 class NullSink : public SampleSink {
  public:

@@ -406,3 +406,23 @@ TEST(ScreenMarginSink, GazeBeyondTheMarginIsMissingAndCounted) {
   EXPECT_EQ(margin.offscreen_left, 4u);
   EXPECT_FLOAT_EQ(inner.samples.left.pupil[0], 1.f);
 }
+
+// Gaze at exactly (0, 0) px is counted (for a warning; a newcomer's trial:
+// some trackers write lost tracking so, common practice, no source) and
+// passed on unchanged. By hand: only the first sample is valid and at (0, 0).
+TEST(ZeroGazeCountingSink, CountsValidGazeAtExactlyTheOrigin) {
+  CollectingSink inner;
+  ZeroGazeCountingSink zeros(inner);
+  SampleColumns c;
+  c.has_left = true;
+  c.time_us = {0, 1, 2, 3, 4};
+  c.left.x_px = {0, 0, 0, 3, 0.5f};
+  c.left.y_px = {0, 0, 5, 0, 0};
+  c.left.pupil = {1, 1, 1, 1, 1};
+  c.left.valid = {1, 0, 1, 1, 1};
+  zeros.append(c);
+  EXPECT_EQ(zeros.zero_gaze, 1u);
+  EXPECT_EQ(zeros.samples, 5u);
+  EXPECT_EQ(inner.samples.left.x_px, c.left.x_px);
+  EXPECT_EQ(inner.samples.left.valid, c.left.valid);
+}
