@@ -89,6 +89,9 @@ CleaningOutcome clean_events(const Protocol& protocol, const std::vector<Recordi
   if (protocol.regions.present()) map_regions(input, load_regions(protocol), protocol.regions);
   try {
     return run_cleaning(std::move(input), protocol.cleaning);
+  } catch (const RuleApplyError& e) {
+    const CleaningRuleSpec& rule = protocol.cleaning.at(e.rule);
+    throw InputError({protocol.path, rule.line, "cleaning[" + std::to_string(e.rule + 1) + "]"}, "rule '" + rule.name + "': " + e.what());
   } catch (const std::invalid_argument& e) {
     throw InputError({protocol.path, 0, "cleaning"}, e.what());
   }

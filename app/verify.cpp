@@ -5,6 +5,7 @@
 #include "app/protocol_parser.h"
 #include "app/study_run.h"
 #include "app/temp_folder.h"
+#include "io/region_files.h"
 #include "io/sha256.h"
 #include "io/store_compare.h"
 #include "io/study_store.h"
@@ -71,6 +72,21 @@ bool verify_store(const std::string& store_path, std::ostream& out) {
   });
   if (digests_absent) out << "the store keeps no sample digests for the report (made before they were kept); not compared\n";
   for (const auto& d : diffs) out << "dataset differs (" << d.what << "): /" << d.path << "\n";
+  if (!diffs.empty()) {
+    // A stage whose re-run has another key read other inputs than recorded:
+    // the region file, besides the recordings, is read by clean onward.
+    StudyStoreReader fresh(again);
+    for (const auto& r : stages) {
+      const auto now = fresh.stage_record(r.stage);
+      if (!now || now->key == r.key) continue;
+      out << "stage " << to_string(r.stage) << " made from other inputs than recorded";
+      const Protocol protocol = parse_protocol_text(r.protocol_text, r.protocol_path);
+      const std::string regions = regions_file(protocol);
+      if (!regions.empty() && r.stage != Stage::ingest && r.stage != Stage::detect) out << " (has " << regions << " changed since the run?)";
+      out << "\n";
+      break;  // the stages after it differ because it does
+    }
+  }
   if (diffs.empty()) out << "datasets: every dataset matches a fresh run of the stored protocols (" << stages.size() << " stages)\n";
   ok = ok && diffs.empty();
   out << (ok ? "verified\n" : "NOT verified\n");

@@ -22,6 +22,17 @@ std::map<std::pair<std::string, std::string>, std::array<std::uint64_t, kAuditLe
   return out;
 }
 
+// A rule's failure names the rule.
+void apply(const CleaningRule& rule, CleaningState& state, std::size_t index, AuditChannel& channel) {
+  try {
+    rule.apply(state, index, channel);
+  } catch (const RuleApplyError&) {
+    throw;
+  } catch (const std::invalid_argument& e) {
+    throw RuleApplyError(index, e.what());
+  }
+}
+
 }  // namespace
 
 CleaningOutcome run_cleaning(CleaningState input, const std::vector<CleaningRuleSpec>& specs) {
@@ -58,7 +69,7 @@ CleaningOutcome run_cleaning(CleaningState input, const std::vector<CleaningRule
         for (auto id : n.ids) trial_log->emplace(id, std::make_pair(n.rule, n.reason));
       }
     });
-    for (std::size_t r = 0; r < rules.size(); ++r) rules[r]->apply(out.state, r, channel);
+    for (std::size_t r = 0; r < rules.size(); ++r) apply(*rules[r], out.state, r, channel);
     log.disconnect();
   }
   out.report.sequential = ledger.counts();
@@ -82,7 +93,7 @@ CleaningOutcome run_cleaning(CleaningState input, const std::vector<CleaningRule
     alone.emplace_back(names);
     AuditChannel ch;
     auto connection = alone.back().subscribe(ch);
-    rules[r]->apply(copy, r, ch);
+    apply(*rules[r], copy, r, ch);
     for (const auto& [key, c] : alone.back().counts()) out.report.alone[key] = c;
     alone_of.push_back(&alone.back());
   }

@@ -28,6 +28,14 @@ class RuleParameterError : public std::invalid_argument {
   std::string key;
 };
 
+/// A rule that cannot apply to the data it is given (a variable that is no
+/// number, a region rule without regions): which rule, for the message.
+class RuleApplyError : public std::invalid_argument {
+ public:
+  RuleApplyError(std::size_t rule, const std::string& what) : std::invalid_argument(what), rule(rule) {}
+  std::size_t rule;  // index in the protocol's rule list
+};
+
 /// Creates a rule from its spec. Throws RuleParameterError on an unknown kind,
 /// a missing or unknown parameter (a parameter without its unit is named as
 /// such), a negative or impossible value.

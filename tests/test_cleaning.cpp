@@ -494,3 +494,21 @@ TEST(ParticipantExclusions, AMeanOfExactlyTheMinimumStays) {
   const auto o = run_cleaning(state_of(trials), {rule("accuracy", "exclude_participants_by_variable", {{"min_mean", 0.5}}, {{"variable", "correct"}})});
   EXPECT_EQ(seq(o, 0, AuditLevel::participant), 0u);
 }
+
+// A rule that cannot apply to the data (a variable that is no number) names
+// itself: the engine says which rule, so the message can give its name and
+// line (a newcomer's trial; common practice, no source).
+TEST(ParticipantExclusions, AVariableThatIsNoNumberNamesTheRule) {
+  std::uint32_t id = 0;
+  auto t = trial_of({{0, 200, 0}}, id);
+  t.trial = "4";
+  t.variables["block"] = "sentence";
+  try {
+    run_cleaning(state_of({t}), {rule("short", "delete_short_fixations", {{"min_duration_ms", 80}}),
+                                 rule("accuracy", "exclude_participants_by_variable", {{"min_mean", 0.5}}, {{"variable", "block"}})});
+    FAIL() << "a variable that is no number passed";
+  } catch (const RuleApplyError& e) {
+    EXPECT_EQ(e.rule, 1u);
+    EXPECT_NE(std::string(e.what()).find("trial 4 is not a number: \"sentence\""), std::string::npos) << e.what();
+  }
+}

@@ -16,6 +16,7 @@
 #include "app/protocol_parser.h"
 #include "app/shard_merge.h"
 #include "app/stale_outputs.h"
+#include "app/verify.h"
 #include "io/measures_io.h"
 #include "io/report_store.h"
 #include "io/store_compare.h"
@@ -529,4 +530,23 @@ TEST(StudyRun, TheSameSampleFileUnderTwoNamesIsAnError) {
     EXPECT_NE(std::string(e.what()).find("p01_s1.tsv.gz (recording p01_1)"), std::string::npos) << e.what();
   }
   EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
+}
+
+// verify names the region file when a stage that reads it no longer
+// re-runs to the same key (a newcomer's trial: it listed the differing
+// datasets only; the stage model, no source).
+TEST(StudyRun, VerifyNamesTheRegionFileWhenItChanged) {
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("out"));
+  std::ostringstream before;
+  EXPECT_TRUE(verify_store(d.file("out/s.gzm.h5"), before)) << before.str();
+  const std::string items = (fs::path(proto).parent_path() / "items.tsv").string();
+  std::string text = read_text(items);
+  ASSERT_NE(text.find("3=target 4=spillover"), std::string::npos);
+  text.replace(text.find("3=target 4=spillover"), 20, "4=target 5=spillover");
+  std::ofstream(items) << text;
+  std::ostringstream after;
+  EXPECT_FALSE(verify_store(d.file("out/s.gzm.h5"), after));
+  EXPECT_NE(after.str().find("items.tsv changed since the run?"), std::string::npos) << after.str();
 }
