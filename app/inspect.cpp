@@ -2,6 +2,10 @@
 
 #include <fmt/format.h>
 
+#include <fstream>
+#include <optional>
+#include <sstream>
+
 #include "app/text_table.h"
 #include "io/study_store.h"
 #include "pipeline/stage.h"
@@ -31,6 +35,21 @@ void print_store_overview(const std::string& store_path, std::ostream& out) {
     }
     out << fmt::format("  {:<8} {:<8} {}\n", to_string(s), to_string(state), note);
     before = r;
+  }
+  // "current" is about the store's own results; the protocol file may have moved on since.
+  std::optional<StageRecord> last;
+  for (Stage s : kStages) {
+    if (auto r = store.stage_record(s)) last = r;
+  }
+  if (last && !last->protocol_path.empty()) {
+    std::ifstream in(last->protocol_path, std::ios::binary);
+    std::ostringstream text;
+    text << in.rdbuf();
+    if (!in) out << "note       the protocol " << last->protocol_path << " is gone; the store keeps the text each stage ran with\n";
+    else if (text.str() != last->protocol_text) {
+      out << "note       " << last->protocol_path << " has changed since the " << to_string(last->stage)
+          << " stage ran: `gazemill run` redoes the stages the change touches\n";
+    }
   }
   out << "\n";
 

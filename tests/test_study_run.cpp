@@ -14,6 +14,7 @@
 #include <sstream>
 
 #include "app/protocol_parser.h"
+#include "app/inspect.h"
 #include "app/shard_merge.h"
 #include "app/stale_outputs.h"
 #include "app/verify.h"
@@ -549,4 +550,19 @@ TEST(StudyRun, VerifyNamesTheRegionFileWhenItChanged) {
   std::ostringstream after;
   EXPECT_FALSE(verify_store(d.file("out/s.gzm.h5"), after));
   EXPECT_NE(after.str().find("items.tsv changed since the run?"), std::string::npos) << after.str();
+}
+
+// "current" in inspect is about the store's own results: an edited protocol
+// file is said apart (a newcomer's trial; the stage model, no source).
+TEST(StudyRun, InspectSaysWhenTheProtocolFileChangedSince) {
+  TempDir d;
+  const std::string proto = study(d);
+  run(proto, d.file("out"));
+  std::ostringstream before;
+  print_store_overview(d.file("out/s.gzm.h5"), before);
+  EXPECT_EQ(before.str().find("has changed since"), std::string::npos) << before.str();
+  std::ofstream(proto, std::ios::app) << "\n# an edit\n";
+  std::ostringstream after;
+  print_store_overview(d.file("out/s.gzm.h5"), after);
+  EXPECT_NE(after.str().find("gazemill.toml has changed since the measure stage ran"), std::string::npos) << after.str();
 }
