@@ -15,25 +15,10 @@
 #include "app/commands.h"
 #include "gazemill/version.h"
 #include "io/hdf5_util.h"
+#include "pipeline/edit_distance.h"
 #include "pipeline/input_error.h"
 
 namespace {
-
-// Levenshtein distance, for "did you mean" on a misspelt command.
-std::size_t edit_distance(const std::string& a, const std::string& b) {
-  std::vector<std::size_t> row(b.size() + 1);
-  for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;
-  for (std::size_t i = 1; i <= a.size(); ++i) {
-    std::size_t diagonal = row[0];
-    row[0] = i;
-    for (std::size_t j = 1; j <= b.size(); ++j) {
-      const std::size_t up = row[j];
-      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diagonal + (a[i - 1] == b[j - 1] ? 0 : 1)});
-      diagonal = up;
-    }
-  }
-  return row[b.size()];
-}
 
 // The first word that is no option: the command the user meant to give.
 std::string first_word(int argc, char** argv) {
@@ -80,7 +65,7 @@ int main(int argc, char** argv) {
       std::string nearest;
       std::size_t best = 3;  // at most two edits away
       for (const auto* c : commands) {
-        const std::size_t d = edit_distance(word, c->get_name());
+        const std::size_t d = gazemill::edit_distance(word, c->get_name());
         if (d < best) {
           best = d;
           nearest = c->get_name();

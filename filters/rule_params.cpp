@@ -4,6 +4,8 @@
 #include <cmath>
 #include <vector>
 
+#include "pipeline/edit_distance.h"
+
 namespace gazemill {
 
 std::optional<double> RuleParams::maybe(const std::string& key, double min, double max) {
@@ -58,26 +60,6 @@ std::string RuleParams::required_text(const std::string& key) {
   if (it == spec_.texts.end()) missing(key, " (text)");
   return it->second;
 }
-
-namespace {
-
-// Edits (insert, delete, replace) between two names, for "did you mean".
-std::size_t edit_distance(const std::string& a, const std::string& b) {
-  std::vector<std::size_t> row(b.size() + 1);
-  for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;
-  for (std::size_t i = 1; i <= a.size(); ++i) {
-    std::size_t diagonal = row[0];
-    row[0] = i;
-    for (std::size_t j = 1; j <= b.size(); ++j) {
-      const std::size_t up = row[j];
-      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diagonal + (a[i - 1] == b[j - 1] ? 0 : 1)});
-      diagonal = up;
-    }
-  }
-  return row[b.size()];
-}
-
-}  // namespace
 
 void RuleParams::missing(const std::string& key, const std::string& what) const {
   // A misspelt name is the likelier story than a forgotten one: say which was given.

@@ -23,21 +23,26 @@ std::vector<Message> msgs(std::initializer_list<std::pair<Microseconds, const ch
   return out;
 }
 
+// Two trials: the first with every pattern's message (SHOW twice), the second with STIM only.
+std::vector<Message> two_trials() {
+  return msgs({{100, "calibration ok"},
+               {1000, "BEGIN 1"},
+               {1001, "STIM item=12 cond=rare"},
+               {1500, "SHOW"},
+               {1700, "SHOW"},
+               {4000, "ANSWER 1"},
+               {4100, "FINISH 1"},
+               {5000, "BEGIN 2"},
+               {5001, "STIM item=3 cond=frequent"},
+               {9000, "FINISH 2"}});
+}
+
 }  // namespace
 
 TEST(TrialSegmenter, SplitsTrialsAndSetsVariablesAndMarkers) {
   TrialSegmenter seg(spec(), UnterminatedTrialPolicy::error);
   RepairCounts repairs;
-  const auto trials = seg.segment(msgs({{100, "calibration ok"},
-                                        {1000, "BEGIN 1"},
-                                        {1001, "STIM item=12 cond=rare"},
-                                        {1500, "SHOW"},
-                                        {1700, "SHOW"},
-                                        {4000, "ANSWER 1"},
-                                        {4100, "FINISH 1"},
-                                        {5000, "BEGIN 2"},
-                                        {5001, "STIM item=3 cond=frequent"},
-                                        {9000, "FINISH 2"}}),
+  const auto trials = seg.segment(two_trials(),
                                   {}, "f.tsv", repairs);
   ASSERT_EQ(trials.size(), 2u);
   EXPECT_EQ(trials[0].id, "1");
@@ -104,16 +109,7 @@ TEST(TrialSegmenter, CountsTheTrialsEachPatternFoundAMessageIn) {
   TrialSegmenter seg(spec(), UnterminatedTrialPolicy::error);
   RepairCounts repairs;
   TrialPatternUse use;
-  const auto trials = seg.segment(msgs({{100, "calibration ok"},
-                                        {1000, "BEGIN 1"},
-                                        {1001, "STIM item=12 cond=rare"},
-                                        {1500, "SHOW"},
-                                        {1700, "SHOW"},
-                                        {4000, "ANSWER 1"},
-                                        {4100, "FINISH 1"},
-                                        {5000, "BEGIN 2"},
-                                        {5001, "STIM item=3 cond=frequent"},
-                                        {9000, "FINISH 2"}}),
+  const auto trials = seg.segment(two_trials(),
                                   {}, "f.tsv", repairs, &use);
   EXPECT_EQ(use.variable_trials, (std::vector<std::size_t>{2, 1}));
   EXPECT_EQ(use.first_trial_messages,
