@@ -10,8 +10,8 @@
 namespace gazemill {
 
 /// Throws InputError naming the protocol and, rule by rule, what each removed
-/// when the rules keep no trial of a study that had some. Warns when they
-/// remove more than half of the trials.
+/// when the rules keep no trial or no fixation of a study that had some.
+/// Warns when they remove more than half of the trials or the fixations.
 void check_cleaning_outcome(const Protocol& protocol, const AuditReport& audit);
 
 }  // namespace gazemill

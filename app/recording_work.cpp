@@ -24,6 +24,11 @@ namespace fs = std::filesystem;
 
 namespace {
 
+// Fixations of reading last about 200-300 ms on average (Rayner 1998, from
+// memory); a list whose median is outside these bounds was read in the wrong
+// unit (a factor of 1000 lands far outside either way).
+constexpr double kShortestMedianFixationMs = 10.0;
+constexpr double kLongestMedianFixationMs = 10000.0;
 // The sampling rates of eye trackers, generously: webcams to the fastest
 // research systems (common practice, no source).
 constexpr double kLeastRateHz = 10.0;
@@ -81,6 +86,21 @@ std::string milliseconds_text(Microseconds us) {
 // samples (common practice, no source). An error naming the first such trial
 // unless input.repairs.trials_without_samples = "drop", which leaves them out
 // and counts them.
+// A fixation list read in the wrong time unit: durations no reader's fixations have.
+void check_fixation_list_clock(const std::vector<FixationEvent>& fixations, const Protocol& protocol, const RecordingInputs& in) {
+  if (fixations.empty()) return;
+  std::vector<double> ms;
+  ms.reserve(fixations.size());
+  for (const auto& f : fixations) ms.push_back(f.duration_ms());
+  std::nth_element(ms.begin(), ms.begin() + static_cast<std::ptrdiff_t>(ms.size() / 2), ms.end());
+  const double median = ms[ms.size() / 2];
+  if (median >= kShortestMedianFixationMs && median <= kLongestMedianFixationMs) return;
+  const std::string unit = to_string(protocol.input.fixations.time_unit);
+  throw InputError({in.sample_file, 0, "input.fixations.time_unit"},
+                   "its fixations last a median " + format_number(median) + " ms with times read in " + unit +
+                       "; fixations in reading last about 200-300 ms. Is " + unit + " the unit of its time columns?");
+}
+
 void drop_trials_without_samples(Recording& rec, const CompressedSamples& samples, DelimitedReadResult& result, const Protocol& protocol,
                                  const RecordingInputs& in, const std::string& message_source, const std::vector<std::size_t>& lines) {
   std::vector<Trial> kept;
@@ -281,7 +301,17 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   if (!fixation_input) drop_trials_without_samples(rec, *out.samples, result, protocol, in, message_source, lines);
   if (fixation_input) {
     // The list's fixations are the recording's events: the detect stage has nothing to do.
+    check_fixation_list_clock(list.fixations, protocol, in);
     FixationImport imported = import_fixations(rec.trials, list.fixations, rec.screen);
+    if (!list.fixations.empty() && imported.outside_trials == list.fixations.size()) {
+      const auto [first, last] = std::minmax_element(list.fixations.begin(), list.fixations.end(),
+                                                     [](const FixationEvent& a, const FixationEvent& b) { return a.start_us < b.start_us; });
+      throw InputError({in.sample_file, 0, "input.fixations"},
+                       "none of its " + std::to_string(list.fixations.size()) + " fixations starts within a trial: they start from " +
+                           milliseconds_text(first->start_us) + " to " + milliseconds_text(last->start_us) + ", the trials run from " +
+                           milliseconds_text(rec.trials.front().start_us) + " to " + milliseconds_text(rec.trials.back().end_us) +
+                           "; are the fixations and the messages on the same clock and in the units the protocol gives?");
+    }
     out.events = std::move(imported.events);
     out.fixations_outside_trials = imported.outside_trials;
     out.other_eye_rows = list.other_eye_rows;

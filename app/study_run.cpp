@@ -407,7 +407,12 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
     if (imports_) {
       out.write_events(id, r.events, r.labels, "imported", "{}", r.detect_key);
       report_.events_imported = true;
-      if (r.fixations_outside_trials) spdlog::info("{}: {} fixation(s) of the list start in no trial and are left out", id, r.fixations_outside_trials);
+      if (2 * r.fixations_outside_trials > r.fixations_outside_trials + r.events.fixations.size()) {
+        spdlog::warn("{}: {} of the list's {} fixations start in no trial and are left out; are the fixations and the messages on the same clock?",
+                     id, r.fixations_outside_trials, r.fixations_outside_trials + r.events.fixations.size());
+      } else if (r.fixations_outside_trials) {
+        spdlog::info("{}: {} fixation(s) of the list start in no trial and are left out", id, r.fixations_outside_trials);
+      }
       if (r.other_eye_rows) spdlog::info("{}: {} fixation(s) of the other eye left out (input.fixations.eye)", id, r.other_eye_rows);
     } else {
       out.write_events(id, r.events, r.labels, p_.detection.method, nlohmann::json(detector_->parameters()).dump(), r.detect_key);
@@ -806,6 +811,7 @@ StudyRunReport StudyRun::execute() {
     spdlog::debug("the protocol's [design] names no factors: audits and aggregates are not broken down by condition");
   }
   check_store_folder(o_.store_path);
+  if (!o_.tables_folder.empty()) check_table_folder(o_.tables_folder);  // before the work, not after it
   WriteLock lock(o_.store_path);
   if (const int n = remove_leftover_temporaries(o_.store_path); n > 0) {
     spdlog::info("removed {} temporary file(s) that an interrupted run left beside {}", n, o_.store_path);

@@ -4,10 +4,13 @@
 #include <stdio.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <cerrno>
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <nlohmann/json.hpp>
+#include <set>
 #include <sstream>
 
 #include "io/atomic_file.h"
@@ -30,15 +33,8 @@ void write_file(const std::string& path, const std::string& text) {
 
 TableSet::TableSet(std::string folder) : folder_(std::move(folder)) {
   while (folder_.size() > 1 && folder_.back() == '/') folder_.pop_back();
-  // The set replaces the whole folder: it must be one of ours, or new, or empty.
+  check_table_folder(folder_);
   std::error_code ec;
-  if (fs::exists(folder_, ec)) {
-    if (!fs::is_directory(folder_, ec)) throw InputError({folder_, 0, ""}, "is a file; the tables go into a folder of their own");
-    if (!fs::is_empty(folder_, ec) && !fs::exists(fs::path(folder_) / kManifestName, ec)) {
-      throw InputError({folder_, 0, ""}, "holds files that are not gazemill tables (it has no " + std::string(kManifestName) +
-                                             "); the tables replace their whole folder, so name a new or empty one");
-    }
-  }
   temp_ = temporary_path_beside(folder_);
   fs::remove_all(temp_, ec);
   fs::create_directories(temp_, ec);
@@ -71,7 +67,12 @@ void TableSet::write_in_pieces(const std::string& name, const std::function<void
 }
 
 void TableSet::commit(const std::string& manifest_json) {
-  write_file((fs::path(temp_) / kManifestName).string(), manifest_json + "\n");
+  // The files of the set, so that a file added to the folder later is told apart.
+  nlohmann::json manifest = nlohmann::json::parse(manifest_json);
+  std::vector<std::string> files = names_;
+  std::sort(files.begin(), files.end());
+  manifest["files"] = files;
+  write_file((fs::path(temp_) / kManifestName).string(), manifest.dump(2) + "\n");
   std::error_code ec;
   if (fs::exists(folder_, ec)) {
     // Swap the two folders in one step where the system can (Linux 3.15+),
@@ -100,14 +101,49 @@ void TableSet::commit(const std::string& manifest_json) {
   committed_ = true;
 }
 
-std::string read_manifest(const std::string& folder) {
+namespace {
+
+nlohmann::json manifest_of(const std::string& folder) {
   std::ifstream in(fs::path(folder) / kManifestName);
-  if (!in) return "";
+  if (!in) return nullptr;
   std::stringstream s;
   s << in.rdbuf();
-  std::string text = s.str();
-  while (!text.empty() && text.back() == '\n') text.pop_back();
-  return text;
+  return nlohmann::json::parse(s.str(), nullptr, false);
+}
+
+}  // namespace
+
+std::string read_manifest(const std::string& folder) {
+  nlohmann::json m = manifest_of(folder);
+  if (m.is_null()) return "";
+  if (m.is_discarded() || !m.is_object()) return "(unreadable)";
+  m.erase("files");
+  return m.dump(2);
+}
+
+void check_table_folder(const std::string& folder) {
+  // The set replaces the whole folder: it must be one of ours, or new, or empty.
+  std::error_code ec;
+  if (!fs::exists(folder, ec)) return;
+  if (!fs::is_directory(folder, ec)) throw InputError({folder, 0, ""}, "is a file; the tables go into a folder of their own");
+  if (fs::is_empty(folder, ec)) return;
+  const nlohmann::json m = manifest_of(folder);
+  if (m.is_null()) {
+    throw InputError({folder, 0, ""}, "holds files that are not gazemill tables (it has no " + std::string(kManifestName) +
+                                          "); the tables replace their whole folder, so name a new or empty one");
+  }
+  if (!m.is_object() || !m.contains("files") || !m["files"].is_array()) return;  // a set from before the list was kept
+  std::set<std::string> ours;
+  for (const auto& f : m["files"]) {
+    if (f.is_string()) ours.insert(f.get<std::string>());
+  }
+  for (auto it = fs::recursive_directory_iterator(folder, ec); !ec && it != fs::recursive_directory_iterator(); it.increment(ec)) {
+    if (it->is_directory(ec)) continue;
+    const std::string name = fs::relative(it->path(), folder, ec).generic_string();
+    if (name == kManifestName || ours.count(name)) continue;
+    throw InputError({it->path().string(), 0, ""}, "was added to a gazemill tables folder after the tables were written; the tables "
+                                                   "replace their whole folder, so move it out first (or name another folder)");
+  }
 }
 
 }  // namespace gazemill

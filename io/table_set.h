@@ -44,7 +44,13 @@ class TableSet {
   bool committed_ = false;
 };
 
-/// The manifest text of a table folder ("" when absent).
+/// The manifest text of a table folder without its list of files ("" when
+/// absent): what the tables were made from.
 std::string read_manifest(const std::string& folder);
+
+/// Throws InputError when `folder` cannot take a table set: it is a file, or
+/// holds files and no manifest, or a file its manifest does not list (a
+/// user's own file, which replacing the folder would delete).
+void check_table_folder(const std::string& folder);
 
 }  // namespace gazemill

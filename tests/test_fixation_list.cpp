@@ -360,3 +360,40 @@ text_column = "text"
   std::ostringstream out;
   EXPECT_TRUE(verify_store(o2.store_path, out)) << out.str();
 }
+
+// A list read in the wrong unit, or whose fixations all fall outside the
+// trials, is an error naming the file and the key (a newcomer's trial: it
+// gave a mean first fixation of 252 766 ms with exit 0). Reading fixations
+// last about 200-300 ms (Rayner 1998, from memory): the median of this list
+// is 180 ms in ms, 0.18 ms read as us.
+TEST(FixationList, AWrongUnitOrClockIsAnError) {
+  TempDir d;
+  d.write("lists/p01.csv", kCommaRows);
+  std::string unit = kCommaList;
+  unit.replace(unit.find("time_unit = \"ms\""), 16, "time_unit = \"us\"");
+  const std::string text = list_protocol(unit);
+  try {
+    ingest_study(parse_protocol_text(text, d.write("gazemill.toml", text)), d.file("s.gzm.h5"));
+    FAIL() << "a list in the wrong unit passed";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().field, "input.fixations.time_unit");
+    EXPECT_NE(std::string(e.what()).find("median 0.18 ms"), std::string::npos) << e.what();
+  }
+  EXPECT_FALSE(fs::exists(d.file("s.gzm.h5")));
+
+  TempDir e;
+  e.write("lists/p01.csv",
+          "t_start,dur,fx,fy,pupil,note\n"
+          "100,200,300,400,,\n"
+          "400,180,420,401,,\n"
+          "5000,,,,,trial 1 item a\n"
+          "6000,,,,,trial end\n");
+  const std::string same = list_protocol(kCommaList);
+  try {
+    ingest_study(parse_protocol_text(same, e.write("gazemill.toml", same)), e.file("s.gzm.h5"));
+    FAIL() << "a list with no fixation in a trial passed";
+  } catch (const InputError& x) {
+    EXPECT_EQ(x.where().field, "input.fixations");
+    EXPECT_NE(std::string(x.what()).find("none of its 2 fixations starts within a trial"), std::string::npos) << x.what();
+  }
+}

@@ -281,6 +281,23 @@ TEST(StudyRun, TablesNeverReplaceAFolderOfOtherFiles) {
   o.tables_folder = d.file("mine");
   EXPECT_THROW(run_study(parse_protocol_file(proto), o), InputError);
   EXPECT_EQ(read_text(d.file("mine/notes.txt")), "a lab's own notes");
+  EXPECT_FALSE(fs::exists(d.file("s.gzm.h5")));  // refused before any work
+  // A file a user saves into gazemill's own tables folder later is not
+  // deleted by the next run that rewrites the tables (a newcomer's trial).
+  run(proto, d.file("out"));
+  d.write("out/tables/figures/model.txt", "lmer output");
+  std::string text = read_text(proto);
+  text.replace(text.find("min_duration_ms = 80"), 20, "min_duration_ms = 95");
+  std::ofstream(proto) << text;
+  try {
+    run(proto, d.file("out"));
+    ADD_FAILURE() << "a run replaced a folder holding a user's file";
+  } catch (const InputError& e) {
+    EXPECT_EQ(fs::path(e.where().file).filename(), "model.txt") << e.what();
+  }
+  EXPECT_EQ(read_text(d.file("out/tables/figures/model.txt")), "lmer output");
+  fs::remove_all(d.file("out/tables/figures"));
+  EXPECT_EQ(run(proto, d.file("out")).stages.at(Stage::clean), "ran");
 }
 
 TEST(StudyRun, ASecondWriterFailsNamingTheFirst) {
@@ -420,11 +437,28 @@ max_duration_ms = 2
     ADD_FAILURE() << "a run that kept no trial passed";
   } catch (const InputError& e) {
     EXPECT_EQ(e.where().field, "cleaning");
-    EXPECT_NE(std::string(e.what()).find("keep none of the"), std::string::npos) << e.what();
+    EXPECT_NE(std::string(e.what()).find("nothing to measure"), std::string::npos) << e.what();
     EXPECT_NE(std::string(e.what()).find("rule 1 'trial at most 2 s' removed"), std::string::npos) << e.what();
   }
   EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
   EXPECT_FALSE(fs::exists(d.file("out/tables")));
+  // The same for fixations: a limit in another unit (1.2 for 1200 ms) keeps
+  // the trials but none of their fixations (a newcomer's trial).
+  TempDir e;
+  const std::string fixations = study(e, R"(
+[[cleaning]]
+name = "long stare"
+kind = "delete_long_fixations"
+max_duration_ms = 1.2
+)");
+  try {
+    run(fixations, e.file("out"));
+    ADD_FAILURE() << "a run that kept no fixation passed";
+  } catch (const InputError& x) {
+    EXPECT_NE(std::string(x.what()).find("keep 0 of"), std::string::npos) << x.what();
+    EXPECT_NE(std::string(x.what()).find("rule 1 'long stare' removed"), std::string::npos) << x.what();
+  }
+  EXPECT_FALSE(fs::exists(e.file("out/s.gzm.h5")));
 }
 
 // An item the trials show but the region file lacks is named with the file,
