@@ -73,7 +73,21 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
     for (const auto& rec : recordings) {
       for (const auto& t : rec.meta.trials) trials.insert({rec.meta.participant, t.id});
     }
+    std::set<std::string> participants;
+    for (const auto& rec : recordings) participants.insert(rec.meta.participant);
     for (const auto& r : reviews) {
+      if (!participants.count(r.participant)) {
+        std::string known;
+        std::size_t listed = 0;
+        for (const auto& p : participants) {
+          if (listed++ == 12) {
+            known += ", ...";
+            break;
+          }
+          known += (known.empty() ? "" : ", ") + p;
+        }
+        throw InputError({review_path, r.line, "participant"}, "no participant " + r.participant + " in this study; its participants are " + known);
+      }
       if (!trials.count({r.participant, r.trial})) {
         throw InputError({review_path, r.line, "trial"}, "participant " + r.participant + " has no trial " + r.trial + " in this study");
       }
@@ -178,6 +192,11 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
             trial.method = v.value;
             break;
           case ReviewDecision::shift_lines:
+            if (std::abs(v.number) >= static_cast<double>(input.text.line_y_px.size())) {
+              throw InputError({review_path, v.line, "value"}, "trial " + t.id + " of " + rec.meta.participant + " has " +
+                                                                   std::to_string(input.text.line_y_px.size()) + " line(s) of text: shift_lines " +
+                                                                   v.value + " would move every fixation off it");
+            }
             for (std::size_t i = 0; i < result.line.size(); ++i) {
               const long moved = result.line[i] + static_cast<long>(v.number);
               const bool on = moved >= 0 && moved < static_cast<long>(input.text.line_y_px.size());

@@ -3,9 +3,11 @@
 #include <spdlog/spdlog.h>
 
 #include <filesystem>
+#include <fstream>
 #include <map>
 #include <memory>
 #include <set>
+#include <sstream>
 
 #include "app/protocol_parser.h"
 #include "gazemill/version.h"
@@ -42,6 +44,11 @@ StudyRunReport merge_shards(const std::vector<std::string>& shards, const std::s
     } else if (in->settings_json != ingest->settings_json || de->settings_json != detect->settings_json) {
       throw InputError({path, 0, ""}, "was made with other [input], [trials] or [detection] settings than " + shards.front() +
                                           "; every shard of a study runs the same protocol");
+    } else if (de->protocol_text != detect->protocol_text) {
+      // The merge cleans and measures with the shards' protocol: it must be one.
+      throw InputError({path, 0, ""}, "was made with another protocol text than " + shards.front() + " (" + de->protocol_path + " against " +
+                                          detect->protocol_path + "); every shard of a study runs the same protocol, and the merge "
+                                          "cleans and measures with it: run the shards again from one protocol file");
     }
     const std::string shard = r.provenance().shard;
     const auto slash = shard.find('/');
@@ -65,6 +72,16 @@ StudyRunReport merge_shards(const std::vector<std::string>& shards, const std::s
     throw InputError({shards.front(), 0, ""}, "the study has " + std::to_string(count) + " shards; missing: " + missing);
   }
   const Protocol protocol = parse_protocol_text(detect->protocol_text, detect->protocol_path);
+  {
+    std::ifstream file(detect->protocol_path, std::ios::binary);
+    std::ostringstream text;
+    text << file.rdbuf();
+    if (file && text.str() != detect->protocol_text) {
+      spdlog::warn("{} has changed since the shards ran; the merge cleans and measures with the text the shards ran with (run the shards "
+                   "again to use the edited one)",
+                   detect->protocol_path);
+    }
+  }
   std::error_code ec;
   fs::create_directories(out_folder, ec);
   if (ec) throw InputError({out_folder, 0, ""}, "cannot create the output folder: " + ec.message());

@@ -721,11 +721,23 @@ std::optional<PreviousAlignment> StudyRun::previous_alignment() const {
 // the region files: a role no item has would remove nothing without a word.
 void check_region_references(const Protocol& p, const RegionCatalogue& regions) {
   std::set<std::string> roles;
+  std::map<std::string, std::size_t> items_with;  // layouts that give each role
   std::size_t most_regions = 0;
   for (const auto& [key, layout] : regions.layouts()) {
     most_regions = std::max(most_regions, layout.regions.size());
     for (const auto& r : layout.regions) {
-      if (!r.role.empty()) roles.insert(r.role);
+      if (!r.role.empty() && roles.insert(r.role).second) items_with[r.role] = 0;
+      if (!r.role.empty()) ++items_with[r.role];
+    }
+  }
+  // A role in a few items only, beside one in many, is likelier a typo ("targte") than a design.
+  std::size_t commonest = 0;
+  for (const auto& [role, n] : items_with) commonest = std::max(commonest, n);
+  for (const auto& [role, n] : items_with) {
+    if (10 * n < commonest) {
+      std::string counts;
+      for (const auto& [r, k] : items_with) counts += (counts.empty() ? "" : ", ") + r + ": " + std::to_string(k);
+      spdlog::warn("{}: the role '{}' is given in only {} item(s) ({}); a typo?", regions.source(), role, n, counts);
     }
   }
   for (std::size_t i = 0; i < p.cleaning.size(); ++i) {

@@ -1,6 +1,7 @@
 #include "io/region_files.h"
 
 #include <algorithm>
+#include <cctype>
 #include <filesystem>
 #include <map>
 #include <set>
@@ -33,6 +34,12 @@ std::vector<std::string> factor_columns(const TsvTable& t, const std::set<std::s
     if (t.has(f)) present.push_back(f);
   }
   return present;
+}
+
+// A role is a name a rule and the tables use: "target," is a typo, not a role.
+bool role_name_ok(const std::string& role) {
+  if (role.empty()) return false;
+  return std::all_of(role.begin(), role.end(), [](char c) { return std::isalnum(static_cast<unsigned char>(c)) || c == '_' || c == '-'; });
 }
 
 std::vector<std::string> levels_of(const TsvTable& t, std::size_t row, const std::vector<std::string>& factors) {
@@ -71,6 +78,9 @@ RegionCatalogue read_region_boxes(const std::string& path, double char_width_px,
       info.id = region;
       info.label = t.text(r, "label");
       info.role = t.text_or(r, "role", "");
+      if (!info.role.empty() && !role_name_ok(info.role)) {
+        throw InputError({path, t.line_of(r), "role"}, "the role '" + info.role + "' is not a name: letters, digits, _ and - only");
+      }
       info.line = line;
       if (t.has("letters")) {
         info.letters = t.whole(r, "letters", 0, kMaxCount);
@@ -153,6 +163,10 @@ RegionCatalogue read_items_file(const std::string& path, const TextLayoutSpec& l
         throw InputError({path, t.line_of(r), "roles"}, "expected REGION=ROLE pairs separated by spaces, e.g. \"3=target 4=spillover\"");
       }
       const std::string role = pair.substr(eq + 1);
+      if (!role_name_ok(role)) {
+        throw InputError({path, t.line_of(r), "roles"}, "the role '" + role + "' of region " + std::to_string(region + 1) +
+                                                            " is not a name: letters, digits, _ and - only (roles are separated by spaces)");
+      }
       if (roles.count(region)) {
         throw InputError({path, t.line_of(r), "roles"}, "region " + std::to_string(region + 1) + " is given two roles, '" + roles[region] + "' and '" +
                                                             role + "'");

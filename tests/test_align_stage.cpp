@@ -102,12 +102,12 @@ TEST(AlignStage, AReviewFileOverridesTrialsReproducibly) {
     std::ifstream in(proto);
     text.assign(std::istreambuf_iterator<char>(in), {});
   }
-  // The first reader's first passage trial and two sentences.
+  // The first reader's first two passage trials and a sentence.
   d.write("study/review.tsv",
           "participant\ttrial\tdecision\tvalue\treason\treviewer\n"
           "p01\t9\tmethod\twarp\tthe lines are read in order\tA.B.\n"
           "p01\t1\texclude\t\tthe reader looked away\tA.B.\n"
-          "p01\t2\tshift_lines\t1\tcalibration off by a line\t\n");
+          "p01\t10\tshift_lines\t1\tcalibration off by a line\t\n");
   std::ofstream(proto) << text << "\n[alignment]\nreview_file = \"review.tsv\"\n";
   StudyRunOptions o;
   o.store_path = d.file("s.gzm.h5");
@@ -124,8 +124,8 @@ TEST(AlignStage, AReviewFileOverridesTrialsReproducibly) {
   EXPECT_FALSE(trial("9").flagged);
   EXPECT_TRUE(trial("1").excluded);
   for (const auto& r : first.rows) EXPECT_FALSE(r.participant == "p01" && r.trial == "1") << "an excluded trial was measured";
-  // One line down: every fixation of trial 2 on a line is one line further than before (or off the text).
-  EXPECT_NE(trial("2").review.find("shift_lines 1"), std::string::npos);
+  // One line down: every fixation of trial 10 on a line is one line further than before (or off the text).
+  EXPECT_NE(trial("10").review.find("shift_lines 1"), std::string::npos);
   // Unchanged, nothing is redone; a changed review redoes alignment and measures only.
   EXPECT_EQ(run_study(parse_protocol_file(proto), o).stages.at(Stage::align), "reused");
   d.write("study/review.tsv", "participant\ttrial\tdecision\tvalue\treason\np01\t9\taccept\t\tlooked fine\n");
@@ -156,6 +156,8 @@ TEST(AlignStage, ReviewFileErrorsNameFileLineAndField) {
     }
   };
   expect("p01\t999\taccept\t\tok\n", 2, "trial");        // no such trial
+  expect("p1\t1\taccept\t\tok\n", 2, "participant");      // no such participant (they are p01, p02, ...)
+  expect("p01\t2\tshift_lines\t1\tx\n", 2, "value");       // trial 2, a sentence, has one line: nothing to shift to
   expect("p01\t1\tmethod\twiggle\tsure\n", 2, "value");  // no such method
   expect("p01\t1\texclude\t\t\n", 2, "reason");           // a decision without its reason
   expect("p01\t1\tshift\t1\tx\n", 2, "decision");

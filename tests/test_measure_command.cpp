@@ -230,6 +230,9 @@ TEST(MeasureCommand, ARoleOnARegionTheItemLacksIsAnError) {
   EXPECT_NE(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 3=target\n").find("2 roles: "), std::string::npos);
   EXPECT_NE(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 2=spillover\n").find("two roles"), std::string::npos);
   EXPECT_EQ(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 3=spillover\n"), "no error");
+  // "target," is a typo, not a role of its own.
+  EXPECT_NE(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target, 3=spillover\n").find("the role 'target,' of region 2 is not a name"),
+            std::string::npos);
 }
 
 // Every kept fixation the measures do not credit to a region is counted by

@@ -348,6 +348,24 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
   }
   EXPECT_THROW(merge_shards({shards[0], shards[1]}, d.file("merged")), InputError);               // shard 2 missing
   EXPECT_THROW(merge_shards({shards[0], shards[1], shards[1]}, d.file("merged")), InputError);    // shard 1 twice
+  {
+    // A shard made with other cleaning rules: the merge would clean with the
+    // first shard's (a newcomer's trial: the result depended on the order).
+    TempDir e;
+    const std::string other = study(e, "\n[[cleaning]]\nname = \"short\"\nkind = \"delete_short_fixations\"\nmin_duration_ms = 95\n");
+    StudyRunOptions o;
+    o.store_path = e.file("s2.gzm.h5");
+    o.shard_index = 2;
+    o.shard_count = 3;
+    o.until = Stage::detect;
+    run_study(parse_protocol_file(other), o);
+    try {
+      merge_shards({shards[0], shards[1], o.store_path}, d.file("merged"));
+      ADD_FAILURE() << "shards of two protocols merged";
+    } catch (const InputError& x) {
+      EXPECT_NE(std::string(x.what()).find("another protocol text"), std::string::npos) << x.what();
+    }
+  }
   merge_shards(shards, d.file("merged"));
   const std::string merged = (fs::path(d.file("merged")) / "harbour-news.gzm.h5").string();
   for (const auto& x : compare_store_datasets(d.file("one/s.gzm.h5"), merged)) {
