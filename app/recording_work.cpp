@@ -29,10 +29,8 @@ namespace {
 // unit (a factor of 1000 lands far outside either way).
 constexpr double kShortestMedianFixationMs = 10.0;
 constexpr double kLongestMedianFixationMs = 10000.0;
-// The sampling rates of eye trackers, generously: webcams to the fastest
-// research systems (common practice, no source).
-constexpr double kLeastRateHz = 10.0;
-constexpr double kMostRateHz = 10000.0;
+constexpr double kLeastRateHz = kLeastTrackerRateHz;
+constexpr double kMostRateHz = kMostTrackerRateHz;
 
 std::string format_number(double v) {
   char text[32];

@@ -171,6 +171,16 @@ ScoredFile score_one(const LabelledFileSpec& f, const EventDetector& detector, c
   CollectingSink sink;
   const auto r = read_delimited(f.path, opt, sink);
   if (sink.samples.size() == 0) throw InputError({f.path, 0, f.time_column}, "no samples in the file");
+  // Times read in the wrong unit give a rate no tracker has (ms read as us: 1000 times too fast).
+  if (r.median_interval_us > 0 && f.sample_rate_hz <= 0) {
+    const double hz = 1e6 / r.median_interval_us;
+    if (hz < kLeastTrackerRateHz || hz > kMostTrackerRateHz) {
+      throw InputError({f.path, 0, f.time_column}, "the samples are a median " + fmt::format("{:g}", r.median_interval_us / 1000.0) +
+                                                       " ms apart with times read in " + to_string(f.time_unit) + ", which is " +
+                                                       fmt::format("{:g}", hz) + " Hz; is " + to_string(f.time_unit) +
+                                                       " the unit of the time column (--time-unit)?");
+    }
+  }
   Recording rec;
   rec.id = "labelled";
   rec.screen = f.screen;
@@ -188,6 +198,15 @@ ScoredFile score_one(const LabelledFileSpec& f, const EventDetector& detector, c
       if (it != f.codes.end()) reference[i] = it->second;
       else ++out.unmapped_codes[r.messages[m].text];
     }
+  }
+  if (std::all_of(reference.begin(), reference.end(), [](SampleLabel l) { return l == SampleLabel::other; }) && !out.unmapped_codes.empty()) {
+    std::string found;
+    std::size_t shown = 0;
+    for (const auto& [code, n] : out.unmapped_codes) {
+      if (shown++ == 8) break;
+      found += (found.empty() ? "\"" : ", \"") + code + "\"";
+    }
+    throw InputError({f.path, 0, f.label_column}, "none of its labels is one of the codes given (--codes); it has " + found);
   }
   Trial whole;
   whole.id = "1";

@@ -11,6 +11,12 @@
 
 namespace gazemill {
 
+// The sampling rates of eye trackers, generously: webcams to the fastest
+// research systems (common practice, no source). Times read in the wrong
+// unit give a rate outside these.
+inline constexpr double kLeastTrackerRateHz = 10.0;
+inline constexpr double kMostTrackerRateHz = 10000.0;
+
 enum class Eye { left, right };
 std::string to_string(Eye eye);
 

@@ -270,3 +270,33 @@ pso = "fixation"
   EXPECT_THROW(run_score(o), InputError);
   std::cout.rdbuf(old);
 }
+
+// A labelled file read in the wrong time unit, or with codes that match none
+// of its labels, is an error, not a table of low kappas (a newcomer's trial:
+// kappa 0.31 and 0.000 with exit 0). The files here have a sample every
+// 2 ms: read as us, 500 000 Hz, no tracker's rate.
+TEST(ScoreCorpus, AWrongTimeUnitOrCodesMatchingNoLabelAreErrors) {
+  TempDir d;
+  d.write("a.tsv", labelled_text('\t', "0", "0"));
+  const auto files = expand_labelled_files({(d.path() / "*.tsv").string()});
+  DetectionSpec spec;
+  spec.method = "ivt";
+  LabelledFileSpec f = settings();
+  f.time_unit = TimeUnit::microseconds;
+  try {
+    score_labelled_corpus(files, f, spec);
+    FAIL() << "microseconds passed";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().field, "t");
+    EXPECT_NE(std::string(e.what()).find("500000 Hz"), std::string::npos) << e.what();
+  }
+  f = settings();
+  f.codes = parse_label_codes("fixation=fixation,saccade=saccade");
+  try {
+    score_labelled_corpus(files, f, spec);
+    FAIL() << "codes matching no label passed";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().field, "code");
+    EXPECT_NE(std::string(e.what()).find("none of its labels is one of the codes"), std::string::npos) << e.what();
+  }
+}
