@@ -97,6 +97,26 @@ TEST(DriftConfidence, ExplainedDriftKeepsFullConfidence) {
   EXPECT_NEAR(shifted.fit.at("confidence"), 1.0, 1e-12);
 }
 
+// The drift model (alignment/drift_output.h: residual = offset + slope (x -
+// x0) + shift (line y - y0), least squares) when x and the line are
+// correlated, so the two slopes must be told apart. Lines at 100 and 150,
+// words at 100, 300, 500 (x0 = 100); line 0 read at x 100 and 300, line 1 at
+// 300 and 500, each fixation displaced by 0.1 (x - 100) + 0.2 (line y - 100):
+// (u, v, residual) = (0, 0, 0), (200, 0, 20), (200, 50, 30), (400, 50, 50).
+// The data lie exactly on the model, so least squares gives slope 0.1,
+// shift 0.2, offset 0 and nothing unexplained (numpy.linalg.lstsq on the
+// same four rows gives [0, 0.1, 0.2] to 1e-14).
+TEST(DriftConfidence, SlopeAndShiftApartWhenXAndLineCorrelate) {
+  DriftInput in;
+  in.text = page({100, 150}, {100, 300, 500});
+  in.fixations = {{100, 100, 200}, {300, 120, 200}, {300, 180, 200}, {500, 200, 200}};
+  const DriftOutput out = make_drift_output(in, {0, 0, 1, 1});
+  EXPECT_NEAR(out.fit.at("slope"), 0.1, 1e-12);
+  EXPECT_NEAR(out.fit.at("shift"), 0.2, 1e-12);
+  EXPECT_NEAR(out.fit.at("offset_px"), 0.0, 1e-9);
+  EXPECT_NEAR(out.fit.at("unexplained_rms_px"), 0.0, 1e-9);
+}
+
 // A majority method reports the vote's confidence, not the distance-based
 // one. On the slope fixture of methods.md section 9 (three lines, slope 0.1,
 // see test_alignment_methods.cpp), attach gives lines

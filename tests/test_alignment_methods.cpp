@@ -194,6 +194,26 @@ TEST(DriftMethods, MergeJoinsTheRunsOfOneLine) {
   EXPECT_EQ(lines_of("merge", s.input), s.true_line);
 }
 
+// merge's gradient limit is on the steepness either way: a merged run's
+// line must be "flatter than" max_gradient (0.1, alignment/merge_corrector.h),
+// so a line falling 0.2 px per px is as out of bounds as one rising 0.2.
+// Lines at 100 and 150 px (line height 50: error limit 20 px, mean-y limit
+// 25 px). Runs, cut at the leftward saccades: B (100, 160) (200, 141)
+// (400, 100), C (100, 80) (200, 100) (400, 140), A (300, 120) alone. Joint
+// least-squares fits (numpy.polyfit): B+C gradient -0.0004, rms 28.4 px,
+// mean y 133.7 and 106.7 (26.7 apart); B+A gradient -0.201, rms 0.418 px;
+// C+A gradient +0.2, rms 0 (collinear). Three runs for two lines: one merge.
+// Limited phases: B+C fails the error and mean-y limits, B+A and C+A the
+// gradient limit; so the unlimited phase takes the best fit, C+A (mean y
+// 110, line 0), and B (133.7) goes to line 1. Were only rising lines
+// limited, B+A would merge in the second phase and A would go to line 1.
+TEST(DriftMethods, MergeLimitsFallingLinesAsRisingOnes) {
+  DriftInput in;
+  in.text = page({100, 150}, {100, 200, 300, 400});
+  in.fixations = {{100, 160, 200}, {200, 141, 200}, {400, 100, 200}, {100, 80, 200}, {200, 100, 200}, {400, 140, 200}, {300, 120, 200}};
+  EXPECT_EQ(lines_of("merge", in), (std::vector<int>{1, 1, 1, 0, 0, 0, 0}));
+}
+
 // The documented weakness of the methods that assume one pass through the
 // lines in order (Carr et al. 2022: segment assumes each line is read once in
 // order; warp "assumes the text is read in order"; methods.md section 9).

@@ -94,3 +94,14 @@ TEST(Warp, ATieBetweenLinesGoesToTheEarlierLine) {
   in.fixations.push_back({300, 149, 200});
   EXPECT_EQ(make_drift_corrector("warp")->correct(in).line, std::vector<int>{0});
 }
+
+// The mean DTW cost is per step of the warping path, not per fixation: the
+// fixation of the previous test, (300, 149), is paired with both words, at
+// (300, 100) (49 px) and (300, 150) (1 px): cost 50 over 2 steps = 25 px,
+// where one fixation would make it 50.
+TEST(Warp, MeanCostIsPerPathStep) {
+  DriftInput in;
+  in.text = page({100, 150}, {300});
+  in.fixations.push_back({300, 149, 200});
+  EXPECT_DOUBLE_EQ(make_drift_corrector("warp")->correct(in).fit.at("dtw_mean_cost_px"), 25.0);
+}

@@ -5,6 +5,7 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 #include <stdexcept>
@@ -500,4 +501,48 @@ TEST(FixationRule, AGapOfExactlyTheLimitIsJoined) {
   };
   EXPECT_EQ(tidy(20), L::fixation);
   EXPECT_EQ(tidy(21), L::loss);
+}
+
+// Fixations are joined across a gap only when the gaze on both sides is
+// within max_fixation_gap_shift_deg (0.5 deg by default, detectors/event_detector.h)
+// as a distance in the plane (common practice, no source). At 1000 Hz,
+// samples 40-49 lost (a gap of 50 - 39 = 11 ms, under the 20 ms limit), x
+// the same on both sides: a vertical shift of 1.0 deg is more than 0.5 deg,
+// so the gap stays lost; a vertical shift of 0.3 deg is joined.
+TEST(FixationRule, AGapIsJoinedOnlyWhenTheVerticalShiftIsSmallToo) {
+  using L = SampleLabel;
+  auto tidy = [&](double dy) {
+    std::vector<double> y(100, 0.0);
+    for (std::size_t i = 50; i < 100; ++i) y[i] = dy;
+    const GazeTrace g = trace_of(std::vector<double>(100, 0.0), y, 1000);
+    std::vector<L> labels(100, L::fixation);
+    for (std::size_t i = 40; i < 50; ++i) labels[i] = L::loss;
+    EventParams p;
+    tidy_labels(g, p, labels);
+    return labels[45];
+  };
+  EXPECT_EQ(tidy(1.0), L::loss);
+  EXPECT_EQ(tidy(0.3), L::fixation);
+}
+
+// A saccade run that moves faster than max_velocity_deg_s (1000 deg/s by
+// default, detectors/event_detector.h) between two samples is noise and
+// becomes "other". At 1000 Hz a sample step lasts 1 ms, so 1000 deg/s is
+// 1 deg per step. Samples 40-54 (15 ms, over the 10 ms minimum) are a
+// saccade moving 0.5 deg per step (500 deg/s): kept. With one step of
+// 2 deg (2000 deg/s) at sample 47 the run is noise.
+TEST(SaccadeRule, ASampleStepFasterThanTheLimitIsNoise) {
+  using L = SampleLabel;
+  auto tidy = [&](double jump) {
+    std::vector<double> x(100, 0.0);
+    for (std::size_t i = 40; i < 100; ++i) x[i] = 0.5 * static_cast<double>(std::min<std::size_t>(i, 54) - 39) + (i >= 47 ? jump : 0.0);
+    const GazeTrace g = trace_of(x, std::vector<double>(100, 0.0), 1000);
+    std::vector<L> labels(100, L::fixation);
+    for (std::size_t i = 40; i < 55; ++i) labels[i] = L::saccade;
+    EventParams p;
+    tidy_labels(g, p, labels);
+    return labels[47];
+  };
+  EXPECT_EQ(tidy(0.0), L::saccade);
+  EXPECT_EQ(tidy(1.5), L::other);
 }
