@@ -25,7 +25,7 @@ void check_cleaning_outcome(const Protocol& protocol, const AuditReport& audit) 
   const bool most_fixations = input[fixation] > 0 && 2 * kept[fixation] < input[fixation];
   if (!most_trials && !most_fixations) return;
 
-  // Per rule, in protocol order: trials and participants removed first by it, and by it alone.
+  // Per rule, in protocol order: fixations, trials and participants removed first by it, and by it alone.
   std::vector<AuditCounts> first(audit.rules.size()), alone(audit.rules.size());
   for (const auto& [key, c] : audit.sequential) {
     if (key.rule >= first.size()) continue;

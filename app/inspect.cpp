@@ -2,10 +2,9 @@
 
 #include <fmt/format.h>
 
-#include <fstream>
 #include <optional>
-#include <sstream>
 
+#include "app/protocol_parser.h"
 #include "app/text_table.h"
 #include "io/study_store.h"
 #include "pipeline/stage.h"
@@ -42,11 +41,9 @@ void print_store_overview(const std::string& store_path, std::ostream& out) {
     if (auto r = store.stage_record(s)) last = r;
   }
   if (last && !last->protocol_path.empty()) {
-    std::ifstream in(last->protocol_path, std::ios::binary);
-    std::ostringstream text;
-    text << in.rdbuf();
-    if (!in) out << "note       the protocol " << last->protocol_path << " is gone; the store keeps the text each stage ran with\n";
-    else if (text.str() != last->protocol_text) {
+    const std::optional<std::string> now = protocol_file_text(last->protocol_path);
+    if (!now) out << "note       the protocol " << last->protocol_path << " is gone; the store keeps the text each stage ran with\n";
+    else if (*now != last->protocol_text) {
       out << "note       " << last->protocol_path << " has changed since the " << to_string(last->stage)
           << " stage ran: `gazemill run` redoes the stages the change touches\n";
     }

@@ -678,12 +678,18 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   return p;
 }
 
-Protocol parse_protocol_file(const std::string& path) {
+std::optional<std::string> protocol_file_text(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
-  if (!in) throw InputError({path, 0, ""}, "cannot open the protocol file");
+  if (!in) return std::nullopt;
   std::ostringstream ss;
   ss << in.rdbuf();
-  const std::string text = ss.str();
+  return ss.str();
+}
+
+Protocol parse_protocol_file(const std::string& path) {
+  const std::optional<std::string> read = protocol_file_text(path);
+  if (!read) throw InputError({path, 0, ""}, "cannot open the protocol file");
+  const std::string& text = *read;
   // The HDF5 signature (HDF5 File Format Specification, "Format Signature").
   if (text.rfind("\x89HDF\r\n\x1a\n", 0) == 0) {
     throw InputError({path, 0, ""}, "is an HDF5 file (a study store?), not a protocol: this command takes the protocol file (TOML) "

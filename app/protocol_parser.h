@@ -12,6 +12,10 @@ namespace gazemill {
 
 Protocol parse_protocol_file(const std::string& path);
 
+/// The protocol file's text as it is now, or nothing when it cannot be read
+/// (to tell whether it changed since a stage ran with it).
+std::optional<std::string> protocol_file_text(const std::string& path);
+
 /// "tab", "comma", "semicolon", "space" or a single character (not a quote or
 /// line break) as the delimiter it names; nullopt otherwise.
 std::optional<char> delimiter_named(const std::string& name);

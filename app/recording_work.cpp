@@ -29,8 +29,6 @@ namespace {
 // unit (a factor of 1000 lands far outside either way).
 constexpr double kShortestMedianFixationMs = 10.0;
 constexpr double kLongestMedianFixationMs = 10000.0;
-constexpr double kLeastRateHz = kLeastTrackerRateHz;
-constexpr double kMostRateHz = kMostTrackerRateHz;
 
 std::string format_number(double v) {
   char text[32];
@@ -78,12 +76,6 @@ std::string milliseconds_text(Microseconds us) {
   return text;
 }
 
-// A trial without a sample between its start and end cannot be detected,
-// cleaned or measured: unchecked, it gives zero fixations and no word. The
-// usual cause is messages on another clock or in another unit than the
-// samples (common practice, no source). An error naming the first such trial
-// unless input.repairs.trials_without_samples = "drop", which leaves them out
-// and counts them.
 // A fixation list read in the wrong time unit: durations no reader's fixations have.
 void check_fixation_list_clock(const std::vector<FixationEvent>& fixations, const Protocol& protocol, const RecordingInputs& in) {
   if (fixations.empty()) return;
@@ -99,6 +91,12 @@ void check_fixation_list_clock(const std::vector<FixationEvent>& fixations, cons
                        "; fixations in reading last about 200-300 ms. Is " + unit + " the unit of its time columns?");
 }
 
+// A trial without a sample between its start and end cannot be detected,
+// cleaned or measured: unchecked, it gives zero fixations and no word. The
+// usual cause is messages on another clock or in another unit than the
+// samples (common practice, no source). An error naming the first such trial
+// unless input.repairs.trials_without_samples = "drop", which leaves them out
+// and counts them.
 void drop_trials_without_samples(Recording& rec, const CompressedSamples& samples, DelimitedReadResult& result, const Protocol& protocol,
                                  const RecordingInputs& in, const std::string& message_source, const std::vector<std::size_t>& lines) {
   std::vector<Trial> kept;
@@ -279,12 +277,12 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
   // duration downstream.
   if (result.median_interval_us > 0) {
     const double implied_hz = 1e6 / result.median_interval_us;
-    if (implied_hz < kLeastRateHz || implied_hz > kMostRateHz) {
+    if (implied_hz < kLeastTrackerRateHz || implied_hz > kMostTrackerRateHz) {
       const std::string unit = bids_input ? to_string(in.bids->eyes.front().sidecar.timestamp_unit) : to_string(protocol.input.table.time_unit);
       throw InputError({bids_input ? in.bids->eyes.front().physio_json : in.sample_file, 0, bids_input ? "timestamp.Units" : "input.table.time_unit"},
                        "the samples are a median " + format_number(result.median_interval_us / 1000.0) + " ms apart with times read in " +
                            unit + ", which is " + format_number(implied_hz) + " Hz; eye trackers sample at " +
-                           format_number(kLeastRateHz) + " to " + format_number(kMostRateHz) + " Hz. Is " + unit +
+                           format_number(kLeastTrackerRateHz) + " to " + format_number(kMostTrackerRateHz) + " Hz. Is " + unit +
                            " the unit of the time column?");
     }
   }

@@ -3,11 +3,9 @@
 #include <spdlog/spdlog.h>
 
 #include <filesystem>
-#include <fstream>
 #include <map>
 #include <memory>
 #include <set>
-#include <sstream>
 
 #include "app/protocol_parser.h"
 #include "gazemill/version.h"
@@ -72,15 +70,10 @@ StudyRunReport merge_shards(const std::vector<std::string>& shards, const std::s
     throw InputError({shards.front(), 0, ""}, "the study has " + std::to_string(count) + " shards; missing: " + missing);
   }
   const Protocol protocol = parse_protocol_text(detect->protocol_text, detect->protocol_path);
-  {
-    std::ifstream file(detect->protocol_path, std::ios::binary);
-    std::ostringstream text;
-    text << file.rdbuf();
-    if (file && text.str() != detect->protocol_text) {
-      spdlog::warn("{} has changed since the shards ran; the merge cleans and measures with the text the shards ran with (run the shards "
-                   "again to use the edited one)",
-                   detect->protocol_path);
-    }
+  if (const auto now = protocol_file_text(detect->protocol_path); now && *now != detect->protocol_text) {
+    spdlog::warn("{} has changed since the shards ran; the merge cleans and measures with the text the shards ran with (run the shards "
+                 "again to use the edited one)",
+                 detect->protocol_path);
   }
   std::error_code ec;
   fs::create_directories(out_folder, ec);

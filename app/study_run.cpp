@@ -729,13 +729,11 @@ std::optional<PreviousAlignment> StudyRun::previous_alignment() const {
 // Names the cleaning rules give to regions (a role, a number) must exist in
 // the region files: a role no item has would remove nothing without a word.
 void check_region_references(const Protocol& p, const RegionCatalogue& regions) {
-  std::set<std::string> roles;
-  std::map<std::string, std::size_t> items_with;  // layouts that give each role
+  std::map<std::string, std::size_t> items_with;  // each role, and the layouts that give it
   std::size_t most_regions = 0;
   for (const auto& [key, layout] : regions.layouts()) {
     most_regions = std::max(most_regions, layout.regions.size());
     for (const auto& r : layout.regions) {
-      if (!r.role.empty() && roles.insert(r.role).second) items_with[r.role] = 0;
       if (!r.role.empty()) ++items_with[r.role];
     }
   }
@@ -752,9 +750,9 @@ void check_region_references(const Protocol& p, const RegionCatalogue& regions) 
   for (std::size_t i = 0; i < p.cleaning.size(); ++i) {
     const CleaningRuleSpec& rule = p.cleaning[i];
     const std::string where = "cleaning[" + std::to_string(i + 1) + "].";
-    if (const auto role = rule.texts.find("role"); role != rule.texts.end() && !roles.count(role->second)) {
+    if (const auto role = rule.texts.find("role"); role != rule.texts.end() && !items_with.count(role->second)) {
       std::string known;
-      for (const auto& r : roles) known += (known.empty() ? "" : ", ") + r;
+      for (const auto& [r, n] : items_with) known += (known.empty() ? "" : ", ") + r;
       throw InputError({p.path, rule.line, where + "role"}, "rule '" + rule.name + "': no region of any item has the role '" + role->second +
                                                                "'; the region files give " + (known.empty() ? std::string("no roles") : known));
     }
