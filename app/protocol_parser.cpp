@@ -134,6 +134,7 @@ void parse_input(TomlSection& in, Protocol& p) {
   if (auto rate = in.number("sample_rate_hz")) {
     if (!(*rate > 0)) in.fail("sample_rate_hz", "expected a positive rate in Hz");
     spec.sample_rate_hz = *rate;
+    spec.sample_rate_line = in.line_of("sample_rate_hz");
   }
 
   if (auto margin = in.number("offscreen_margin_px")) {
@@ -514,6 +515,13 @@ void parse_regions(TomlSection& r, Protocol& p) {
       L.advance_px[key[0]] = *v;
     }
   }
+  // Keys that place text laid out from an items file: beside a boxes file
+  // they would change nothing, though whoever wrote them expects they do.
+  if (!spec.boxes_file.empty()) {
+    for (const char* key : {"left_margin_px", "first_line_top_px", "wrap_width_chars", "advances"}) {
+      if (r.has(key)) r.fail(key, "lays out the text of an items_file; with boxes_file each region's box gives its place, so this key would change nothing. Remove it");
+    }
+  }
   if (!spec.items_file.empty() && L.char_width_px <= 0) {
     throw InputError({p.path, r.line(), "regions.char_width_px"}, "items_file needs the font's character width (char_width_px)");
   }
@@ -573,6 +581,7 @@ void parse_cleaning(std::vector<TomlSection>& blocks, Protocol& p) {
     for (const auto& [k, v] : b.raw()) {
       const std::string key(k.str());
       if (key == "name" || key == "kind") continue;
+      spec.key_lines[key] = b.line_of(key);
       if (v.is_number()) spec.numbers[key] = *v.value<double>();
       else if (v.is_string()) spec.texts[key] = *v.value<std::string>();
       else b.fail(key, "rule '" + spec.name + "': a parameter is a number or a text");

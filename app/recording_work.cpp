@@ -285,6 +285,20 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
                            format_number(kLeastTrackerRateHz) + " to " + format_number(kMostTrackerRateHz) + " Hz. Is " + unit +
                            " the unit of the time column?");
     }
+    // A stated rate the timestamps contradict (a protocol copied from another
+    // study, a sidecar from another export): detection follows the timestamps,
+    // the data-quality digest and the report the stated rate, so the two would
+    // disagree without a word. A tenth either way allows for trackers whose
+    // clock ticks unevenly (60 Hz on a millisecond clock is 16 or 17 ms).
+    const bool in_protocol = protocol.input.sample_rate_hz > 0;
+    const double stated_hz = in_protocol ? protocol.input.sample_rate_hz : bids_input ? rec.sample_rate_hz : 0.0;
+    if (stated_hz > 0 && (implied_hz < 0.9 * stated_hz || implied_hz > 1.1 * stated_hz)) {
+      throw InputError({in_protocol ? protocol.path : in.bids->eyes.front().physio_json, in_protocol ? protocol.input.sample_rate_line : 0,
+                        in_protocol ? "input.sample_rate_hz" : "SamplingFrequency"},
+                       "states " + format_number(stated_hz) + " Hz, but the samples of " + in.sample_file + " are a median " +
+                           format_number(result.median_interval_us / 1000.0) + " ms apart, which is " + format_number(implied_hz) +
+                           " Hz; state the rate the file was recorded at" + (in_protocol ? ", or leave sample_rate_hz out to take it from the timestamps" : ""));
+    }
   }
   if (!from_messages) {
     if (fixation_input ? list.fixations.empty() && rec.messages.empty() : result.samples == 0) {

@@ -226,8 +226,12 @@ void StudyRun::open_previous() {
 }
 
 [[noreturn]] void StudyRun::stale_upstream(Stage needed, const std::string& why) const {
-  throw InputError({o_.store_path, 0, ""}, why + "; run `gazemill " + stage_command(needed) + " " + p_.path +
-                                               "` first (or `gazemill run " + p_.path + "`, which redoes what changed)");
+  // The hint names the store unless it is the one the stage commands take by
+  // default: run as printed, it must mend this store, not another.
+  const bool default_store = fs::absolute(o_.store_path).lexically_normal().string() == default_store_path(p_);
+  const std::string store = default_store ? "" : (needed == Stage::ingest ? " -o " : " -s ") + o_.store_path;
+  throw InputError({o_.store_path, 0, ""}, why + "; run `gazemill " + stage_command(needed) + " " + p_.path + store + "` first" +
+                                               (default_store ? " (or `gazemill run " + p_.path + "`, which redoes what changed)" : ""));
 }
 
 // Decides, recording by recording, what must be read or detected again.
@@ -753,11 +757,11 @@ void check_region_references(const Protocol& p, const RegionCatalogue& regions) 
     if (const auto role = rule.texts.find("role"); role != rule.texts.end() && !items_with.count(role->second)) {
       std::string known;
       for (const auto& [r, n] : items_with) known += (known.empty() ? "" : ", ") + r;
-      throw InputError({p.path, rule.line, where + "role"}, "rule '" + rule.name + "': no region of any item has the role '" + role->second +
+      throw InputError({p.path, rule.line_of("role"), where + "role"}, "rule '" + rule.name + "': no region of any item has the role '" + role->second +
                                                                "'; the region files give " + (known.empty() ? std::string("no roles") : known));
     }
     if (const auto n = rule.numbers.find("region"); n != rule.numbers.end() && n->second > static_cast<double>(most_regions)) {
-      throw InputError({p.path, rule.line, where + "region"}, "rule '" + rule.name + "': no item has a region " +
+      throw InputError({p.path, rule.line_of("region"), where + "region"}, "rule '" + rule.name + "': no item has a region " +
                                                                  std::to_string(static_cast<long>(n->second)) + " (the most any item has is " +
                                                                  std::to_string(most_regions) + ")");
     }
@@ -815,7 +819,7 @@ StudyRunReport StudyRun::execute() {
   } else {
     for (const auto& rule : p_.cleaning) {
       if (rule.texts.count("role") || rule.numbers.count("region")) {
-        throw InputError({p_.path, rule.line, "regions"}, "rule '" + rule.name + "' names a region, but the protocol has no [regions] section");
+        throw InputError({p_.path, rule.line_of(rule.texts.count("role") ? "role" : "region"), "regions"}, "rule '" + rule.name + "' names a region, but the protocol has no [regions] section");
       }
     }
   }

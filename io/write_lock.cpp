@@ -3,6 +3,7 @@
 #include <fcntl.h>
 #include <signal.h>
 #include <sys/file.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <cerrno>
@@ -26,29 +27,42 @@ std::string lock_path(const std::string& path) {
 
 }  // namespace
 
-WriteLock::WriteLock(const std::string& path) {
-  const std::string lp = lock_path(path);
-  fd_ = ::open(lp.c_str(), O_RDWR | O_CREAT | O_CLOEXEC, 0644);
-  if (fd_ < 0) {
-    throw InputError({path, 0, ""}, "cannot create the lock file " + lp + ": " + std::strerror(errno));
-  }
-  if (::flock(fd_, LOCK_EX | LOCK_NB) != 0) {
-    char pid[32] = {0};
-    const ssize_t n = ::pread(fd_, pid, sizeof pid - 1, 0);
+WriteLock::WriteLock(const std::string& path) : path_(lock_path(path)) {
+  // The holder removes the file when it lets go, so none is left beside the
+  // outputs. Whoever opened it just before then locks a file that is gone: it
+  // sees that the name no longer leads to its file and tries again.
+  for (int attempt = 0; attempt < 100; ++attempt) {
+    fd_ = ::open(path_.c_str(), O_RDWR | O_CREAT | O_CLOEXEC, 0644);
+    if (fd_ < 0) {
+      throw InputError({path, 0, ""}, "cannot create the lock file " + path_ + ": " + std::strerror(errno));
+    }
+    if (::flock(fd_, LOCK_EX | LOCK_NB) != 0) {
+      char pid[32] = {0};
+      const ssize_t n = ::pread(fd_, pid, sizeof pid - 1, 0);
+      ::close(fd_);
+      fd_ = -1;
+      const std::string holder = n > 0 ? std::string(pid, static_cast<std::size_t>(n)) : std::string("another process");
+      throw InputError({path, 0, ""}, "another gazemill (process " + holder + ") is writing it now; wait until it has finished "
+                                      "(two writers at once would lose one's work)");
+    }
+    struct stat held {}, named {};
+    if (::fstat(fd_, &held) == 0 && ::stat(path_.c_str(), &named) == 0 && held.st_dev == named.st_dev && held.st_ino == named.st_ino) {
+      const std::string me = std::to_string(::getpid());
+      if (::ftruncate(fd_, 0) == 0) {
+        [[maybe_unused]] const ssize_t w = ::pwrite(fd_, me.data(), me.size(), 0);
+      }
+      return;
+    }
     ::close(fd_);
     fd_ = -1;
-    const std::string holder = n > 0 ? std::string(pid, static_cast<std::size_t>(n)) : std::string("another process");
-    throw InputError({path, 0, ""}, "another gazemill (process " + holder + ") is writing it now; wait until it has finished "
-                                    "(two writers at once would lose one's work)");
   }
-  const std::string me = std::to_string(::getpid());
-  if (::ftruncate(fd_, 0) == 0) {
-    [[maybe_unused]] const ssize_t w = ::pwrite(fd_, me.data(), me.size(), 0);
-  }
+  throw InputError({path, 0, ""}, "cannot take the lock file " + path_ + ": other writers keep replacing it");
 }
 
 WriteLock::~WriteLock() {
-  if (fd_ >= 0) ::close(fd_);  // releases the lock; the file stays for the next writer
+  if (fd_ < 0) return;
+  ::unlink(path_.c_str());  // while still held, so that no one else's file is removed
+  ::close(fd_);
 }
 
 int remove_leftover_temporaries(const std::string& path) {

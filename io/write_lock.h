@@ -1,8 +1,9 @@
 #pragma once
 // One writer at a time for a store or an output folder: an advisory lock on a
 // small hidden file beside it (".<name>.lock", holding the writer's process
-// id). The kernel drops the lock when its process dies, so a crashed writer
-// never blocks the next one; readers take no lock and are never blocked.
+// id), removed again when the writer lets go. The kernel drops the lock when
+// its process dies, so a crashed writer never blocks the next one (its file
+// stays, unlocked); readers take no lock and are never blocked.
 
 #include <string>
 
@@ -18,6 +19,7 @@ class WriteLock {
   WriteLock& operator=(const WriteLock&) = delete;
 
  private:
+  std::string path_;  // of the lock file
   int fd_ = -1;
 };
 

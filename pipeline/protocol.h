@@ -127,6 +127,7 @@ struct InputSpec {
   std::optional<MessageFileSpec> message_file;
   RepairPolicy repairs;
   double sample_rate_hz = 0.0;        // 0 = estimate from the median sample interval
+  std::size_t sample_rate_line = 0;   // where it is in the protocol file, for errors
   // Gaze farther off the screen than this, in px beyond any edge, is read as
   // missing and counted (offscreen_gaze_read_as_missing). 200 px is about
   // 4.5 deg at 1920 px over 531 mm seen from 700 mm, and still about 2 deg on
@@ -246,6 +247,11 @@ struct CleaningRuleSpec {
   std::map<std::string, double> numbers;
   std::map<std::string, std::string> texts;
   std::size_t line = 0;  // where the rule starts in the protocol file
+  std::map<std::string, std::size_t> key_lines;  // where each parameter is, for errors about its value
+  std::size_t line_of(const std::string& key) const {
+    const auto k = key_lines.find(key);
+    return k == key_lines.end() ? line : k->second;
+  }
 };
 
 /// The experimental design: which trial variable names the item, and which

@@ -70,11 +70,11 @@ Protocol write_study(const TempDir& d, const std::string& protocol_text = kProto
   return parse_protocol_text(protocol_text, d.write("gazemill.toml", protocol_text));
 }
 
-// Nothing but the inputs and the writer's (empty-looking, hidden) lock file.
+// Nothing but the inputs: no store, no scratch, no lock file.
 void expect_no_store(const TempDir& d) {
   for (const auto& e : fs::directory_iterator(d.path())) {
     const std::string name = e.path().filename().string();
-    EXPECT_TRUE(name == "raw" || name == "gazemill.toml" || name.ends_with(".lock")) << "left behind: " << name;
+    EXPECT_TRUE(name == "raw" || name == "gazemill.toml") << "left behind: " << name;
   }
 }
 
@@ -186,6 +186,27 @@ TEST(IngestErrors, TimestampsInTheWrongUnit) {
     }
     expect_no_store(d);
   }
+}
+
+// A stated rate the timestamps contradict: detection follows the timestamps,
+// the data-quality digest the stated rate, so they would disagree unseen.
+// The samples here are 1 ms apart, 1000 Hz by arithmetic.
+TEST(IngestErrors, StatedRateTheTimestampsContradict) {
+  TempDir d;
+  std::string text = kProtocol;
+  text.replace(text.find("[input]\n"), 8, "[input]\nsample_rate_hz = 500\n");
+  const Protocol p = write_study(d, text);
+  try {
+    ingest_study(p, d.file("tiny.gzm.h5"));
+    FAIL() << "500 Hz stated, 1000 Hz recorded";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().field, "input.sample_rate_hz") << e.what();
+    EXPECT_EQ(e.where().line, 4u) << e.what();
+    EXPECT_NE(std::string(e.what()).find("which is 1000 Hz"), std::string::npos) << e.what();
+  }
+  expect_no_store(d);
+  text.replace(text.find("sample_rate_hz = 500"), 20, "sample_rate_hz = 1000");
+  EXPECT_NO_THROW(ingest_study(write_study(d, text), d.file("tiny.gzm.h5")));
 }
 
 // A pattern that drops the session gives two files one recording id.

@@ -170,3 +170,15 @@ TEST(ProtocolParser, DesignLevelsBelongToFactorsOfTheDesign) {
   expect_error_at(base + "condition = [\"easy\", \"easy\"]\n", line, "design.levels.condition", "listed twice");
   expect_error_at(base + "condition = []\n", line, "design.levels.condition", "expected the factor's levels");
 }
+
+// Layout keys place the text of an items file; beside a boxes file they would
+// change nothing, though whoever wrote them expects they do. Common practice,
+// no source. The protocol's last line is line 37, so the key added after
+// [regions] (line 38), boxes_file and char_width_px is on line 41.
+TEST(ProtocolParser, LayoutKeysBesideABoxesFileAreNamed) {
+  const std::string boxes = replace(kProtocol, "cond=(?<condition>\\w+)", "item=(?<item>\\d+)") +
+                            "[regions]\nboxes_file = \"regions.tsv\"\nchar_width_px = 11\n";
+  EXPECT_NO_THROW(parse_protocol_text(boxes, "study.toml"));
+  expect_error_at(boxes + "left_margin_px = 90\n", 41, "regions.left_margin_px", "with boxes_file each region's box gives its place");
+  expect_error_at(boxes + "wrap_width_chars = 70\n", 41, "regions.wrap_width_chars", "would change nothing");
+}

@@ -103,7 +103,8 @@ TEST(StudyRun, MeasureCannotUseCleaningMadeFromOlderEvents) {
     run_stage(p, store, Stage::measure);
     FAIL() << "measure ran on cleaning made from the previous events";
   } catch (const InputError& e) {
-    EXPECT_NE(std::string(e.what()).find("gazemill clean"), std::string::npos) << e.what();
+    // Not the store beside the protocol: the hint names this one, so that run as printed it mends this store.
+    EXPECT_NE(std::string(e.what()).find("gazemill clean " + idt + " -s " + store + "`"), std::string::npos) << e.what();
   }
   // The first protocol's [detection] is no longer what the events were made with either.
   EXPECT_THROW(run_stage(parse_protocol_file(proto), store, Stage::clean), InputError);
@@ -313,6 +314,26 @@ TEST(StudyRun, ASecondWriterFailsNamingTheFirst) {
     EXPECT_NE(std::string(e.what()).find("process " + std::to_string(::getpid())), std::string::npos) << e.what();
   }
   EXPECT_FALSE(fs::exists(d.file("s.gzm.h5")));
+}
+
+// Common practice, no source: a writer's lock file goes with the writer, and
+// a lock file another writer removed while one waited is never taken as held.
+TEST(StudyRun, LockFilesGoWithTheirWriter) {
+  TempDir d;
+  const std::string proto = study(d);
+  StudyRunOptions o;
+  o.store_path = d.file("s.gzm.h5");
+  o.until = Stage::ingest;
+  run_study(parse_protocol_file(proto), o);
+  EXPECT_FALSE(fs::exists(d.file(".s.gzm.h5.lock")));
+  {
+    const WriteLock first(d.file("s.gzm.h5"));
+    EXPECT_TRUE(fs::exists(d.file(".s.gzm.h5.lock")));
+    EXPECT_THROW(WriteLock second(d.file("s.gzm.h5")), InputError);
+  }
+  EXPECT_FALSE(fs::exists(d.file(".s.gzm.h5.lock")));
+  const WriteLock again(d.file("s.gzm.h5"));  // takes a new file
+  EXPECT_TRUE(fs::exists(d.file(".s.gzm.h5.lock")));
 }
 
 TEST(StudyRun, TemporaryFilesOfDeadWritersAreRemoved) {
@@ -617,4 +638,23 @@ TEST(StudyRun, InspectSaysWhenTheProtocolFileChangedSince) {
   std::ostringstream after;
   print_store_overview(d.file("out/s.gzm.h5"), after);
   EXPECT_NE(after.str().find("gazemill.toml has changed since the measure stage ran"), std::string::npos) << after.str();
+}
+
+// Brief: names that refer to other things are checked before work starts. A
+// role no region has would remove nothing without a word; the error points at
+// the role's own line, not the rule's header. The fixture's protocol has 53
+// lines; the rule added after it starts on line 55 and names its role on line 58.
+TEST(StudyRun, ARuleNamingARoleNoRegionHasStopsBeforeWork) {
+  TempDir d;
+  const std::string proto = study(d, "\n[[cleaning]]\nname = \"skipped target\"\nkind = \"exclude_trials_skipping_region\"\nrole = \"targte\"\n");
+  try {
+    run(proto, d.file("out"));
+    FAIL() << "a role no region has";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().line, 58u) << e.what();
+    EXPECT_EQ(e.where().field, "cleaning[1].role") << e.what();
+    EXPECT_NE(std::string(e.what()).find("'targte'"), std::string::npos) << e.what();
+  }
+  EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
+  EXPECT_FALSE(fs::exists(d.file("out/tables")));
 }
