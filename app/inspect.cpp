@@ -28,7 +28,9 @@ void print_store_overview(const std::string& store_path, std::ostream& out) {
       // Stale when marked so, or when its upstream result is no longer the one it was made from.
       const bool upstream_moved = s != Stage::ingest && (!before || before->key != r->upstream_key);
       state = r->state == StageState::stale || upstream_moved ? StageState::stale : StageState::current;
-      note = state == StageState::current ? "made " + r->created_utc
+      // The key, to match a tables folder's manifest.json against; the protocol, when not the one ingest read.
+      note = state == StageState::current ? "made " + r->created_utc + "  key " + r->key.substr(0, 12) +
+                                                (r->protocol_path.empty() || r->protocol_path == prov.protocol_path ? "" : "  from " + r->protocol_path)
                                           : (r->stale_reason.empty() ? "made from results that have changed since" : r->stale_reason) +
                                                 "; run gazemill " + to_string(s) + " (or gazemill run)";
     }

@@ -2,6 +2,7 @@
 
 #include <spdlog/spdlog.h>
 
+#include <chrono>
 #include <cstring>
 #include <filesystem>
 
@@ -45,10 +46,14 @@ void write_report(const std::string& store_path, const std::string& html_path, s
   opt.cleaned = lent.cleaned;
   opt.cleaning_rows = lent.cleaning_rows;
   opt.audit = lent.audit;
+  const auto t0 = std::chrono::steady_clock::now();
+  auto since = [&t0] { return std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count(); };
   const ReportModel model = assemble_report(store_path, opt);
+  spdlog::debug("report: assembled after {:.2f} s", since());
   // A writer killed while writing this page left its temporary file: gone with the next page.
   remove_leftover_temporaries(html_path);
   write_report_html(model, html_path);
+  spdlog::debug("report: page written after {:.2f} s", since());
   for (const auto& note : model.run.notes) spdlog::warn("report: {}", note);
 }
 }  // namespace

@@ -1,5 +1,7 @@
 #include "app/report_data.h"
 
+#include <spdlog/spdlog.h>
+
 #include <algorithm>
 #include <chrono>
 #include <cmath>
@@ -164,10 +166,13 @@ class Assembler {
   }
 
   ReportModel run() {
+    const auto t0 = std::chrono::steady_clock::now();
+    auto lap = [&t0](const char* what) { spdlog::debug("report: {} after {:.2f} s", what, std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count()); };
     run_summary();
     load_protocol();
     const bool have_clean = store_.exists("audit");
     if (have_clean) cleaning();
+    lap("summary and cleaning");
     std::vector<RecordingAlignment> alignment;
     const std::vector<RecordingAlignment>* lines = &alignment;
     if (store_.exists("recordings") && !ids_.empty() && stage_ran(Stage::align)) {
@@ -184,9 +189,12 @@ class Assembler {
     for (const auto& a : *lines) aligned_[a.recording] = &a;
     m_.drift.present = !lines->empty();
     recordings(have_clean);
+    lap("recordings");
     finish_participants();
     if (m_.drift.present) drift();
+    lap("drift");
     if (store_.exists("measures/wide")) measures();
+    lap("measures");
     for (const auto& st : m_.run.stages) {
       if (st.state == "absent") m_.run.notes.push_back("the " + st.stage + " stage has not run: its section is left out or partial");
       if (st.state == "stale") m_.run.notes.push_back("the " + st.stage + " stage's results are stale (" + st.note + "); run gazemill run to bring them up to date");

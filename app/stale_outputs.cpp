@@ -48,10 +48,13 @@ std::vector<std::string> set_aside_stale_outputs(const std::string& store_path, 
     const fs::path aside = folder.string() + ".stale";
     rename_over(folder, aside);
     set_aside.push_back(aside.string());
-    const fs::path report = folder.parent_path() / "report.html";
-    if (folder == run_tables && fs::exists(report, ec)) {
-      rename_over(report, folder.parent_path() / "report.stale.html");
-      set_aside.push_back((folder.parent_path() / "report.stale.html").string());
+    if (folder == run_tables) {  // the run's report and summary were made with its tables
+      for (const auto& [name, stale_name] : {std::pair{"report.html", "report.stale.html"}, std::pair{"run-summary.json", "run-summary.stale.json"}}) {
+        const fs::path made = folder.parent_path() / name;
+        if (!fs::exists(made, ec)) continue;
+        rename_over(made, folder.parent_path() / stale_name);
+        set_aside.push_back((folder.parent_path() / stale_name).string());
+      }
     }
   }
   return set_aside;
@@ -59,7 +62,7 @@ std::vector<std::string> set_aside_stale_outputs(const std::string& store_path, 
 
 void remove_stale_outputs(const std::string& run_folder) {
   std::error_code ec;
-  for (const char* name : {"tables.stale", "report.stale.html"}) {
+  for (const char* name : {"tables.stale", "report.stale.html", "run-summary.stale.json"}) {
     const fs::path p = fs::path(run_folder) / name;
     if (fs::exists(p, ec) && fs::remove_all(p, ec) > 0) spdlog::info("removed {}: the run made it again", p.string());
   }

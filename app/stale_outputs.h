@@ -13,7 +13,8 @@ namespace gazemill {
 /// a stage command's), other than `just_written`, whose manifest names this
 /// store and a stage result it no longer holds as current, is renamed to
 /// "<folder>.stale" (replacing an older one); with the run's tables, its
-/// report.html becomes report.stale.html. Returns what was set aside.
+/// report.html and run-summary.json become report.stale.html and
+/// run-summary.stale.json. Returns what was set aside.
 std::vector<std::string> set_aside_stale_outputs(const std::string& store_path, const std::string& just_written);
 
 /// After a run wrote fresh tables and a report beside the store: the stale

@@ -657,27 +657,37 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       continue;
     }
     const auto started = std::chrono::steady_clock::now();
+    auto lap = [&](const char* what) {  // -v: where a stage's time goes
+      spdlog::debug("{}: {} after {:.2f} s", to_string(s), what, std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count());
+    };
     remove_results(out, s);
     if ((s == Stage::align || s == Stage::measure) && !regions_) regions_ = load_regions(p_);
     if (s == Stage::clean) {
       events_ = recording_events();
+      lap("events read");
       check_design_levels(p_, events_);
       cleaned_ = clean_events(p_, events_);
+      lap("cleaned");
       check_cleaning_outcome(p_, cleaned_->report);
       write_cleaning(out, *cleaned_);
       write_audit(out, cleaned_->report);
+      lap("cleaning written");
       cleaned_recordings_ = cleaned_recordings(*cleaned_, events_);
+      lap("cleaned recordings");
       report_.audit = cleaned_->report;
     } else if (s == Stage::align) {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
       const std::optional<PreviousAlignment> previous = previous_alignment();
+      lap("previous alignment");
       alignment_ = align_study(p_, *regions_, *cleaned_recordings_, o_.jobs, previous ? &*previous : nullptr, &report_.aligned_trials_reused);
       if (previous) spdlog::debug("align: {} trials kept their lines from the previous run", report_.aligned_trials_reused);
+      lap("aligned");
       write_alignment(out, *alignment_);
     } else {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
       if (!alignment_) alignment_ = read_alignment(*old_);
       report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design, &report_.placement, o_.jobs);
+      lap("rows");
       // The aggregates and the tables the store holds, made side by side (the report is lent the wide one and by_role).
       const auto policy = o_.jobs == 1 ? std::launch::deferred : std::launch::async;
       const std::vector<MeasureRow>& rows = report_.rows;
@@ -695,6 +705,7 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       std::tie(report_.by_item_region, item_region_table) = item_region.get();
       std::tie(report_.by_role, report_.measures_by_role) = role.get();
       std::tie(report_.by_participant, participant_table) = participant.get();
+      lap("aggregates");
       write_measures(out, *report_.measures_wide, {item_region_table.get(), report_.measures_by_role.get(), participant_table.get()},
                      {"by_item_region", "by_role", "by_participant"});
       write_placement(out, report_.placement, p_.design.factors);

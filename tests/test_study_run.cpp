@@ -539,6 +539,7 @@ TEST(StudyRun, TablesOfResultsNoLongerCurrentAreSetAside) {
   const std::string proto = study(d);
   run(proto, d.file("out"));
   std::ofstream(d.file("out/report.html")) << "<html></html>";
+  std::ofstream(d.file("out/run-summary.json")) << "{}";
   // Nothing changed: nothing set aside.
   EXPECT_TRUE(set_aside_stale_outputs(d.file("out/s.gzm.h5"), "").empty());
 
@@ -551,8 +552,9 @@ TEST(StudyRun, TablesOfResultsNoLongerCurrentAreSetAside) {
   o.tables_folder = d.file("out/s-tables");
   run_study(parse_protocol_file(proto), o);
   const auto aside = set_aside_stale_outputs(o.store_path, o.tables_folder);
-  EXPECT_EQ(aside.size(), 2u);
+  EXPECT_EQ(aside.size(), 3u);
   EXPECT_FALSE(fs::exists(d.file("out/tables")));
+  EXPECT_TRUE(fs::exists(d.file("out/run-summary.stale.json")));  // it names the tables and the stages they came from
   EXPECT_TRUE(fs::exists(d.file("out/tables.stale/measures.tsv")));
   EXPECT_FALSE(fs::exists(d.file("out/report.html")));
   EXPECT_TRUE(fs::exists(d.file("out/report.stale.html")));
@@ -562,6 +564,7 @@ TEST(StudyRun, TablesOfResultsNoLongerCurrentAreSetAside) {
   remove_stale_outputs(d.file("out"));
   EXPECT_FALSE(fs::exists(d.file("out/tables.stale")));
   EXPECT_FALSE(fs::exists(d.file("out/report.stale.html")));
+  EXPECT_FALSE(fs::exists(d.file("out/run-summary.stale.json")));
   EXPECT_TRUE(fs::exists(d.file("out/tables/measures.tsv")));
   EXPECT_TRUE(set_aside_stale_outputs(d.file("out/s.gzm.h5"), "").empty());
 }
