@@ -4,9 +4,11 @@
 #include <limits>
 #include <map>
 #include <optional>
+#include <thread>
 
 #include "app/parallel_recordings.h"
 #include "io/alignment_io.h"
+#include "io/event_tables_io.h"
 #include "io/cleaning_io.h"
 #include "io/study_store.h"
 #include "measures/region_mapper.h"
@@ -120,20 +122,25 @@ EventTables recording_rows(const std::string& id, const RecordingSources& in, co
   return out;
 }
 
-template <typename T>
-void append(std::vector<T>& to, std::vector<T>& from) {
-  to.insert(to.end(), std::make_move_iterator(from.begin()), std::make_move_iterator(from.end()));
-}
-
 }  // namespace
 
-EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol, const RegionCatalogue* regions, bool cleaned, bool aligned,
-                         KnownResults known, unsigned jobs) {
+struct EventTableSources::Impl {
+  const Protocol* protocol = nullptr;
+  const RegionCatalogue* regions = nullptr;
+  std::vector<std::string> ids;
+  std::vector<RecordingSources> sources;
+  std::vector<RecordingAlignment> read_alignment;
+};
+
+EventTableSources::EventTableSources(const StudyStoreReader& store, const Protocol& protocol, const RegionCatalogue* regions, bool cleaned,
+                                     bool aligned, KnownResults known)
+    : impl_(std::make_unique<Impl>()) {
+  impl_->protocol = &protocol;
+  impl_->regions = regions;
   std::map<std::string, const RecordingAlignment*> alignment;
-  std::vector<RecordingAlignment> read;
   if (aligned) {
-    if (!known.alignment) read = read_alignment(store);
-    for (const auto& a : known.alignment ? *known.alignment : read) alignment.emplace(a.recording, &a);
+    if (!known.alignment) impl_->read_alignment = read_alignment(store);
+    for (const auto& a : known.alignment ? *known.alignment : impl_->read_alignment) alignment.emplace(a.recording, &a);
   }
   std::map<std::string, const RecordingEvents*> known_events;
   if (known.events) {
@@ -144,8 +151,10 @@ EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol
     for (const auto& c : *known.cleaned) known_cleaned[c.meta.id] = &c;  // the last of a repeated id, as before
   }
   // What the store must give is read here, in study order (one reader, one thread).
-  const std::vector<std::string> ids = store.recording_ids();
-  std::vector<RecordingSources> sources(ids.size());
+  impl_->ids = store.recording_ids();
+  const std::vector<std::string>& ids = impl_->ids;
+  std::vector<RecordingSources>& sources = impl_->sources;
+  sources.resize(ids.size());
   std::uint32_t next_id = 0;  // input ids as cleaning gave them: every fixation of every trial, recording by recording
   for (std::size_t k = 0; k < ids.size(); ++k) {
     const std::string& id = ids[k];
@@ -176,29 +185,44 @@ EventTables event_tables(const StudyStoreReader& store, const Protocol& protocol
     s.first_input_id = next_id;
     next_id += static_cast<std::uint32_t>(s.events->fixations.size());
   }
-  // The rows of each recording on any thread, joined in study order: the same tables for any number.
-  std::vector<EventTables> parts(ids.size());
-  for_each_recording(ids.size(), jobs, [&](std::size_t k) { parts[k] = recording_rows(ids[k], sources[k], protocol, regions); });
-  EventTables out;
-  std::size_t trials = 0, fixations = 0, saccades = 0, blinks = 0;
-  for (const auto& p : parts) {
-    trials += p.trials.size();
-    fixations += p.fixations.size();
-    saccades += p.saccades.size();
-    blinks += p.blinks.size();
+}
+
+EventTableSources::~EventTableSources() = default;
+
+std::size_t EventTableSources::recordings() const { return impl_->ids.size(); }
+
+std::set<std::string> EventTableSources::trial_variables() const {
+  std::set<std::string> names;
+  for (const auto& s : impl_->sources) {
+    for (const Trial& t : s.meta->trials) {
+      for (const auto& [k, v] : t.variables) names.insert(k);
+    }
   }
-  out.trials.reserve(trials);
-  out.fixations.reserve(fixations);
-  out.saccades.reserve(saccades);
-  out.blinks.reserve(blinks);
-  for (auto& p : parts) {
-    append(out.trials, p.trials);
-    append(out.fixations, p.fixations);
-    append(out.saccades, p.saccades);
-    append(out.blinks, p.blinks);
-    p = EventTables();  // its moved-from rows, freed as we go
+  return names;
+}
+
+EventTables EventTableSources::rows(std::size_t k) const { return recording_rows(impl_->ids[k], impl_->sources[k], *impl_->protocol, impl_->regions); }
+
+void write_event_tables(const EventTableSources& sources, const DesignSpec& design, unsigned jobs, const std::array<TextPieces, 3>& files) {
+  const EventTableColumns columns(sources.trial_variables(), design);
+  files[0](fixations_header(columns));
+  files[1](saccades_header(columns));
+  files[2](blinks_header(columns));
+  const std::size_t threads = std::max(1u, jobs ? jobs : std::thread::hardware_concurrency());
+  const std::size_t batch = 2 * threads;  // recordings whose text is held at once
+  for (std::size_t first = 0; first < sources.recordings(); first += batch) {
+    const std::size_t count = std::min(batch, sources.recordings() - first);
+    std::vector<std::array<std::string, 3>> text(count);
+    for_each_recording(count, static_cast<unsigned>(threads), [&](std::size_t i) {
+      const EventTables rows = sources.rows(first + i);
+      append_fixation_rows(rows, columns, text[i][0]);
+      append_saccade_rows(rows, columns, text[i][1]);
+      append_blink_rows(rows, columns, text[i][2]);
+    });
+    for (const auto& t : text) {
+      for (std::size_t f = 0; f < 3; ++f) files[f](t[f]);
+    }
   }
-  return out;
 }
 
 }  // namespace gazemill

@@ -67,6 +67,7 @@ void measure_recording(const CleanedRecording& cleaned, const std::map<std::stri
         const RegionMeasures& x = m[static_cast<std::size_t>(r)];
         return NeighbourMeasures{r + 1, info.label, info.letters, x.skipped, x.first_fixation_ms, x.gaze_duration_ms, x.total_time_ms};
       };
+      const auto variables = std::make_shared<const std::map<std::string, std::string>>(t.variables);
       for (int r = 0; r < region_count; ++r) {
         const RegionInfo& info = layout->regions[static_cast<std::size_t>(r)];
         const RegionMeasures& x = m[static_cast<std::size_t>(r)];
@@ -77,7 +78,7 @@ void measure_recording(const CleanedRecording& cleaned, const std::map<std::stri
         row.trial = t.id;
         row.item = item;
         row.cell = cell;
-        row.variables = t.variables;
+        row.variables = variables;
         row.region = r + 1;
         row.region_label = info.label;
         row.region_role = info.role;

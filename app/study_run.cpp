@@ -1075,15 +1075,21 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   std::set<std::string> written_in_pieces;  // by their own threads: their futures hold no text
   const auto policy = jobs == 1 ? std::launch::deferred : std::launch::async;  // -j1: formatted in turn on this thread
   auto format = [&tables, policy](std::string name, auto make) { tables.emplace_back(std::move(name), std::async(policy, std::move(make))); };
-  std::shared_ptr<const EventTables> events;
   if (current(Stage::detect)) {
     KnownResults known;
     if (fresh) known = {fresh->events.get(), fresh->alignment.get(), fresh->cleaned.get(), fresh->removed.get()};
-    events = std::make_shared<const EventTables>(
-        event_tables(store, p, regions ? &*regions : nullptr, current(Stage::clean), current(Stage::align), known, jobs));
-    format("fixations.tsv", [events, &p] { return fixations_tsv(*events, p.design); });
-    format("saccades.tsv", [events, &p] { return saccades_tsv(*events, p.design); });
-    format("blinks.tsv", [events, &p] { return blinks_tsv(*events, p.design); });
+    auto sources = std::make_shared<const EventTableSources>(store, p, regions ? &*regions : nullptr, current(Stage::clean),
+                                                             current(Stage::align), known);
+    // The three event tables together, a few recordings at a time, from a thread of their own.
+    format("fixations.tsv", [sources, &p, &set, jobs] {
+      set.write_in_pieces({"fixations.tsv", "saccades.tsv", "blinks.tsv"}, [&](const std::vector<TextPieces>& files) {
+        write_event_tables(*sources, p.design, jobs, {files[0], files[1], files[2]});
+      });
+      return std::string();
+    });
+    format("saccades.tsv", [] { return std::string(); });  // written with fixations.tsv
+    format("blinks.tsv", [] { return std::string(); });
+    written_in_pieces.insert({"fixations.tsv", "saccades.tsv", "blinks.tsv"});
     lap("events read");
   }
   if (current(Stage::clean)) {

@@ -28,33 +28,6 @@ std::string opt(const std::optional<T>& v, int decimals = 2) {
 }
 std::string text(const std::string& s) { return s.empty() ? "NA" : s; }
 
-// participant, session, trial, item, factors, other variables.
-struct TrialColumns {
-  std::vector<std::string> variables;
-  std::string header;
-  TrialColumns(const EventTables& t, const DesignSpec& design) {
-    std::set<std::string> others;
-    for (const auto& trial : t.trials) {
-      for (const auto& [k, v] : trial->variables) {
-        if (k != design.item_variable && std::find(design.factors.begin(), design.factors.end(), k) == design.factors.end()) others.insert(k);
-      }
-    }
-    variables.push_back(design.item_variable);
-    variables.insert(variables.end(), design.factors.begin(), design.factors.end());
-    variables.insert(variables.end(), others.begin(), others.end());
-    header = "participant\tsession\ttrial";
-    for (std::size_t i = 0; i < variables.size(); ++i) header += "\t" + (i == 0 ? std::string("item") : variables[i]);
-  }
-  std::string row(const EventTrial& t) const {
-    std::string out = t.participant + "\t" + text(t.session) + "\t" + t.trial;
-    for (const auto& v : variables) {
-      const auto it = t.variables.find(v);
-      out += "\t" + text(it == t.variables.end() ? std::string() : it->second);
-    }
-    return out;
-  }
-};
-
 // One table line, its fields appended in place and tab-separated (these
 // tables run to hundreds of thousands of lines; building each line from
 // temporaries was most of their cost).
@@ -91,7 +64,7 @@ void reserve_from_first_lines(std::string& out, std::size_t lines_done, std::siz
 // Each event's trial columns: the same for all the events of a trial.
 class TrialPart {
  public:
-  explicit TrialPart(const TrialColumns& tc) : tc_(tc) {}
+  explicit TrialPart(const EventTableColumns& tc) : tc_(tc) {}
   const std::string& of(const EventTrial* t) {
     if (t != last_) {
       text_ = tc_.row(*t);
@@ -101,21 +74,57 @@ class TrialPart {
   }
 
  private:
-  const TrialColumns& tc_;
+  const EventTableColumns& tc_;
   const EventTrial* last_ = nullptr;
   std::string text_;
 };
 
 }  // namespace
 
-std::string fixations_tsv(const EventTables& t, const DesignSpec& design) {
-  const TrialColumns tc(t, design);
-  std::string out = tc.header + "\tfixation\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\tdetected_duration_ms\teye\tx_px\ty_px\t"
-                    "corrected_y_px\tpupil\tkept\tremoved_by\tmerged_into\tline\tregion\tregion_label\tregion_role\tline_chars\tlanding_chars\n";
-  const std::size_t header = out.size();
+EventTableColumns::EventTableColumns(const std::set<std::string>& variable_names, const DesignSpec& design) {
+  variables_.push_back(design.item_variable);
+  variables_.insert(variables_.end(), design.factors.begin(), design.factors.end());
+  for (const auto& k : variable_names) {
+    if (k != design.item_variable && std::find(design.factors.begin(), design.factors.end(), k) == design.factors.end()) variables_.push_back(k);
+  }
+  header_ = "participant\tsession\ttrial";
+  for (std::size_t i = 0; i < variables_.size(); ++i) header_ += "\t" + (i == 0 ? std::string("item") : variables_[i]);
+}
+
+std::set<std::string> EventTableColumns::variable_names(const EventTables& t) {
+  std::set<std::string> names;
+  for (const auto& trial : t.trials) {
+    for (const auto& [k, v] : trial->variables) names.insert(k);
+  }
+  return names;
+}
+
+std::string EventTableColumns::row(const EventTrial& t) const {
+  std::string out = t.participant + "\t" + text(t.session) + "\t" + t.trial;
+  for (const auto& v : variables_) {
+    const auto it = t.variables.find(v);
+    out += "\t" + text(it == t.variables.end() ? std::string() : it->second);
+  }
+  return out;
+}
+
+std::string fixations_header(const EventTableColumns& tc) {
+  return tc.header() + "\tfixation\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\tdetected_duration_ms\teye\tx_px\ty_px\t"
+                       "corrected_y_px\tpupil\tkept\tremoved_by\tmerged_into\tline\tregion\tregion_label\tregion_role\tline_chars\tlanding_chars\n";
+}
+
+std::string saccades_header(const EventTableColumns& tc) {
+  return tc.header() + "\tsaccade\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\teye\tstart_x_px\tstart_y_px\tend_x_px\t"
+                       "end_y_px\tamplitude_deg\tpeak_velocity_deg_s\tdirection_deg\n";
+}
+
+std::string blinks_header(const EventTableColumns& tc) { return tc.header() + "\tblink\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\teye\n"; }
+
+void append_fixation_rows(const EventTables& t, const EventTableColumns& tc, std::string& out) {
+  const std::size_t before = out.size();
   TrialPart trial(tc);
   for (std::size_t i = 0; i < t.fixations.size(); ++i) {
-    reserve_from_first_lines(out, i, t.fixations.size(), header);
+    reserve_from_first_lines(out, i, t.fixations.size(), before);
     const auto& f = t.fixations[i];
     const FixationEvent& e = f.event;
     Line line(out);
@@ -124,17 +133,13 @@ std::string fixations_tsv(const EventTables& t, const DesignSpec& design) {
               << num(f.y_px, 2) << opt(f.corrected_y_px) << num(e.pupil, 3) << (f.kept ? "1" : "0") << text(f.removed_by) << opt(f.merged_into)
               << opt(f.line) << opt(f.region) << text(f.region_label) << text(f.region_role) << opt(f.line_chars) << opt(f.landing_chars);
   }
-  return out;
 }
 
-std::string saccades_tsv(const EventTables& t, const DesignSpec& design) {
-  const TrialColumns tc(t, design);
-  std::string out = tc.header + "\tsaccade\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\teye\tstart_x_px\tstart_y_px\tend_x_px\t"
-                    "end_y_px\tamplitude_deg\tpeak_velocity_deg_s\tdirection_deg\n";
-  const std::size_t header = out.size();
+void append_saccade_rows(const EventTables& t, const EventTableColumns& tc, std::string& out) {
+  const std::size_t before = out.size();
   TrialPart trial(tc);
   for (std::size_t i = 0; i < t.saccades.size(); ++i) {
-    reserve_from_first_lines(out, i, t.saccades.size(), header);
+    reserve_from_first_lines(out, i, t.saccades.size(), before);
     const auto& s = t.saccades[i];
     const SaccadeEvent& e = s.event;
     Line line(out);
@@ -143,12 +148,9 @@ std::string saccades_tsv(const EventTables& t, const DesignSpec& design) {
               << num(e.start_x_px, 2) << num(e.start_y_px, 2) << num(e.end_x_px, 2) << num(e.end_y_px, 2) << num(e.amplitude_deg, 3)
               << num(e.peak_velocity_deg_s, 1) << num(e.direction_deg, 1);
   }
-  return out;
 }
 
-std::string blinks_tsv(const EventTables& t, const DesignSpec& design) {
-  const TrialColumns tc(t, design);
-  std::string out = tc.header + "\tblink\tstart_ms\tend_ms\tstart_us\tend_us\tduration_ms\teye\n";
+void append_blink_rows(const EventTables& t, const EventTableColumns& tc, std::string& out) {
   TrialPart trial(tc);
   for (const auto& b : t.blinks) {
     const BlinkEvent& e = b.event;
@@ -156,6 +158,26 @@ std::string blinks_tsv(const EventTables& t, const DesignSpec& design) {
     line << trial.of(b.trial) << std::to_string(b.number);
     line.times(*b.trial, e.start_us, e.end_us) << ms(static_cast<double>(e.end_us - e.start_us) / 1000.0) << to_string(e.eye);
   }
+}
+
+std::string fixations_tsv(const EventTables& t, const DesignSpec& design) {
+  const EventTableColumns tc(EventTableColumns::variable_names(t), design);
+  std::string out = fixations_header(tc);
+  append_fixation_rows(t, tc, out);
+  return out;
+}
+
+std::string saccades_tsv(const EventTables& t, const DesignSpec& design) {
+  const EventTableColumns tc(EventTableColumns::variable_names(t), design);
+  std::string out = saccades_header(tc);
+  append_saccade_rows(t, tc, out);
+  return out;
+}
+
+std::string blinks_tsv(const EventTables& t, const DesignSpec& design) {
+  const EventTableColumns tc(EventTableColumns::variable_names(t), design);
+  std::string out = blinks_header(tc);
+  append_blink_rows(t, tc, out);
   return out;
 }
 

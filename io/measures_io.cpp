@@ -29,8 +29,11 @@ std::string_view text_or_na(const std::string& s) { return s.empty() ? std::stri
 // The trial variables that are neither the item nor a factor, by name.
 std::vector<std::string> other_variables(const std::vector<MeasureRow>& rows, const DesignSpec& design) {
   std::set<std::string> names;
+  const std::map<std::string, std::string>* last = nullptr;  // a trial's rows share theirs
   for (const auto& r : rows) {
-    for (const auto& [k, v] : r.variables) names.insert(k);
+    if (!r.variables || r.variables.get() == last) continue;
+    last = r.variables.get();
+    for (const auto& [k, v] : *r.variables) names.insert(k);
   }
   std::vector<std::string> out;
   for (const auto& n : names) {
@@ -72,8 +75,9 @@ std::vector<Column> trial_columns(const std::vector<MeasureRow>& rows, const Des
   }
   for (const auto& v : other_variables(rows, design)) {
     text(v, [v](const MeasureRow& r) {
-      auto it = r.variables.find(v);
-      return it == r.variables.end() ? std::string() : it->second;
+      if (!r.variables) return std::string();
+      auto it = r.variables->find(v);
+      return it == r.variables->end() ? std::string() : it->second;
     });
   }
   return c;

@@ -56,14 +56,28 @@ void TableSet::add(const std::string& name, const std::string& text) {
 }
 
 void TableSet::write_in_pieces(const std::string& name, const std::function<void(const TextPieces&)>& make) const {
-  const fs::path path = fs::path(temp_) / name;
-  std::error_code ec;
-  fs::create_directories(path.parent_path(), ec);
+  write_in_pieces(std::vector<std::string>{name}, [&make](const std::vector<TextPieces>& files) { make(files[0]); });
+}
+
+void TableSet::write_in_pieces(const std::vector<std::string>& names, const std::function<void(const std::vector<TextPieces>&)>& make) const {
+  std::vector<fs::path> paths;
+  std::vector<std::ofstream> outs;
   errno = 0;
-  std::ofstream out(path, std::ios::binary);
-  make([&out](std::string_view piece) { out.write(piece.data(), static_cast<std::streamsize>(piece.size())); });
-  out.flush();
-  if (!out) throw InputError({path.string(), 0, ""}, std::string("cannot write: ") + (errno ? std::strerror(errno) : "the write failed"));
+  for (const auto& name : names) {
+    paths.push_back(fs::path(temp_) / name);
+    std::error_code ec;
+    fs::create_directories(paths.back().parent_path(), ec);
+    outs.emplace_back(paths.back(), std::ios::binary);
+  }
+  std::vector<TextPieces> pieces;
+  for (auto& out : outs) {
+    pieces.emplace_back([&out](std::string_view piece) { out.write(piece.data(), static_cast<std::streamsize>(piece.size())); });
+  }
+  make(pieces);
+  for (std::size_t i = 0; i < outs.size(); ++i) {
+    outs[i].flush();
+    if (!outs[i]) throw InputError({paths[i].string(), 0, ""}, std::string("cannot write: ") + (errno ? std::strerror(errno) : "the write failed"));
+  }
 }
 
 void TableSet::commit(const std::string& manifest_json) {

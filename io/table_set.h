@@ -32,6 +32,9 @@ class TableSet {
   /// for distinct names; the file joins the set when `added` names it (on
   /// the set's own thread, in the set's order).
   void write_in_pieces(const std::string& name, const std::function<void(const TextPieces&)>& make) const;
+  /// Several files at once, each a piece at a time: `make` is given one
+  /// TextPieces per name, in the order of `names`.
+  void write_in_pieces(const std::vector<std::string>& names, const std::function<void(const std::vector<TextPieces>&)>& make) const;
   void added(const std::string& name) { names_.push_back(name); }
   /// Writes the manifest and puts the set in place of the folder.
   void commit(const std::string& manifest_json);

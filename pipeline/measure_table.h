@@ -5,6 +5,7 @@
 
 #include <cstdint>
 #include <map>
+#include <memory>
 #include <optional>
 #include <string>
 #include <vector>
@@ -23,7 +24,9 @@ struct NeighbourMeasures {
 struct MeasureRow {
   std::string participant, session, recording, trial, item;
   std::string cell;                              // design cell (cell_key of the factors' levels)
-  std::map<std::string, std::string> variables;  // every trial variable (item and factors included)
+  // Every trial variable (item and factors included), one map shared by the
+  // trial's rows: a copy per region was a tenth of a run's memory.
+  std::shared_ptr<const std::map<std::string, std::string>> variables;
   int region = 0;  // 1-based, reading order
   std::string region_label, region_role;
   int region_letters = 0, region_words = 0, region_line = 0, region_last_line = 0;  // lines 1-based

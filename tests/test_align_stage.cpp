@@ -84,7 +84,7 @@ TEST(AlignStage, MeasuresChangeWhereDriftWasCorrected) {
   std::size_t passage_changed = 0, sentence_changed = 0;
   for (std::size_t i = 0; i < attach.size(); ++i) {
     const bool changed = attach[i].total_time_ms != majority[i].total_time_ms;
-    (attach[i].variables.at("block") == "passage" ? passage_changed : sentence_changed) += changed;
+    (attach[i].variables->at("block") == "passage" ? passage_changed : sentence_changed) += changed;
   }
   EXPECT_GT(passage_changed, 20u);
   EXPECT_EQ(sentence_changed, 0u);
