@@ -1007,6 +1007,7 @@ StudyRunReport StudyRun::execute() {
     if (cleaned_) {
       report_.removed = std::make_shared<const std::map<std::string, std::vector<RemovedFixation>>>(removed_fixations(*cleaned_));
       report_.cleaning_rows = std::make_shared<const std::map<std::string, RecordingCleaningRows>>(cleaning_rows(*cleaned_));
+      cleaned_.reset();  // the cleaning state with a copy of every fixation: the tables and report need only the above
     }
   }
   // The report beside the tables: each reads the store on a thread of its own.
