@@ -855,13 +855,16 @@ class LineFeeder {
  private:
   void handle_line(std::string_view line) {
     ++line_no_;
-    // A byte-order mark, which some Windows tools put before UTF-8 text, is
-    // no part of the first column's name (common practice, no source).
-    if (line_no_ == 1 && line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
-    // "Unicode text" from some Windows tools is UTF-16: every other byte a
-    // NUL, which would otherwise surface as a header that matches nothing.
-    if (line_no_ == 1 && (line.substr(0, 2) == "\xFF\xFE" || line.substr(0, 2) == "\xFE\xFF")) {
-      throw InputError({path_, 1, ""}, "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); save or export it as UTF-8");
+    if (!start_checked_) {
+      start_checked_ = true;
+      // A byte-order mark, which some Windows tools put before UTF-8 text, is
+      // no part of the first column's name (common practice, no source).
+      if (line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
+      // "Unicode text" from some Windows tools is UTF-16: every other byte a
+      // NUL, which would otherwise surface as a header that matches nothing.
+      if (line.substr(0, 2) == "\xFF\xFE" || line.substr(0, 2) == "\xFE\xFF") {
+        throw InputError({path_, 1, ""}, "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); save or export it as UTF-8");
+      }
     }
     if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
     if (line.empty()) return;
@@ -882,7 +885,10 @@ class LineFeeder {
     std::size_t pos = 0;
     // A header-less file (BIDS physio) goes straight to the rows: its
     // byte-order mark is skipped here, before the first row is read.
-    if (line_no_ == 0 && parser_.has_header() && size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
+    if (!start_checked_ && parser_.has_header()) {
+      start_checked_ = true;  // once: a second mark is text (found by fuzzing)
+      if (size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
+    }
     for (;;) {
       if (parser_.has_header()) {
         const char* start = data + pos;
@@ -910,6 +916,7 @@ class LineFeeder {
   ByteSource& source_;
   RowParser parser_;
   std::size_t line_no_ = 0;
+  bool start_checked_ = false;  // for a byte-order mark, which only the file's first bytes can be
   bool any_line_ = false;
   std::string carry_;  // an unfinished line at the end of what has been parsed
   std::uint64_t last_report_ = 0;

@@ -29,7 +29,14 @@ TsvTable::TsvTable(const std::string& path) : path_(path) {
     auto fields = split(line);
     if (header.empty()) {
       header = fields;
-      for (std::size_t i = 0; i < header.size(); ++i) index_[header[i]] = i;
+      for (std::size_t i = 0; i < header.size(); ++i) {
+        // Two columns of one name: which one a reader meant is unknowable.
+        if (const auto [first, fresh] = index_.emplace(header[i], i); !fresh) {
+          throw InputError({path, n, header[i]}, "the column is named twice in the header (columns " + std::to_string(first->second + 1) +
+                                                     " and " + std::to_string(i + 1) + ")" +
+                                                     (header[i].empty() ? ": two columns without a name, a tab too many?" : ""));
+        }
+      }
       continue;
     }
     if (fields.size() != header.size()) {

@@ -254,6 +254,32 @@ TEST(CommonRows, HeaderlessFileOfCommonRowsOnly) {
   }
 }
 
+// Found by fuzzing: a header-less file of two byte-order marks and no
+// newline. Reading by blocks skipped the first and then the second (as if
+// each began the file) and called the file empty; mapped, only the first was
+// skipped. Only the file's first three bytes can be its mark (the Unicode
+// standard, from memory): the second is text, a row of one field.
+TEST(MappedWindows, OnlyTheFirstByteOrderMarkIsSkipped) {
+  TempDir dir;
+  DelimitedReadOptions o;
+  o.layout.time_column = "t";
+  o.layout.right = EyeColumnNames{"x", "y", ""};
+  o.column_names = {"t", "x", "y"};
+  const std::pair<std::string, std::string> cases[] = {{"\xEF\xBB\xBF\xEF\xBB\xBF", "expected 3 tab-separated fields"},
+                                                        {"\xEF\xBB\xBF\xEF\xBB\xBF\n", "expected 3 tab-separated fields"},
+                                                        {"\xEF\xBB\xBF\xEF\xBB\xBF1\t2\t3\n", "field 't': expected a number"}};
+  for (const auto& [text, error] : cases) {
+    const std::string path = dir.write("two-marks.tsv", text);
+    DelimitedReadOptions mapped = o, read = o;
+    read.map_plain_files = false;
+    Reading a, b;
+    read_into(a, path, mapped);
+    read_into(b, path, read);
+    expect_same_reading(a, b, 0);
+    EXPECT_NE(b.error.find(error), std::string::npos) << b.error;
+  }
+}
+
 // A file cut short by another program while it is mapped: the next window
 // sees the new size and stops with an error naming the file, rather than
 // touching pages past the end (which would stop the program with SIGBUS).

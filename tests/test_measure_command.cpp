@@ -170,6 +170,9 @@ TEST(MeasureCommand, RegionFileErrorsNameFileLineAndColumn) {
   expect(head + "1\t1\tThe\t100\t200\t150\t240\t1\n1\t2\tdog\t150\t200\t190\t240\t1\n1\t2\tdog\t150\t200\t190\t240\t1\n", 4,
          "left_px");
   expect(head + "1\t1\tThe\t100\t200\t160\t240\t1\n1\t2\tdog\t150\t200\t190\t240\t1\n", 3, "left_px");
+  // Found by fuzzing: a column named twice made the header's name list
+  // shorter than the header, and listing the columns wrote past its end.
+  expect("item\tregion\tlabel\tleft_px\ttop_px\tright_px\tbottom_px\tline\tline\n1\t1\tThe\t100\t200\t150\t240\t1\t1\n", 1, "line");
   // A role names one region of an item.
   const std::string roles = "item\tregion\tlabel\trole\tleft_px\ttop_px\tright_px\tbottom_px\tline\n";
   expect(roles + "1\t1\tThe\ttarget\t100\t200\t150\t240\t1\n1\t2\tdog\ttarget\t150\t200\t190\t240\t1\n", 0, "role");
@@ -230,6 +233,9 @@ TEST(MeasureCommand, ARoleOnARegionTheItemLacksIsAnError) {
   EXPECT_NE(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 3=target\n").find("2 roles: "), std::string::npos);
   EXPECT_NE(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 2=spillover\n").find("two roles"), std::string::npos);
   EXPECT_EQ(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target 3=spillover\n"), "no error");
+  // Found by fuzzing: two columns of one name (or two without a name) in the header.
+  EXPECT_NE(error_line("item\ttext\ta\ta\tz\n1\tThe / fox\t1\t2\t3\n").find("1 a: "), std::string::npos);
+  EXPECT_NE(error_line("item\ttext\t\t\tz\n1\tThe / fox\t1\t2\t3\n").find("named twice"), std::string::npos);
   // "target," is a typo, not a role of its own.
   EXPECT_NE(error_line("item\ttext\troles\n1\tThe / quick / fox\t2=target, 3=spillover\n").find("the role 'target,' of region 2 is not a name"),
             std::string::npos);

@@ -26,8 +26,9 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
     out.write(reinterpret_cast<const char*>(data + 1), static_cast<std::streamsize>(size - 1));
   }
   try {
-    if (data[0] & 1) (void)gazemill::read_items_file(path, gazemill::TextLayoutSpec{});
-    else (void)gazemill::read_region_boxes(path, 12.0);
+    // "condition" is the design factor the seeds' files have a column for.
+    if (data[0] & 1) (void)gazemill::read_items_file(path, gazemill::TextLayoutSpec{}, {"condition"});
+    else (void)gazemill::read_region_boxes(path, 12.0, {"condition"});
   } catch (const gazemill::InputError&) {
     // The expected outcome for bad text; anything else escapes to libFuzzer.
   }
