@@ -7,6 +7,7 @@
 #include <string>
 
 #include "pipeline/input_error.h"
+#include "pipeline/rare_values.h"
 
 namespace gazemill {
 
@@ -35,15 +36,9 @@ void check_design_levels(const Protocol& protocol, const std::vector<RecordingEv
       throw InputError({protocol.path, line, "design.levels." + factor},
                        first + ", not one of its levels (" + levels + "); " + std::to_string(unlisted) + " trial(s) in all have a value not listed");
     }
-    std::size_t most = 0;
-    for (const auto& [value, n] : trials) most = std::max(most, n);
-    std::string counts;
-    for (const auto& [value, n] : trials) counts += (counts.empty() ? "" : ", ") + value + ": " + std::to_string(n);
-    for (const auto& [value, n] : trials) {
-      if (10 * n < most) {
-        spdlog::warn("{}: the level '{}' of {} is in only {} trial(s) ({}); a typo? List the levels in [design.levels] to make one an error",
-                     protocol.path, value, factor, n, counts);
-      }
+    for (const auto& value : rare_values(trials)) {
+      spdlog::warn("{}: the level '{}' of {} is in only {} trial(s) ({}); a typo? List the levels in [design.levels] to make one an error",
+                   protocol.path, value, factor, trials.at(value), count_listing(trials));
     }
   }
 }

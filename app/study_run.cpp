@@ -54,6 +54,7 @@
 #include "pipeline/named_regex.h"
 #include "measures/measure_aggregates.h"
 #include "pipeline/input_error.h"
+#include "pipeline/rare_values.h"
 
 namespace gazemill {
 namespace fs = std::filesystem;
@@ -753,14 +754,8 @@ void check_region_references(const Protocol& p, const RegionCatalogue& regions) 
     }
   }
   // A role in a few items only, beside one in many, is likelier a typo ("targte") than a design.
-  std::size_t commonest = 0;
-  for (const auto& [role, n] : items_with) commonest = std::max(commonest, n);
-  for (const auto& [role, n] : items_with) {
-    if (10 * n < commonest) {
-      std::string counts;
-      for (const auto& [r, k] : items_with) counts += (counts.empty() ? "" : ", ") + r + ": " + std::to_string(k);
-      spdlog::warn("{}: the role '{}' is given in only {} item(s) ({}); a typo?", regions.source(), role, n, counts);
-    }
+  for (const auto& role : rare_values(items_with)) {
+    spdlog::warn("{}: the role '{}' is given in only {} item(s) ({}); a typo?", regions.source(), role, items_with.at(role), count_listing(items_with));
   }
   for (std::size_t i = 0; i < p.cleaning.size(); ++i) {
     const CleaningRuleSpec& rule = p.cleaning[i];

@@ -6,6 +6,7 @@
 
 #include "app/design_level_check.h"
 #include "pipeline/input_error.h"
+#include "pipeline/rare_values.h"
 
 using namespace gazemill;
 
@@ -45,4 +46,13 @@ TEST(DesignLevelCheck, AValueNotListedIsAnErrorNamingTheTrial) {
   }
   p.design.levels["frequency"] = {"frequent", "rare", "rrae"};
   EXPECT_NO_THROW(check_design_levels(p, study));
+}
+
+// Under a tenth of the commonest count is rare (our threshold; common
+// practice, no source): 3 beside 600 is, 60 beside 600 is not (not under).
+TEST(RareValues, UnderATenthOfTheCommonest) {
+  EXPECT_EQ(rare_values({{"a", 600}, {"b", 3}, {"c", 60}, {"d", 59}}), (std::vector<std::string>{"b", "d"}));
+  EXPECT_TRUE(rare_values({{"only", 1}}).empty());
+  EXPECT_TRUE(rare_values({}).empty());
+  EXPECT_EQ(count_listing({{"a", 600}, {"b", 3}}), "a: 600, b: 3");
 }
