@@ -855,17 +855,7 @@ class LineFeeder {
  private:
   void handle_line(std::string_view line) {
     ++line_no_;
-    if (!start_checked_) {
-      start_checked_ = true;
-      // A byte-order mark, which some Windows tools put before UTF-8 text, is
-      // no part of the first column's name (common practice, no source).
-      if (line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
-      // "Unicode text" from some Windows tools is UTF-16: every other byte a
-      // NUL, which would otherwise surface as a header that matches nothing.
-      if (line.substr(0, 2) == "\xFF\xFE" || line.substr(0, 2) == "\xFE\xFF") {
-        throw InputError({path_, 1, ""}, "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); save or export it as UTF-8");
-      }
-    }
+    if (!start_checked_) line.remove_prefix(file_start(line));
     if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
     if (line.empty()) return;
     const std::string& comment = options_.layout.comment_prefix;
@@ -878,6 +868,20 @@ class LineFeeder {
     parser_.parse_row(line, line_no_);
   }
 
+  // The file's first bytes, looked at once whichever path reads them first
+  // (a second mark is text; found by fuzzing). Returns how many to skip.
+  std::size_t file_start(std::string_view start) {
+    start_checked_ = true;
+    // "Unicode text" from some Windows tools is UTF-16: every other byte a
+    // NUL, which would otherwise surface as a header that matches nothing.
+    if (start.substr(0, 2) == "\xFF\xFE" || start.substr(0, 2) == "\xFE\xFF") {
+      throw InputError({path_, 1, ""}, "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); save or export it as UTF-8");
+    }
+    // A byte-order mark, which some Windows tools put before UTF-8 text, is
+    // no part of the first column's name (common practice, no source).
+    return start.substr(0, 3) == "\xEF\xBB\xBF" ? 3 : 0;
+  }
+
   // Parses the whole lines of data[0, size); data[size] must be '\0', the
   // sentinel parse_common_rows relies on. Returns where an unfinished last
   // line starts (size when the data ends with a newline).
@@ -885,10 +889,7 @@ class LineFeeder {
     std::size_t pos = 0;
     // A header-less file (BIDS physio) goes straight to the rows: its
     // byte-order mark is skipped here, before the first row is read.
-    if (!start_checked_ && parser_.has_header()) {
-      start_checked_ = true;  // once: a second mark is text (found by fuzzing)
-      if (size >= 3 && std::memcmp(data, "\xEF\xBB\xBF", 3) == 0) pos = 3;
-    }
+    if (!start_checked_ && parser_.has_header()) pos = file_start(std::string_view(data, size));
     for (;;) {
       if (parser_.has_header()) {
         const char* start = data + pos;
