@@ -91,14 +91,6 @@ EventTableColumns::EventTableColumns(const std::set<std::string>& variable_names
   for (std::size_t i = 0; i < variables_.size(); ++i) header_ += "\t" + (i == 0 ? std::string("item") : variables_[i]);
 }
 
-std::set<std::string> EventTableColumns::variable_names(const EventTables& t) {
-  std::set<std::string> names;
-  for (const auto& trial : t.trials) {
-    for (const auto& [k, v] : trial->variables) names.insert(k);
-  }
-  return names;
-}
-
 std::string EventTableColumns::row(const EventTrial& t) const {
   std::string out = t.participant + "\t" + text(t.session) + "\t" + t.trial;
   for (const auto& v : variables_) {
@@ -158,27 +150,6 @@ void append_blink_rows(const EventTables& t, const EventTableColumns& tc, std::s
     line << trial.of(b.trial) << std::to_string(b.number);
     line.times(*b.trial, e.start_us, e.end_us) << ms(static_cast<double>(e.end_us - e.start_us) / 1000.0) << to_string(e.eye);
   }
-}
-
-std::string fixations_tsv(const EventTables& t, const DesignSpec& design) {
-  const EventTableColumns tc(EventTableColumns::variable_names(t), design);
-  std::string out = fixations_header(tc);
-  append_fixation_rows(t, tc, out);
-  return out;
-}
-
-std::string saccades_tsv(const EventTables& t, const DesignSpec& design) {
-  const EventTableColumns tc(EventTableColumns::variable_names(t), design);
-  std::string out = saccades_header(tc);
-  append_saccade_rows(t, tc, out);
-  return out;
-}
-
-std::string blinks_tsv(const EventTables& t, const DesignSpec& design) {
-  const EventTableColumns tc(EventTableColumns::variable_names(t), design);
-  std::string out = blinks_header(tc);
-  append_blink_rows(t, tc, out);
-  return out;
 }
 
 }  // namespace gazemill

@@ -20,7 +20,6 @@ namespace gazemill {
 class EventTableColumns {
  public:
   EventTableColumns(const std::set<std::string>& variable_names, const DesignSpec& design);
-  static std::set<std::string> variable_names(const EventTables& tables);
   const std::string& header() const { return header_; }  // without a line end
   std::string row(const EventTrial& trial) const;         // the trial's fields, without a line end
 
@@ -37,10 +36,5 @@ std::string blinks_header(const EventTableColumns& columns);
 void append_fixation_rows(const EventTables& tables, const EventTableColumns& columns, std::string& out);
 void append_saccade_rows(const EventTables& tables, const EventTableColumns& columns, std::string& out);
 void append_blink_rows(const EventTables& tables, const EventTableColumns& columns, std::string& out);
-
-/// A whole table: its header and a line per event.
-std::string fixations_tsv(const EventTables& tables, const DesignSpec& design);
-std::string saccades_tsv(const EventTables& tables, const DesignSpec& design);
-std::string blinks_tsv(const EventTables& tables, const DesignSpec& design);
 
 }  // namespace gazemill
