@@ -79,6 +79,7 @@ void map_regions(CleaningState& state, const RegionCatalogue& regions, const Reg
       for (const auto& r : layout->regions) {
         if (!r.role.empty()) t.region_roles.emplace(r.role, r.id);
       }
+      t.region_count = static_cast<int>(layout->regions.size());
       t.regions_mapped = true;
     }
   }

@@ -43,7 +43,7 @@ int NamedRegion::resolve(const CleanTrial& t) const {
     auto it = t.region_roles.find(role);
     return it == t.region_roles.end() ? -1 : it->second;
   }
-  return index;
+  return t.region_count > 0 && index >= t.region_count ? -1 : index;  // an item of fewer regions has none of that number
 }
 
 std::string NamedRegion::describe() const { return role.empty() ? "region " + std::to_string(index + 1) : "the " + role + " region"; }
@@ -75,7 +75,8 @@ void ExcludeTrialsSkippingRegion::apply(CleaningState& state, std::size_t rule, 
   for_each_kept_trial(state, [&](CleanTrial& t) {
     require_regions(t);
     const int r = region_.resolve(t);
-    if (r < 0 || !first_pass(kept_fixations(t), r)) remove_trial(t, rule, region_.describe() + " skipped in first pass", channel);
+    if (r < 0) return;  // the item has no such region (a filler, a passage): there is nothing to skip
+    if (!first_pass(kept_fixations(t), r)) remove_trial(t, rule, region_.describe() + " skipped in first pass", channel);
   });
 }
 

@@ -43,6 +43,7 @@ struct CleanTrial {
   bool kept = true;
   bool regions_mapped = false;           // fixation.region is set (the protocol has regions)
   std::map<std::string, int> region_roles;  // role -> 0-based region, from the region files
+  int region_count = 0;                      // regions of the trial's item (when mapped)
 };
 
 struct CleanParticipant {

@@ -426,6 +426,30 @@ TEST(RegionExclusions, SkippedAfterAnyFurtherRegionAndTheExitSaccadeCounts) {
   EXPECT_FALSE(o.state.participants[0].trials[0].kept);
 }
 
+// A trial whose item has no such region (a passage without a target, an
+// item of three regions asked for region 5) cannot skip it: the rule does not
+// judge it, as the first-pass gap rule does not (a newcomer's trial: every
+// passage trial of a study was excluded as "skipped"; common practice, no source).
+TEST(RegionExclusions, ATrialWithoutTheRegionIsNotJudgedSkipped) {
+  std::uint32_t id = 0;
+  CleanTrial passage = trial_of({{0, 180, 0}, {200, 180, 0}, {400, 180, 0}}, id);
+  passage.trial = "passage";
+  for (std::size_t k = 0; k < 3; ++k) passage.fixations[k].region = static_cast<int>(k);
+  passage.regions_mapped = true;
+  passage.region_count = 3;  // no role "target"
+  const auto input = state_of({passage});
+  auto o = run_cleaning(input, {rule("skip", "exclude_trials_skipping_region", {}, {{"role", "target"}})});
+  EXPECT_TRUE(o.state.participants[0].trials[0].kept);
+  o = run_cleaning(input, {rule("skip", "exclude_trials_skipping_region", {{"region", 5}}, {})});
+  EXPECT_TRUE(o.state.participants[0].trials[0].kept);
+  o = run_cleaning(input, {rule("skip", "exclude_trials_skipping_region", {{"region", 3}}, {})});
+  EXPECT_TRUE(o.state.participants[0].trials[0].kept);  // read in order: region 3 not skipped
+  CleanTrial skipping = passage;
+  skipping.fixations[1].region = 2;  // 0, 2, 2: region 2 (index 1) skipped
+  o = run_cleaning(state_of({skipping}), {rule("skip", "exclude_trials_skipping_region", {{"region", 2}}, {})});
+  EXPECT_FALSE(o.state.participants[0].trials[0].kept);
+}
+
 // A participant's mean of a trial variable *below* min_mean excludes them
 // (filters/participant_exclusions.h); exactly min_mean does not. Four
 // trials, correct 1, 1, 0, 0: mean 0.5, with min_mean 0.5: kept.
