@@ -1,5 +1,6 @@
 #include "app/commands.h"
 
+#include <algorithm>
 #include <nlohmann/json.hpp>
 #include <spdlog/spdlog.h>
 
@@ -158,20 +159,30 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   if (r.beside_tables_error) std::rethrow_exception(r.beside_tables_error);
   if (r.store_written) {
     for (const auto& aside : set_aside_stale_outputs(opt.store_path, opt.tables_folder)) {
+      // The run that makes them again writes where they were: `-o` unless that is the default folder.
+      const fs::path made_in = fs::absolute(aside).parent_path();
+      std::error_code ec;
+      const bool default_folder = fs::equivalent(made_in, default_run_folder(protocol), ec);
       spdlog::warn("renamed to {}: it was made from results the store no longer holds as current, and nothing should read it "
-                   "unawares (gazemill run {} makes the tables and the report again)",
-                   aside, o.protocol_path);
+                   "unawares (gazemill run {}{} makes the tables and the report again)",
+                   aside, o.protocol_path, default_folder ? "" : " -o " + made_in.string());
     }
   }
   if (!only && o.shard.empty()) remove_stale_outputs(folder);
   log_counts(r);
   const std::string timing = clock.summary(r.input_bytes);
   spdlog::info("{}: {}", opt.store_path, stage_summary(r));
-  if (!only && o.shard.empty()) {
+  const std::string summary_path = (fs::path(folder) / "run-summary.json").string();
+  const bool any_ran = std::any_of(r.stages.begin(), r.stages.end(), [](const auto& s) { return s.second == "ran" || s.second == "imported"; });
+  std::error_code exists_ec;
+  if (!only && o.shard.empty() && !any_ran && fs::exists(summary_path, exists_ec)) {
+    // Its counts are of the run that made the outputs; this one read and detected nothing.
+    spdlog::info("nothing changed: {} still describes the outputs", summary_path);
+  } else if (!only && o.shard.empty()) {
     nlohmann::json summary;
-    summary["store"] = opt.store_path;
-    summary["tables"] = opt.tables_folder;
-    if (!report_path.empty()) summary["report"] = report_path;
+    summary["store"] = fs::absolute(opt.store_path).lexically_normal().string();
+    summary["tables"] = fs::absolute(opt.tables_folder).lexically_normal().string();
+    if (!report_path.empty()) summary["report"] = fs::absolute(report_path).lexically_normal().string();
     for (const auto& [stage, what] : r.stages) summary["stages"][to_string(stage)] = what;
     summary["recordings"] = r.recordings;
     summary["recordings_read"] = r.recordings_read;
@@ -179,7 +190,6 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
     summary["samples_read"] = r.samples;
     summary["fixations_detected"] = r.fixations;
     summary["timing"] = timing;
-    const std::string summary_path = (fs::path(folder) / "run-summary.json").string();
     remove_leftover_temporaries(summary_path);  // a killed run's
     write_file_atomically(summary_path, summary.dump(2) + "\n");
   }

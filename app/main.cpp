@@ -62,15 +62,9 @@ int main(int argc, char** argv) {
     const auto commands = app.get_subcommands([](const CLI::App*) { return true; });
     const bool known = std::any_of(commands.begin(), commands.end(), [&](const CLI::App* c) { return c->get_name() == word; });
     if (!word.empty() && !known) {
-      std::string nearest;
-      std::size_t best = 3;  // at most two edits away
-      for (const auto* c : commands) {
-        const std::size_t d = gazemill::edit_distance(word, c->get_name());
-        if (d < best) {
-          best = d;
-          nearest = c->get_name();
-        }
-      }
+      std::vector<std::string> names;
+      for (const auto* c : commands) names.push_back(c->get_name());
+      const std::string nearest = gazemill::likely_meant(word, names);
       std::cerr << "error: there is no command '" << word << "'"
                 << (nearest.empty() ? "" : "; did you mean '" + nearest + "'?") << " (gazemill --help lists the commands)\n";
       return 2;

@@ -518,8 +518,15 @@ void parse_regions(TomlSection& r, Protocol& p) {
   // Keys that place text laid out from an items file: beside a boxes file
   // they would change nothing, though whoever wrote them expects they do.
   if (!spec.boxes_file.empty()) {
+    std::vector<std::string> present;  // all of them in one message, not one per run
     for (const char* key : {"left_margin_px", "first_line_top_px", "wrap_width_chars", "advances"}) {
-      if (r.has(key)) r.fail(key, "lays out the text of an items_file; with boxes_file each region's box gives its place, so this key would change nothing. Remove it");
+      if (r.has(key)) present.emplace_back(key);
+    }
+    if (!present.empty()) {
+      std::string others;
+      for (std::size_t i = 1; i < present.size(); ++i) others += (others.empty() ? "" : ", ") + present[i];
+      r.fail(present.front(), "lays out the text of an items_file; with boxes_file each region's box gives its place, so this key would change "
+                              "nothing. Remove it" + (others.empty() ? std::string() : " (and " + others + ", likewise)"));
     }
   }
   if (!spec.items_file.empty() && L.char_width_px <= 0) {

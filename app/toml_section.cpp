@@ -1,5 +1,6 @@
 #include "app/toml_section.h"
 
+#include "pipeline/edit_distance.h"
 #include "pipeline/input_error.h"
 
 namespace gazemill {
@@ -118,7 +119,14 @@ void TomlSection::finish() const {
   for (const auto& [k, v] : table_) {
     const std::string key(k.str());
     if (!used_.count(key)) {
-      throw InputError({file_, v.source().begin.line, name_of(key)}, "unknown key (check its spelling and the section it is in)");
+      // The keys this section reads and was not given: what a misspelt key likely meant.
+      std::vector<std::string> absent;
+      for (const auto& known : used_) {
+        if (!table_.contains(known)) absent.push_back(known);
+      }
+      const std::string meant = likely_meant(key, absent);
+      throw InputError({file_, v.source().begin.line, name_of(key)},
+                       meant.empty() ? "unknown key (check its spelling and the section it is in)" : "unknown key; did you mean " + meant + "?");
     }
   }
 }

@@ -20,4 +20,19 @@ std::size_t edit_distance(const std::string& a, const std::string& b) {
   return row[b.size()];
 }
 
+std::string likely_meant(const std::string& word, const std::vector<std::string>& names) {
+  std::string nearest;
+  std::size_t best = 3;  // at most two edits away
+  for (const auto& name : names) {
+    if (name == word) continue;
+    if (name.rfind(word + "_", 0) == 0 && name.find('_', word.size() + 1) == std::string::npos) return name;  // its unit left off
+    const std::size_t d = edit_distance(word, name);
+    if (d < best) {
+      best = d;
+      nearest = name;
+    }
+  }
+  return nearest;
+}
+
 }  // namespace gazemill

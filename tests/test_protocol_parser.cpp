@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "app/protocol_parser.h"
+#include "pipeline/edit_distance.h"
 #include "pipeline/input_error.h"
 
 using namespace gazemill;
@@ -92,6 +93,20 @@ TEST(ProtocolParser, UnknownKeyNamesKeyAndLine) {
   expect_error_at(replace(kProtocol, "time_unit = \"us\"", "time_unit = \"us\"\ntime_units = \"ms\""), 14,
                   "input.table.time_units", "unknown key");
   expect_error_at(kProtocol + "\n[detect]\nmethod = 'x'\n", 39, "detect", "unknown key");
+  // A key the section reads and was not given, close by: named (a newcomer's
+  // trial: "sample_rate" had no suggestion, a misspelt rule parameter had one).
+  expect_error_at(replace(kProtocol, "sample_rate_hz = 500", "sample_rate = 500"), 8, "input.sample_rate", "did you mean sample_rate_hz?");
+  expect_error_at(replace(kProtocol, "sample_rate_hz = 500", "sampel_rate_hz = 500"), 8, "input.sampel_rate_hz", "did you mean sample_rate_hz?");
+}
+
+// Two edits or fewer, or the name without its unit (our rule; common practice, no source).
+TEST(LikelyMeant, NearNamesAndNamesWithoutTheirUnit) {
+  const std::vector<std::string> names = {"run", "report", "sample_rate_hz", "max_gap_ms"};
+  EXPECT_EQ(likely_meant("rnu", names), "run");
+  EXPECT_EQ(likely_meant("sample_rate", names), "sample_rate_hz");
+  EXPECT_EQ(likely_meant("max_gap", names), "max_gap_ms");
+  EXPECT_EQ(likely_meant("max", names), "");  // "max_gap_ms" is more than a unit away
+  EXPECT_EQ(likely_meant("simulate", names), "");
 }
 
 TEST(ProtocolParser, WrongTypesAndValues) {
@@ -181,4 +196,7 @@ TEST(ProtocolParser, LayoutKeysBesideABoxesFileAreNamed) {
   EXPECT_NO_THROW(parse_protocol_text(boxes, "study.toml"));
   expect_error_at(boxes + "left_margin_px = 90\n", 41, "regions.left_margin_px", "with boxes_file each region's box gives its place");
   expect_error_at(boxes + "wrap_width_chars = 70\n", 41, "regions.wrap_width_chars", "would change nothing");
+  // All of them in one message (a newcomer's trial: it took three runs to find the three).
+  expect_error_at(boxes + "left_margin_px = 90\nfirst_line_top_px = 200\nwrap_width_chars = 70\n", 41, "regions.left_margin_px",
+                  "(and first_line_top_px, wrap_width_chars, likewise)");
 }

@@ -113,8 +113,14 @@ with tempfile.TemporaryDirectory() as tmp:
     r = run("run", proto, "-o", out)
     check(r.returncode == 0 and os.path.getsize(html) > 10000 and "report.html" in r.stderr, "run writes report.html and names it", r)
     first = os.stat(html).st_mtime_ns
+    import json
+    summary_path = os.path.join(out, "run-summary.json")
+    summary = json.load(open(summary_path))
+    check(summary["samples_read"] > 0 and os.path.isabs(summary["store"]), "the run summary counts the samples read and gives absolute paths")
     r = run("run", proto, "-o", out)
     check(r.returncode == 0 and os.stat(html).st_mtime_ns == first, "a run with nothing to redo leaves the report as it is", r)
+    # A newcomer's trial: the summary of a run that did nothing read zero samples, overwriting the real counts.
+    check(json.load(open(summary_path)) == summary, "a run with nothing to redo leaves the run summary as it is", r)
     with open(proto, "a") as f:
         f.write('\n[[cleaning]]\nname = "brief"\nkind = "delete_short_fixations"\nmin_duration_ms = 80\n')
     r = run("run", proto, "-o", out)
