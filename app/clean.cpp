@@ -1,5 +1,6 @@
 #include "app/clean.h"
 
+#include <algorithm>
 #include <map>
 #include <utility>
 
@@ -52,6 +53,9 @@ CleaningState cleaning_state_from(const std::vector<RecordingEvents>& recordings
         ct.samples = ev.trials[td].samples;
         ct.missing_samples = ev.trials[td].missing_samples;
       }
+      std::size_t fx_end = fx;  // held for the whole study: no growth's slack
+      while (fx_end < ev.fixations.size() && ev.fixations[fx_end].trial == t.id) ++fx_end;
+      ct.fixations.reserve(fx_end - fx);
       for (; fx < ev.fixations.size() && ev.fixations[fx].trial == t.id; ++fx) {
         CleanFixation f;
         f.id = next_fixation++;
@@ -98,16 +102,25 @@ CleaningOutcome clean_events(const Protocol& protocol, const std::vector<Recordi
   }
 }
 
-std::vector<CleanedRecording> cleaned_recordings(const CleaningOutcome& outcome, const std::vector<RecordingEvents>& recordings) {
+std::vector<CleanedRecording> cleaned_recordings(CleaningState&& state, const std::vector<RecordingEvents>& recordings) {
   std::map<std::string, CleanedRecording> by_id;
   for (const auto& r : recordings) by_id[r.meta.id].meta = r.meta;
-  for (const auto& p : outcome.state.participants) {
+  // Held to the end of the run beside the events: exactly as many as are kept.
+  std::map<std::string, std::size_t> kept;
+  for (const auto& p : state.participants) {
     for (const auto& t : p.trials) {
+      kept[t.recording] += static_cast<std::size_t>(std::count_if(t.fixations.begin(), t.fixations.end(), [](const CleanFixation& f) { return f.kept; }));
+    }
+  }
+  for (const auto& [id, n] : kept) by_id.at(id).kept.reserve(n);
+  for (auto& p : state.participants) {
+    for (auto& t : p.trials) {
       CleanedRecording& c = by_id.at(t.recording);
       c.trial_kept[t.trial] = t.kept;
-      for (const auto& f : t.fixations) {
-        if (f.kept) c.kept.push_back(f);
+      for (auto& f : t.fixations) {
+        if (f.kept) c.kept.push_back(std::move(f));
       }
+      std::vector<CleanFixation>().swap(t.fixations);
     }
   }
   std::vector<CleanedRecording> out;

@@ -24,8 +24,10 @@ void map_regions(CleaningState& state, const RegionCatalogue& regions, const Reg
 /// protocol and the rule for a bad rule.
 CleaningOutcome clean_events(const Protocol& protocol, const std::vector<RecordingEvents>& recordings);
 
-/// The kept fixations and trial verdicts of each recording, from an outcome or from a store.
-std::vector<CleanedRecording> cleaned_recordings(const CleaningOutcome& outcome, const std::vector<RecordingEvents>& recordings);
+/// The kept fixations and trial verdicts of each recording, from the state
+/// after cleaning (taken apart, trial by trial, so that the fixations are
+/// never held twice) or from a store.
+std::vector<CleanedRecording> cleaned_recordings(CleaningState&& state, const std::vector<RecordingEvents>& recordings);
 std::vector<CleanedRecording> cleaned_recordings(const StudyStoreReader& store);
 
 }  // namespace gazemill

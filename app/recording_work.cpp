@@ -388,6 +388,11 @@ void detect_events(RecordingOutput& out, const EventDetector& detector, const De
     move_all(ev.saccades, d.events.saccades);
     move_all(ev.blinks, d.events.blinks);
   }
+  // Held for the whole study's cleaning: without the growth's slack (a fifth to a half of them).
+  ev.fixations.shrink_to_fit();
+  ev.saccades.shrink_to_fit();
+  ev.blinks.shrink_to_fit();
+  ev.losses.shrink_to_fit();
   out.labels = compress_column("sample_label", ColumnType::uint8, "", codes.data(), codes.size(), options.chunk_rows,
                                options.deflate_level);
   out.detected = true;

@@ -39,6 +39,7 @@ namespace {
 void write_report(const std::string& store_path, const std::string& html_path, std::size_t max_points, const LentToReport& lent = {}) {
   ReportDataOptions opt;
   opt.max_points_per_trial = max_points;
+  opt.pack_viewer = true;
   opt.events = lent.events;
   opt.measures_wide = lent.measures_wide;
   opt.measures_by_role = lent.measures_by_role;

@@ -24,6 +24,7 @@
 #include "io/cleaning_io.h"
 #include "io/compressed_samples.h"
 #include "io/region_files.h"
+#include "io/report_html.h"
 #include "io/report_store.h"
 #include "io/sample_digest_io.h"
 #include "io/sha256.h"
@@ -436,6 +437,7 @@ class Assembler {
         }
       }
       // In study order, as one thread would have done it.
+      const std::size_t first_made = v.recordings.size();
       for (RecordingWork& w : batch) {
         const Recording& rec = w.rec;
         participants.insert(rec.participant);
@@ -460,9 +462,32 @@ class Assembler {
         for (const auto& f : w.kept()) gathered_.kept_fixation_ms.push_back(f.duration_ms);
         v.recordings.push_back(viewer_recording(rec, w.ev(), w.cleaned, w.kept(), w.removed(), w.verdicts(), w.digest->time_courses));
       }
+      if (o_.pack_viewer) pack_viewer_recordings(v.recordings, first_made, threads);
     }
     m_.run.participants = participants.size();
     m_.detection.present = events_seen;
+  }
+
+  // The recordings from `first` on, packed on `threads` threads.
+  static void pack_viewer_recordings(std::vector<ViewerRecording>& recs, std::size_t first, std::size_t threads) {
+    std::atomic<std::size_t> next{first};
+    std::vector<std::exception_ptr> errors(recs.size());
+    auto worker = [&] {
+      for (std::size_t k; (k = next++) < recs.size();) {
+        try {
+          pack_viewer_recording(recs[k]);
+        } catch (...) {
+          errors[k] = std::current_exception();
+        }
+      }
+    };
+    std::vector<std::thread> pool;
+    for (std::size_t t = 1; t < std::min(threads, recs.size() - first); ++t) pool.emplace_back(worker);
+    worker();
+    for (auto& t : pool) t.join();
+    for (const auto& e : errors) {
+      if (e) std::rethrow_exception(e);
+    }
   }
 
   void gather_events(const Recording& rec, const DetectedEvents& ev, ParticipantAccumulator& acc) {
@@ -494,7 +519,7 @@ class Assembler {
   ViewerRecording viewer_recording(const Recording& rec, const DetectedEvents* ev, bool cleaned, const std::vector<CleanFixation>& kept,
                                    const std::vector<RemovedFixationRow>& removed, const std::vector<TrialVerdictRow>& verdicts,
                                    std::vector<TrialTimeCourse>& time_courses) {
-    ViewerRecording out{rec.id, rec.participant, rec.session, {}};
+    ViewerRecording out{rec.id, rec.participant, rec.session, {}, std::nullopt};
     std::map<std::string, TrialSources> by_trial;
     for (const auto& t : rec.trials) by_trial[t.id].trial = &t;
     if (ev) {

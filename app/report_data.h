@@ -24,6 +24,10 @@ struct ReportDataOptions {
   std::size_t max_points_per_trial = kTimeCoursePoints;
   /// Recordings worked on at once (0: one per core).
   std::size_t threads = 0;
+  /// Each recording's viewer trials packed for the page as soon as they are
+  /// made (ViewerRecording::packed), so that memory holds them compressed;
+  /// false keeps them whole, to look at.
+  bool pack_viewer = false;
   /// Every recording's metadata and events as a run holds them (the store's
   /// own), so that they need not be read back; null: read from the store.
   const std::vector<RecordingEvents>* events = nullptr;

@@ -197,7 +197,6 @@ class StudyRun {
   std::vector<RepairRecord> repairs_;
   std::map<Stage, std::string> keys_;       // each stage's key after this run
   std::map<Stage, bool> ran_;
-  std::optional<CleaningOutcome> cleaned_;
   std::vector<RecordingEvents> events_;     // kept for cleaning
   std::optional<std::vector<CleanedRecording>> cleaned_recordings_;
   std::optional<std::vector<RecordingAlignment>> alignment_;
@@ -667,15 +666,20 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       events_ = recording_events();
       lap("events read");
       check_design_levels(p_, events_);
-      cleaned_ = clean_events(p_, events_);
+      CleaningOutcome cleaned = clean_events(p_, events_);
       lap("cleaned");
-      check_cleaning_outcome(p_, cleaned_->report);
-      write_cleaning(out, *cleaned_);
-      write_audit(out, cleaned_->report);
+      check_cleaning_outcome(p_, cleaned.report);
+      write_cleaning(out, cleaned);
+      write_audit(out, cleaned.report);
       lap("cleaning written");
-      cleaned_recordings_ = cleaned_recordings(*cleaned_, events_);
+      report_.audit = cleaned.report;
+      if (!o_.only && !o_.shard_count) {  // lent to the tables and the report
+        report_.removed = std::make_shared<const std::map<std::string, std::vector<RemovedFixation>>>(removed_fixations(cleaned));
+        report_.cleaning_rows = std::make_shared<const std::map<std::string, RecordingCleaningRows>>(cleaning_rows(cleaned));
+      }
+      // The state holds a copy of every fixation: its kept ones move on, the rest goes.
+      cleaned_recordings_ = cleaned_recordings(std::move(cleaned.state), events_);
       lap("cleaned recordings");
-      report_.audit = cleaned_->report;
     } else if (s == Stage::align) {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);
       const std::optional<PreviousAlignment> previous = previous_alignment();
@@ -999,11 +1003,6 @@ StudyRunReport StudyRun::execute() {
     if (!events_.empty()) report_.events = std::make_shared<const std::vector<RecordingEvents>>(std::move(events_));
     if (alignment_) report_.alignment = std::make_shared<const std::vector<RecordingAlignment>>(std::move(*alignment_));
     if (cleaned_recordings_) report_.cleaned = std::make_shared<const std::vector<CleanedRecording>>(std::move(*cleaned_recordings_));
-    if (cleaned_) {
-      report_.removed = std::make_shared<const std::map<std::string, std::vector<RemovedFixation>>>(removed_fixations(*cleaned_));
-      report_.cleaning_rows = std::make_shared<const std::map<std::string, RecordingCleaningRows>>(cleaning_rows(*cleaned_));
-      cleaned_.reset();  // the cleaning state with a copy of every fixation: the tables and report need only the above
-    }
   }
   // The report beside the tables: each reads the store on a thread of its own.
   std::future<void> beside;

@@ -389,7 +389,7 @@ json viewer_meta(const ReportViewer& v) {
   json recs = json::array();
   for (std::size_t i = 0; i < v.recordings.size(); ++i) {
     const auto& r = v.recordings[i];
-    recs.push_back({{"id", r.id}, {"participant", r.participant}, {"session", r.session}, {"trial_count", r.trials.size()},
+    recs.push_back({{"id", r.id}, {"participant", r.participant}, {"session", r.session}, {"trial_count", r.packed ? r.packed->trials : r.trials.size()},
                     {"packed", "gazemill-viewer-r" + std::to_string(i)}});
   }
   j["recordings"] = recs;
@@ -911,6 +911,17 @@ void viewer_section(HtmlWriter& w, const ReportModel& m) {
 
 }  // namespace
 
+void pack_viewer_recording(ViewerRecording& r) {
+  if (r.packed) return;
+  std::vector<unsigned char> samples;
+  PackedViewerTrials p;
+  p.block = pack(recording_json(r, samples), samples);
+  p.trials = r.trials.size();
+  p.kept_trials = static_cast<std::size_t>(std::count_if(r.trials.begin(), r.trials.end(), [](const ViewerTrial& t) { return t.kept; }));
+  r.packed = std::move(p);
+  std::vector<ViewerTrial>().swap(r.trials);
+}
+
 const std::string& report_asset(const std::string& name) {
   for (const auto& [n, text] : embedded_assets()) {
     if (n == name) return text;
@@ -931,6 +942,10 @@ std::string report_html(const ReportModel& m) {
   json trials = json::array();
   std::map<std::string, std::pair<std::size_t, std::size_t>> per;
   for (const auto& r : m.viewer.recordings) {
+    if (r.packed) {
+      per[r.participant].first += r.packed->kept_trials;
+      per[r.participant].second += r.packed->trials - r.packed->kept_trials;
+    }
     for (const auto& t : r.trials) (t.kept ? per[r.participant].first : per[r.participant].second)++;
   }
   for (const auto& [p, n] : per) trials.push_back({{"participant", p}, {"kept", n.first}, {"excluded", n.second}});
@@ -1004,6 +1019,7 @@ std::string report_html(const ReportModel& m) {
     auto worker = [&] {
       for (std::size_t i; (i = next++) < recs.size();) {
         try {
+          if (recs[i].packed) continue;  // written from the model as it is
           std::vector<unsigned char> samples;
           const json r = recording_json(recs[i], samples);
           packed[i] = pack(r, samples);
@@ -1019,7 +1035,7 @@ std::string report_html(const ReportModel& m) {
     for (auto& t : pool) t.join();
     for (std::size_t i = 0; i < recs.size(); ++i) {
       if (errors[i]) std::rethrow_exception(errors[i]);
-      w.script(packed[i], {{"type", "application/octet-stream"}, {"id", "gazemill-viewer-r" + std::to_string(i)}});
+      w.script(recs[i].packed ? recs[i].packed->block : packed[i], {{"type", "application/octet-stream"}, {"id", "gazemill-viewer-r" + std::to_string(i)}});
     }
   }
   w.comment(" Vega and topojson-client, from Debian's libjs-vega:\n" + report_asset("vega-copyright"));

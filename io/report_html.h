@@ -21,6 +21,11 @@ std::string report_html(const ReportModel& model);
 /// Writes it to `path` (through a temporary file renamed into place).
 void write_report_html(const ReportModel& model, const std::string& path);
 
+/// Packs a recording's trials into the block the page carries for it
+/// (ViewerRecording::packed) and empties `trials`: the page is the same as
+/// from the unpacked recording. Safe to call on several recordings at once.
+void pack_viewer_recording(ViewerRecording& recording);
+
 /// The embedded scripts and styles by name ("report.js", "report.css",
 /// "vega-util", ...), as carried in the program.
 const std::string& report_asset(const std::string& name);

@@ -270,9 +270,18 @@ struct ViewerTrial {
   std::vector<float> x_px, y_px;           // whole pixels, NaN where a bin had no valid sample
 };
 
+/// A recording's trials as the page carries them (io/report_html.h,
+/// pack_viewer_recording): packed as soon as the recording is assembled, so
+/// that a long study's report holds its trials compressed, not whole.
+struct PackedViewerTrials {
+  std::string block;  // the page's text for them
+  std::size_t trials = 0, kept_trials = 0;
+};
+
 struct ViewerRecording {
   std::string id, participant, session;
-  std::vector<ViewerTrial> trials;
+  std::vector<ViewerTrial> trials;          // empty once packed
+  std::optional<PackedViewerTrials> packed;
 };
 
 struct ReportViewer {

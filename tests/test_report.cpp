@@ -269,6 +269,40 @@ TEST(ReportData, FiguresFromTheStoredDigestEqualThoseFromTheSamples) {
   EXPECT_GT(longest, 60u);
 }
 
+// A run packs each recording's viewer trials as soon as they are made, so
+// that a long study's report holds them compressed (bench/memory): the page
+// is the one made from the whole trials, byte for byte, at any thread count,
+// and the per-participant trial counts the page shows are unchanged.
+TEST(ReportData, PackedAsMadeIsTheSamePage) {
+  ReportModel whole = assemble_report(demo().store);
+  whole.run.store_path = "";
+  whole.run.report_created_utc = "";
+  std::size_t kept = 0, trials = 0;
+  for (const auto& r : whole.viewer.recordings) {
+    for (const auto& t : r.trials) kept += t.kept;
+    trials += r.trials.size();
+  }
+  ASSERT_GT(trials, kept) << "the demo's rules exclude some trials";
+  for (std::size_t threads : {1u, 3u}) {
+    ReportDataOptions o;
+    o.pack_viewer = true;
+    o.threads = threads;
+    ReportModel packed = assemble_report(demo().store, o);
+    packed.run.store_path = "";
+    packed.run.report_created_utc = "";
+    std::size_t packed_kept = 0, packed_trials = 0;
+    for (const auto& r : packed.viewer.recordings) {
+      ASSERT_TRUE(r.packed) << r.id;
+      EXPECT_TRUE(r.trials.empty()) << r.id;
+      packed_kept += r.packed->kept_trials;
+      packed_trials += r.packed->trials;
+    }
+    EXPECT_EQ(packed_kept, kept);
+    EXPECT_EQ(packed_trials, trials);
+    EXPECT_EQ(report_html(packed), report_html(whole)) << threads << " threads";
+  }
+}
+
 // The viewer's text is the protocol's layout: every word of an item's text at
 // the left edge pipeline/text_layout computes for it (here: monospaced 12 px
 // from the 100 px margin).
@@ -299,7 +333,7 @@ TEST(ReportHtml, EscapesEveryText) {
   m.cleaning.rules.push_back({"</script><script>alert(1)</script>", "delete_short_fixations", "fixation"});
   m.viewer.present = true;
   m.viewer.rules = {"</script><!--"};
-  m.viewer.recordings.push_back({"r<1>", "p\"1", "", {}});
+  m.viewer.recordings.push_back({"r<1>", "p\"1", "", {}, std::nullopt});
   const std::string html = report_html(m);
   EXPECT_EQ(html.find("<script>alert"), std::string::npos);
   EXPECT_EQ(html.find("<b>bold"), std::string::npos);
@@ -328,7 +362,7 @@ TEST(ReportHtml, TimeCourseReadsBack) {
   t.bin_ms = 10;
   t.x_px = {100.4f, -3.6f, std::nanf(""), 40000.0f, 39999.0f};
   t.y_px = {250.0f, 251.0f, 252.0f, std::nanf(""), 250.0f};
-  m.viewer.recordings.push_back({"r1", "p1", "", {t}});
+  m.viewer.recordings.push_back({"r1", "p1", "", {t}, std::nullopt});
   // The recording's packed block: zlib (RFC 1950) over a uint32 length, the JSON, the time courses.
   const auto packed = from_base64(script_block(report_html(m), "gazemill-viewer-r0"));
   std::vector<unsigned char> plain(1 << 16);
