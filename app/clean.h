@@ -2,6 +2,8 @@
 // The clean stage: the protocol's cleaning rules over every recording's
 // detected events, with the audit. Works on values; the study run writes them.
 
+#include <functional>
+#include <map>
 #include <string>
 #include <vector>
 
@@ -24,10 +26,18 @@ void map_regions(CleaningState& state, const RegionCatalogue& regions, const Reg
 /// protocol and the rule for a bad rule.
 CleaningOutcome clean_events(const Protocol& protocol, const std::vector<RecordingEvents>& recordings);
 
-/// The kept fixations and trial verdicts of each recording, from the state
-/// after cleaning (taken apart, trial by trial, so that the fixations are
-/// never held twice) or from a store.
-std::vector<CleanedRecording> cleaned_recordings(CleaningState&& state, const std::vector<RecordingEvents>& recordings);
+/// The same, participant by participant (filters/cleaning_engine.h,
+/// run_cleaning_by_participant): the same outcome in parts, each handed to
+/// `each` as made, so that one participant's copies are held at a time.
+/// Returns the study's audit.
+AuditReport clean_events_by_participant(const Protocol& protocol, const std::vector<RecordingEvents>& recordings,
+                                        const std::function<void(CleaningOutcome&&)>& each);
+
+/// The kept fixations and trial verdicts of each recording with trials in
+/// the state after cleaning (taken apart, trial by trial, so that the
+/// fixations are never held twice), by recording id, each with its `meta`;
+/// or of every recording in a store.
+std::map<std::string, CleanedRecording> cleaned_recordings(CleaningState&& state, const std::map<std::string, const Recording*>& meta);
 std::vector<CleanedRecording> cleaned_recordings(const StudyStoreReader& store);
 
 }  // namespace gazemill

@@ -666,19 +666,41 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       events_ = recording_events();
       lap("events read");
       check_design_levels(p_, events_);
-      CleaningOutcome cleaned = clean_events(p_, events_);
-      lap("cleaned");
-      check_cleaning_outcome(p_, cleaned.report);
-      write_cleaning(out, cleaned);
-      write_audit(out, cleaned.report);
-      lap("cleaning written");
-      report_.audit = cleaned.report;
-      if (!o_.only && !o_.shard_count) {  // lent to the tables and the report
-        report_.removed = std::make_shared<const std::map<std::string, std::vector<RemovedFixation>>>(removed_fixations(cleaned));
-        report_.cleaning_rows = std::make_shared<const std::map<std::string, RecordingCleaningRows>>(cleaning_rows(cleaned));
+      // A participant at a time: its cleaning written, what the tables and
+      // the report are lent taken out, its kept fixations moved on, the rest
+      // of its state (a copy of every fixation) gone before the next.
+      const bool lend = !o_.only && !o_.shard_count;
+      std::map<std::string, const Recording*> meta;
+      for (const auto& r : events_) meta.emplace(r.meta.id, &r.meta);
+      std::map<std::string, CleanedRecording> cleaned;
+      auto removed = std::make_shared<std::map<std::string, std::vector<RemovedFixation>>>();
+      auto rows = std::make_shared<std::map<std::string, RecordingCleaningRows>>();
+      const AuditReport audit = clean_events_by_participant(p_, events_, [&](CleaningOutcome&& part) {
+        write_cleaning(out, part);
+        if (lend) {
+          removed->merge(removed_fixations(part));
+          rows->merge(cleaning_rows(part));
+        }
+        cleaned.merge(cleaned_recordings(std::move(part.state), meta));
+      });
+      lap("cleaned and written");
+      check_cleaning_outcome(p_, audit);
+      write_audit(out, audit);
+      report_.audit = audit;
+      if (lend) {
+        report_.removed = std::move(removed);
+        report_.cleaning_rows = std::move(rows);
       }
-      // The state holds a copy of every fixation: its kept ones move on, the rest goes.
-      cleaned_recordings_ = cleaned_recordings(std::move(cleaned.state), events_);
+      cleaned_recordings_.emplace();
+      for (const auto& r : events_) {  // in study order; a recording without trials keeps nothing
+        auto c = cleaned.find(r.meta.id);
+        if (c == cleaned.end()) {
+          cleaned_recordings_->push_back({r.meta, {}, {}});
+        } else {
+          cleaned_recordings_->push_back(std::move(c->second));
+          cleaned.erase(c);
+        }
+      }
       lap("cleaned recordings");
     } else if (s == Stage::align) {
       if (!cleaned_recordings_) cleaned_recordings_ = cleaned_recordings(*old_);

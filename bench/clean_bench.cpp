@@ -49,7 +49,7 @@ int main() {
     s.participants.push_back(cp);
   }
   auto rule = [](std::string name, std::string kind, std::map<std::string, double> n, std::map<std::string, std::string> t = {}) {
-    return CleaningRuleSpec{std::move(name), std::move(kind), std::move(n), std::move(t), 0};
+    return CleaningRuleSpec{std::move(name), std::move(kind), std::move(n), std::move(t), 0, {}};
   };
   const std::vector<CleaningRuleSpec> rules = {
       rule("merge 70", "merge_short_fixations", {{"max_duration_ms", 70}, {"max_distance_deg", 0.6}, {"max_gap_ms", 50}}),

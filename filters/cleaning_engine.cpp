@@ -127,4 +127,17 @@ CleaningOutcome run_cleaning(CleaningState input, const std::vector<CleaningRule
   return out;
 }
 
+AuditReport run_cleaning_by_participant(const std::function<bool(CleaningState&)>& next, const std::vector<CleaningRuleSpec>& rules,
+                                        const std::vector<std::string>& factors, const std::function<void(CleaningOutcome&&)>& each) {
+  CleaningState none;
+  none.factors = factors;
+  AuditReport study = run_cleaning(std::move(none), rules).report;
+  for (CleaningState one; (one = CleaningState{}, next(one));) {
+    CleaningOutcome part = run_cleaning(std::move(one), rules);
+    study.add(part.report);
+    each(std::move(part));
+  }
+  return study;
+}
+
 }  // namespace gazemill

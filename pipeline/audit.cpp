@@ -63,4 +63,29 @@ void AuditReport::check_conservation() const {
   }
 }
 
+void AuditReport::add(const AuditReport& other) {
+  if (other.rules != rules || other.rule_levels != rule_levels || other.factors != factors) {
+    throw std::logic_error("audit: reports of different rules cannot be added");
+  }
+  auto join = [](auto& into, const auto& from) {
+    for (const auto& [key, value] : from) {
+      if (!into.emplace(key, value).second) throw std::logic_error("audit: a participant's row is in both reports");
+    }
+  };
+  join(totals, other.totals);
+  join(sequential, other.sequential);
+  join(alone, other.alone);
+  for (std::size_t level = 0; level < kAuditLevels; ++level) {
+    auto& m = overlap[level];
+    const auto& o = other.overlap[level];
+    if (m.empty()) {
+      m = o;
+      continue;
+    }
+    for (std::size_t a = 0; a < m.size() && a < o.size(); ++a) {
+      for (std::size_t b = 0; b < m[a].size() && b < o[a].size(); ++b) m[a][b] += o[a][b];
+    }
+  }
+}
+
 }  // namespace gazemill

@@ -95,6 +95,10 @@ struct AuditReport {
   std::array<std::vector<std::vector<std::uint64_t>>, kAuditLevels> overlap;
   /// Throws std::logic_error naming the level and group when input != kept + removed.
   void check_conservation() const;
+  /// Adds the report of other participants cleaned by the same rules: their
+  /// rows join these, their overlap counts add to these. Throws
+  /// std::logic_error when the rules differ or a row is here already.
+  void add(const AuditReport& other);
 };
 
 }  // namespace gazemill

@@ -52,7 +52,7 @@ inline CleaningState state_of(std::vector<CleanTrial> trials) {
 
 inline CleaningRuleSpec rule(const std::string& name, const std::string& kind, std::map<std::string, double> numbers,
                       std::map<std::string, std::string> texts = {}) {
-  return {name, kind, std::move(numbers), std::move(texts), 0};
+  return {name, kind, std::move(numbers), std::move(texts), 0, {}};
 }
 
 inline std::vector<double> kept_durations(const CleaningOutcome& o) {

@@ -241,3 +241,75 @@ TEST(CleanCommand, PrintedAuditMatchesTheLedger) {
   }
   EXPECT_EQ(rows_checked, removed.size());
 }
+
+// A run cleans participant by participant (app/clean.h): with a participant's
+// sessions apart in the study's order (A, B, A, B), every fixation and trial
+// keeps the id one state of the whole study gives it, and the parts are the
+// whole study's outcome. Invented events; the reference is clean_events.
+TEST(CleanByParticipant, SessionsApartKeepTheStudysIds) {
+  std::vector<RecordingEvents> recordings;
+  int seed = 0;
+  for (const char* who : {"A", "B", "A", "B"}) {
+    RecordingEvents r;
+    r.meta.id = std::string(who) + "_" + std::to_string(recordings.size());
+    r.meta.participant = who;
+    r.meta.screen = {1920, 1080, 531, 299, 700};
+    for (int t = 0; t < 3; ++t) {
+      Trial trial;
+      trial.id = std::to_string(t + 1);
+      trial.start_us = t * 10'000'000;
+      trial.end_us = trial.start_us + 5'000'000;
+      trial.variables["item"] = std::to_string(t + 1);
+      r.meta.trials.push_back(trial);
+      r.events.trials.push_back({trial.id, Eye::left, {}, 5000, static_cast<std::uint64_t>(seed % 3 == 0 ? 3000 : 0)});
+      const int fixations = 4 + seed++ % 3;
+      for (int f = 0; f < fixations; ++f) {
+        FixationEvent e;
+        e.trial = trial.id;
+        e.start_us = trial.start_us + f * 300'000;
+        e.end_us = e.start_us + 40'000 + 50'000 * ((seed + f) % 4);  // 40 to 190 ms
+        e.x_px = 500 + 30 * f;
+        e.y_px = 540;
+        r.events.fixations.push_back(e);
+      }
+    }
+    recordings.push_back(std::move(r));
+  }
+  Protocol p;
+  p.path = "gazemill.toml";
+  p.cleaning = {{"short", "delete_short_fixations", {{"min_duration_ms", 80}}, {}, 0, {}},
+                {"loss", "exclude_trials_with_data_loss", {{"max_missing_percent", 20}}, {}, 0, {}},
+                {"lost", "exclude_participants_by_trial_loss", {{"max_excluded_percent", 20}}, {}, 0, {}}};
+  const CleaningOutcome whole = clean_events(p, recordings);
+  std::map<std::uint32_t, bool> kept_whole, kept_parts;
+  for (const auto& part : whole.state.participants) {
+    for (const auto& t : part.trials) {
+      for (const auto& f : t.fixations) kept_whole[f.id] = f.kept;
+    }
+  }
+  std::vector<std::string> order;
+  std::map<std::uint32_t, std::pair<std::size_t, std::string>> removals;
+  const AuditReport audit = clean_events_by_participant(p, recordings, [&](CleaningOutcome&& part) {
+    order.push_back(part.state.participants.at(0).participant);
+    for (const auto& t : part.state.participants.at(0).trials) {
+      for (const auto& f : t.fixations) kept_parts[f.id] = f.kept;
+    }
+    removals.insert(part.fixation_removals.begin(), part.fixation_removals.end());
+  });
+  EXPECT_EQ(order, (std::vector<std::string>{"A", "B"}));
+  std::size_t input = 0;
+  for (const auto& r : recordings) input += r.events.fixations.size();
+  ASSERT_EQ(kept_whole.size(), input);  // every input fixation, each under one id
+  EXPECT_EQ(kept_parts, kept_whole);
+  EXPECT_EQ(removals, whole.fixation_removals);
+  EXPECT_FALSE(removals.empty());
+  for (const auto& [group, t] : whole.report.totals) {
+    EXPECT_EQ(audit.totals.at(group).input, t.input);
+    EXPECT_EQ(audit.totals.at(group).kept, t.kept);
+  }
+  EXPECT_EQ(audit.sequential.size(), whole.report.sequential.size());
+  // A participant whose trials went by the loss rule goes too (here B or A: as the whole study says).
+  std::uint64_t participants_removed = 0;
+  for (const auto& [key, c] : whole.report.sequential) participants_removed += c.removed[static_cast<std::size_t>(AuditLevel::participant)];
+  EXPECT_GT(participants_removed, 0u);
+}

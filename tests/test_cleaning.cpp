@@ -272,10 +272,10 @@ TEST(Audit, SequentialAloneAndOverlap) {
   EXPECT_NO_THROW(o.report.check_conservation());
 }
 
-// input = kept + sum of removed at every level, for random rule lists on random data.
-TEST(Audit, ConservationHoldsForRandomRuleLists) {
-  std::mt19937 rng(1);
-  std::uniform_real_distribution<double> dur(20, 1200), x(-20, 20), u(0, 1);
+// Random studies and rule lists for the properties below (invented data).
+struct RandomStudies {
+  std::mt19937 rng{1};
+  std::uniform_real_distribution<double> dur{20, 1200}, x{-20, 20}, u{0, 1};
   const std::vector<CleaningRuleSpec> pool = {
       rule("m70", "merge_short_fixations", {{"max_duration_ms", 70}, {"max_distance_deg", 0.6}, {"max_gap_ms", 50}}),
       rule("m50", "merge_short_fixations", {{"max_duration_ms", 50}, {"max_distance_deg", 1.0}, {"max_gap_ms", 30}}),
@@ -288,11 +288,12 @@ TEST(Audit, ConservationHoldsForRandomRuleLists) {
       rule("dur", "exclude_trials_by_duration", {{"min_duration_ms", 1000}}),
       rule("lost", "exclude_participants_by_trial_loss", {{"max_excluded_percent", 30}}),
   };
-  for (int round = 0; round < 30; ++round) {
+
+  CleaningState study(int participants) {
     CleaningState s;
     s.screen = {1920, 1080, 531, 299, 700};
     std::uint32_t fid = 0, tid = 0;
-    for (int p = 0; p < 3; ++p) {
+    for (int p = 0; p < participants; ++p) {
       CleanParticipant cp;
       cp.id = static_cast<std::uint32_t>(p);
       cp.participant = "p" + std::to_string(p);
@@ -314,14 +315,94 @@ TEST(Audit, ConservationHoldsForRandomRuleLists) {
       }
       s.participants.push_back(cp);
     }
-    std::vector<CleaningRuleSpec> rules;
+    return s;
+  }
+
+  std::vector<CleaningRuleSpec> rules() {
+    std::vector<CleaningRuleSpec> out;
     for (const auto& r : pool) {
-      if (u(rng) < 0.6) rules.push_back(r);
+      if (u(rng) < 0.6) out.push_back(r);
     }
-    std::shuffle(rules.begin(), rules.end(), rng);
-    const auto o = run_cleaning(s, rules);  // run_cleaning checks conservation itself and throws if it fails
+    std::shuffle(out.begin(), out.end(), rng);
+    return out;
+  }
+};
+
+// input = kept + sum of removed at every level, for random rule lists on random data.
+TEST(Audit, ConservationHoldsForRandomRuleLists) {
+  RandomStudies random;
+  for (int round = 0; round < 30; ++round) {
+    const CleaningState s = random.study(3);
+    const auto o = run_cleaning(s, random.rules());  // run_cleaning checks conservation itself and throws if it fails
     EXPECT_NO_THROW(o.report.check_conservation());
   }
+}
+
+// Every rule judges a participant by that participant's own trials (a
+// property of the rules as specified: none compares participants), so
+// cleaning one participant at a time must give exactly what cleaning the
+// whole study at once gives: the same audit (its overlap counts summed), the
+// same removals by id and the same state, for random rule lists.
+TEST(Audit, ParticipantByParticipantIsTheWholeStudy) {
+  RandomStudies random;
+  for (int round = 0; round < 30; ++round) {
+    const CleaningState s = random.study(4);
+    const auto rules = random.rules();
+    const CleaningOutcome whole = run_cleaning(s, rules);
+    std::size_t next = 0;
+    std::vector<CleaningOutcome> parts;
+    const AuditReport audit = run_cleaning_by_participant(
+        [&](CleaningState& one) {
+          if (next == s.participants.size()) return false;
+          one.screen = s.screen;
+          one.factors = s.factors;
+          one.participants.push_back(s.participants[next++]);
+          return true;
+        },
+        rules, s.factors, [&](CleaningOutcome&& part) { parts.push_back(std::move(part)); });
+    ASSERT_EQ(parts.size(), s.participants.size());
+    EXPECT_EQ(audit.rules, whole.report.rules);
+    EXPECT_EQ(audit.totals.size(), whole.report.totals.size());
+    for (const auto& [group, t] : whole.report.totals) {
+      EXPECT_EQ(audit.totals.at(group).input, t.input);
+      EXPECT_EQ(audit.totals.at(group).kept, t.kept);
+    }
+    for (auto which : {&AuditReport::sequential, &AuditReport::alone}) {
+      ASSERT_EQ((audit.*which).size(), (whole.report.*which).size());
+      for (const auto& [key, c] : whole.report.*which) {
+        EXPECT_EQ((audit.*which).at(key).removed, c.removed) << key.rule << " " << key.participant << " " << key.cell;
+        EXPECT_EQ((audit.*which).at(key).merged, c.merged);
+      }
+    }
+    EXPECT_EQ(audit.overlap, whole.report.overlap) << "round " << round;
+    std::map<std::uint32_t, std::pair<std::size_t, std::string>> fixations, trials;
+    for (std::size_t p = 0; p < parts.size(); ++p) {
+      fixations.insert(parts[p].fixation_removals.begin(), parts[p].fixation_removals.end());
+      trials.insert(parts[p].trial_removals.begin(), parts[p].trial_removals.end());
+      const CleanParticipant& a = parts[p].state.participants.at(0);
+      const CleanParticipant& b = whole.state.participants[p];
+      EXPECT_EQ(a.kept, b.kept);
+      ASSERT_EQ(a.trials.size(), b.trials.size());
+      for (std::size_t t = 0; t < a.trials.size(); ++t) {
+        EXPECT_EQ(a.trials[t].kept, b.trials[t].kept);
+        ASSERT_EQ(a.trials[t].fixations.size(), b.trials[t].fixations.size());
+        for (std::size_t f = 0; f < a.trials[t].fixations.size(); ++f) {
+          const CleanFixation &fa = a.trials[t].fixations[f], &fb = b.trials[t].fixations[f];
+          EXPECT_EQ(fa.id, fb.id);
+          EXPECT_EQ(fa.kept, fb.kept);
+          EXPECT_EQ(fa.duration_ms, fb.duration_ms);
+          EXPECT_EQ(fa.merged_into, fb.merged_into);
+        }
+      }
+    }
+    EXPECT_EQ(fixations, whole.fixation_removals);
+    EXPECT_EQ(trials, whole.trial_removals);
+  }
+  // No participant at all: the rules, nothing removed.
+  const auto rules = random.rules();
+  const AuditReport none = run_cleaning_by_participant([](CleaningState&) { return false; }, rules, {}, [](CleaningOutcome&&) {});
+  EXPECT_EQ(none.rules.size(), rules.size());
+  EXPECT_TRUE(none.totals.empty());
 }
 
 TEST(CleaningRules, BadParametersNameTheProblem) {
