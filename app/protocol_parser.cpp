@@ -1,5 +1,6 @@
 #include "app/protocol_parser.h"
 
+#include <algorithm>
 #include <cmath>
 #include <fstream>
 #include <set>
@@ -9,6 +10,7 @@
 #include "alignment/drift_registry.h"
 #include "detectors/detector_registry.h"
 #include "filters/cleaning_rule.h"
+#include "pipeline/edit_distance.h"
 #include "pipeline/input_error.h"
 #include "pipeline/named_regex.h"
 
@@ -27,6 +29,36 @@ void check_regex(TomlSection& s, const std::string& key, const std::string& patt
     NamedRegex re(pattern);
   } catch (const std::invalid_argument& e) {
     s.fail(key, e.what());
+  }
+}
+
+// The file name gives the participant and the session; any other name it
+// captures is for the message file's path. A name nothing reads is a
+// misspelling: without `participant` every file would be a participant of
+// its own, and the participant rules would judge sessions one by one.
+void check_filename_captures(TomlSection& in, const InputSpec& spec) {
+  const NamedRegex re(spec.filename_pattern);
+  std::vector<std::string> read = {"participant", "session"};
+  if (spec.message_file) {
+    const std::string& t = spec.message_file->path_template;
+    for (std::size_t open = t.find('{'); open != std::string::npos; open = t.find('{', open + 1)) {
+      const auto close = t.find('}', open);
+      if (close != std::string::npos) read.push_back(t.substr(open + 1, close - open - 1));
+    }
+  }
+  auto hint = [&](const std::string& name) {
+    const std::string meant = likely_meant(name, read);
+    return meant.empty() ? std::string() : "; did you mean " + meant + "?";
+  };
+  for (const auto& name : re.names()) {
+    if (std::find(read.begin(), read.end(), name) == read.end()) {
+      in.fail("filename_pattern", "captures '" + name + "', which nothing reads: the file name gives participant and session" +
+                                      (spec.message_file ? " and the {names} of input.messages.file" : "") + hint(name));
+    }
+  }
+  const auto& names = re.names();
+  if (std::find(names.begin(), names.end(), "participant") == names.end()) {
+    in.fail("filename_pattern", "captures no participant: name the group that holds it (?<participant>...), or every file would be a participant of its own");
   }
 }
 
@@ -128,6 +160,7 @@ void parse_input(TomlSection& in, Protocol& p) {
   if (auto pat = in.string("filename_pattern")) {
     check_regex(in, "filename_pattern", *pat);
     spec.filename_pattern = *pat;
+    spec.filename_pattern_line = in.line_of("filename_pattern");
   } else if (spec.format == InputFormat::bids) {
     spec.filename_pattern = "sub-(?<participant>[A-Za-z0-9]+)(?:_ses-(?<session>[A-Za-z0-9]+))?";
   }
@@ -204,6 +237,7 @@ void parse_input(TomlSection& in, Protocol& p) {
     }
     spec.message_file = ms;
   }
+  if (spec.filename_pattern_line) check_filename_captures(in, spec);
 
   if (auto b = in.table("bids")) {
     if (spec.format != InputFormat::bids) b->fail("timestamp_column", "[input.bids] is for format = \"bids\"");

@@ -39,7 +39,7 @@ Identity identify(const Protocol& p, const std::string& file) {
     auto caps = re.search(name);
     if (!caps) caps = re.search(file);
     if (!caps) {
-      throw InputError({p.path, 0, "input.filename_pattern"},
+      throw InputError({p.path, p.input.filename_pattern_line, "input.filename_pattern"},
                        "the pattern does not match the input file " + file + "; it must match every file of input.files");
     }
     id.captures = *caps;
@@ -133,7 +133,7 @@ std::vector<RecordingInputs> find_recordings(const Protocol& protocol) {
       if (name && name->entity("run")) r.id += sanitize_id("_run" + *name->entity("run"));
     }
     if (const auto [it, fresh] = file_of_id.emplace(r.id, file); !fresh) {
-      throw InputError({protocol.path, 0, "input.filename_pattern"},
+      throw InputError({protocol.path, protocol.input.filename_pattern_line, "input.filename_pattern"},
                        "the files " + it->second + " and " + file + " both give recording '" + r.id +
                            "' (participant and session); the pattern must tell them apart");
     }

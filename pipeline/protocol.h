@@ -123,6 +123,7 @@ struct InputSpec {
   // Named captures participant / session (optional), searched in the file
   // name first and in the whole path when the name does not match.
   std::string filename_pattern;
+  std::size_t filename_pattern_line = 0;  // where it is in the protocol file, for errors (0: BIDS's own)
   TableLayout table;                  // delimited only
   std::optional<MessageFileSpec> message_file;
   RepairPolicy repairs;

@@ -267,7 +267,7 @@ TEST(MappedWindows, OnlyTheFirstByteOrderMarkIsSkipped) {
   o.column_names = {"t", "x", "y"};
   const std::pair<std::string, std::string> cases[] = {{"\xEF\xBB\xBF\xEF\xBB\xBF", "expected 3 tab-separated fields"},
                                                         {"\xEF\xBB\xBF\xEF\xBB\xBF\n", "expected 3 tab-separated fields"},
-                                                        {"\xEF\xBB\xBF\xEF\xBB\xBF1\t2\t3\n", "field 't': expected a number"},
+                                                        {"\xEF\xBB\xBF\xEF\xBB\xBF" "1\t2\t3\n", "field 't': expected a number"},
                                                         // Found by the next run: a UTF-16 mark must be named on every path too.
                                                         {"\xFE\xFF" "1\t2\t3", "the file is UTF-16 text"},
                                                         {"\xFF\xFE" "1\t2\t3\n", "the file is UTF-16 text"}};

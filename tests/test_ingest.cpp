@@ -222,6 +222,7 @@ TEST(IngestErrors, TwoFilesGiveOneRecording) {
     FAIL();
   } catch (const InputError& e) {
     EXPECT_EQ(e.where().field, "input.filename_pattern");
+    EXPECT_EQ(e.where().line, 5u) << "the pattern's line";
     EXPECT_NE(std::string(e.what()).find("r01-a.tsv and "), std::string::npos) << e.what();
     EXPECT_NE(std::string(e.what()).find("r01-b.tsv both give recording 'r01'"), std::string::npos) << e.what();
   }

@@ -155,6 +155,28 @@ TEST(ProtocolParser, MessagesFileTakesItsOwnTimeUnit) {
                   "input.repairs.trials_without_samples", "expected \"error\" or \"drop\"");
 }
 
+// Found in a newcomer's trial: a misspelt capture in filename_pattern made
+// every file a participant of its own (so the participant rules judged each
+// session alone), or left the session empty, with exit 0. Every name the
+// pattern captures must be read by something; the participant is required.
+TEST(ProtocolParser, FilenameCapturesAreReadOrNamed) {
+  const std::string pattern = "filename_pattern = 'p(?<participant>\\d+)'";
+  expect_error_at(replace(kProtocol, pattern, "filename_pattern = 'p(?<participnt>\\d+)_s(?<session>\\d+)'"), 7, "input.filename_pattern",
+                  "captures 'participnt', which nothing reads: the file name gives participant and session; did you mean participant?");
+  expect_error_at(replace(kProtocol, pattern, "filename_pattern = 'p(?<participant>\\d+)_s(?<sesion>\\d+)'"), 7, "input.filename_pattern",
+                  "did you mean session?");
+  expect_error_at(replace(kProtocol, pattern, "filename_pattern = '_s(?<session>\\d+)'"), 7, "input.filename_pattern",
+                  "captures no participant");
+  // A name the message file's path uses is read.
+  const std::string with_file = replace(replace(kProtocol, "message_column = \"note\"\n", ""), "[input.repairs]",
+                                        "[input.messages]\nfile = 'logs/{lab}-{participant}.msg'\ntime_column = 't'\ntext_column = 'text'\n\n"
+                                        "[input.repairs]");
+  EXPECT_NO_THROW(parse_protocol_text(replace(with_file, pattern, "filename_pattern = '(?<lab>[a-z]+)-p(?<participant>\\d+)'"), "study.toml"));
+  expect_error_at(replace(with_file, pattern, "filename_pattern = '(?<labs>[a-z]+)-p(?<participant>\\d+)'"), 7, "input.filename_pattern",
+                  "captures 'labs', which nothing reads: the file name gives participant and session and the {names} of input.messages.file; "
+                  "did you mean lab?");
+}
+
 // Issue 20: the off-screen margin and the status column (common practice, no source).
 TEST(ProtocolParser, OffscreenMarginAndStatusColumn) {
   EXPECT_EQ(parse_protocol_text(kProtocol, "study.toml").input.offscreen_margin_px, 200.0);
