@@ -62,6 +62,7 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
                                             const PreviousAlignment* previous, std::size_t* trials_reused) {
   const AlignmentSpec& spec = protocol.alignment;
   // A person's decisions, checked against the study before any work.
+  // By recording id and trial: trial numbers may start again in each session.
   std::map<std::pair<std::string, std::string>, const TrialReview*> review_of;
   std::vector<TrialReview> reviews;
   std::string review_path;
@@ -69,17 +70,18 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
     const fs::path base = fs::absolute(fs::path(protocol.path)).parent_path();
     review_path = fs::path(spec.review_file).is_absolute() ? spec.review_file : (base / spec.review_file).string();
     reviews = read_review_file(review_path);
-    std::set<std::pair<std::string, std::string>> trials;
-    for (const auto& rec : recordings) {
-      for (const auto& t : rec.meta.trials) trials.insert({rec.meta.participant, t.id});
-    }
-    std::set<std::string> participants;
-    for (const auto& rec : recordings) participants.insert(rec.meta.participant);
+    std::map<std::string, std::vector<const Recording*>> of_participant;
+    for (const auto& rec : recordings) of_participant[rec.meta.participant].push_back(&rec.meta);
+    auto has_trial = [](const Recording& r, const std::string& trial) {
+      return std::any_of(r.trials.begin(), r.trials.end(), [&](const Trial& t) { return t.id == trial; });
+    };
+    auto session_name = [](const Recording& r) { return r.session.empty() ? std::string("(none)") : r.session; };
     for (const auto& r : reviews) {
-      if (!participants.count(r.participant)) {
+      const auto mine = of_participant.find(r.participant);
+      if (mine == of_participant.end()) {
         std::string known;
         std::size_t listed = 0;
-        for (const auto& p : participants) {
+        for (const auto& [p, recs] : of_participant) {
           if (listed++ == 12) {
             known += ", ...";
             break;
@@ -88,8 +90,24 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
         }
         throw InputError({review_path, r.line, "participant"}, "no participant " + r.participant + " in this study; its participants are " + known);
       }
-      if (!trials.count({r.participant, r.trial})) {
-        throw InputError({review_path, r.line, "trial"}, "participant " + r.participant + " has no trial " + r.trial + " in this study");
+      std::vector<const Recording*> with_trial;
+      for (const Recording* rec : mine->second) {
+        if ((r.session.empty() || rec->session == r.session) && has_trial(*rec, r.trial)) with_trial.push_back(rec);
+      }
+      if (!r.session.empty() && std::none_of(mine->second.begin(), mine->second.end(), [&](const Recording* x) { return x->session == r.session; })) {
+        std::string sessions;
+        for (const Recording* rec : mine->second) sessions += (sessions.empty() ? "" : ", ") + session_name(*rec);
+        throw InputError({review_path, r.line, "session"}, "participant " + r.participant + " has no session " + r.session + "; its sessions are " + sessions);
+      }
+      if (with_trial.empty()) {
+        throw InputError({review_path, r.line, "trial"}, "participant " + r.participant + (r.session.empty() ? "" : ", session " + r.session) +
+                                                           " has no trial " + r.trial + " in this study");
+      }
+      if (with_trial.size() > 1) {
+        std::string sessions;
+        for (const Recording* rec : with_trial) sessions += (sessions.empty() ? "" : " and ") + session_name(*rec);
+        throw InputError({review_path, r.line, "trial"}, "participant " + r.participant + " has a trial " + r.trial + " in sessions " + sessions +
+                                                           ": add a session column to say which one this row is for");
       }
       if (r.decision == ReviewDecision::method) {
         try {
@@ -98,7 +116,11 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
           throw InputError({review_path, r.line, "value"}, e.what());
         }
       }
-      review_of[{r.participant, r.trial}] = &r;
+      if (const auto [it, fresh] = review_of.emplace(std::make_pair(with_trial.front()->id, r.trial), &r); !fresh) {
+        throw InputError({review_path, r.line, "trial"}, "participant " + r.participant + ", trial " + r.trial + " of session " +
+                                                           session_name(*with_trial.front()) + " is reviewed twice (also on line " +
+                                                           std::to_string(it->second->line) + ")");
+      }
     }
   }
   const auto corrector = spec.members.empty() ? make_drift_corrector(spec.method, spec.parameters)
@@ -179,7 +201,7 @@ std::vector<RecordingAlignment> align_study(const Protocol& protocol, const Regi
       const auto c = result.fit.find("confidence");
       const double confidence = c == result.fit.end() ? 1.0 : c->second;
       AlignedTrial trial{t.id, spec.method, confidence, confidence < spec.min_confidence, result.fit, "", false};
-      if (const auto r = review_of.find({rec.meta.participant, t.id}); r != review_of.end()) {
+      if (const auto r = review_of.find({rec.meta.id, t.id}); r != review_of.end()) {
         const TrialReview& v = *r->second;
         trial.flagged = false;  // a person has looked at it
         trial.review = std::string(to_string(v.decision)) + (v.value.empty() ? "" : " " + v.value) + ": " + v.reason +

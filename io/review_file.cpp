@@ -2,6 +2,7 @@
 
 #include <cmath>
 #include <set>
+#include <tuple>
 
 #include "io/tsv_table.h"
 #include "pipeline/input_error.h"
@@ -11,11 +12,12 @@ namespace gazemill {
 std::vector<TrialReview> read_review_file(const std::string& path) {
   TsvTable t(path);
   std::vector<TrialReview> out;
-  std::set<std::pair<std::string, std::string>> seen;
+  std::set<std::tuple<std::string, std::string, std::string>> seen;
   for (std::size_t r = 0; r < t.rows(); ++r) {
     TrialReview v;
     v.line = t.line_of(r);
     v.participant = t.text(r, "participant");
+    v.session = t.text_or(r, "session", "");
     v.trial = t.text(r, "trial");
     const std::string d = t.text(r, "decision");
     v.value = t.text_or(r, "value", "");
@@ -35,8 +37,9 @@ std::vector<TrialReview> read_review_file(const std::string& path) {
         throw InputError({path, v.line, "value"}, "shift_lines moves by whole lines, e.g. -1 or 1");
       }
     }
-    if (!seen.insert({v.participant, v.trial}).second) {
-      throw InputError({path, v.line, "trial"}, "participant " + v.participant + ", trial " + v.trial + " is reviewed twice");
+    if (!seen.insert({v.participant, v.session, v.trial}).second) {
+      throw InputError({path, v.line, "trial"}, "participant " + v.participant + (v.session.empty() ? "" : ", session " + v.session) + ", trial " +
+                                                    v.trial + " is reviewed twice");
     }
     out.push_back(std::move(v));
   }

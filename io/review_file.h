@@ -3,7 +3,8 @@
 // columns participant, trial, decision (accept | method | shift_lines |
 // offset_px | exclude), value (the method's name, or the number of lines or
 // px; empty for accept and exclude), reason (required) and, optionally,
-// reviewer. Lines starting with '#' are comments.
+// session (which of the participant's recordings, where trial numbers
+// repeat across sessions) and reviewer. Lines starting with '#' are comments.
 
 #include <string>
 #include <vector>

@@ -19,6 +19,7 @@ const char* to_string(ReviewDecision d);
 
 struct TrialReview {
   std::string participant;
+  std::string session;  // optional: "" = the participant's only recording with this trial
   std::string trial;
   ReviewDecision decision = ReviewDecision::accept;
   std::string value;     // as written (method name or number)

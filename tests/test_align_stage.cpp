@@ -134,6 +134,55 @@ TEST(AlignStage, AReviewFileOverridesTrialsReproducibly) {
   EXPECT_EQ(again.stages.at(Stage::align), "ran");
 }
 
+// Found in a newcomer's trial: where trial numbers start again in each
+// session, a review row for "p01, trial 3" excluded trial 3 of both
+// sessions, and a session column was ignored, with exit 0. A row names its
+// session where the trial number alone is ambiguous, and must.
+TEST(AlignStage, AReviewRowIsForOneSession) {
+  TempDir d;
+  const std::string proto = drifted_study(d, 0.3);
+  // p02's recording as p01's second session: the same trial numbers as p01's first.
+  fs::rename(d.file("study/raw/p02_s1.tsv.gz"), d.file("study/raw/p01_s2.tsv.gz"));
+  std::string text;
+  {
+    std::ifstream in(proto);
+    text.assign(std::istreambuf_iterator<char>(in), {});
+  }
+  std::ofstream(proto) << text << "\n[alignment]\nreview_file = \"review.tsv\"\n";
+  StudyRunOptions o;
+  o.store_path = d.file("s.gzm.h5");
+  auto error_of = [&](const std::string& table) {
+    d.write("study/review.tsv", table);
+    try {
+      run_study(parse_protocol_file(proto), o);
+    } catch (const InputError& e) {
+      return std::make_pair(e.where().line, std::string(e.what()));
+    }
+    return std::make_pair(std::size_t{0}, std::string());
+  };
+  const auto ambiguous = error_of("participant\ttrial\tdecision\tvalue\treason\np01\t3\texclude\t\tbad calibration\n");
+  EXPECT_EQ(ambiguous.first, 2u);
+  EXPECT_NE(ambiguous.second.find("has a trial 3 in sessions 1 and 2: add a session column"), std::string::npos) << ambiguous.second;
+  EXPECT_FALSE(fs::exists(o.store_path)) << "nothing written";
+  const auto no_session = error_of("participant\tsession\ttrial\tdecision\tvalue\treason\np01\t3\t3\texclude\t\tbad calibration\n");
+  EXPECT_NE(no_session.second.find("has no session 3; its sessions are 1, 2"), std::string::npos) << no_session.second;
+  const auto twice = error_of("participant\tsession\ttrial\tdecision\tvalue\treason\np01\t2\t3\texclude\t\tx\np01\t\t3\taccept\t\ty\n");
+  EXPECT_NE(twice.second.find("has a trial 3 in sessions 1 and 2"), std::string::npos) << twice.second;
+  EXPECT_EQ(error_of("participant\tsession\ttrial\tdecision\tvalue\treason\np01\t2\t3\texclude\t\tbad calibration\n").first, 0u);
+  const auto alignment = read_alignment(StudyStoreReader(o.store_path));
+  std::size_t excluded = 0;
+  for (const auto& rec : alignment) {
+    for (const auto& t : rec.trials) {
+      if (t.excluded) {
+        ++excluded;
+        EXPECT_EQ(rec.recording, "p01_2");
+        EXPECT_EQ(t.trial, "3");
+      }
+    }
+  }
+  EXPECT_EQ(excluded, 1u) << "session 2's trial 3 alone";
+}
+
 TEST(AlignStage, ReviewFileErrorsNameFileLineAndField) {
   TempDir d;
   const std::string proto = drifted_study(d, 0.3);
