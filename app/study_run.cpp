@@ -1077,7 +1077,10 @@ std::vector<std::string> write_study_tables(const std::string& store_path, const
   }
   WriteLock lock(folder);
   remove_leftover_temporaries(folder);
-  if (read_manifest(folder) == manifest.dump(2)) return {};
+  if (read_manifest(folder) == manifest.dump(2)) {
+    if (table_set_intact(folder)) return {};
+    spdlog::info("{}: a table was deleted or changed since it was written; the set is written again", folder);
+  }
   TableSet set(folder);
   const auto t0 = std::chrono::steady_clock::now();
   auto lap = [&t0](const char* what) {

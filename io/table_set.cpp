@@ -86,6 +86,13 @@ void TableSet::commit(const std::string& manifest_json) {
   std::vector<std::string> files = names_;
   std::sort(files.begin(), files.end());
   manifest["files"] = files;
+  // Each file as written, so that one deleted, cut short or edited since is told (table_set_intact).
+  nlohmann::json written = nlohmann::json::object();
+  for (const auto& f : files) {
+    const fs::path path = fs::path(temp_) / f;
+    written[f] = {{"bytes", fs::file_size(path)}, {"modified_ns", fs::last_write_time(path).time_since_epoch().count()}};
+  }
+  manifest["written"] = written;
   write_file((fs::path(temp_) / kManifestName).string(), manifest.dump(2) + "\n");
   std::error_code ec;
   if (fs::exists(folder_, ec)) {
@@ -132,7 +139,27 @@ std::string read_manifest(const std::string& folder) {
   if (m.is_null()) return "";
   if (m.is_discarded() || !m.is_object()) return "(unreadable)";
   m.erase("files");
+  m.erase("written");
   return m.dump(2);
+}
+
+bool table_set_intact(const std::string& folder) {
+  const nlohmann::json m = manifest_of(folder);
+  if (!m.is_object() || !m.contains("files") || !m["files"].is_array() || !m.contains("written") || !m["written"].is_object()) return false;
+  for (const auto& f : m["files"]) {
+    if (!f.is_string() || !m["written"].contains(f.get<std::string>())) return false;
+    const auto& w = m["written"][f.get<std::string>()];
+    const fs::path path = fs::path(folder) / f.get<std::string>();
+    std::error_code ec;
+    const auto bytes = fs::file_size(path, ec);
+    if (ec) return false;
+    const auto modified = fs::last_write_time(path, ec);
+    if (ec || !w.is_object() || w.value("bytes", std::uintmax_t{0}) != bytes ||
+        w.value("modified_ns", std::int64_t{0}) != static_cast<std::int64_t>(modified.time_since_epoch().count())) {
+      return false;
+    }
+  }
+  return true;
 }
 
 void check_table_folder(const std::string& folder) {

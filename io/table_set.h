@@ -51,6 +51,11 @@ class TableSet {
 /// absent): what the tables were made from.
 std::string read_manifest(const std::string& folder);
 
+/// Whether every file the manifest lists is there as it was written (its
+/// size and modification time): false for a file deleted, cut short or
+/// edited since, and for a set from before these were kept.
+bool table_set_intact(const std::string& folder);
+
 /// Throws InputError when `folder` cannot take a table set: it is a file, or
 /// holds files and no manifest, or a file its manifest does not list (a
 /// user's own file, which replacing the folder would delete).
