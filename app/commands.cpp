@@ -44,6 +44,12 @@ std::string stage_summary(const StudyRunReport& r) {
 }
 
 void log_counts(const StudyRunReport& r) {
+  if (!r.recordings_removed.empty()) {
+    std::string ids;
+    for (const auto& id : r.recordings_removed) ids += (ids.empty() ? "" : ", ") + id;
+    spdlog::info("{} {} no longer among the input files: removed from the study with {} results ({})", r.recordings_removed.size(),
+                 r.recordings_removed.size() == 1 ? "recording is" : "recordings are", r.recordings_removed.size() == 1 ? "its" : "their", ids);
+  }
   if (r.recordings_read > 0) {
     spdlog::info("read {} recordings: {} trials, {} samples, {} messages, {} repairs", r.recordings_read, r.trials, r.samples,
                  r.messages, r.repairs);
@@ -187,6 +193,7 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
     summary["recordings"] = r.recordings;
     summary["recordings_read"] = r.recordings_read;
     summary["recordings_detected"] = r.recordings_detected;
+    summary["recordings_removed"] = r.recordings_removed;
     summary["samples_read"] = r.samples;
     summary["fixations_detected"] = r.fixations;
     summary["timing"] = timing;

@@ -325,6 +325,7 @@ void StudyRun::plan_recordings() {
   for (const auto& id : stored) {
     if (!inputs.count(id)) removed_recordings_.push_back(id);
   }
+  report_.recordings_removed = removed_recordings_;
 }
 
 // Study-level key of a stage from the recordings' keys and the stages before it.

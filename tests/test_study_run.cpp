@@ -222,8 +222,10 @@ TEST(StudyRun, OneChangedInputIsReadAgainAndANewOneAdded) {
   EXPECT_EQ(s.recording_ids().size(), 5u);
   EXPECT_EQ(s.provenance().inputs.size(), 5u);
   // And removed again.
+  EXPECT_TRUE(r.recordings_removed.empty());
   fs::remove(d.file("study/raw/p05_s1.tsv.gz"));
-  run(proto, d.file("out"));
+  // Said, not only done (found in a newcomer's trial: removed without a word).
+  EXPECT_EQ(run(proto, d.file("out")).recordings_removed, std::vector<std::string>{"p05_1"});
   EXPECT_EQ(StudyStoreReader(d.file("out/s.gzm.h5")).recording_ids().size(), 4u);
 }
 
