@@ -196,6 +196,16 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
     summary["recordings_removed"] = r.recordings_removed;
     summary["samples_read"] = r.samples;
     summary["fixations_detected"] = r.fixations;
+    // What the stages warned of when they made the results now in the store (this run's or reused).
+    summary["warnings"] = nlohmann::json::array();
+    {
+      const StudyStoreReader store(opt.store_path);
+      for (Stage s : kStages) {
+        const auto rec = store.stage_record(s);
+        if (!rec || rec->state != StageState::current) continue;
+        for (const auto& w : rec->warnings) summary["warnings"].push_back(std::string(to_string(s)) + ": " + w);
+      }
+    }
     summary["timing"] = timing;
     remove_leftover_temporaries(summary_path);  // a killed run's
     write_file_atomically(summary_path, summary.dump(2) + "\n");

@@ -12,6 +12,7 @@
 #include <cstdlib>
 #include <iostream>
 
+#include "app/warning_log.h"
 #include "app/commands.h"
 #include "gazemill/version.h"
 #include "io/hdf5_util.h"
@@ -77,7 +78,8 @@ int main(int argc, char** argv) {
   auto logger = spdlog::stderr_color_mt("gazemill");
   logger->set_pattern("%^%l%$: %v");
   spdlog::set_default_logger(logger);
-  spdlog::set_level(quiet ? spdlog::level::err : verbose ? spdlog::level::debug : spdlog::level::info);
+  // Warnings reach the stages' records whatever the terminal shows (app/warning_log.h).
+  set_terminal_level(quiet ? spdlog::level::err : verbose ? spdlog::level::debug : spdlog::level::info);
   opts.show_progress = !quiet && stderr_is_terminal();
 
   int code = 1;

@@ -75,6 +75,7 @@ std::vector<ReportStage> stage_states(const StudyStoreReader& store) {
       rs.settings_json = r->settings_json;
       rs.protocol_sha256 = r->protocol_text.empty() ? std::string() : sha256_hex(r->protocol_text);
       if (stale) rs.note = r->stale_reason.empty() ? "made from results that have changed since" : r->stale_reason;
+      if (!stale) rs.warnings = r->warnings;
     }
     out.push_back(std::move(rs));
     before = r;

@@ -35,6 +35,7 @@
 #include "app/stage_settings.h"
 #include "app/table_trials.h"
 #include "app/trial_pattern_check.h"
+#include "app/warning_log.h"
 #include "app/study_inputs.h"
 #include "detectors/detector_registry.h"
 #include "gazemill/version.h"
@@ -174,6 +175,13 @@ class StudyRun {
   void run_study_stages(StudyStoreWriter& out);
   std::optional<PreviousAlignment> previous_alignment() const;
   void remove_results(StudyStoreWriter& out, Stage stage);
+  // A reused stage's warnings are still true of its results: said again.
+  void say_again(const StageRecord& r) {
+    for (const auto& w : r.warnings) {
+      spdlog::warn("{} (as {} said when it ran, {})", w, to_string(r.stage), r.created_utc);
+      report_.warnings_kept.push_back(std::string(to_string(r.stage)) + ": " + w);
+    }
+  }
   StageRecord record_for(Stage stage, const std::string& key, const std::string& upstream, const std::string& settings) const;
 
   bool stage_wanted(Stage s) const { return !o_.only || *o_.only == s; }
@@ -655,8 +663,10 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     }
     if (reusable(s)) {
       report_.stages[s] = "reused";
+      say_again(old_records_.at(s));
       continue;
     }
+    CapturedWarnings warned;  // facts about this stage's results, kept with its record
     const auto started = std::chrono::steady_clock::now();
     auto lap = [&](const char* what) {  // -v: where a stage's time goes
       spdlog::debug("{}: {} after {:.2f} s", to_string(s), what, std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count());
@@ -738,7 +748,9 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
                      {"by_item_region", "by_role", "by_participant"});
       write_placement(out, report_.placement, p_.design.factors);
     }
-    out.write_stage_record(record_for(s, keys_.at(s), keys_.at(*upstream_of(s)), settings_of(s)));
+    StageRecord record = record_for(s, keys_.at(s), keys_.at(*upstream_of(s)), settings_of(s));
+    record.warnings = warned.take();
+    out.write_stage_record(record);
     ran_[s] = true;
     report_.stages[s] = "ran";
     spdlog::debug("{} took {:.2f} s", to_string(s), std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count());
@@ -952,6 +964,7 @@ StudyRunReport StudyRun::execute() {
     } else {
       for (Stage s : {Stage::clean, Stage::align, Stage::measure}) {
         report_.stages[s] = (s != Stage::clean && !regions_present()) ? "not run: the protocol has no [regions]" : "reused";
+        if (const auto r = old_records_.find(s); r != old_records_.end() && report_.stages[s] == "reused") say_again(r->second);
       }
     }
   }

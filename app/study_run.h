@@ -69,6 +69,7 @@ struct StudyRunOptions {
 struct StudyRunReport {
   std::map<Stage, std::string> stages;  // "ran", "reused", "stale", or why it did not run
   std::size_t recordings = 0, recordings_read = 0, recordings_detected = 0;
+  std::vector<std::string> warnings_kept;  // the warnings of reused stages, said again ("clean: ...")
   std::vector<std::string> recordings_removed;  // in the store before, no longer among the inputs: gone with their results
   std::uint64_t samples = 0, messages = 0, trials = 0, input_bytes = 0, repairs = 0;  // of the recordings read
   std::uint64_t samples_detected = 0, fixations = 0, saccades = 0, blinks = 0;       // of the recordings detected

@@ -580,6 +580,17 @@ void run_section(HtmlWriter& w, const ReportModel& m) {
     for (const auto& n : r.notes) w.element("li", n);
     w.close();
   }
+  // What the stages warned of when they made these results: as true now as then.
+  std::vector<std::string> warned;
+  for (const auto& s : r.stages) {
+    for (const auto& x : s.warnings) warned.push_back(s.stage + ": " + x);
+  }
+  if (!warned.empty()) {
+    w.element("p", "The stages warned, when they made these results:");
+    w.open("ul", {{"class", "notes stage-warnings"}});
+    for (const auto& x : warned) w.element("li", x);
+    w.close();
+  }
   figure(w, {"fig-run-trials", "run-trials", "Trials per participant", "kept and excluded by cleaning",
              "Bar chart of each participant's trials, split into those cleaning kept and those it excluded. " +
                  (m.cleaning.present ? thousands(r.trials_kept) + " of " + thousands(r.trials) + " trials were kept."

@@ -19,6 +19,8 @@
 #include <set>
 #include <stdexcept>
 
+#include <nlohmann/json.hpp>
+
 #include "io/atomic_file.h"
 #include "io/global_heap_check.h"
 #include "io/hdf5_util.h"
@@ -516,6 +518,7 @@ void StudyStoreWriter::write_stage_record(const StageRecord& r) {
   h5::set_attr(g, "gazemill_version", r.tool_version);
   h5::set_attr(g, "protocol_text", r.protocol_text);
   h5::set_attr(g, "protocol_path", r.protocol_path);
+  if (!r.warnings.empty()) h5::set_attr(g, "warnings", nlohmann::json(r.warnings).dump());
 }
 
 void StudyStoreWriter::mark_stage_stale(Stage stage, const std::string& reason) {
@@ -766,6 +769,14 @@ std::optional<StageRecord> StudyStoreReader::stage_record(Stage stage) const {
   r.tool_version = text("gazemill_version");
   r.protocol_text = text("protocol_text");
   r.protocol_path = text("protocol_path");
+  if (const std::string w = text("warnings"); !w.empty()) {
+    const nlohmann::json j = nlohmann::json::parse(w, nullptr, false);
+    if (j.is_array()) {
+      for (const auto& x : j) {
+        if (x.is_string()) r.warnings.push_back(x.get<std::string>());
+      }
+    }
+  }
   return r;
 }
 

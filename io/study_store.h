@@ -10,7 +10,8 @@
 //   /provenance/stages/<stage>         one per study stage that ran (ingest, detect, clean, align,
 //                                      measure): attrs key, upstream_key, settings (JSON), state
 //                                      ("current" or "stale"), stale_reason, created_utc,
-//                                      gazemill_version, protocol_text, protocol_path
+//                                      gazemill_version, protocol_text, protocol_path, and
+//                                      warnings (a JSON list) when it warned of anything
 //   /recordings/<id>                   attrs participant, session, source_file, sample_rate_hz,
 //                                      eyes, screen_*, sample_count, missing_left, missing_right,
 //                                      first_time_us, last_time_us, ingest_key

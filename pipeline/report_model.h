@@ -55,6 +55,7 @@ struct ReportStage {
   std::string settings_json;  // its protocol section, resolved
   std::string protocol_sha256;  // of the whole protocol text it ran with
   std::string note;         // why it is stale
+  std::vector<std::string> warnings;  // what it warned of when it ran (current stages)
 };
 
 struct ReportRun {

@@ -38,6 +38,7 @@ struct StageRecord {
   std::string protocol_path;                // absolute; relative file names resolve from its folder
   StageState state = StageState::current;   // stale: an upstream stage ran again after it
   std::string stale_reason;                 // e.g. "detect ran again on 2026-12-04T10:00:00Z"
+  std::vector<std::string> warnings;        // what it warned of when it ran: true of its results as long as they stand
 };
 
 }  // namespace gazemill

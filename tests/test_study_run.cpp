@@ -15,6 +15,8 @@
 #include <sstream>
 
 #include "app/protocol_parser.h"
+#include "app/report_data.h"
+#include "io/report_html.h"
 #include "app/inspect.h"
 #include "app/shard_merge.h"
 #include "app/stale_outputs.h"
@@ -680,4 +682,36 @@ TEST(StudyRun, ARuleNamingARoleNoRegionHasStopsBeforeWork) {
   }
   EXPECT_FALSE(fs::exists(d.file("out/s.gzm.h5")));
   EXPECT_FALSE(fs::exists(d.file("out/tables")));
+}
+
+// Found in a newcomer's trial: a warning about the results (here: the rules
+// keep under half of the fixations) was given by the run that made them
+// only; the next run, reusing them, and the report said nothing. A stage's
+// warnings are kept with its record, said again when it is reused, and
+// listed by the report and the run summary (our design, no source).
+TEST(StudyRun, AStagesWarningsStayWithItsResults) {
+  TempDir d;
+  const std::string proto = study(d, "\n[[cleaning]]\nname = \"long only\"\nkind = \"delete_short_fixations\"\nmin_duration_ms = 260\n");
+  run(proto, d.file("out"));
+  const auto clean = StudyStoreReader(d.file("out/s.gzm.h5")).stage_record(Stage::clean);
+  ASSERT_TRUE(clean);
+  ASSERT_EQ(clean->warnings.size(), 1u);
+  EXPECT_NE(clean->warnings[0].find("the cleaning rules keep only"), std::string::npos) << clean->warnings[0];
+  EXPECT_TRUE(StudyStoreReader(d.file("out/s.gzm.h5")).stage_record(Stage::measure)->warnings.empty());
+  const auto again = run(proto, d.file("out"));
+  EXPECT_EQ(again.stages.at(Stage::clean), "reused");
+  EXPECT_EQ(again.warnings_kept, std::vector<std::string>{"clean: " + clean->warnings[0]});
+  const ReportModel m = assemble_report(d.file("out/s.gzm.h5"));
+  const auto stage = std::find_if(m.run.stages.begin(), m.run.stages.end(), [](const ReportStage& s) { return s.stage == "clean"; });
+  ASSERT_NE(stage, m.run.stages.end());
+  EXPECT_EQ(stage->warnings, clean->warnings);
+  EXPECT_NE(report_html(m).find("the cleaning rules keep only"), std::string::npos);
+  // Rules that keep more: no warning, none kept.
+  std::string text = read_text(proto);
+  text.replace(text.find("min_duration_ms = 260"), 21, "min_duration_ms = 60");
+  std::ofstream(proto) << text;
+  const auto changed = run(proto, d.file("out"));
+  EXPECT_EQ(changed.stages.at(Stage::clean), "ran");
+  EXPECT_TRUE(StudyStoreReader(d.file("out/s.gzm.h5")).stage_record(Stage::clean)->warnings.empty());
+  EXPECT_TRUE(run(proto, d.file("out")).warnings_kept.empty());
 }

@@ -1,0 +1,46 @@
+#include "app/warning_log.h"
+
+#include <spdlog/sinks/base_sink.h>
+#include <spdlog/spdlog.h>
+
+#include <algorithm>
+#include <mutex>
+
+namespace gazemill {
+
+class WarningSink : public spdlog::sinks::base_sink<std::mutex> {
+ public:
+  std::vector<std::string> take() {
+    std::lock_guard<std::mutex> lock(mutex_);
+    return std::exchange(kept_, {});
+  }
+
+ protected:
+  void sink_it_(const spdlog::details::log_msg& m) override {
+    if (m.level == spdlog::level::warn) kept_.emplace_back(m.payload.data(), m.payload.size());
+  }
+  void flush_() override {}
+
+ private:
+  std::vector<std::string> kept_;
+};
+
+CapturedWarnings::CapturedWarnings() : sink_(std::make_shared<WarningSink>()) {
+  sink_->set_level(spdlog::level::warn);
+  spdlog::default_logger()->sinks().push_back(sink_);
+}
+
+CapturedWarnings::~CapturedWarnings() {
+  auto& sinks = spdlog::default_logger()->sinks();
+  sinks.erase(std::remove(sinks.begin(), sinks.end(), sink_), sinks.end());
+}
+
+std::vector<std::string> CapturedWarnings::take() { return sink_->take(); }
+
+void set_terminal_level(int level) {
+  const auto l = static_cast<spdlog::level::level_enum>(level);
+  for (auto& s : spdlog::default_logger()->sinks()) s->set_level(l);
+  spdlog::set_level(std::min(l, spdlog::level::warn));
+}
+
+}  // namespace gazemill

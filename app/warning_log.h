@@ -1,0 +1,36 @@
+#pragma once
+// The warnings a stage gives are facts about its results (a design level in
+// one trial only, rules that keep few fixations): kept with the stage's
+// record, said again whenever a run reuses the results, and shown in the
+// report, so that they do not vanish on the second run. This catches what
+// the program logs at warning level while a stage runs, whatever the
+// terminal's verbosity.
+
+#include <memory>
+#include <string>
+#include <vector>
+
+namespace gazemill {
+
+class WarningSink;
+
+/// While it lives, every warning logged through the default logger is also
+/// kept here, from any thread.
+class CapturedWarnings {
+ public:
+  CapturedWarnings();
+  ~CapturedWarnings();
+  CapturedWarnings(const CapturedWarnings&) = delete;
+  CapturedWarnings& operator=(const CapturedWarnings&) = delete;
+  /// The warnings since the last call, in the order logged.
+  std::vector<std::string> take();
+
+ private:
+  std::shared_ptr<WarningSink> sink_;
+};
+
+/// Sets the default logger's level so that warnings always reach a
+/// CapturedWarnings, while its terminal sinks keep `level`.
+void set_terminal_level(int level);
+
+}  // namespace gazemill
