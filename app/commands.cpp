@@ -17,6 +17,7 @@
 #include "app/stale_outputs.h"
 #include "app/study_run.h"
 #include "app/verify.h"
+#include "app/warning_log.h"
 #include "io/atomic_file.h"
 #include "io/bids_writer.h"
 #include "gazemill/version.h"
@@ -198,14 +199,7 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
     summary["fixations_detected"] = r.fixations;
     // What the stages warned of when they made the results now in the store (this run's or reused).
     summary["warnings"] = nlohmann::json::array();
-    {
-      const StudyStoreReader store(opt.store_path);
-      for (Stage s : kStages) {
-        const auto rec = store.stage_record(s);
-        if (!rec || rec->state != StageState::current) continue;
-        for (const auto& w : rec->warnings) summary["warnings"].push_back(std::string(to_string(s)) + ": " + w);
-      }
-    }
+    for (const auto& [stage, w] : kept_warnings(StudyStoreReader(opt.store_path))) summary["warnings"].push_back(std::string(to_string(stage)) + ": " + w);
     summary["timing"] = timing;
     remove_leftover_temporaries(summary_path);  // a killed run's
     write_file_atomically(summary_path, summary.dump(2) + "\n");

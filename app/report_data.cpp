@@ -19,6 +19,7 @@
 
 #include "app/protocol_parser.h"
 #include "app/sample_digest.h"
+#include "app/warning_log.h"
 #include "gazemill/version.h"
 #include "io/alignment_io.h"
 #include "io/cleaning_io.h"
@@ -75,10 +76,14 @@ std::vector<ReportStage> stage_states(const StudyStoreReader& store) {
       rs.settings_json = r->settings_json;
       rs.protocol_sha256 = r->protocol_text.empty() ? std::string() : sha256_hex(r->protocol_text);
       if (stale) rs.note = r->stale_reason.empty() ? "made from results that have changed since" : r->stale_reason;
-      if (!stale) rs.warnings = r->warnings;
     }
     out.push_back(std::move(rs));
     before = r;
+  }
+  for (const auto& [stage, w] : kept_warnings(store)) {
+    for (auto& rs : out) {
+      if (rs.stage == to_string(stage) && rs.state == to_string(StageState::current)) rs.warnings.push_back(w);
+    }
   }
   return out;
 }

@@ -398,7 +398,9 @@ constexpr std::uint64_t kZeroGazeWarning = 5;
 
 void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
   const std::string& id = r.recording.id;
-  if (r.samples && !r.inputs.empty()) {  // read from its files this run
+  CapturedWarnings warned;  // of what was read: kept with the recording (app/warning_log.h)
+  const bool read = r.samples && !r.inputs.empty();
+  if (read) {  // read from its files this run
     out.remove("/recordings/" + id);
     out.write_recording(r.recording, r.summary, r.samples->columns(), r.ingest_key);
     if (r.keeps_tracker_events) out.write_tracker_events(id, r.tracker_events);
@@ -440,6 +442,10 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
     report_.fixations += r.events.fixations.size();
     report_.saccades += r.events.saccades.size();
     report_.blinks += r.events.blinks.size();
+  }
+  if (const auto said = warned.take(); read && !said.empty()) {
+    H5::Group g = out.group("recordings/" + id);
+    h5::set_attr(g, "warnings", nlohmann::json(said).dump());
   }
   // The samples, labels and digest are in the store now; what cleaning needs stays.
   r.samples.reset();
@@ -928,6 +934,15 @@ StudyRunReport StudyRun::execute() {
     if (regions_ && !o_.only && static_cast<int>(o_.until) >= static_cast<int>(Stage::clean)) check_items_have_regions(p_, *regions_, fresh_);
   }
   check_distinct_recordings(plans_, fresh_);
+  if (old_ && o_.only != Stage::ingest) {  // recordings not read again: what was said when they were read still holds
+    for (const auto& plan : plans_) {
+      if (plan.work == RecordingWork::ingest) continue;
+      for (const auto& w : recording_warnings(*old_, plan.id)) {
+        spdlog::warn("{} (as said when it was read)", w);
+        report_.warnings_kept.push_back("ingest: " + w);
+      }
+    }
+  }
   keys_[Stage::ingest] = study_key(Stage::ingest);
   const bool ingest_ran = std::any_of(plans_.begin(), plans_.end(), [&](const RecordingPlan& r) { return r.work == RecordingWork::ingest; }) ||
                           !removed_recordings_.empty() || o_.only == Stage::ingest || !old_;  // a new store, even of no recordings

@@ -1,5 +1,7 @@
 #include "app/warning_log.h"
 
+#include "io/study_store.h"
+
 #include <spdlog/sinks/base_sink.h>
 #include <spdlog/spdlog.h>
 
@@ -36,6 +38,21 @@ CapturedWarnings::~CapturedWarnings() {
 }
 
 std::vector<std::string> CapturedWarnings::take() { return sink_->take(); }
+
+std::vector<std::pair<Stage, std::string>> kept_warnings(const StudyStoreReader& store) {
+  std::vector<std::pair<Stage, std::string>> out;
+  for (Stage s : kStages) {
+    const auto r = store.stage_record(s);
+    if (!r || r->state != StageState::current) continue;
+    for (const auto& w : r->warnings) out.emplace_back(s, w);
+    if (s == Stage::ingest) {
+      for (const auto& id : store.recording_ids()) {
+        for (const auto& w : recording_warnings(store, id)) out.emplace_back(s, w);
+      }
+    }
+  }
+  return out;
+}
 
 void set_terminal_level(int level) {
   const auto l = static_cast<spdlog::level::level_enum>(level);

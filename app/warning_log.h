@@ -7,11 +7,15 @@
 // terminal's verbosity.
 
 #include <memory>
+#include <utility>
 #include <string>
 #include <vector>
 
+#include "pipeline/stage.h"
+
 namespace gazemill {
 
+class StudyStoreReader;
 class WarningSink;
 
 /// While it lives, every warning logged through the default logger is also
@@ -28,6 +32,11 @@ class CapturedWarnings {
  private:
   std::shared_ptr<WarningSink> sink_;
 };
+
+/// The warnings kept with the current results of a store, stage by stage in
+/// pipeline order: each current stage's own, and for ingest also each
+/// recording's (what reading it warned of).
+std::vector<std::pair<Stage, std::string>> kept_warnings(const StudyStoreReader& store);
 
 /// Sets the default logger's level so that warnings always reach a
 /// CapturedWarnings, while its terminal sinks keep `level`.

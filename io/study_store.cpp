@@ -910,4 +910,16 @@ Recording StudyStoreReader::read_recording(const std::string& id, bool with_samp
   return r;
 }
 
+std::vector<std::string> recording_warnings(const StudyStoreReader& store, const std::string& id) {
+  std::vector<std::string> out;
+  const std::string text = store.recording_attribute(id, "warnings");
+  if (text.empty()) return out;
+  const nlohmann::json j = nlohmann::json::parse(text, nullptr, false);
+  if (!j.is_array()) return out;
+  for (const auto& x : j) {
+    if (x.is_string()) out.push_back(x.get<std::string>());
+  }
+  return out;
+}
+
 }  // namespace gazemill

@@ -14,7 +14,8 @@
 //                                      warnings (a JSON list) when it warned of anything
 //   /recordings/<id>                   attrs participant, session, source_file, sample_rate_hz,
 //                                      eyes, screen_*, sample_count, missing_left, missing_right,
-//                                      first_time_us, last_time_us, ingest_key
+//                                      first_time_us, last_time_us, ingest_key, and warnings
+//                                      (a JSON list) when reading it warned of anything
 //   /recordings/<id>/samples/time_us   int64, unit "us"
 //   /recordings/<id>/samples/<eye>_x_px, <eye>_y_px (float32, "px"), <eye>_pupil (float32,
 //                                      "tracker units"), <eye>_valid (uint8)   eye = left|right
@@ -166,5 +167,8 @@ class StudyStoreReader {
   struct Impl;
   std::unique_ptr<Impl> impl_;
 };
+
+/// What reading a recording warned of (its "warnings" attribute), in order; none when absent.
+std::vector<std::string> recording_warnings(const StudyStoreReader& store, const std::string& id);
 
 }  // namespace gazemill

@@ -715,3 +715,42 @@ TEST(StudyRun, AStagesWarningsStayWithItsResults) {
   EXPECT_TRUE(StudyStoreReader(d.file("out/s.gzm.h5")).stage_record(Stage::clean)->warnings.empty());
   EXPECT_TRUE(run(proto, d.file("out")).warnings_kept.empty());
 }
+
+// What reading a recording warned of (here: gaze at exactly (0, 0) px in 6
+// samples, which some trackers write for lost tracking) stays with the
+// recording: said again while it is not read again, listed by the report.
+TEST(StudyRun, ARecordingsWarningsStayWithIt) {
+  TempDir d;
+  const std::string proto = study(d);
+  std::string samples;
+  {
+    FILE* in = popen(("gzip -dc '" + d.file("study/raw/p02_s1.tsv.gz") + "'").c_str(), "r");
+    ASSERT_NE(in, nullptr);
+    char buffer[1 << 16];
+    for (std::size_t n; (n = fread(buffer, 1, sizeof buffer, in)) > 0;) samples.append(buffer, n);
+    ASSERT_EQ(pclose(in), 0);
+  }
+  std::istringstream lines(samples);
+  std::string out, line;
+  int zeroed = 0;
+  for (std::getline(lines, line); !line.empty(); std::getline(lines, line)) {
+    // time, x, y, pupil, message: a sample row's gaze set to 0 0, six times.
+    const auto a = line.find('\t'), b = line.find('\t', a + 1), c = line.find('\t', b + 1);
+    if (zeroed < 6 && out.size() > 2000 && b > a + 1 && c > b + 1) {
+      line = line.substr(0, a) + "\t0\t0" + line.substr(c);
+      ++zeroed;
+    }
+    out += line + "\n";
+  }
+  ASSERT_EQ(zeroed, 6);
+  d.write_gz("study/raw/p02_s1.tsv.gz", out);
+  run(proto, d.file("out"));
+  const auto said = recording_warnings(StudyStoreReader(d.file("out/s.gzm.h5")), "p02_1");
+  ASSERT_EQ(said.size(), 1u);
+  EXPECT_NE(said[0].find("6 samples of gaze at exactly (0, 0) px"), std::string::npos) << said[0];
+  EXPECT_TRUE(recording_warnings(StudyStoreReader(d.file("out/s.gzm.h5")), "p01_1").empty());
+  EXPECT_EQ(run(proto, d.file("out")).warnings_kept, std::vector<std::string>{"ingest: " + said[0]});
+  const ReportModel m = assemble_report(d.file("out/s.gzm.h5"));
+  EXPECT_EQ(m.run.stages.front().stage, "ingest");
+  EXPECT_EQ(m.run.stages.front().warnings, said);
+}
