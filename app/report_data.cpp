@@ -17,6 +17,7 @@
 #include <fmt/chrono.h>
 #include <fmt/format.h>
 
+#include "app/parallel_recordings.h"
 #include "app/protocol_parser.h"
 #include "app/sample_digest.h"
 #include "app/warning_log.h"
@@ -418,30 +419,13 @@ class Assembler {
           }
         }
       }
-      std::atomic<std::size_t> next{0};
-      std::vector<std::exception_ptr> errors(batch.size());
-      auto worker = [&] {
-        for (std::size_t k; (k = next++) < batch.size();) {
-          try {
-            work_on_samples(batch[k]);
-          } catch (...) {
-            errors[k] = std::current_exception();
-          }
+      for_each_recording(batch.size(), static_cast<unsigned>(threads), [&](std::size_t k) {
+        try {
+          work_on_samples(batch[k]);
+        } catch (const std::exception& e) {
+          throw InputError({store_path_, 0, "recordings/" + ids_[from + k] + "/samples"}, e.what());
         }
-      };
-      std::vector<std::thread> pool;
-      for (std::size_t t = 1; t < std::min(threads, batch.size()); ++t) pool.emplace_back(worker);
-      worker();
-      for (auto& t : pool) t.join();
-      for (std::size_t k = 0; k < batch.size(); ++k) {
-        if (errors[k]) {
-          try {
-            std::rethrow_exception(errors[k]);
-          } catch (const std::exception& e) {
-            throw InputError({store_path_, 0, "recordings/" + ids_[from + k] + "/samples"}, e.what());
-          }
-        }
-      }
+      });
       // In study order, as one thread would have done it.
       const std::size_t first_made = v.recordings.size();
       for (RecordingWork& w : batch) {
@@ -476,24 +460,7 @@ class Assembler {
 
   // The recordings from `first` on, packed on `threads` threads.
   static void pack_viewer_recordings(std::vector<ViewerRecording>& recs, std::size_t first, std::size_t threads) {
-    std::atomic<std::size_t> next{first};
-    std::vector<std::exception_ptr> errors(recs.size());
-    auto worker = [&] {
-      for (std::size_t k; (k = next++) < recs.size();) {
-        try {
-          pack_viewer_recording(recs[k]);
-        } catch (...) {
-          errors[k] = std::current_exception();
-        }
-      }
-    };
-    std::vector<std::thread> pool;
-    for (std::size_t t = 1; t < std::min(threads, recs.size() - first); ++t) pool.emplace_back(worker);
-    worker();
-    for (auto& t : pool) t.join();
-    for (const auto& e : errors) {
-      if (e) std::rethrow_exception(e);
-    }
+    for_each_recording(recs.size() - first, static_cast<unsigned>(threads), [&](std::size_t k) { pack_viewer_recording(recs[first + k]); });
   }
 
   void gather_events(const Recording& rec, const DetectedEvents& ev, ParticipantAccumulator& acc) {

@@ -60,6 +60,17 @@ StudyRunReport run(const std::string& proto, const std::string& folder, unsigned
   return run_study(parse_protocol_file(proto), o);
 }
 
+// A gzip file's text, by Debian's gzip.
+std::string read_gz(const std::string& path) {
+  std::string text;
+  FILE* in = popen(("gzip -dc '" + path + "'").c_str(), "r");
+  if (!in) return text;
+  char buffer[1 << 16];
+  for (std::size_t n; (n = fread(buffer, 1, sizeof buffer, in)) > 0;) text.append(buffer, n);
+  EXPECT_EQ(pclose(in), 0) << path;
+  return text;
+}
+
 std::string read_text(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
   std::stringstream s;
@@ -206,14 +217,7 @@ TEST(StudyRun, OneChangedInputIsReadAgainAndANewOneAdded) {
   fs::last_write_time(d.file("study/raw/p02_s1.tsv.gz"), fs::file_time_type::clock::now());
   EXPECT_EQ(run(proto, d.file("out")).recordings_read, 0u);
   // A new participant (p02's samples with one message more, so not a copy of a file): only that recording is read.
-  std::string samples;
-  {
-    FILE* in = popen(("gzip -dc '" + d.file("study/raw/p02_s1.tsv.gz") + "'").c_str(), "r");
-    ASSERT_NE(in, nullptr);
-    char buffer[1 << 16];
-    for (std::size_t n; (n = fread(buffer, 1, sizeof buffer, in)) > 0;) samples.append(buffer, n);
-    ASSERT_EQ(pclose(in), 0);
-  }
+  std::string samples = read_gz(d.file("study/raw/p02_s1.tsv.gz"));
   samples.insert(samples.find('\n') + 1, "1000000\t\t\t\tcalibration checked\n");
   d.write_gz("study/raw/p05_s1.tsv.gz", samples);
   const auto r = run(proto, d.file("out"));
@@ -722,14 +726,7 @@ TEST(StudyRun, AStagesWarningsStayWithItsResults) {
 TEST(StudyRun, ARecordingsWarningsStayWithIt) {
   TempDir d;
   const std::string proto = study(d);
-  std::string samples;
-  {
-    FILE* in = popen(("gzip -dc '" + d.file("study/raw/p02_s1.tsv.gz") + "'").c_str(), "r");
-    ASSERT_NE(in, nullptr);
-    char buffer[1 << 16];
-    for (std::size_t n; (n = fread(buffer, 1, sizeof buffer, in)) > 0;) samples.append(buffer, n);
-    ASSERT_EQ(pclose(in), 0);
-  }
+  const std::string samples = read_gz(d.file("study/raw/p02_s1.tsv.gz"));
   std::istringstream lines(samples);
   std::string out, line;
   int zeroed = 0;
