@@ -443,10 +443,7 @@ void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
     report_.saccades += r.events.saccades.size();
     report_.blinks += r.events.blinks.size();
   }
-  if (const auto said = warned.take(); read && !said.empty()) {
-    H5::Group g = out.group("recordings/" + id);
-    h5::set_attr(g, "warnings", nlohmann::json(said).dump());
-  }
+  if (const auto said = warned.take(); read && !said.empty()) out.write_recording_warnings(id, said);
   // The samples, labels and digest are in the store now; what cleaning needs stays.
   r.samples.reset();
   r.labels.chunks = {};

@@ -521,6 +521,11 @@ void StudyStoreWriter::write_stage_record(const StageRecord& r) {
   if (!r.warnings.empty()) h5::set_attr(g, "warnings", nlohmann::json(r.warnings).dump());
 }
 
+void StudyStoreWriter::write_recording_warnings(const std::string& id, const std::vector<std::string>& warnings) {
+  H5::Group g = group("recordings/" + id);
+  h5::set_attr(g, "warnings", nlohmann::json(warnings).dump());
+}
+
 void StudyStoreWriter::mark_stage_stale(Stage stage, const std::string& reason) {
   const std::string path = std::string("provenance/stages/") + to_string(stage);
   if (!exists(path)) return;

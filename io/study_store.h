@@ -110,6 +110,8 @@ class StudyStoreWriter {
   void write_events(const std::string& recording_id, const DetectedEvents& events, const CompressedColumn& labels,
                     const std::string& method, const std::string& parameters_json, const std::string& detect_key);
   /// The tracker's own events of one recording, beside gazemill's (ingest).
+  /// What reading a recording warned of, kept with it (see recording_warnings).
+  void write_recording_warnings(const std::string& id, const std::vector<std::string>& warnings);
   void write_tracker_events(const std::string& recording_id, const std::vector<TrackerEvent>& events);
   /// The record of a study stage, replacing any earlier one.
   void write_stage_record(const StageRecord& record);
