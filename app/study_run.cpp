@@ -398,7 +398,7 @@ constexpr std::uint64_t kZeroGazeWarning = 5;
 
 void StudyRun::write_recording(StudyStoreWriter& out, RecordingOutput& r) {
   const std::string& id = r.recording.id;
-  CapturedWarnings warned;  // of what was read: kept with the recording (app/warning_log.h)
+  CapturedWarnings warned(CapturedWarnings::From::this_thread);  // of what was read: kept with the recording (app/warning_log.h)
   const bool read = r.samples && !r.inputs.empty();
   if (read) {  // read from its files this run
     out.remove("/recordings/" + id);

@@ -2,16 +2,19 @@
 
 #include "io/study_store.h"
 
+#include <spdlog/details/os.h>
 #include <spdlog/sinks/base_sink.h>
 #include <spdlog/spdlog.h>
 
 #include <algorithm>
 #include <mutex>
+#include <optional>
 
 namespace gazemill {
 
 class WarningSink : public spdlog::sinks::base_sink<std::mutex> {
  public:
+  explicit WarningSink(std::optional<std::size_t> thread) : thread_(thread) {}
   std::vector<std::string> take() {
     std::lock_guard<std::mutex> lock(mutex_);
     return std::exchange(kept_, {});
@@ -19,15 +22,17 @@ class WarningSink : public spdlog::sinks::base_sink<std::mutex> {
 
  protected:
   void sink_it_(const spdlog::details::log_msg& m) override {
-    if (m.level == spdlog::level::warn) kept_.emplace_back(m.payload.data(), m.payload.size());
+    if (m.level == spdlog::level::warn && (!thread_ || *thread_ == m.thread_id)) kept_.emplace_back(m.payload.data(), m.payload.size());
   }
   void flush_() override {}
 
  private:
+  std::optional<std::size_t> thread_;  // spdlog's id of the one thread heard, if only one
   std::vector<std::string> kept_;
 };
 
-CapturedWarnings::CapturedWarnings() : sink_(std::make_shared<WarningSink>()) {
+CapturedWarnings::CapturedWarnings(From from)
+    : sink_(std::make_shared<WarningSink>(from == From::this_thread ? std::optional<std::size_t>(spdlog::details::os::thread_id()) : std::nullopt)) {
   sink_->set_level(spdlog::level::warn);
   spdlog::default_logger()->sinks().push_back(sink_);
 }

@@ -19,10 +19,11 @@ class StudyStoreReader;
 class WarningSink;
 
 /// While it lives, every warning logged through the default logger is also
-/// kept here, from any thread.
+/// kept here: from any thread, or only from the thread that made it.
 class CapturedWarnings {
  public:
-  CapturedWarnings();
+  enum class From { any_thread, this_thread };
+  explicit CapturedWarnings(From from = From::any_thread);
   ~CapturedWarnings();
   CapturedWarnings(const CapturedWarnings&) = delete;
   CapturedWarnings& operator=(const CapturedWarnings&) = delete;
