@@ -35,7 +35,11 @@ std::vector<std::string> set_aside_stale_outputs(const std::string& store_path, 
     const std::string text = read_manifest(folder.string());
     if (text.empty()) continue;
     const nlohmann::json manifest = nlohmann::json::parse(text, nullptr, false);
-    if (manifest.is_discarded() || manifest.value("store", "") != store.string() || !manifest.contains("stages")) continue;
+    if (manifest.is_discarded() || !manifest.contains("stages")) continue;
+    // Its store, or one of the same name beside it: the run's folder copied
+    // whole (found in a newcomer's trial: the copy's tables were left as current).
+    const fs::path named = manifest.value("store", "");
+    if (named != store && !(folder == run_tables && named.filename() == store.filename())) continue;
     if (!reader) reader.emplace(store.string());
     bool stale = false;
     for (Stage s : kStages) {

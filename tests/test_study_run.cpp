@@ -593,6 +593,18 @@ TEST(StudyRun, TablesOfResultsNoLongerCurrentAreSetAside) {
   EXPECT_FALSE(fs::exists(d.file("out/run-summary.stale.json")));
   EXPECT_TRUE(fs::exists(d.file("out/tables/measures.tsv")));
   EXPECT_TRUE(set_aside_stale_outputs(d.file("out/s.gzm.h5"), "").empty());
+
+  // The run's folder copied whole (its manifest names the original store):
+  // a stage command on the copy sets the copy's tables aside too.
+  fs::copy(d.file("out"), d.file("copy"), fs::copy_options::recursive);
+  text.replace(text.find("min_duration_ms = 95"), 20, "min_duration_ms = 90");
+  std::ofstream(proto) << text;
+  o.store_path = d.file("copy/s.gzm.h5");
+  o.tables_folder = d.file("copy/s-tables");
+  run_study(parse_protocol_file(proto), o);
+  EXPECT_FALSE(set_aside_stale_outputs(o.store_path, o.tables_folder).empty());
+  EXPECT_TRUE(fs::exists(d.file("copy/tables.stale/measures.tsv")));
+  EXPECT_TRUE(fs::exists(d.file("out/tables/measures.tsv"))) << "the original's, still current for its store";
 }
 
 // The audit counts and the aggregates are by design cell: another [design]
