@@ -106,6 +106,8 @@ std::string utc_now() {
   return buf;
 }
 
+void check_trial_keys_unique(const Protocol& p, const std::vector<RecordingEvents>& recordings);
+
 // What happens to one recording in this run.
 enum class RecordingWork { reuse, detect, ingest };
 
@@ -679,6 +681,7 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     if (s == Stage::clean) {
       events_ = recording_events();
       lap("events read");
+      check_trial_keys_unique(p_, events_);
       check_design_levels(p_, events_);
       // A participant at a time: its cleaning written, what the tables and
       // the report are lent taken out, its kept fixations moved on, the rest
@@ -835,6 +838,36 @@ void check_items_have_regions(const Protocol& p, const RegionCatalogue& regions,
   if (missing == 0) return;
   throw InputError({regions_file(p), 0, "item"}, std::to_string(missing) + " trial(s) show an item this file has no regions for" + examples +
                                                      "; is the file complete, and are the item and design variables spelt as the trials give them?");
+}
+
+// The tables tell rows apart by participant, session and trial. Two
+// recordings of one participant and session (runs of a BIDS task) that
+// number their trials alike would have their rows pooled, without a word,
+// by whatever reads the tables (found in a newcomer's trial).
+void check_trial_keys_unique(const Protocol& p, const std::vector<RecordingEvents>& recordings) {
+  std::map<std::pair<std::string, std::string>, std::map<std::string, std::string>> owner;  // (participant, session) -> trial -> recording
+  for (const auto& r : recordings) {
+    auto& trials = owner[{r.meta.participant, r.meta.session}];
+    std::string first;
+    std::size_t shared = 0;
+    std::string other;
+    for (const auto& t : r.meta.trials) {
+      const auto [it, fresh] = trials.emplace(t.id, r.meta.id);
+      if (fresh || it->second == r.meta.id) continue;
+      if (shared++ == 0) {
+        first = t.id;
+        other = it->second;
+      }
+    }
+    if (shared == 0) continue;
+    throw InputError({p.path, p.input.filename_pattern_line, "input.filename_pattern"},
+                     "recordings " + other + " and " + r.meta.id + " (participant " + r.meta.participant +
+                         (r.meta.session.empty() ? "" : ", session " + r.meta.session) + ") both have trial " + first +
+                         (shared > 1 ? " (and " + std::to_string(shared - 1) + " more)" : "") +
+                         ": the tables tell rows apart by participant, session and trial, so theirs would be pooled. Number the trials "
+                         "across the runs, or read the run as the session: filename_pattern = "
+                         "'sub-(?<participant>[A-Za-z0-9]+)(?:_ses-[A-Za-z0-9]+)?_task-[A-Za-z0-9]+(?:_run-(?<session>[A-Za-z0-9]+))?'");
+  }
 }
 
 // Two recordings whose sample files are byte for byte the same are one

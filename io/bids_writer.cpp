@@ -131,10 +131,22 @@ BidsExportSummary write_bids_dataset(const StudyStoreReader& store, const std::s
   };
   std::vector<Planned> plan;
   std::map<std::pair<std::string, std::string>, std::vector<std::size_t>> by_session;
+  // Two names that become one label would be one subject or session in the
+  // dataset (found in a newcomer's trial: p-01 and p01 became one sub-p01).
+  std::map<std::string, std::string> participant_of_label;
+  std::map<std::pair<std::string, std::string>, std::string> session_of_label;
   for (const auto& id : ids) {
     const Recording meta = store.read_recording(id, false);
     Planned p{id, bids_label(meta.participant), bids_label(meta.session), ""};
     if (p.sub.empty()) throw InputError({store.path(), 0, "participant"}, "recording " + id + ": its participant '" + meta.participant + "' has no letter or digit for a BIDS label");
+    if (const auto [it, fresh] = participant_of_label.emplace(p.sub, meta.participant); !fresh && it->second != meta.participant) {
+      throw InputError({store.path(), 0, "participant"}, "participants '" + it->second + "' and '" + meta.participant + "' would both be sub-" + p.sub +
+                                                            " (BIDS labels are letters and digits only): rename one of them in the study's file names");
+    }
+    if (const auto [it, fresh] = session_of_label.emplace(std::make_pair(p.sub, p.ses), meta.session); !fresh && it->second != meta.session) {
+      throw InputError({store.path(), 0, "session"}, "sessions '" + it->second + "' and '" + meta.session + "' of participant '" + meta.participant +
+                                                        "' would both be ses-" + p.ses + " (BIDS labels are letters and digits only)");
+    }
     by_session[{p.sub, p.ses}].push_back(plan.size());
     plan.push_back(p);
   }

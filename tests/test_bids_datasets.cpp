@@ -226,6 +226,31 @@ saccade = '^saccade$'
   EXPECT_EQ(agreement.of(SampleLabel::saccade).reference_events, 2u);
 }
 
+// Found in a newcomer's trial: two runs of one participant and session that
+// number their trials alike (as this layout's do: 1 and 2 in each run) gave
+// tables whose rows the participant, session and trial could not tell apart,
+// so a model of them pooled two trials into one, with exit 0. The run stops
+// before anything is written; read with the run as the session, it goes.
+TEST(BidsExampleLayouts, RunsThatNumberTheirTrialsAlikeAreNamed) {
+  TempDir d;
+  write_binocular(d);
+  const std::string trials = R"(
+[trials]
+from = "events"
+trial_column = "trial_number"
+)";
+  const std::string text = binocular_protocol(trials);
+  StudyRunOptions o;
+  o.store_path = d.file("s.gzm.h5");
+  const std::string e = error_of([&] { run_study(parse_protocol_text(text, d.write("gazemill.toml", text)), o); });
+  EXPECT_NE(e.find("recordings 01_run01 and 01_run02 (participant 01) both have trial 1 (and 1 more)"), std::string::npos) << e;
+  EXPECT_FALSE(fs::exists(o.store_path));
+  std::string by_run = text;
+  by_run.insert(by_run.find("files = "), "filename_pattern = 'sub-(?<participant>[A-Za-z0-9]+)_task-[A-Za-z0-9]+(?:_run-(?<session>[A-Za-z0-9]+))?'\n");
+  const StudyRunReport r = run_study(parse_protocol_text(by_run, d.write("gazemill.toml", by_run)), o);
+  EXPECT_EQ(r.stages.at(Stage::clean), "ran");
+}
+
 // Without [screen], the sidecar's viewing distance of 60 "m" is named.
 TEST(BidsExampleLayouts, BinocularScreenInCentimetresIsNamed) {
   TempDir d;
@@ -439,6 +464,36 @@ factors = ["cond"]
 // physio files with Columns in sidecars; physio events with OnsetSource
 // "timestamp"; dataset_description.json with BIDSVersion), whose shared
 // metadata sits at the root; read back, the same samples, messages and trials.
+// Found in a newcomer's trial: participants p-01 and p01 both became
+// sub-p01 (BIDS labels are letters and digits; BIDS 1.11, "Entities"), one
+// subject of two runs, with exit 0. The export stops naming both.
+TEST(BidsExport, TwoParticipantsOfOneLabelAreNamed) {
+  TempDir d;
+  sim::SimulationConfig c;
+  c.design = sim::demo_design(4, 0);
+  c.design.participants = 2;
+  c.signal.sample_rate_hz = 250;
+  c.seed = 11;
+  sim::ExportOptions eo;
+  eo.bids = false;
+  const std::string proto = sim::simulate_to_folder(c, (d.path() / "study").string(), eo).protocol;
+  fs::rename(d.file("study/raw/p02_s1.tsv.gz"), d.file("study/raw/p-01_s1.tsv.gz"));
+  std::string text;
+  {
+    std::ifstream in(proto);
+    text.assign(std::istreambuf_iterator<char>(in), {});
+  }
+  const std::string pattern = "(?<participant>p\\d+)";
+  text.replace(text.find(pattern), pattern.size(), "(?<participant>p-?\\d+)");
+  const Protocol p = parse_protocol_text(text, d.write("study/gazemill.toml", text));
+  ingest_study(p, d.file("study/s.gzm.h5"));
+  StudyStoreReader store(d.file("study/s.gzm.h5"));
+  ASSERT_EQ(store.recording_ids(), (std::vector<std::string>{"p-01_1", "p01_1"}));
+  const std::string e = error_of([&] { write_bids_dataset(store, d.file("shared"), "reading", "a study", "test"); });
+  EXPECT_NE(e.find("participants 'p-01' and 'p01' would both be sub-p01"), std::string::npos) << e;
+  EXPECT_FALSE(fs::exists(d.file("shared")));
+}
+
 TEST(BidsExport, AStudyRoundTripsToIdenticalSamples) {
   TempDir d;
   sim::SimulationConfig c;
