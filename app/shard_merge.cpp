@@ -3,7 +3,10 @@
 #include <spdlog/spdlog.h>
 
 #include <filesystem>
+#include <algorithm>
+#include <iterator>
 #include <map>
+#include <optional>
 #include <memory>
 #include <set>
 
@@ -62,6 +65,39 @@ StudyRunReport merge_shards(const std::vector<std::string>& shards, const std::s
       }
     }
   }
+  // Every shard saw the same study: shards run when the input folder had
+  // other files would drop recordings no shard was given (found in a
+  // newcomer's trial: two participants went missing, exit 0).
+  std::optional<std::vector<std::string>> study;
+  for (std::size_t s = 0; s < readers.size(); ++s) {
+    const std::vector<std::string> saw = readers[s]->provenance().study_recordings;
+    if (saw.empty()) continue;  // a shard from before this was kept
+    if (!study) {
+      study = saw;
+      continue;
+    }
+    if (saw != *study) {
+      std::vector<std::string> only_one;
+      std::set_symmetric_difference(saw.begin(), saw.end(), study->begin(), study->end(), std::back_inserter(only_one));
+      std::string names;
+      for (std::size_t i = 0; i < only_one.size() && i < 5; ++i) names += (names.empty() ? "" : ", ") + only_one[i];
+      throw InputError({shards[s], 0, "/provenance"}, "saw other input files than " + shards.front() + " (" + std::to_string(saw.size()) + " recordings against " +
+                                                          std::to_string(study->size()) + "; not in both: " + names +
+                                                          (only_one.size() > 5 ? ", ..." : "") + "): run every shard again on the same inputs");
+    }
+  }
+  if (study && seen.size() == count) {  // (a missing shard is named below)
+    std::string lost;
+    std::size_t lost_count = 0;
+    for (const auto& id : *study) {
+      if (owner.count(id)) continue;
+      if (lost_count++ < 5) lost += (lost.empty() ? "" : ", ") + id;
+    }
+    if (lost_count) {
+      throw InputError({shards.front(), 0, "/provenance"}, std::to_string(lost_count) + " recording(s) of the study are in no shard (" + lost +
+                                                                (lost_count > 5 ? ", ..." : "") + "): run the shards again");
+    }
+  }
   if (seen.size() != count) {
     std::string missing;
     for (unsigned k = 0; k < count; ++k) {
@@ -84,6 +120,7 @@ StudyRunReport merge_shards(const std::vector<std::string>& shards, const std::s
     StudyStoreWriter w(store);
     Provenance prov = readers.front()->provenance();
     prov.shard.clear();
+    prov.study_recordings.clear();
     prov.inputs.clear();
     prov.repairs.clear();
     std::map<std::string, std::string> ingest_keys, detect_keys;

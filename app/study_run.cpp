@@ -202,6 +202,7 @@ class StudyRun {
   std::map<Stage, StageRecord> old_records_;
   std::vector<RecordingPlan> plans_;
   std::vector<std::string> removed_recordings_;
+  std::vector<std::string> study_recordings_;  // every recording the inputs give, before a shard takes its part
   std::map<std::string, RecordingOutput> fresh_;  // recordings read or detected this run (light parts)
   std::vector<InputFileRecord> inputs_;
   std::vector<RepairRecord> repairs_;
@@ -294,6 +295,7 @@ void StudyRun::plan_recordings() {
   std::map<std::string, RecordingInputs> inputs;
   if (reads_inputs) {
     for (auto& r : find_recordings(p_)) {
+      study_recordings_.push_back(r.id);  // for a shard: the merge checks that every shard saw the same study
       if (o_.shard_count && shard_of(r.id, o_.shard_count) != o_.shard_index) continue;
       inputs.emplace(r.id, std::move(r));
     }
@@ -1023,7 +1025,11 @@ StudyRunReport StudyRun::execute() {
       prov.protocol_text = p_.text;
       prov.protocol_sha256 = sha256_hex(p_.text);
       prov.created_utc = now_;
-      if (o_.shard_count) prov.shard = std::to_string(o_.shard_index) + "/" + std::to_string(o_.shard_count);
+      if (o_.shard_count) {
+        prov.shard = std::to_string(o_.shard_index) + "/" + std::to_string(o_.shard_count);
+        prov.study_recordings = study_recordings_;
+        std::sort(prov.study_recordings.begin(), prov.study_recordings.end());
+      }
       std::set<std::string> fresh_ids;
       for (const auto& f : inputs_) fresh_ids.insert(f.recording_id);
       if (old_ && o_.only != Stage::ingest) {  // recordings kept from the previous run keep their records

@@ -336,6 +336,7 @@ void StudyStoreWriter::write_provenance(const Provenance& p) {
   h5::set_attr(g, "protocol_sha256", p.protocol_sha256);
   h5::set_attr(g, "created_utc", p.created_utc);
   h5::set_attr(g, "shard", p.shard);
+  if (!p.study_recordings.empty()) h5::set_attr(g, "study_recordings", nlohmann::json(p.study_recordings).dump());
   H5::Group in = h5::create_group(g, "inputs");
   std::vector<std::string> paths, hashes, recs;
   std::vector<std::uint64_t> sizes;
@@ -613,6 +614,14 @@ Provenance StudyStoreReader::provenance() const {
   p.protocol_sha256 = h5::get_string_attr(g, "protocol_sha256");
   p.created_utc = h5::get_string_attr(g, "created_utc");
   p.shard = h5::has_attr(g, "shard") ? h5::get_string_attr(g, "shard") : "";
+  if (h5::has_attr(g, "study_recordings")) {
+    const nlohmann::json j = nlohmann::json::parse(h5::get_string_attr(g, "study_recordings"), nullptr, false);
+    if (j.is_array()) {
+      for (const auto& x : j) {
+        if (x.is_string()) p.study_recordings.push_back(x.get<std::string>());
+      }
+    }
+  }
   H5::Group in = g.openGroup("inputs");
   const auto paths = h5::read_strings(in, "path");
   const auto sizes = h5::read_column<std::uint64_t>(in, "size_bytes");

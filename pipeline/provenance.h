@@ -32,6 +32,7 @@ struct Provenance {
   std::string protocol_sha256;
   std::string created_utc;  // ISO 8601
   std::string shard;        // "K/N" for a shard of a study run on many machines; "" for a whole study
+  std::vector<std::string> study_recordings;  // a shard's: every recording of the whole study as it saw the inputs
   std::vector<InputFileRecord> inputs;
   std::vector<RepairRecord> repairs;
 };

@@ -413,6 +413,25 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
       EXPECT_NE(std::string(x.what()).find("another protocol text"), std::string::npos) << x.what();
     }
   }
+  {
+    // A shard run after a file left the input folder (found in a newcomer's
+    // trial: the recordings no shard was given went missing from the merge).
+    fs::rename(d.file("study/raw/p04_s1.tsv.gz"), d.file("p04_s1.tsv.gz"));
+    StudyRunOptions o;
+    o.store_path = d.file("late.gzm.h5");
+    o.shard_index = 2;
+    o.shard_count = 3;
+    o.until = Stage::detect;
+    run_study(parse_protocol_file(proto), o);
+    fs::rename(d.file("p04_s1.tsv.gz"), d.file("study/raw/p04_s1.tsv.gz"));
+    try {
+      merge_shards({shards[0], shards[1], o.store_path}, d.file("merged"));
+      ADD_FAILURE() << "shards of two input lists merged";
+    } catch (const InputError& x) {
+      EXPECT_NE(std::string(x.what()).find("saw other input files than"), std::string::npos) << x.what();
+      EXPECT_NE(std::string(x.what()).find("not in both: p04_1"), std::string::npos) << x.what();
+    }
+  }
   merge_shards(shards, d.file("merged"));
   const std::string merged = (fs::path(d.file("merged")) / "harbour-news.gzm.h5").string();
   for (const auto& x : compare_store_datasets(d.file("one/s.gzm.h5"), merged)) {
