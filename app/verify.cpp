@@ -54,6 +54,10 @@ bool verify_store(const std::string& store_path, std::ostream& out) {
       StudyRunOptions opt;
       opt.store_path = again;
       opt.only = r.stage;
+      if (const auto slash = prov.shard.find('/'); slash != std::string::npos) {  // a shard: its own part of the study again
+        opt.shard_index = static_cast<unsigned>(std::stoul(prov.shard.substr(0, slash)));
+        opt.shard_count = static_cast<unsigned>(std::stoul(prov.shard.substr(slash + 1)));
+      }
       run_study(protocol, opt);
     }
   } catch (const InputError& e) {

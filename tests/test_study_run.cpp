@@ -393,6 +393,10 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
     run_study(parse_protocol_file(proto), o);
     shards.push_back(o.store_path);
   }
+  for (const auto& shard : shards) {  // a shard verifies as its own part of the study (found in a newcomer's trial: as the whole)
+    std::ostringstream said;
+    EXPECT_TRUE(verify_store(shard, said)) << said.str();
+  }
   EXPECT_THROW(merge_shards({shards[0], shards[1]}, d.file("merged")), InputError);               // shard 2 missing
   EXPECT_THROW(merge_shards({shards[0], shards[1], shards[1]}, d.file("merged")), InputError);    // shard 1 twice
   {
