@@ -5,6 +5,7 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <chrono>
 #include <cerrno>
 #include <cstring>
 #include <filesystem>
@@ -20,6 +21,16 @@ namespace gazemill {
 namespace fs = std::filesystem;
 
 namespace {
+
+// A file's modification time in ns since 1970 (the file clock's own epoch is
+// the library's choice); 0 when it cannot be read.
+std::int64_t modified_ns(const fs::path& path) {
+  std::error_code ec;
+  const auto t = fs::last_write_time(path, ec);
+  if (ec) return 0;
+  return std::chrono::duration_cast<std::chrono::nanoseconds>(std::chrono::file_clock::to_sys(t).time_since_epoch()).count();
+}
+
 
 void write_file(const std::string& path, const std::string& text) {
   errno = 0;
@@ -90,7 +101,7 @@ void TableSet::commit(const std::string& manifest_json) {
   nlohmann::json written = nlohmann::json::object();
   for (const auto& f : files) {
     const fs::path path = fs::path(temp_) / f;
-    written[f] = {{"bytes", fs::file_size(path)}, {"modified_ns", fs::last_write_time(path).time_since_epoch().count()}};
+    written[f] = {{"bytes", fs::file_size(path)}, {"modified_ns", modified_ns(path)}};
   }
   manifest["written"] = written;
   write_file((fs::path(temp_) / kManifestName).string(), manifest.dump(2) + "\n");
@@ -153,9 +164,7 @@ bool table_set_intact(const std::string& folder) {
     std::error_code ec;
     const auto bytes = fs::file_size(path, ec);
     if (ec) return false;
-    const auto modified = fs::last_write_time(path, ec);
-    if (ec || !w.is_object() || w.value("bytes", std::uintmax_t{0}) != bytes ||
-        w.value("modified_ns", std::int64_t{0}) != static_cast<std::int64_t>(modified.time_since_epoch().count())) {
+    if (!w.is_object() || w.value("bytes", std::uintmax_t{0}) != bytes || w.value("modified_ns", std::int64_t{0}) != modified_ns(path)) {
       return false;
     }
   }
