@@ -240,6 +240,17 @@ void StudyRun::open_previous() {
   // The hint names the store unless it is the one the stage commands take by
   // default: run as printed, it must mend this store, not another.
   const bool default_store = fs::absolute(o_.store_path).lexically_normal().string() == default_store_path(p_);
+  // A store made from another protocol file is likelier a wrong -s than one
+  // to mend: the hint would replace another study's results (found in a
+  // newcomer's trial). Said, not hinted.
+  if (old_ && needed == Stage::ingest) {  // the hint would ingest it anew: every result of it replaced
+    const std::string made_from = old_->provenance().protocol_path;
+    if (!made_from.empty() && made_from != fs::absolute(p_.path).lexically_normal().string()) {
+      throw InputError({o_.store_path, 0, ""}, why + "; the store was made from " + made_from + ", not " + p_.path +
+                                                   ": is it the store you meant? (Running this protocol's stages on it would replace that "
+                                                   "study's results; `gazemill run " + p_.path + "` writes this protocol's own.)");
+    }
+  }
   const std::string store = default_store ? "" : (needed == Stage::ingest ? " -o " : " -s ") + o_.store_path;
   throw InputError({o_.store_path, 0, ""}, why + "; run `gazemill " + stage_command(needed) + " " + p_.path + store + "` first" +
                                                (default_store ? " (or `gazemill run " + p_.path + "`, which redoes what changed)" : ""));

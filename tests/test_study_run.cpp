@@ -122,6 +122,18 @@ TEST(StudyRun, MeasureCannotUseCleaningMadeFromOlderEvents) {
   }
   // The first protocol's [detection] is no longer what the events were made with either.
   EXPECT_THROW(run_stage(parse_protocol_file(proto), store, Stage::clean), InputError);
+  // Another study's protocol (other [screen]) on this store: no hint to ingest
+  // it anew, which would replace this study's results (found in a newcomer's trial).
+  std::string other_text = read_text(proto);
+  other_text.replace(other_text.find("viewing_distance_mm = "), 22, "viewing_distance_mm = 6");
+  const std::string other = d.write("study/other.toml", other_text);
+  try {
+    run_stage(parse_protocol_file(other), store, Stage::measure);
+    FAIL() << "measure ran on another study's store";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("the store was made from " + fs::absolute(proto).lexically_normal().string()), std::string::npos) << e.what();
+    EXPECT_EQ(std::string(e.what()).find("gazemill ingest"), std::string::npos) << e.what();
+  }
   // Cleaning again makes align and measure stale in turn.
   run_stage(p, store, Stage::clean);
   StudyStoreReader s(store);
