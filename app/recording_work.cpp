@@ -279,7 +279,7 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     const double implied_hz = 1e6 / result.median_interval_us;
     if (implied_hz < kLeastTrackerRateHz || implied_hz > kMostTrackerRateHz) {
       const std::string unit = bids_input ? to_string(in.bids->eyes.front().sidecar.timestamp_unit) : to_string(protocol.input.table.time_unit);
-      throw InputError({bids_input ? in.bids->eyes.front().physio_json : in.sample_file, 0, bids_input ? "timestamp.Units" : "input.table.time_unit"},
+      throw InputError({bids_input ? in.bids->eyes.front().physio_sidecar.file_of("timestamp") : in.sample_file, 0, bids_input ? "timestamp.Units" : "input.table.time_unit"},
                        "the samples are a median " + format_number(result.median_interval_us / 1000.0) + " ms apart with times read in " +
                            unit + ", which is " + format_number(implied_hz) + " Hz; eye trackers sample at " +
                            format_number(kLeastTrackerRateHz) + " to " + format_number(kMostTrackerRateHz) + " Hz. Is " + unit +
@@ -293,7 +293,7 @@ RecordingOutput ingest_recording(const RecordingInputs& in, const Protocol& prot
     const bool in_protocol = protocol.input.sample_rate_hz > 0;
     const double stated_hz = in_protocol ? protocol.input.sample_rate_hz : bids_input ? rec.sample_rate_hz : 0.0;
     if (stated_hz > 0 && (implied_hz < 0.9 * stated_hz || implied_hz > 1.1 * stated_hz)) {
-      throw InputError({in_protocol ? protocol.path : in.bids->eyes.front().physio_json, in_protocol ? protocol.input.sample_rate_line : 0,
+      throw InputError({in_protocol ? protocol.path : in.bids->eyes.front().physio_sidecar.file_of("SamplingFrequency"), in_protocol ? protocol.input.sample_rate_line : 0,
                         in_protocol ? "input.sample_rate_hz" : "SamplingFrequency"},
                        "states " + format_number(stated_hz) + " Hz, but the samples of " + in.sample_file + " are a median " +
                            format_number(result.median_interval_us / 1000.0) + " ms apart, which is " + format_number(implied_hz) +

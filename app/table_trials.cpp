@@ -188,7 +188,11 @@ std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& 
   }
   std::optional<NamedRegex> selector;
   if (!spec.trial_type_pattern.empty()) selector.emplace(spec.trial_type_pattern);
-  std::set<std::string> not_variables = {clock.start_column, end_column, duration_column, spec.trial_column, ""};
+  // A column named "trial" is the trials' ids unless trial_column names
+  // another (found in a newcomer's trial: read as a variable too, it gave
+  // every table a second "trial" column).
+  const std::string trial_column = !spec.trial_column.empty() ? spec.trial_column : table.has("trial") ? std::string("trial") : std::string();
+  std::set<std::string> not_variables = {clock.start_column, end_column, duration_column, trial_column, ""};
 
   // The rows that are trials, with their starts.
   std::vector<std::size_t> rows;
@@ -240,14 +244,14 @@ std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& 
                                       " on the recording's clock, lies outside its samples (" + format_seconds(samples.first_us) +
                                       " to " + format_seconds(samples.last_us) + "): " + clock.hint);
     }
-    if (!spec.trial_column.empty()) {
-      if (table.missing(r, spec.trial_column, absent)) fail(r, spec.trial_column, "a trial needs its id; found none");
-      t.id = table.text(r, spec.trial_column);
+    if (!trial_column.empty()) {
+      if (table.missing(r, trial_column, absent)) fail(r, trial_column, "a trial needs its id; found none");
+      t.id = table.text(r, trial_column);
     } else {
       t.id = std::to_string(k + 1);
     }
     if (!ids.insert(t.id).second) {
-      fail(r, spec.trial_column, "trial id '" + t.id + "' appears more than once; trial ids must be unique within a recording");
+      fail(r, trial_column, "trial id '" + t.id + "' appears more than once; trial ids must be unique within a recording");
     }
     for (const auto& column : table.columns()) {
       if (not_variables.count(column) || table.missing(r, column, absent)) continue;

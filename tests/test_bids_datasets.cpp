@@ -165,6 +165,74 @@ time_unit = "ms"
   EXPECT_EQ(sidecars, 3u);
 }
 
+// A SamplingFrequency the timestamps contradict is named in the file that
+// gave it (BIDS 1.11, The Inheritance Principle), not the lowest sidecar
+// (found in a newcomer's trial: the error named a file without the key).
+TEST(BidsInheritance, AContradictedRateNamesTheFileThatGaveIt) {
+  TempDir d;
+  d.write("dataset_description.json", R"({"Name": "t", "BIDSVersion": "1.11.0"})");
+  const std::string root = d.write("task-read_physio.json", R"({"PhysioType": "eyetrack", "SamplingFrequency": 500,
+    "Columns": ["timestamp", "x_coordinate", "y_coordinate", "pupil_size"], "timestamp": {"Units": "ms"},
+    "x_coordinate": {"Units": "pixel"}, "y_coordinate": {"Units": "pixel"}, "SampleCoordinateSystem": "gaze-on-screen"})");
+  d.write("sub-01/beh/sub-01_task-read_recording-eye1_physio.json", R"({"StartTime": 0, "RecordedEye": "left"})");
+  d.write_gz("sub-01/beh/sub-01_task-read_recording-eye1_physio.tsv.gz", samples_ms(1000, 100));  // 1 ms apart: 1000 Hz
+  const std::string text = R"([input]
+format = "bids"
+files = ["sub-*/beh/*_physio.tsv.gz"]
+)" + std::string(kScreenSection) + R"(
+[trials]
+from = "table"
+table = "{dir}/trials.tsv"
+start_column = "start"
+end_column = "end"
+time_unit = "ms"
+)";
+  d.write("sub-01/beh/trials.tsv", "start\tend\n1000\t1050\n");
+  const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+  try {
+    ingest_study(p, d.file("s.gzm.h5"));
+    FAIL() << "a contradicted rate was taken";
+  } catch (const InputError& e) {
+    EXPECT_EQ(e.where().file, root) << e.what();
+    EXPECT_EQ(e.where().field, "SamplingFrequency");
+    EXPECT_NE(std::string(e.what()).find("states 500 Hz"), std::string::npos) << e.what();
+  }
+}
+
+// A trial table's column named "trial" gives the trials' ids when
+// trial_column names none (as export --bids writes its events files); read
+// as a variable as well, it gave every table two "trial" columns (found in a
+// newcomer's trial). Our design, no source.
+TEST(BidsInheritance, ATrialColumnGivesTheIds) {
+  TempDir d;
+  d.write("dataset_description.json", R"({"Name": "t", "BIDSVersion": "1.11.0"})");
+  d.write("task-read_physio.json", R"({"PhysioType": "eyetrack", "SamplingFrequency": 1000,
+    "Columns": ["timestamp", "x_coordinate", "y_coordinate", "pupil_size"], "timestamp": {"Units": "ms"},
+    "x_coordinate": {"Units": "pixel"}, "y_coordinate": {"Units": "pixel"}, "SampleCoordinateSystem": "gaze-on-screen"})");
+  d.write("sub-01/beh/sub-01_task-read_recording-eye1_physio.json", R"({"StartTime": 0, "RecordedEye": "left"})");
+  d.write_gz("sub-01/beh/sub-01_task-read_recording-eye1_physio.tsv.gz", samples_ms(1000, 100));
+  const std::string text = R"([input]
+format = "bids"
+files = ["sub-*/beh/*_physio.tsv.gz"]
+)" + std::string(kScreenSection) + R"(
+[trials]
+from = "table"
+table = "{dir}/trials.tsv"
+start_column = "start"
+end_column = "end"
+time_unit = "ms"
+)";
+  d.write("sub-01/beh/trials.tsv", "start\tend\ttrial\tsentence\n1000\t1040\t7\ts1\n1050\t1090\t9\ts2\n");
+  const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+  ingest_study(p, d.file("s.gzm.h5"));
+  const Recording r = StudyStoreReader(d.file("s.gzm.h5")).read_recording("01", false);
+  ASSERT_EQ(r.trials.size(), 2u);
+  EXPECT_EQ(r.trials[0].id, "7");
+  EXPECT_EQ(r.trials[1].id, "9");
+  EXPECT_EQ(r.trials[0].variables.count("trial"), 0u);
+  EXPECT_EQ(r.trials[0].variable("sentence"), "s1");
+}
+
 // BIDS 1.11, The Inheritance Principle: no more than one applicable file per level.
 TEST(BidsInheritance, TwoApplicableSidecarsAtOneLevelAreNamed) {
   TempDir d;
