@@ -269,8 +269,10 @@ void register_commands(CLI::App& app, CommandOptions& o) {
 
   auto* exp = app.add_subcommand("export", "Write a store's tables: fixations, saccades and blinks, the audit and the measures");
   exp->add_option("store", o.store_argument, "Study store (.gzm.h5)")->required();
-  exp->add_option("-o,--output", o.output, "Folder for the tables (default: <store name>-tables beside the store)");
-  exp->add_option("--bids", o.bids_folder, "Write the raw samples and detected events as a BIDS eye-tracking dataset into this new folder");
+  auto* tables_out = exp->add_option("-o,--output", o.output, "Folder for the tables (default: <store name>-tables beside the store)");
+  // Either the tables or a BIDS dataset: -o beside --bids was ignored without a word.
+  exp->add_option("--bids", o.bids_folder, "Write the raw samples and detected events as a BIDS eye-tracking dataset into this new folder")
+      ->excludes(tables_out);
   exp->add_option("--task", o.bids_task, "The BIDS task label (letters and digits; default: the study's name, else \"reading\")");
 
   auto* inspect = app.add_subcommand("inspect", "Show the recordings, trials, data loss and each stage's state in a study store");
