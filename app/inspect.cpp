@@ -18,6 +18,9 @@ void print_store_overview(const std::string& store_path, std::ostream& out) {
       << "created    " << prov.created_utc << " by gazemill " << prov.tool_version << '\n'
       << "protocol   " << prov.protocol_path << " (sha256 " << prov.protocol_sha256.substr(0, 12) << "…)\n"
       << "inputs     " << prov.inputs.size() << " files\n";
+  if (!prov.shard.empty()) {
+    out << "shard      " << prov.shard << " of a study of " << prov.study_recordings.size() << " recordings (gazemill merge joins the shards)\n";
+  }
   out << "stages\n";
   std::optional<StageRecord> before;
   for (Stage s : kStages) {
