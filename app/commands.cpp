@@ -222,7 +222,14 @@ void register_commands(CLI::App& app, CommandOptions& o) {
   run->add_option("-o,--output", o.output, "Folder for the store, the tables and the run summary (default: <study>-output beside the protocol)");
   add_run_options(run, o);
   run->add_flag("--no-report", o.no_report, "Write no report.html (gazemill report writes one later)");
-  run->add_option("--shard", o.shard, "Only shard K of N of the recordings (K from 0), for a cluster; then gazemill merge");
+  run->add_option("--shard", o.shard, "Only shard K of N of the recordings (K from 0), for a cluster; then gazemill merge")
+      ->check([](const std::string& v) -> std::string {  // a usage mistake: exit 2, as for any other option
+        const auto slash = v.find('/');
+        const auto whole = [](const std::string& t) { return !t.empty() && t.size() < 10 && t.find_first_not_of("0123456789") == std::string::npos; };
+        if (slash == std::string::npos || !whole(v.substr(0, slash)) || !whole(v.substr(slash + 1))) return "expected K/N, shard K (from 0) of N, e.g. 0/4";
+        const unsigned long k = std::stoul(v.substr(0, slash)), n = std::stoul(v.substr(slash + 1));
+        return n == 0 || k >= n ? "K/N needs 0 <= K < N" : "";
+      });
 
   auto* merge = app.add_subcommand("merge", "Join the shard stores of a study run on many machines, and finish the study");
   merge->add_option("output", o.output, "Folder for the joined store, the tables and the run summary")->required();
