@@ -16,10 +16,12 @@
 namespace gazemill {
 
 class StudyStoreReader;
-class WarningSink;
+struct WarningCapture;
 
 /// While it lives, every warning logged through the default logger is also
-/// kept here: from any thread, or only from the thread that made it.
+/// kept here: from any thread, or only from the thread that made it. The
+/// first one (or set_terminal_level) adds a sink to the default logger: let
+/// that happen before other threads log.
 class CapturedWarnings {
  public:
   enum class From { any_thread, this_thread };
@@ -31,7 +33,7 @@ class CapturedWarnings {
   std::vector<std::string> take();
 
  private:
-  std::shared_ptr<WarningSink> sink_;
+  std::unique_ptr<WarningCapture> capture_;
 };
 
 /// The warnings kept with the current results of a store, stage by stage in
