@@ -33,32 +33,33 @@ void check_regex(TomlSection& s, const std::string& key, const std::string& patt
 }
 
 // The file name gives the participant and the session; any other name it
-// captures is for the message file's path. A name nothing reads is a
-// misspelling: without `participant` every file would be a participant of
-// its own, and the participant rules would judge sessions one by one.
-void check_filename_captures(TomlSection& in, const InputSpec& spec) {
-  const NamedRegex re(spec.filename_pattern);
+// captures is for a file's path ({name} in input.messages.file or
+// trials.table). A name nothing reads is a misspelling; a session without
+// the participant leaves the participant to be the whole file name, session
+// and all: every file a participant of its own, the participant rules
+// judging sessions one by one.
+void check_filename_captures(const Protocol& p) {
+  if (!p.input.filename_pattern_line) return;  // BIDS's own pattern
+  const NamedRegex re(p.input.filename_pattern);
   std::vector<std::string> read = {"participant", "session"};
-  if (spec.message_file) {
-    const std::string& t = spec.message_file->path_template;
+  auto names_in = [&read](const std::string& t) {
     for (std::size_t open = t.find('{'); open != std::string::npos; open = t.find('{', open + 1)) {
       const auto close = t.find('}', open);
       if (close != std::string::npos) read.push_back(t.substr(open + 1, close - open - 1));
     }
-  }
-  auto hint = [&](const std::string& name) {
-    const std::string meant = likely_meant(name, read);
-    return meant.empty() ? std::string() : "; did you mean " + meant + "?";
   };
+  if (p.input.message_file) names_in(p.input.message_file->path_template);
+  names_in(p.trials.table_template);
+  const InputLocation where{p.path, p.input.filename_pattern_line, "input.filename_pattern"};
   for (const auto& name : re.names()) {
-    if (std::find(read.begin(), read.end(), name) == read.end()) {
-      in.fail("filename_pattern", "captures '" + name + "', which nothing reads: the file name gives participant and session" +
-                                      (spec.message_file ? " and the {names} of input.messages.file" : "") + hint(name));
-    }
+    if (std::find(read.begin(), read.end(), name) != read.end()) continue;
+    const std::string meant = likely_meant(name, read);
+    throw InputError(where, "captures '" + name + "', which nothing reads: the file name gives participant and session, and the {names} "
+                            "of input.messages.file and trials.table" + (meant.empty() ? std::string() : "; did you mean " + meant + "?"));
   }
   const auto& names = re.names();
-  if (std::find(names.begin(), names.end(), "participant") == names.end()) {
-    in.fail("filename_pattern", "captures no participant: name the group that holds it (?<participant>...), or every file would be a participant of its own");
+  if (std::find(names.begin(), names.end(), "session") != names.end() && std::find(names.begin(), names.end(), "participant") == names.end()) {
+    throw InputError(where, "captures a session but no participant: name the group that holds it (?<participant>...), or every file would be a participant of its own");
   }
 }
 
@@ -237,7 +238,6 @@ void parse_input(TomlSection& in, Protocol& p) {
     }
     spec.message_file = ms;
   }
-  if (spec.filename_pattern_line) check_filename_captures(in, spec);
 
   if (auto b = in.table("bids")) {
     if (spec.format != InputFormat::bids) b->fail("timestamp_column", "[input.bids] is for format = \"bids\"");
@@ -697,6 +697,7 @@ Protocol parse_protocol_text(const std::string& text, const std::string& path) {
   auto trials = top.table("trials");
   if (!trials) throw InputError({path, 0, "trials"}, "required section [trials] is missing (start and end message patterns)");
   parse_trials(*trials, p);
+  check_filename_captures(p);
   if (p.input.format == InputFormat::fixations && p.trials.table_times_from_first_sample) {
     throw InputError({path, trials->line_of("time_origin"), "trials.time_origin"},
                      "a fixation list has no samples to count from: give the trial table's times on the list's own clock (time_origin = \"clock\")");

@@ -162,19 +162,23 @@ TEST(ProtocolParser, MessagesFileTakesItsOwnTimeUnit) {
 TEST(ProtocolParser, FilenameCapturesAreReadOrNamed) {
   const std::string pattern = "filename_pattern = 'p(?<participant>\\d+)'";
   expect_error_at(replace(kProtocol, pattern, "filename_pattern = 'p(?<participnt>\\d+)_s(?<session>\\d+)'"), 7, "input.filename_pattern",
-                  "captures 'participnt', which nothing reads: the file name gives participant and session; did you mean participant?");
+                  "captures 'participnt', which nothing reads: the file name gives participant and session, and the {names} of "
+                  "input.messages.file and trials.table; did you mean participant?");
   expect_error_at(replace(kProtocol, pattern, "filename_pattern = 'p(?<participant>\\d+)_s(?<sesion>\\d+)'"), 7, "input.filename_pattern",
                   "did you mean session?");
   expect_error_at(replace(kProtocol, pattern, "filename_pattern = '_s(?<session>\\d+)'"), 7, "input.filename_pattern",
-                  "captures no participant");
+                  "captures a session but no participant");
   // A name the message file's path uses is read.
   const std::string with_file = replace(replace(kProtocol, "message_column = \"note\"\n", ""), "[input.repairs]",
                                         "[input.messages]\nfile = 'logs/{lab}-{participant}.msg'\ntime_column = 't'\ntext_column = 'text'\n\n"
                                         "[input.repairs]");
   EXPECT_NO_THROW(parse_protocol_text(replace(with_file, pattern, "filename_pattern = '(?<lab>[a-z]+)-p(?<participant>\\d+)'"), "study.toml"));
   expect_error_at(replace(with_file, pattern, "filename_pattern = '(?<labs>[a-z]+)-p(?<participant>\\d+)'"), 7, "input.filename_pattern",
-                  "captures 'labs', which nothing reads: the file name gives participant and session and the {names} of input.messages.file; "
                   "did you mean lab?");
+  // ... and a name the trial table's path uses (a second read found these refused).
+  const std::string with_table = replace(replace(kProtocol, "start = '^GO (?<trial>\\d+)'\nend = '^STOP'\n", "from = \"table\"\ntable = '{dir}/{participant}_{block}.csv'\nstart_column = \"start\"\nend_column = \"end\"\n"),
+                                         "variables = ['cond=(?<condition>\\w+)']\n", "");
+  EXPECT_NO_THROW(parse_protocol_text(replace(with_table, pattern, "filename_pattern = 'p(?<participant>\\d+)_(?<block>b\\d)'"), "study.toml"));
 }
 
 // Issue 20: the off-screen margin and the status column (common practice, no source).
