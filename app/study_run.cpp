@@ -1027,6 +1027,17 @@ StudyRunReport StudyRun::execute() {
     }
   }
 
+  // A shard keeps the study's recording list for the merge to compare: kept
+  // up to date even when none of its own recordings changed (a second read
+  // found a merge refusing shards that were current).
+  std::vector<std::string> study_list = study_recordings_;
+  std::sort(study_list.begin(), study_list.end());
+  const bool shard_list_changed = o_.shard_count && old_ && !ran_[Stage::ingest] && old_->provenance().study_recordings != study_list;
+  if (shard_list_changed) {
+    Provenance prov = old_->provenance();
+    prov.study_recordings = study_list;
+    writer().write_provenance(prov);
+  }
   if (out) {
     // Records of the recording stages, and what is stale now.
     if (ran_[Stage::ingest]) {
@@ -1038,8 +1049,7 @@ StudyRunReport StudyRun::execute() {
       prov.created_utc = now_;
       if (o_.shard_count) {
         prov.shard = std::to_string(o_.shard_index) + "/" + std::to_string(o_.shard_count);
-        prov.study_recordings = study_recordings_;
-        std::sort(prov.study_recordings.begin(), prov.study_recordings.end());
+        prov.study_recordings = study_list;
       }
       std::set<std::string> fresh_ids;
       for (const auto& f : inputs_) fresh_ids.insert(f.recording_id);

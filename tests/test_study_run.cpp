@@ -458,6 +458,21 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
   for (const char* t : {"measures_wide.tsv", "audit.tsv", "fixations.tsv", "alignment_trials.tsv"}) {
     EXPECT_EQ(read_text(d.file(std::string("one/tables/") + t)), read_text(d.file(std::string("merged/tables/") + t))) << t;
   }
+  // A recording added, every shard run again: the shards it did not fall to
+  // keep their recordings but learn the new list, so the merge takes them
+  // (a second read found it refusing shards that were current).
+  std::string samples = read_gz(d.file("study/raw/p02_s1.tsv.gz"));
+  samples.insert(samples.find('\n') + 1, "1000000\t\t\t\tcalibration checked\n");
+  d.write_gz("study/raw/p05_s1.tsv.gz", samples);
+  for (unsigned k = 0; k < 3; ++k) {
+    StudyRunOptions o;
+    o.store_path = shards[k];
+    o.shard_index = k;
+    o.shard_count = 3;
+    o.until = Stage::detect;
+    run_study(parse_protocol_file(proto), o);
+  }
+  EXPECT_EQ(merge_shards(shards, d.file("merged-again")).recordings, 5u);
 }
 
 // Issue 20's new ingest settings are in the ingest key: changing one reads
