@@ -21,6 +21,9 @@ std::string trial_table_settings_json(const TrialSegmentationSpec& s) {
   nlohmann::json j = {{"from", from[static_cast<int>(s.source)]},
                       {"trial_type", s.trial_type_pattern},
                       {"trial_column", s.trial_column},
+                      // How a column named "trial" is read (ids when unique, else "trial_in_table"):
+                      // stores read before it was so are read again.
+                      {"trial_column_default", "trial when unique"},
                       {"columns", s.columns},
                       {"span", s.until_next ? "next" : "duration"}};
   if (s.source == TrialSource::table) {

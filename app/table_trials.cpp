@@ -188,11 +188,7 @@ std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& 
   }
   std::optional<NamedRegex> selector;
   if (!spec.trial_type_pattern.empty()) selector.emplace(spec.trial_type_pattern);
-  // A column named "trial" is the trials' ids unless trial_column names
-  // another (found in a newcomer's trial: read as a variable too, it gave
-  // every table a second "trial" column).
-  const std::string trial_column = !spec.trial_column.empty() ? spec.trial_column : table.has("trial") ? std::string("trial") : std::string();
-  std::set<std::string> not_variables = {clock.start_column, end_column, duration_column, trial_column, ""};
+  std::string trial_column = spec.trial_column;
 
   // The rows that are trials, with their starts.
   std::vector<std::size_t> rows;
@@ -217,6 +213,21 @@ std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& 
                      table.rows() == 0 ? "no trial: the table has no rows"
                                        : "no trial: no row's trial_type matches trials.trial_type '" + spec.trial_type_pattern + "'");
   }
+
+  // A column named "trial" is the trials' ids when trial_column names none
+  // and every trial has a value of its own there; else the trials are
+  // numbered and the column is the variable "trial_in_table". Either way no
+  // second "trial" column reaches the tables (found in a newcomer's trial).
+  std::string trial_variable = "trial";
+  if (trial_column.empty() && table.has("trial")) {
+    std::set<std::string> seen;
+    const bool ids_there = std::all_of(rows.begin(), rows.end(), [&](std::size_t r) {
+      return !table.missing(r, "trial", absent) && seen.insert(table.text(r, "trial")).second;
+    });
+    if (ids_there) trial_column = "trial";
+    else trial_variable = "trial_in_table";
+  }
+  const std::set<std::string> not_variables = {clock.start_column, end_column, duration_column, trial_column, ""};
 
   std::vector<Trial> trials;
   std::set<std::string> ids;
@@ -255,7 +266,7 @@ std::vector<Trial> trials_from_table(const RecordingInputs& in, const Protocol& 
     }
     for (const auto& column : table.columns()) {
       if (not_variables.count(column) || table.missing(r, column, absent)) continue;
-      t.variables[column] = table.text(r, column);
+      t.variables[column == "trial" ? trial_variable : column] = table.text(r, column);
     }
     trials.push_back(std::move(t));
   }

@@ -231,6 +231,14 @@ time_unit = "ms"
   EXPECT_EQ(r.trials[1].id, "9");
   EXPECT_EQ(r.trials[0].variables.count("trial"), 0u);
   EXPECT_EQ(r.trials[0].variable("sentence"), "s1");
+  // A "trial" column that does not tell the trials apart (a counter per block): numbered, the column kept under another name.
+  d.write("sub-01/beh/trials.tsv", "start\tend\ttrial\tsentence\n1000\t1040\t1\ts1\n1050\t1090\t1\ts2\n");
+  ingest_study(p, d.file("t.gzm.h5"));
+  const Recording q = StudyStoreReader(d.file("t.gzm.h5")).read_recording("01", false);
+  ASSERT_EQ(q.trials.size(), 2u);
+  EXPECT_EQ(q.trials[1].id, "2");
+  EXPECT_EQ(q.trials[1].variable("trial_in_table"), "1");
+  EXPECT_EQ(q.trials[1].variables.count("trial"), 0u);
 }
 
 // BIDS 1.11, The Inheritance Principle: no more than one applicable file per level.
