@@ -41,6 +41,11 @@ std::vector<std::string> set_aside_stale_outputs(const std::string& store_path, 
     const fs::path named = manifest.value("store", "");
     if (named != store && !(folder == run_tables && named.filename() == store.filename())) continue;
     if (!reader) reader.emplace(store.string());
+    if (named != store) {  // a copy's tables read the same recordings: the same ingest
+      const auto ingest = reader->stage_record(Stage::ingest);
+      const auto key = manifest["stages"].find("ingest");
+      if (!ingest || key == manifest["stages"].end() || !key->is_string() || key->get<std::string>() != ingest->key) continue;
+    }
     bool stale = false;
     for (Stage s : kStages) {
       const auto key = manifest["stages"].find(to_string(s));

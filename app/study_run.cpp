@@ -878,8 +878,8 @@ void check_trial_keys_unique(const Protocol& p, const std::vector<RecordingEvent
                          (r.meta.session.empty() ? "" : ", session " + r.meta.session) + ") both have trial " + first +
                          (shared > 1 ? " (and " + std::to_string(shared - 1) + " more)" : "") +
                          ": the tables tell rows apart by participant, session and trial, so theirs would be pooled. Number the trials "
-                         "across the runs, or read the run as the session: filename_pattern = "
-                         "'sub-(?<participant>[A-Za-z0-9]+)(?:_ses-[A-Za-z0-9]+)?_task-[A-Za-z0-9]+(?:_run-(?<session>[A-Za-z0-9]+))?'");
+                         "across the runs, or read the run into the session, e.g. filename_pattern = "
+                         "'sub-(?<participant>[A-Za-z0-9]+)_(?<session>(?:ses-[A-Za-z0-9]+_)?task-[A-Za-z0-9]+(?:_acq-[A-Za-z0-9]+)?(?:_run-[A-Za-z0-9]+)?)'");
   }
 }
 
