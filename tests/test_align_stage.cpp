@@ -168,6 +168,10 @@ TEST(AlignStage, AReviewRowIsForOneSession) {
   EXPECT_NE(no_session.second.find("has no session 3; its sessions are 1, 2"), std::string::npos) << no_session.second;
   const auto twice = error_of("participant\tsession\ttrial\tdecision\tvalue\treason\np01\t2\t3\texclude\t\tx\np01\t\t3\taccept\t\ty\n");
   EXPECT_NE(twice.second.find("has a trial 3 in sessions 1 and 2"), std::string::npos) << twice.second;
+  // One trial named with and without its session: the same trial twice.
+  const auto same = error_of("participant\tsession\ttrial\tdecision\tvalue\treason\np03\t\t3\texclude\t\tx\np03\t1\t3\taccept\t\ty\n");
+  EXPECT_EQ(same.first, 3u);
+  EXPECT_NE(same.second.find("participant p03, trial 3 of session 1 is reviewed twice (also on line 2)"), std::string::npos) << same.second;
   EXPECT_EQ(error_of("participant\tsession\ttrial\tdecision\tvalue\treason\np01\t2\t3\texclude\t\tbad calibration\n").first, 0u);
   const auto alignment = read_alignment(StudyStoreReader(o.store_path));
   std::size_t excluded = 0;

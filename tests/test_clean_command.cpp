@@ -277,7 +277,8 @@ TEST(CleanByParticipant, SessionsApartKeepTheStudysIds) {
   }
   Protocol p;
   p.path = "gazemill.toml";
-  p.cleaning = {{"short", "delete_short_fixations", {{"min_duration_ms", 80}}, {}, 0, {}},
+  p.cleaning = {{"merge", "merge_short_fixations", {{"max_duration_ms", 60}, {"max_distance_deg", 1}, {"max_gap_ms", 300}}, {}, 0, {}},
+                {"short", "delete_short_fixations", {{"min_duration_ms", 80}}, {}, 0, {}},
                 {"loss", "exclude_trials_with_data_loss", {{"max_missing_percent", 20}}, {}, 0, {}},
                 {"lost", "exclude_participants_by_trial_loss", {{"max_excluded_percent", 20}}, {}, 0, {}}};
   const CleaningOutcome whole = clean_events(p, recordings);
@@ -303,6 +304,9 @@ TEST(CleanByParticipant, SessionsApartKeepTheStudysIds) {
   EXPECT_EQ(kept_parts, kept_whole);
   EXPECT_EQ(removals, whole.fixation_removals);
   EXPECT_FALSE(removals.empty());
+  std::size_t merged = 0;
+  for (const auto& [id, why] : whole.fixation_removals) merged += why.first == 0;
+  EXPECT_GT(merged, 0u) << "the merge rule joined some fixations";
   for (const auto& [group, t] : whole.report.totals) {
     EXPECT_EQ(audit.totals.at(group).input, t.input);
     EXPECT_EQ(audit.totals.at(group).kept, t.kept);
