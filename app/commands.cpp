@@ -110,6 +110,28 @@ std::string refresh_report(const std::string& store_path, const std::string& fol
   return html;
 }
 
+// OUTDIR/run-summary.json: what a run (or a merge) did and where its outputs are.
+void write_run_summary(const std::string& summary_path, const StudyRunReport& r, const std::string& store_path, const std::string& tables_folder,
+                       const std::string& report_path, const std::string& timing) {
+  nlohmann::json summary;
+  summary["store"] = fs::absolute(store_path).lexically_normal().string();
+  summary["tables"] = fs::absolute(tables_folder).lexically_normal().string();
+  if (!report_path.empty()) summary["report"] = fs::absolute(report_path).lexically_normal().string();
+  for (const auto& [stage, what] : r.stages) summary["stages"][to_string(stage)] = what;
+  summary["recordings"] = r.recordings;
+  summary["recordings_read"] = r.recordings_read;
+  summary["recordings_detected"] = r.recordings_detected;
+  summary["recordings_removed"] = r.recordings_removed;
+  summary["samples_read"] = r.samples;
+  summary["fixations_detected"] = r.fixations;
+  // What the stages warned of when they made the results now in the store (this run's or reused).
+  summary["warnings"] = nlohmann::json::array();
+  for (const auto& [stage, w] : kept_warnings(StudyStoreReader(store_path))) summary["warnings"].push_back(std::string(to_string(stage)) + ": " + w);
+  summary["timing"] = timing;
+  remove_leftover_temporaries(summary_path);  // a killed run's
+  write_file_atomically(summary_path, summary.dump(2) + "\n");
+}
+
 int run_stage(const CommandOptions& o, std::optional<Stage> only) {
   const RunClock clock;
   const Protocol protocol = parse_protocol_file(o.protocol_path);
@@ -186,23 +208,7 @@ int run_stage(const CommandOptions& o, std::optional<Stage> only) {
     // Its counts are of the run that made the outputs; this one read and detected nothing.
     spdlog::info("nothing changed: {} still describes the outputs", summary_path);
   } else if (!only && o.shard.empty()) {
-    nlohmann::json summary;
-    summary["store"] = fs::absolute(opt.store_path).lexically_normal().string();
-    summary["tables"] = fs::absolute(opt.tables_folder).lexically_normal().string();
-    if (!report_path.empty()) summary["report"] = fs::absolute(report_path).lexically_normal().string();
-    for (const auto& [stage, what] : r.stages) summary["stages"][to_string(stage)] = what;
-    summary["recordings"] = r.recordings;
-    summary["recordings_read"] = r.recordings_read;
-    summary["recordings_detected"] = r.recordings_detected;
-    summary["recordings_removed"] = r.recordings_removed;
-    summary["samples_read"] = r.samples;
-    summary["fixations_detected"] = r.fixations;
-    // What the stages warned of when they made the results now in the store (this run's or reused).
-    summary["warnings"] = nlohmann::json::array();
-    for (const auto& [stage, w] : kept_warnings(StudyStoreReader(opt.store_path))) summary["warnings"].push_back(std::string(to_string(stage)) + ": " + w);
-    summary["timing"] = timing;
-    remove_leftover_temporaries(summary_path);  // a killed run's
-    write_file_atomically(summary_path, summary.dump(2) + "\n");
+    write_run_summary(summary_path, r, opt.store_path, opt.tables_folder, report_path, timing);
   }
   spdlog::info("{}: {}", only ? to_string(*only) : "run", timing);
   return 0;
@@ -292,7 +298,8 @@ int run_selected_command(const CLI::App& app, const CommandOptions& o) {
     const RunClock clock;
     const StudyRunReport r = merge_shards(o.shards, o.output);
     log_counts(r);
-    if (!o.no_report) refresh_report(r.store_path, o.output, true);  // merge always writes its store
+    const std::string report = o.no_report ? std::string() : refresh_report(r.store_path, o.output, true);  // merge always writes its store
+    write_run_summary((fs::path(o.output) / "run-summary.json").string(), r, r.store_path, r.tables_folder, report, clock.summary());
     spdlog::info("merge: {}, {}", stage_summary(r), clock.summary());
     return 0;
   }
