@@ -82,14 +82,6 @@ void log_counts(const StudyRunReport& r) {
     spdlog::info("measured {} participant x trial x region rows; of {} kept fixations, {} on the regions, {} beside the text, "
                  "{} off the lines (fixation_placement.tsv)",
                  r.rows.size(), total.on_region + total.beside_text + total.off_lines, total.on_region, total.beside_text, total.off_lines);
-    // Readers look at the text: many fixations beside it or between its lines
-    // mostly mean a layout that is not the display's (a wrong character width).
-    const auto placed = total.on_region + total.beside_text + total.off_lines;
-    if (placed > 0 && 10 * (total.beside_text + total.off_lines) > placed) {
-      spdlog::warn("{:.0f} % of the kept fixations fall beside the text or off its lines (fixation_placement.tsv); are the [regions] "
-                   "layout values (char_width_px, line_height_px, left_margin_px, first_line_top_px) those of the display?",
-                   100.0 * static_cast<double>(total.beside_text + total.off_lines) / static_cast<double>(placed));
-    }
   }
   if (!r.tables.empty()) spdlog::info("tables in {}", r.tables_folder);
 }

@@ -202,7 +202,8 @@ class StudyRun {
   std::map<Stage, StageRecord> old_records_;
   std::vector<RecordingPlan> plans_;
   std::vector<std::string> removed_recordings_;
-  std::vector<std::string> study_recordings_;  // every recording the inputs give, before a shard takes its part
+  std::vector<std::string> study_recordings_;
+  std::vector<std::string> ingest_warnings_;  // what the trial pattern checks warned of, for ingest's record  // every recording the inputs give, before a shard takes its part
   std::map<std::string, RecordingOutput> fresh_;  // recordings read or detected this run (light parts)
   std::vector<InputFileRecord> inputs_;
   std::vector<RepairRecord> repairs_;
@@ -671,7 +672,11 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
     }
   };
   for (Stage s : {Stage::clean, Stage::align, Stage::measure}) {
-    if (o_.only && *o_.only != s) continue;
+    if (o_.only && *o_.only != s) {
+      // A stage command builds on the stages before it as they are: their warnings still hold.
+      if (static_cast<int>(s) < static_cast<int>(*o_.only) && old_records_.count(s)) say_again(old_records_.at(s));
+      continue;
+    }
     if (!o_.only && static_cast<int>(s) > static_cast<int>(o_.until)) continue;
     keys_[s] = study_key(s);
     if ((s == Stage::align || s == Stage::measure) && !regions_present()) {
@@ -745,6 +750,21 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       if (!alignment_) alignment_ = read_alignment(*old_);
       report_.rows = measure_rows(*cleaned_recordings_, *alignment_, *regions_, p_.regions, p_.design, &report_.placement, o_.jobs);
       lap("rows");
+      {
+        // Readers look at the text: many fixations beside it or between its
+        // lines mostly mean a layout that is not the display's (a wrong
+        // character width). Warned here, so the warning stays with the measures.
+        std::uint64_t placed = 0, astray = 0;
+        for (const auto& [k, c] : report_.placement) {
+          placed += c.on_region + c.beside_text + c.off_lines;
+          astray += c.beside_text + c.off_lines;
+        }
+        if (placed > 0 && 10 * astray > placed) {
+          spdlog::warn("{:.0f} % of the kept fixations fall beside the text or off its lines (fixation_placement.tsv); are the [regions] "
+                       "layout values (char_width_px, line_height_px, left_margin_px, first_line_top_px) those of the display?",
+                       100.0 * static_cast<double>(astray) / static_cast<double>(placed));
+        }
+      }
       // The aggregates and the tables the store holds, made side by side (the report is lent the wide one and by_role).
       const auto policy = o_.jobs == 1 ? std::launch::deferred : std::launch::async;
       const std::vector<MeasureRow>& rows = report_.rows;
@@ -973,7 +993,9 @@ StudyRunReport StudyRun::execute() {
     for (const auto& [id, r] : fresh_) {
       if (!r.inputs.empty()) read.emplace_back(id, &r.pattern_use);
     }
+    CapturedWarnings pattern_warned(CapturedWarnings::From::this_thread);  // kept with ingest's record
     check_trial_patterns(p_, read, read.size() == plans_.size() && !o_.shard_count);
+    ingest_warnings_ = pattern_warned.take();
     if (regions_ && !o_.only && static_cast<int>(o_.until) >= static_cast<int>(Stage::clean)) check_items_have_regions(p_, *regions_, fresh_);
   }
   check_distinct_recordings(plans_, fresh_);
@@ -991,6 +1013,7 @@ StudyRunReport StudyRun::execute() {
                           !removed_recordings_.empty() || o_.only == Stage::ingest || !old_;  // a new store, even of no recordings
   ran_[Stage::ingest] = ingest_ran;
   report_.stages[Stage::ingest] = ingest_ran ? "ran" : "reused";
+  if (!ingest_ran && old_records_.count(Stage::ingest)) say_again(old_records_.at(Stage::ingest));
   if (imports_) {
     // Imported with the recordings: the detect stage is current whenever ingest is.
     keys_[Stage::detect] = study_key(Stage::detect);
@@ -1071,7 +1094,9 @@ StudyRunReport StudyRun::execute() {
       std::sort(prov.inputs.begin(), prov.inputs.end(), [](auto& a, auto& b) { return std::tie(a.recording_id, a.path) < std::tie(b.recording_id, b.path); });
       std::sort(prov.repairs.begin(), prov.repairs.end(), [](auto& a, auto& b) { return std::tie(a.recording_id, a.kind) < std::tie(b.recording_id, b.kind); });
       out->write_provenance(prov);
-      out->write_stage_record(record_for(Stage::ingest, keys_[Stage::ingest], "", ingest_settings_));
+      StageRecord ingest = record_for(Stage::ingest, keys_[Stage::ingest], "", ingest_settings_);
+      ingest.warnings = ingest_warnings_;
+      out->write_stage_record(ingest);
     }
     if (ran_[Stage::detect]) out->write_stage_record(record_for(Stage::detect, keys_[Stage::detect], keys_[Stage::ingest], detect_settings_));
     // Downstream of anything that ran and did not run itself: stale, results removed.

@@ -763,10 +763,21 @@ TEST(StudyRun, AStagesWarningsStayWithItsResults) {
   ASSERT_TRUE(clean);
   ASSERT_EQ(clean->warnings.size(), 1u);
   EXPECT_NE(clean->warnings[0].find("the cleaning rules keep only"), std::string::npos) << clean->warnings[0];
-  EXPECT_TRUE(StudyStoreReader(d.file("out/s.gzm.h5")).stage_record(Stage::measure)->warnings.empty());
+  // With only long fixations left, a tenth of them fall beside the text: measure's own warning (found in a newcomer's trial: said once).
+  const auto measure = StudyStoreReader(d.file("out/s.gzm.h5")).stage_record(Stage::measure);
+  ASSERT_EQ(measure->warnings.size(), 1u);
+  EXPECT_NE(measure->warnings[0].find("of the kept fixations fall beside the text"), std::string::npos) << measure->warnings[0];
   const auto again = run(proto, d.file("out"));
   EXPECT_EQ(again.stages.at(Stage::clean), "reused");
-  EXPECT_EQ(again.warnings_kept, std::vector<std::string>{"clean: " + clean->warnings[0]});
+  EXPECT_EQ(again.warnings_kept, (std::vector<std::string>{"clean: " + clean->warnings[0], "measure: " + measure->warnings[0]}));
+  {
+    // A stage command builds on the stages before it: their warnings are said again too.
+    StudyRunOptions o;
+    o.store_path = d.file("out/s.gzm.h5");
+    o.only = Stage::measure;
+    const auto measured = run_study(parse_protocol_file(proto), o);
+    EXPECT_EQ(measured.warnings_kept, std::vector<std::string>{"clean: " + clean->warnings[0]});
+  }
   const ReportModel m = assemble_report(d.file("out/s.gzm.h5"));
   const auto stage = std::find_if(m.run.stages.begin(), m.run.stages.end(), [](const ReportStage& s) { return s.stage == "clean"; });
   ASSERT_NE(stage, m.run.stages.end());
@@ -779,6 +790,7 @@ TEST(StudyRun, AStagesWarningsStayWithItsResults) {
   const auto changed = run(proto, d.file("out"));
   EXPECT_EQ(changed.stages.at(Stage::clean), "ran");
   EXPECT_TRUE(StudyStoreReader(d.file("out/s.gzm.h5")).stage_record(Stage::clean)->warnings.empty());
+  EXPECT_TRUE(StudyStoreReader(d.file("out/s.gzm.h5")).stage_record(Stage::measure)->warnings.empty());
   EXPECT_TRUE(run(proto, d.file("out")).warnings_kept.empty());
 }
 
