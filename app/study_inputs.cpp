@@ -56,7 +56,7 @@ Identity identify(const Protocol& p, const std::string& file) {
   return id;
 }
 
-std::string expand_template(const std::string& tmpl, const std::string& sample_file, const Identity& id,
+std::string expand_template(const std::string& protocol_path, const std::string& tmpl, const std::string& sample_file, const Identity& id,
                             const std::string& key_name = "input.messages.file") {
   const fs::path f(sample_file);
   std::string name = f.filename().string();
@@ -74,7 +74,12 @@ std::string expand_template(const std::string& tmpl, const std::string& sample_f
       if (close != std::string::npos) {
         const std::string key = tmpl.substr(i + 1, close - i - 1);
         auto it = vars.find(key);
-        if (it == vars.end()) throw InputError({"", 0, key_name}, "unknown placeholder {" + key + "}");
+        if (it == vars.end()) {
+          std::string names;
+          for (const auto& [n, v] : vars) names += (names.empty() ? "" : ", ") + n;
+          throw InputError({protocol_path, 0, key_name}, "unknown placeholder {" + key + "}; the names are " + names +
+                                                             " (dir, name and stem of the sample file, and what input.filename_pattern captures)");
+        }
         out += it->second;
         i = close;
         continue;
@@ -145,14 +150,14 @@ std::vector<RecordingInputs> find_recordings(const Protocol& protocol) {
       r.files.push_back(file);
     }
     if (protocol.input.message_file) {
-      r.message_file = expand_template(protocol.input.message_file->path_template, file, who);
+      r.message_file = expand_template(protocol.path, protocol.input.message_file->path_template, file, who);
       if (!fs::exists(r.message_file)) {
         throw InputError({r.message_file, 0, "input.messages.file"}, "the message file for " + file + " does not exist");
       }
       r.files.push_back(r.message_file);
     }
     if (protocol.trials.source == TrialSource::table) {
-      r.trial_table_file = expand_template(protocol.trials.table_template, file, who, "trials.table");
+      r.trial_table_file = expand_template(protocol.path, protocol.trials.table_template, file, who, "trials.table");
       if (!fs::exists(r.trial_table_file)) {
         throw InputError({r.trial_table_file, 0, "trials.table"}, "the trial table for " + file + " does not exist");
       }

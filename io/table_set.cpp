@@ -180,7 +180,8 @@ void check_table_folder(const std::string& folder) {
   const nlohmann::json m = manifest_of(folder);
   if (m.is_null()) {
     throw InputError({folder, 0, ""}, "holds files that are not gazemill tables (it has no " + std::string(kManifestName) +
-                                          "); the tables replace their whole folder, so name a new or empty one");
+                                          "); the tables replace their whole folder, so name a new or empty one (if they are gazemill's "
+                                          "tables whose " + std::string(kManifestName) + " was removed, remove the folder: the run writes it again)");
   }
   if (!m.is_object() || !m.contains("files") || !m["files"].is_array()) return;  // a set from before the list was kept
   std::set<std::string> ours;
