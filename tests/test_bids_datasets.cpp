@@ -68,6 +68,34 @@ height_mm = 391
 viewing_distance_mm = 600
 )";
 
+// A BIDS protocol taking each recording's trials from {dir}/trials.tsv (ms).
+std::string table_trials_protocol() {
+  return R"([input]
+format = "bids"
+files = ["sub-*/beh/*_physio.tsv.gz"]
+)" + std::string(kScreenSection) + R"(
+[trials]
+from = "table"
+table = "{dir}/trials.tsv"
+start_column = "start"
+end_column = "end"
+time_unit = "ms"
+)";
+}
+
+// One recording of 100 samples 1 ms apart (1000 Hz), its root sidecar stating
+// `rate_hz`, and table_trials_protocol().
+std::string one_recording_with_table_trials(const TempDir& d, int rate_hz) {
+  d.write("dataset_description.json", R"({"Name": "t", "BIDSVersion": "1.11.0"})");
+  d.write("task-read_physio.json", R"({"PhysioType": "eyetrack", "SamplingFrequency": )" + std::to_string(rate_hz) + R"(,
+    "Columns": ["timestamp", "x_coordinate", "y_coordinate", "pupil_size"], "timestamp": {"Units": "ms"},
+    "x_coordinate": {"Units": "pixel"}, "y_coordinate": {"Units": "pixel"}, "SampleCoordinateSystem": "gaze-on-screen"})");
+  d.write("sub-01/beh/sub-01_task-read_recording-eye1_physio.json", R"({"StartTime": 0, "RecordedEye": "left"})");
+  d.write_gz("sub-01/beh/sub-01_task-read_recording-eye1_physio.tsv.gz", samples_ms(1000, 100));
+  const std::string text = table_trials_protocol();
+  return d.write("gazemill.toml", text);
+}
+
 // eyetracking_binocular: everything shared in the root's task-FreeView_*
 // sidecars; each eye's own sidecar holds StartTime, RecordedEye and its
 // calibration; the task events sidecar says OnsetSource "timestamp" (onsets
@@ -139,17 +167,7 @@ TEST(BidsInheritance, KeysComeFromEveryLevelAndTheLowerFileWins) {
   for (const auto& line : m.describe()) named = named || line == "SamplingFrequency: " + subject + " (overrides " + root + ")";
   EXPECT_TRUE(named);
 
-  const std::string text = R"([input]
-format = "bids"
-files = ["sub-*/beh/*_physio.tsv.gz"]
-)" + std::string(kScreenSection) + R"(
-[trials]
-from = "table"
-table = "{dir}/trials.tsv"
-start_column = "start"
-end_column = "end"
-time_unit = "ms"
-)";
+  const std::string text = table_trials_protocol();
   d.write("sub-01/beh/trials.tsv", "start\tend\tsentence\n1000\t1050\ts1\n");
   const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
   ingest_study(p, d.file("s.gzm.h5"));
@@ -170,25 +188,10 @@ time_unit = "ms"
 // (found in a newcomer's trial: the error named a file without the key).
 TEST(BidsInheritance, AContradictedRateNamesTheFileThatGaveIt) {
   TempDir d;
-  d.write("dataset_description.json", R"({"Name": "t", "BIDSVersion": "1.11.0"})");
-  const std::string root = d.write("task-read_physio.json", R"({"PhysioType": "eyetrack", "SamplingFrequency": 500,
-    "Columns": ["timestamp", "x_coordinate", "y_coordinate", "pupil_size"], "timestamp": {"Units": "ms"},
-    "x_coordinate": {"Units": "pixel"}, "y_coordinate": {"Units": "pixel"}, "SampleCoordinateSystem": "gaze-on-screen"})");
-  d.write("sub-01/beh/sub-01_task-read_recording-eye1_physio.json", R"({"StartTime": 0, "RecordedEye": "left"})");
-  d.write_gz("sub-01/beh/sub-01_task-read_recording-eye1_physio.tsv.gz", samples_ms(1000, 100));  // 1 ms apart: 1000 Hz
-  const std::string text = R"([input]
-format = "bids"
-files = ["sub-*/beh/*_physio.tsv.gz"]
-)" + std::string(kScreenSection) + R"(
-[trials]
-from = "table"
-table = "{dir}/trials.tsv"
-start_column = "start"
-end_column = "end"
-time_unit = "ms"
-)";
+  const std::string proto = one_recording_with_table_trials(d, 500);  // the samples are 1 ms apart: 1000 Hz
+  const std::string root = d.file("task-read_physio.json");
   d.write("sub-01/beh/trials.tsv", "start\tend\n1000\t1050\n");
-  const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+  const Protocol p = parse_protocol_file(proto);
   try {
     ingest_study(p, d.file("s.gzm.h5"));
     FAIL() << "a contradicted rate was taken";
@@ -205,25 +208,9 @@ time_unit = "ms"
 // newcomer's trial). Our design, no source.
 TEST(BidsInheritance, ATrialColumnGivesTheIds) {
   TempDir d;
-  d.write("dataset_description.json", R"({"Name": "t", "BIDSVersion": "1.11.0"})");
-  d.write("task-read_physio.json", R"({"PhysioType": "eyetrack", "SamplingFrequency": 1000,
-    "Columns": ["timestamp", "x_coordinate", "y_coordinate", "pupil_size"], "timestamp": {"Units": "ms"},
-    "x_coordinate": {"Units": "pixel"}, "y_coordinate": {"Units": "pixel"}, "SampleCoordinateSystem": "gaze-on-screen"})");
-  d.write("sub-01/beh/sub-01_task-read_recording-eye1_physio.json", R"({"StartTime": 0, "RecordedEye": "left"})");
-  d.write_gz("sub-01/beh/sub-01_task-read_recording-eye1_physio.tsv.gz", samples_ms(1000, 100));
-  const std::string text = R"([input]
-format = "bids"
-files = ["sub-*/beh/*_physio.tsv.gz"]
-)" + std::string(kScreenSection) + R"(
-[trials]
-from = "table"
-table = "{dir}/trials.tsv"
-start_column = "start"
-end_column = "end"
-time_unit = "ms"
-)";
+  const std::string proto = one_recording_with_table_trials(d, 1000);
   d.write("sub-01/beh/trials.tsv", "start\tend\ttrial\tsentence\n1000\t1040\t7\ts1\n1050\t1090\t9\ts2\n");
-  const Protocol p = parse_protocol_text(text, d.write("gazemill.toml", text));
+  const Protocol p = parse_protocol_file(proto);
   ingest_study(p, d.file("s.gzm.h5"));
   const Recording r = StudyStoreReader(d.file("s.gzm.h5")).read_recording("01", false);
   ASSERT_EQ(r.trials.size(), 2u);
@@ -535,24 +522,24 @@ factors = ["cond"]
   EXPECT_EQ(r.trials[1].variable("cond"), "y");
 }
 
-// gazemill export --bids: a study's samples and detected events as a BIDS
-// 1.11 eye-tracking dataset ("Physiological recordings": header-less
-// physio files with Columns in sidecars; physio events with OnsetSource
-// "timestamp"; dataset_description.json with BIDSVersion), whose shared
-// metadata sits at the root; read back, the same samples, messages and trials.
+// Two simulated readers of four sentences in d/study, as delimited files (invented data).
+std::string two_readers(const TempDir& d, double rate_hz) {
+  sim::SimulationConfig c;
+  c.design = sim::demo_design(4, 0);
+  c.design.participants = 2;
+  c.signal.sample_rate_hz = rate_hz;
+  c.seed = 11;
+  sim::ExportOptions eo;
+  eo.bids = false;
+  return sim::simulate_to_folder(c, (d.path() / "study").string(), eo).protocol;
+}
+
 // Found in a newcomer's trial: participants p-01 and p01 both became
 // sub-p01 (BIDS labels are letters and digits; BIDS 1.11, "Entities"), one
 // subject of two runs, with exit 0. The export stops naming both.
 TEST(BidsExport, TwoParticipantsOfOneLabelAreNamed) {
   TempDir d;
-  sim::SimulationConfig c;
-  c.design = sim::demo_design(4, 0);
-  c.design.participants = 2;
-  c.signal.sample_rate_hz = 250;
-  c.seed = 11;
-  sim::ExportOptions eo;
-  eo.bids = false;
-  const std::string proto = sim::simulate_to_folder(c, (d.path() / "study").string(), eo).protocol;
+  const std::string proto = two_readers(d, 250);
   fs::rename(d.file("study/raw/p02_s1.tsv.gz"), d.file("study/raw/p-01_s1.tsv.gz"));
   std::string text;
   {
@@ -570,16 +557,14 @@ TEST(BidsExport, TwoParticipantsOfOneLabelAreNamed) {
   EXPECT_FALSE(fs::exists(d.file("shared")));
 }
 
+// gazemill export --bids: a study's samples and detected events as a BIDS
+// 1.11 eye-tracking dataset ("Physiological recordings": header-less
+// physio files with Columns in sidecars; physio events with OnsetSource
+// "timestamp"; dataset_description.json with BIDSVersion), whose shared
+// metadata sits at the root; read back, the same samples, messages and trials.
 TEST(BidsExport, AStudyRoundTripsToIdenticalSamples) {
   TempDir d;
-  sim::SimulationConfig c;
-  c.design = sim::demo_design(4, 0);
-  c.design.participants = 2;
-  c.signal.sample_rate_hz = 500;
-  c.seed = 11;
-  sim::ExportOptions eo;
-  eo.bids = false;
-  const std::string proto = sim::simulate_to_folder(c, (d.path() / "study").string(), eo).protocol;
+  const std::string proto = two_readers(d, 500);
   const Protocol p = parse_protocol_file(proto);
   ingest_study(p, d.file("study/s.gzm.h5"));
   detect_study(p, d.file("study/s.gzm.h5"));

@@ -394,16 +394,20 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
   TempDir d;
   const std::string proto = study(d);
   run(proto, d.file("one"));
-  std::vector<std::string> shards;
-  for (unsigned k = 0; k < 3; ++k) {
+  // Shard k of 3, read and detected into `store`.
+  auto shard_options = [](const std::string& store, unsigned k) {
     StudyRunOptions o;
-    o.store_path = d.file("shards/s" + std::to_string(k) + ".gzm.h5");
-    fs::create_directories(d.file("shards"));
+    o.store_path = store;
     o.shard_index = k;
     o.shard_count = 3;
     o.until = Stage::detect;
-    run_study(parse_protocol_file(proto), o);
-    shards.push_back(o.store_path);
+    return o;
+  };
+  std::vector<std::string> shards;
+  fs::create_directories(d.file("shards"));
+  for (unsigned k = 0; k < 3; ++k) {
+    shards.push_back(d.file("shards/s" + std::to_string(k) + ".gzm.h5"));
+    run_study(parse_protocol_file(proto), shard_options(shards.back(), k));
   }
   for (const auto& shard : shards) {  // a shard verifies as its own part of the study (found in a newcomer's trial: as the whole)
     std::ostringstream said;
@@ -416,11 +420,7 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
     // first shard's (a newcomer's trial: the result depended on the order).
     TempDir e;
     const std::string other = study(e, "\n[[cleaning]]\nname = \"short\"\nkind = \"delete_short_fixations\"\nmin_duration_ms = 95\n");
-    StudyRunOptions o;
-    o.store_path = e.file("s2.gzm.h5");
-    o.shard_index = 2;
-    o.shard_count = 3;
-    o.until = Stage::detect;
+    const StudyRunOptions o = shard_options(e.file("s2.gzm.h5"), 2);
     run_study(parse_protocol_file(other), o);
     try {
       merge_shards({shards[0], shards[1], o.store_path}, d.file("merged"));
@@ -433,11 +433,7 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
     // A shard run after a file left the input folder (found in a newcomer's
     // trial: the recordings no shard was given went missing from the merge).
     fs::rename(d.file("study/raw/p04_s1.tsv.gz"), d.file("p04_s1.tsv.gz"));
-    StudyRunOptions o;
-    o.store_path = d.file("late.gzm.h5");
-    o.shard_index = 2;
-    o.shard_count = 3;
-    o.until = Stage::detect;
+    const StudyRunOptions o = shard_options(d.file("late.gzm.h5"), 2);
     run_study(parse_protocol_file(proto), o);
     fs::rename(d.file("p04_s1.tsv.gz"), d.file("study/raw/p04_s1.tsv.gz"));
     try {
@@ -464,14 +460,7 @@ TEST(StudyRun, ShardsMergedEqualTheSingleRun) {
   std::string samples = read_gz(d.file("study/raw/p02_s1.tsv.gz"));
   samples.insert(samples.find('\n') + 1, "1000000\t\t\t\tcalibration checked\n");
   d.write_gz("study/raw/p05_s1.tsv.gz", samples);
-  for (unsigned k = 0; k < 3; ++k) {
-    StudyRunOptions o;
-    o.store_path = shards[k];
-    o.shard_index = k;
-    o.shard_count = 3;
-    o.until = Stage::detect;
-    run_study(parse_protocol_file(proto), o);
-  }
+  for (unsigned k = 0; k < 3; ++k) run_study(parse_protocol_file(proto), shard_options(shards[k], k));
   EXPECT_EQ(merge_shards(shards, d.file("merged-again")).recordings, 5u);
 }
 
