@@ -711,10 +711,12 @@ void StudyRun::run_study_stages(StudyStoreWriter& out) {
       auto removed = std::make_shared<std::map<std::string, std::vector<RemovedFixation>>>();
       auto rows = std::make_shared<std::map<std::string, RecordingCleaningRows>>();
       const AuditReport audit = clean_events_by_participant(p_, events_, [&](CleaningOutcome&& part) {
-        write_cleaning(out, part);
+        // Removed fixations and verdicts as the report is lent them: one source for both.
+        auto part_rows = cleaning_rows(part);
+        write_cleaning(out, part, part_rows);
         if (lend) {
           removed->merge(removed_fixations(part));
-          rows->merge(cleaning_rows(part));
+          rows->merge(part_rows);
         }
         cleaned.merge(cleaned_recordings(std::move(part.state), meta));
       });

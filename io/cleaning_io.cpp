@@ -74,13 +74,11 @@ std::vector<AuditRow> audit_rows(const AuditReport& r) {
   return rows;
 }
 
-void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& out) {
+void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& out, const std::map<std::string, RecordingCleaningRows>& rows) {
   std::map<std::string, std::vector<const CleanTrial*>> by_recording;
   for (const auto& p : out.state.participants) {
     for (const auto& t : p.trials) by_recording[t.recording].push_back(&t);
   }
-  // Removed fixations and verdicts as the report is lent them (one source for both).
-  const std::map<std::string, RecordingCleaningRows> rows = cleaning_rows(out);
   for (const auto& [rec, trials] : by_recording) {
     H5::Group g = store.group("recordings/" + rec + "/clean");
     std::vector<std::uint32_t> in_id, rm_id;

@@ -22,6 +22,7 @@
 #include <vector>
 
 #include "io/atomic_file.h"
+#include "io/report_store.h"
 #include "io/study_store.h"
 #include "pipeline/cleaning_state.h"
 
@@ -42,7 +43,10 @@ struct AuditRow {
 /// Every rule x level x participant x cell, zero rows included.
 std::vector<AuditRow> audit_rows(const AuditReport& report);
 
-void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& outcome);
+/// The outcome's cleaning, recording by recording; `rows` are its removed
+/// fixations and trial verdicts as cleaning_rows(outcome) gives them (made
+/// once by the caller, who lends them on to the tables and the report).
+void write_cleaning(StudyStoreWriter& store, const CleaningOutcome& outcome, const std::map<std::string, RecordingCleaningRows>& rows);
 void write_audit(StudyStoreWriter& store, const AuditReport& report);
 AuditReport read_audit(const StudyStoreReader& store);
 /// Kept fixations of a recording after cleaning (duration_ms as the merge rules combined it).
