@@ -137,7 +137,7 @@ TEST(AlignStage, AReviewFileOverridesTrialsReproducibly) {
 // Found in a newcomer's trial: where trial numbers start again in each
 // session, a review row for "p01, trial 3" excluded trial 3 of both
 // sessions, and a session column was ignored, with exit 0. A row names its
-// session where the trial number alone is ambiguous, and must.
+// session where the trial number alone is ambiguous, and must (our design, no source).
 TEST(AlignStage, AReviewRowIsForOneSession) {
   TempDir d;
   const std::string proto = drifted_study(d, 0.3);

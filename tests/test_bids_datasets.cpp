@@ -293,7 +293,7 @@ saccade = '^saccade$'
 // number their trials alike (as this layout's do: 1 and 2 in each run) gave
 // tables whose rows the participant, session and trial could not tell apart,
 // so a model of them pooled two trials into one, with exit 0. The run stops
-// before anything is written; read with the run as the session, it goes.
+// before anything is written; read with the run as the session, it goes (BIDS 1.11, "Entities": run; the pooling rule is our design).
 TEST(BidsExampleLayouts, RunsThatNumberTheirTrialsAlikeAreNamed) {
   TempDir d;
   write_binocular(d);

@@ -158,7 +158,7 @@ TEST(ProtocolParser, MessagesFileTakesItsOwnTimeUnit) {
 // Found in a newcomer's trial: a misspelt capture in filename_pattern made
 // every file a participant of its own (so the participant rules judged each
 // session alone), or left the session empty, with exit 0. Every name the
-// pattern captures must be read by something; the participant is required.
+// pattern captures must be read by something; the participant is required beside a session (our design, no source).
 TEST(ProtocolParser, FilenameCapturesAreReadOrNamed) {
   const std::string pattern = "filename_pattern = 'p(?<participant>\\d+)'";
   expect_error_at(replace(kProtocol, pattern, "filename_pattern = 'p(?<participnt>\\d+)_s(?<session>\\d+)'"), 7, "input.filename_pattern",

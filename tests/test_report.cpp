@@ -272,7 +272,7 @@ TEST(ReportData, FiguresFromTheStoredDigestEqualThoseFromTheSamples) {
 // A run packs each recording's viewer trials as soon as they are made, so
 // that a long study's report holds them compressed (bench/memory): the page
 // is the one made from the whole trials, byte for byte, at any thread count,
-// and the per-participant trial counts the page shows are unchanged.
+// and the per-participant trial counts the page shows are unchanged (our design, no source).
 TEST(ReportData, PackedAsMadeIsTheSamePage) {
   ReportModel whole = assemble_report(demo().store);
   whole.run.store_path = "";

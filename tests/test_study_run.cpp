@@ -785,7 +785,7 @@ TEST(StudyRun, AStagesWarningsStayWithItsResults) {
 
 // What reading a recording warned of (here: gaze at exactly (0, 0) px in 6
 // samples, which some trackers write for lost tracking) stays with the
-// recording: said again while it is not read again, listed by the report.
+// recording: said again while it is not read again, listed by the report (our design; (0, 0) as lost tracking is common practice, no source).
 TEST(StudyRun, ARecordingsWarningsStayWithIt) {
   TempDir d;
   const std::string proto = study(d);
